@@ -1,0 +1,133 @@
+/** Declarative command-line options: parsing (node:util parseArgs), number checks and help text. */
+import { parseArgs } from 'node:util';
+import { UsageError } from './errors.js';
+
+export interface OptionSpec {
+  name: string;
+  type: 'string' | 'boolean';
+  short?: string;
+  /** Placeholder shown in help, e.g. FILE, M, HZ. */
+  valueName?: string;
+  /** Unit shown in help, e.g. "m", "°C", "m/s". */
+  unit?: string;
+  /** Default shown in help (text). */
+  defaultText?: string;
+  description: string;
+}
+
+export interface CommandSpec {
+  name: string;
+  summary: string;
+  usage: string;
+  /** Paragraphs printed after the option list. */
+  notes?: string[];
+  options: OptionSpec[];
+}
+
+export interface ParsedArgs {
+  values: Record<string, string | boolean | undefined>;
+  positionals: string[];
+}
+
+const HELP_OPTION: OptionSpec = { name: 'help', type: 'boolean', short: 'h', description: 'show this help' };
+
+export function parseCommandArgs(spec: CommandSpec, argv: string[]): ParsedArgs {
+  const options: Record<string, { type: 'string' | 'boolean'; short?: string }> = {};
+  for (const o of [...spec.options, HELP_OPTION]) {
+    options[o.name] = o.short ? { type: o.type, short: o.short } : { type: o.type };
+  }
+  try {
+    const { values, positionals } = parseArgs({ args: argv, options, allowPositionals: true, strict: true });
+    return { values: values as Record<string, string | boolean | undefined>, positionals };
+  } catch (err) {
+    const msg = (err as Error).message.replace(/\. To specify a positional argument.*$/s, '');
+    throw new UsageError(msg, spec.name);
+  }
+}
+
+export function formatHelp(spec: CommandSpec): string {
+  const lines = [`turnmargin ${spec.name} — ${spec.summary}`, '', `usage: ${spec.usage}`, '', 'options:'];
+  const rows = [...spec.options, HELP_OPTION].map((o) => {
+    const flag = `${o.short ? `-${o.short}, ` : ''}--${o.name}${o.type === 'string' ? ` ${o.valueName ?? 'VALUE'}` : ''}`;
+    const extras: string[] = [];
+    if (o.unit) extras.push(`unit: ${o.unit}`);
+    if (o.defaultText) extras.push(`default: ${o.defaultText}`);
+    return [flag, `${o.description}${extras.length ? ` (${extras.join('; ')})` : ''}`] as const;
+  });
+  const width = Math.min(30, Math.max(...rows.map(([f]) => f.length)));
+  for (const [flag, text] of rows) {
+    lines.push(flag.length > width ? `  ${flag}\n  ${' '.repeat(width)}  ${text}` : `  ${flag.padEnd(width)}  ${text}`);
+  }
+  if (spec.notes?.length) lines.push('', ...spec.notes.flatMap((n) => [n, '']));
+  return lines.join('\n').trimEnd() + '\n';
+}
+
+export interface NumberRule {
+  min?: number;
+  max?: number;
+  /** Strict lower bound. */
+  above?: number;
+  integer?: boolean;
+}
+
+function describeRule(rule: NumberRule): string {
+  const parts: string[] = [rule.integer ? 'a whole number' : 'a number'];
+  if (rule.above !== undefined) parts.push(`above ${rule.above}`);
+  if (rule.min !== undefined && rule.max !== undefined) parts.push(`from ${rule.min} to ${rule.max}`);
+  else if (rule.min !== undefined) parts.push(`of at least ${rule.min}`);
+  else if (rule.max !== undefined) parts.push(`of at most ${rule.max}`);
+  return parts.join(' ');
+}
+
+/** Parse one number, naming the option in the error: `--altitude must be a number from -500 to 20000 (got "x")`. */
+export function parseNumber(optionName: string, text: string, rule: NumberRule = {}): number {
+  const trimmed = text.trim();
+  const value = trimmed === '' ? NaN : Number(trimmed);
+  const bad =
+    !Number.isFinite(value) ||
+    (rule.integer && !Number.isInteger(value)) ||
+    (rule.min !== undefined && value < rule.min) ||
+    (rule.max !== undefined && value > rule.max) ||
+    (rule.above !== undefined && value <= rule.above);
+  if (bad) throw new UsageError(`--${optionName} must be ${describeRule(rule)} (got "${text}")`);
+  return value;
+}
+
+export function numberOption(args: ParsedArgs, name: string, fallback: number, rule?: NumberRule): number;
+export function numberOption(args: ParsedArgs, name: string, fallback: undefined, rule?: NumberRule): number | undefined;
+export function numberOption(args: ParsedArgs, name: string, fallback: number | undefined, rule: NumberRule = {}): number | undefined {
+  const raw = args.values[name];
+  if (raw === undefined || typeof raw === 'boolean') return fallback;
+  return parseNumber(name, raw, rule);
+}
+
+/** A comma-separated list of numbers: `--speeds 10,12,14`. */
+export function numberListOption(args: ParsedArgs, name: string, rule: NumberRule = {}): number[] | undefined {
+  const raw = args.values[name];
+  if (raw === undefined || typeof raw === 'boolean') return undefined;
+  const items = raw.split(',').map((s) => s.trim());
+  if (items.length === 0 || items.some((s) => s === '')) {
+    throw new UsageError(`--${name} must be a comma-separated list of numbers (got "${raw}")`);
+  }
+  return items.map((s) => parseNumber(name, s, rule));
+}
+
+export function stringOption(args: ParsedArgs, name: string): string | undefined {
+  const raw = args.values[name];
+  return typeof raw === 'string' ? raw : undefined;
+}
+
+export function choiceOption<T extends string>(args: ParsedArgs, name: string, choices: readonly T[], fallback: T): T {
+  const raw = stringOption(args, name);
+  if (raw === undefined) return fallback;
+  if (!(choices as readonly string[]).includes(raw)) {
+    throw new UsageError(`--${name} must be one of ${choices.join(', ')} (got "${raw}")`);
+  }
+  return raw as T;
+}
+
+export function requireOption(args: ParsedArgs, name: string, valueName = 'FILE'): string {
+  const raw = stringOption(args, name);
+  if (raw === undefined || raw === '') throw new UsageError(`--${name} ${valueName} is required`);
+  return raw;
+}

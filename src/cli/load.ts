@@ -1,0 +1,39 @@
+/** Reading and validating the user's JSON input files (airframe, thresholds). */
+import { readFileSync } from 'node:fs';
+import { basename } from 'node:path';
+import { parseAircraft, type Aircraft } from '../core/aircraft.js';
+import { ThresholdsSchema, resolveThresholds, type AlertThresholds } from '../core/thresholds.js';
+import { describeIssues } from '../core/validation.js';
+import { InputError } from './errors.js';
+
+function readJson(path: string, what: string): unknown {
+  const label = basename(path);
+  let text: string;
+  try {
+    text = readFileSync(path, 'utf8');
+  } catch (err) {
+    const code = (err as NodeJS.ErrnoException).code;
+    const why = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'is a directory' : (err as Error).message;
+    throw new InputError([`${path}: cannot read the ${what} file (${why})`]);
+  }
+  try {
+    return JSON.parse(text.replace(/^\uFEFF/, ''));
+  } catch (err) {
+    throw new InputError([`${label}: not valid JSON (${(err as Error).message})`]);
+  }
+}
+
+export function loadAircraftFile(path: string): Aircraft {
+  const json = readJson(path, 'airframe');
+  const result = parseAircraft(json, basename(path));
+  if (!result.ok) throw new InputError(result.problems);
+  return result.value;
+}
+
+/** Thresholds from a file, layered over the airframe's own (which are over the defaults). */
+export function loadThresholdsFile(path: string, base: AlertThresholds): AlertThresholds {
+  const json = readJson(path, 'thresholds');
+  const result = ThresholdsSchema.safeParse(json);
+  if (!result.success) throw new InputError(describeIssues(basename(path), json, result.error.issues));
+  return resolveThresholds(result.data, base);
+}

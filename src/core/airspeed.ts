@@ -1,0 +1,40 @@
+/** Airspeed conversions: IAS → CAS (position-error table), CAS → TAS (subsonic compressible), EAS. */
+import { A0_MPS, GAMMA_AIR, P0_PA, R_AIR, RHO0_KG_M3 } from './units.js';
+
+/** A position-error table: pairs [ias_mps, cas_mps], sorted by IAS. */
+export type CalibrationTable = ReadonlyArray<readonly [number, number]>;
+
+/**
+ * Linear interpolation in a table of [x, y] pairs sorted by x; beyond the ends the end segments are
+ * extended (a position-error correction is a small offset, so extending it is the sensible choice).
+ */
+export function interpolateTable(table: ReadonlyArray<readonly [number, number]>, x: number): number {
+  if (table.length === 0) return x;
+  if (table.length === 1) return table[0]![1];
+  let i = 1;
+  while (i < table.length - 1 && x > table[i]![0]) i++;
+  const [x0, y0] = table[i - 1]!;
+  const [x1, y1] = table[i]!;
+  return x1 === x0 ? y0 : y0 + ((y1 - y0) * (x - x0)) / (x1 - x0);
+}
+
+/** CAS from IAS through the airframe's calibration table (identity without one). */
+export function iasToCasMps(iasMps: number, calibration: CalibrationTable | undefined): number {
+  if (!calibration || calibration.length === 0) return iasMps;
+  return interpolateTable(calibration, iasMps);
+}
+
+/**
+ * TAS from CAS with the standard subsonic compressible relations:
+ * qc = p0[(1 + 0.2(CAS/a0)²)^3.5 − 1]; M = √(5[(qc/p + 1)^(2/7) − 1]); TAS = M·√(γRT).
+ */
+export function casToTasMps(casMps: number, pressurePa: number, temperatureK: number): number {
+  const impactPressurePa = P0_PA * ((1 + 0.2 * (casMps / A0_MPS) ** 2) ** 3.5 - 1);
+  const mach = Math.sqrt(5 * ((impactPressurePa / pressurePa + 1) ** (2 / 7) - 1));
+  return mach * Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
+}
+
+/** EAS = TAS·√σ. */
+export function tasToEasMps(tasMps: number, densityKgM3: number): number {
+  return tasMps * Math.sqrt(densityKgM3 / RHO0_KG_M3);
+}

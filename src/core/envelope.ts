@@ -1,0 +1,151 @@
+/**
+ * The turn envelope of an airframe at one density and mass: limits per speed, stall and corner speeds, and the
+ * sustained-turn optima (load factor, turn rate, radius) over the speed range.
+ */
+import type { Aircraft } from './aircraft.js';
+import { computeAirState, type TemperatureOptions } from './atmosphere.js';
+import { G0_MPS2 } from './units.js';
+import {
+  computeLimits,
+  cornerSpeedMps,
+  levelTurnAt,
+  stallSpeedMps,
+  type LimitName,
+  type TurnGeometry,
+} from './performance.js';
+
+export interface EnvelopeConditions {
+  altitudeM: number;
+  temperature: TemperatureOptions;
+  massKg: number;
+}
+
+export interface EnvelopeTurn extends TurnGeometry {
+  n: number | null;
+  limitedBy: LimitName | null;
+}
+
+export interface EnvelopePoint {
+  speedMps: number;
+  nStall: number;
+  nThrust: number | null;
+  nStructural: number;
+  sustained: EnvelopeTurn;
+  instantaneous: EnvelopeTurn;
+}
+
+export interface Optimum {
+  value: number;
+  speedMps: number;
+}
+
+export interface Envelope {
+  aircraftName: string;
+  altitudeM: number;
+  temperatureK: number;
+  pressurePa: number;
+  densityKgM3: number;
+  massKg: number;
+  weightN: number;
+  stallSpeedMps: number;
+  cornerSpeedMps: number;
+  /** Speed range searched for the optima: Vs1 to vne (4·Vs1 without vne). */
+  searchFromMps: number;
+  searchToMps: number;
+  maxSustainedLoadFactor: Optimum | null;
+  maxSustainedTurnRateDps: Optimum | null;
+  minSustainedRadiusM: Optimum | null;
+  points: EnvelopePoint[];
+}
+
+export function envelopePointAt(aircraft: Aircraft, speedMps: number, densityKgM3: number, massKg: number): EnvelopePoint {
+  const limits = computeLimits(aircraft, speedMps, densityKgM3, massKg);
+  const sustainedTurn: TurnGeometry =
+    limits.sustained === null ? { bankDeg: null, turnRateDps: null, radiusM: null } : levelTurnAt(limits.sustained, speedMps);
+  return {
+    speedMps,
+    nStall: limits.nStall,
+    nThrust: limits.nThrust,
+    nStructural: limits.nStructural,
+    sustained: { n: limits.sustained, limitedBy: limits.sustainedLimitedBy, ...sustainedTurn },
+    instantaneous: { n: limits.instantaneous, limitedBy: limits.instantaneousLimitedBy, ...levelTurnAt(limits.instantaneous, speedMps) },
+  };
+}
+
+/**
+ * Maximise f over [lo, hi]: a coarse scan, then repeated finer scans around the best sample. Scanning (not
+ * golden-section) is used because the optimum often sits on a kink where two limits cross.
+ * f returns null where it is undefined; those samples are skipped.
+ */
+export function maximizeByScan(f: (x: number) => number | null, lo: number, hi: number, coarse = 400, rounds = 10): Optimum | null {
+  if (!(hi > lo)) return null;
+  let best: Optimum | null = null;
+  let a = lo;
+  let b = hi;
+  let samples = coarse;
+  for (let round = 0; round <= rounds; round++) {
+    const step = (b - a) / samples;
+    for (let i = 0; i <= samples; i++) {
+      const x = a + step * i;
+      const y = f(x);
+      if (y !== null && Number.isFinite(y) && (best === null || y > best.value)) best = { value: y, speedMps: x };
+    }
+    if (best === null) return null;
+    a = Math.max(lo, best.speedMps - step);
+    b = Math.min(hi, best.speedMps + step);
+    samples = 40;
+  }
+  return best;
+}
+
+/** Default speeds for a table: Vs1 to vne (4·Vs1 without vne) in 30 steps. */
+export function defaultSpeeds(stallSpeed: number, topSpeed: number, steps = 30): number[] {
+  const speeds: number[] = [];
+  for (let i = 0; i <= steps; i++) speeds.push(stallSpeed + ((topSpeed - stallSpeed) * i) / steps);
+  return speeds;
+}
+
+export function computeEnvelope(aircraft: Aircraft, conditions: EnvelopeConditions, speeds?: readonly number[]): Envelope {
+  const air = computeAirState(conditions.altitudeM, conditions.temperature);
+  const rho = air.densityKgM3;
+  const mass = conditions.massKg;
+  const vs1 = stallSpeedMps(aircraft, rho, mass);
+  const top = aircraft.vneMps ?? 4 * vs1;
+
+  const sustainedN = (v: number): number | null => computeLimits(aircraft, v, rho, mass).sustained;
+  const maxN = maximizeByScan(sustainedN, vs1, top);
+  const turnExists = maxN !== null && maxN.value > 1;
+
+  let maxRate: Optimum | null = null;
+  let minRadius: Optimum | null = null;
+  if (turnExists) {
+    maxRate = maximizeByScan((v) => {
+      const n = sustainedN(v);
+      return n === null || n <= 1 ? null : (G0_MPS2 * Math.sqrt(n * n - 1)) / v;
+    }, vs1, top);
+    const negRadius = maximizeByScan((v) => {
+      const n = sustainedN(v);
+      return n === null || n <= 1 ? null : -(v * v) / (G0_MPS2 * Math.sqrt(n * n - 1));
+    }, vs1, top);
+    if (maxRate) maxRate = { value: (maxRate.value * 180) / Math.PI, speedMps: maxRate.speedMps };
+    if (negRadius) minRadius = { value: -negRadius.value, speedMps: negRadius.speedMps };
+  }
+
+  return {
+    aircraftName: aircraft.name,
+    altitudeM: conditions.altitudeM,
+    temperatureK: air.temperatureK,
+    pressurePa: air.pressurePa,
+    densityKgM3: rho,
+    massKg: mass,
+    weightN: mass * G0_MPS2,
+    stallSpeedMps: vs1,
+    cornerSpeedMps: cornerSpeedMps(aircraft, rho, mass),
+    searchFromMps: vs1,
+    searchToMps: top,
+    maxSustainedLoadFactor: turnExists ? maxN : null,
+    maxSustainedTurnRateDps: maxRate,
+    minSustainedRadiusM: minRadius,
+    points: (speeds ?? defaultSpeeds(vs1, top)).map((v) => envelopePointAt(aircraft, v, rho, mass)),
+  };
+}

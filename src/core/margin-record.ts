@@ -1,0 +1,55 @@
+/**
+ * The margin record: one per accepted frame. The single type behind `--no-ui` output, review `--per-frame`,
+ * `serve` answers and the dashboard. Keys are the wire keys (snake_case, unit in the name).
+ */
+import type { LimitName } from './performance.js';
+
+export type AlertLevel = 'caution' | 'warning';
+export type Level = 'normal' | AlertLevel;
+
+export interface ActiveAlert {
+  limit: LimitName;
+  level: AlertLevel;
+}
+
+export interface Utilization {
+  stall: number | null;
+  thrust: number | null;
+  structure: number | null;
+}
+
+export interface MarginRecord {
+  t_s: number;
+  tas_mps: number;
+  eas_mps: number;
+  density_kg_m3: number;
+  /** Smoothed measured load factor n_f. */
+  n_measured: number;
+  n_stall: number;
+  n_thrust: number | null;
+  n_structural: number;
+  utilization: Utilization;
+  bank_limit_deg: number;
+  bank_sustained_deg: number | null;
+  level: Level;
+  alerts: ActiveAlert[];
+  // --- more keys (the contract allows them) ---
+  alt_m: number;
+  mass_kg: number;
+  temperature_k: number;
+  bank_deg: number | null;
+  nz: number | null;
+  /** 1/cos(bank), or null without bank. */
+  n_from_bank: number | null;
+  /** Stall speed at the present n (TAS), and the margin of TAS above it in %. */
+  stall_speed_mps: number | null;
+  stall_speed_margin_pct: number | null;
+  /** Lift coefficient in use, n·W/(q·S). */
+  cl: number | null;
+  turn_rate_dps: number | null;
+  radius_m: number | null;
+  /** true when n_measured and 1/cos(bank) differ by more than 0.15 for over 1 s. */
+  uncoordinated: boolean;
+  /** false below 0.5·Vs1: utilizations are null and no alert is raised. */
+  flying: boolean;
+}

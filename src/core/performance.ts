@@ -1,0 +1,126 @@
+/**
+ * Load-factor limits at one flight condition and the geometry of a level coordinated turn.
+ * All speeds are TAS.
+ */
+import type { Aircraft, ThrustModel } from './aircraft.js';
+import { G0_MPS2, RHO0_KG_M3, radToDeg } from './units.js';
+
+/** Thrust available, N, or null where a table model does not cover the speed (never extrapolated). */
+export function thrustAvailableN(thrust: ThrustModel, tasMps: number, densityKgM3: number): number | null {
+  const densityFactor = (densityKgM3 / RHO0_KG_M3) ** thrust.densityExponent;
+  switch (thrust.model) {
+    case 'constant':
+      return thrust.thrustN * densityFactor;
+    case 'power': {
+      // η·P/V is singular at V → 0; the static thrust caps it.
+      const fromPower = tasMps > 0 ? (thrust.propEfficiency * thrust.powerW) / tasMps : Infinity;
+      return Math.min(thrust.staticThrustN, fromPower) * densityFactor;
+    }
+    case 'table': {
+      const pts = thrust.points;
+      const first = pts[0]!;
+      const last = pts[pts.length - 1]!;
+      if (tasMps < first[0] || tasMps > last[0]) return null;
+      let i = 1;
+      while (i < pts.length - 1 && tasMps > pts[i]![0]) i++;
+      const [v0, t0] = pts[i - 1]!;
+      const [v1, t1] = pts[i]!;
+      return (t0 + ((t1 - t0) * (tasMps - v0)) / (v1 - v0)) * densityFactor;
+    }
+  }
+}
+
+export function dynamicPressurePa(densityKgM3: number, tasMps: number): number {
+  return 0.5 * densityKgM3 * tasMps * tasMps;
+}
+
+/** Accelerated-stall load factor n = q·S·CLmax/W. */
+export function stallLoadFactor(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): number {
+  return (dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2 * aircraft.clMax) / (massKg * G0_MPS2);
+}
+
+/** Negative-g stall load factor q·S·CLmin/W (negative), or null without cl_min. */
+export function negativeStallLoadFactor(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): number | null {
+  if (aircraft.clMin === undefined) return null;
+  return (dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2 * aircraft.clMin) / (massKg * G0_MPS2);
+}
+
+/**
+ * Sustained (thrust = drag) load factor n = (qS/W)·√((T − qS·CD0)/(qS·k)); 0 when T ≤ qS·CD0,
+ * null when the thrust is unknown.
+ */
+export function thrustLoadFactor(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): number | null {
+  const thrustN = thrustAvailableN(aircraft.thrust, tasMps, densityKgM3);
+  if (thrustN === null) return null;
+  const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
+  if (qS <= 0) return 0;
+  const excess = thrustN - qS * aircraft.cd0;
+  if (excess <= 0) return 0;
+  return (qS / (massKg * G0_MPS2)) * Math.sqrt(excess / (qS * aircraft.k));
+}
+
+export type LimitName = 'stall' | 'thrust' | 'structure';
+
+export interface TurnGeometry {
+  bankDeg: number | null;
+  turnRateDps: number | null;
+  radiusM: number | null;
+}
+
+/** Level coordinated turn at load factor n: bank = acos(1/n), ω = g√(n²−1)/V, R = V²/(g√(n²−1)). */
+export function levelTurnAt(loadFactor: number, tasMps: number): TurnGeometry {
+  if (!(loadFactor >= 1)) return { bankDeg: null, turnRateDps: null, radiusM: null };
+  const root = Math.sqrt(loadFactor * loadFactor - 1);
+  return {
+    bankDeg: radToDeg(Math.acos(1 / loadFactor)),
+    turnRateDps: tasMps > 0 ? radToDeg((G0_MPS2 * root) / tasMps) : null,
+    radiusM: root > 0 ? (tasMps * tasMps) / (G0_MPS2 * root) : null,
+  };
+}
+
+/** Load factor of a level coordinated turn at a bank angle: n = 1/cos(bank). */
+export function loadFactorForBank(bankDeg: number): number {
+  return 1 / Math.cos((bankDeg * Math.PI) / 180);
+}
+
+export interface LoadFactorLimits {
+  nStall: number;
+  nThrust: number | null;
+  nStructural: number;
+  /** min(stall, thrust, structure); null when the thrust is unknown. */
+  sustained: number | null;
+  sustainedLimitedBy: LimitName | null;
+  /** min(stall, structure). */
+  instantaneous: number;
+  instantaneousLimitedBy: LimitName;
+}
+
+/** The three limits at one TAS, density and mass. Ties go to the first of stall, thrust, structure. */
+export function computeLimits(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): LoadFactorLimits {
+  const nStall = stallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
+  const nThrust = thrustLoadFactor(aircraft, tasMps, densityKgM3, massKg);
+  const nStructural = aircraft.nLimitPos;
+  const instantaneousLimitedBy: LimitName = nStall <= nStructural ? 'stall' : 'structure';
+  const instantaneous = Math.min(nStall, nStructural);
+  let sustained: number | null = null;
+  let sustainedLimitedBy: LimitName | null = null;
+  if (nThrust !== null) {
+    sustained = instantaneous;
+    sustainedLimitedBy = instantaneousLimitedBy;
+    if (nThrust < instantaneous || (nThrust === instantaneous && instantaneousLimitedBy === 'structure')) {
+      sustained = nThrust;
+      sustainedLimitedBy = 'thrust';
+    }
+  }
+  return { nStall, nThrust, nStructural, sustained, sustainedLimitedBy, instantaneous, instantaneousLimitedBy };
+}
+
+/** 1-g stall speed Vs1 = √(2W/(ρ·S·CLmax)), TAS. */
+export function stallSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: number, loadFactor = 1): number {
+  return Math.sqrt((2 * loadFactor * massKg * G0_MPS2) / (densityKgM3 * aircraft.wingAreaM2 * aircraft.clMax));
+}
+
+/** Corner speed √(2·n_limit_pos·W/(ρ·S·CLmax)) = Vs1·√n_limit_pos, TAS. */
+export function cornerSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: number): number {
+  return stallSpeedMps(aircraft, densityKgM3, massKg, aircraft.nLimitPos);
+}
