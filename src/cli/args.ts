@@ -75,7 +75,7 @@ function describeRule(rule: NumberRule): string {
   if (rule.above !== undefined) parts.push(`above ${rule.above}`);
   if (rule.min !== undefined && rule.max !== undefined) parts.push(`from ${rule.min} to ${rule.max}`);
   else if (rule.min !== undefined) parts.push(`of at least ${rule.min}`);
-  else if (rule.max !== undefined) parts.push(`of at most ${rule.max}`);
+  else if (rule.max !== undefined) parts.push(`${rule.above !== undefined ? 'and ' : ''}at most ${rule.max}`);
   return parts.join(' ');
 }
 

@@ -1,14 +1,142 @@
-/** Placeholder until its issue lands: the command exists in the table but is not implemented yet. */
-import type { CommandSpec, ParsedArgs } from '../args.js';
+/** `turnmargin envelope`: the turn envelope at one condition, or a bank-limit schedule over altitudes and masses. */
+import { MAX_ALTITUDE_M, MIN_ALTITUDE_M } from '../../core/atmosphere.js';
+import { computeBankSchedule } from '../../core/bank-schedule.js';
+import { computeEnvelope } from '../../core/envelope.js';
+import { stallSpeedMps } from '../../core/performance.js';
+import { computeAirState, type TemperatureOptions } from '../../core/atmosphere.js';
+import type { Aircraft } from '../../core/aircraft.js';
+import { bankScheduleToCsv, bankScheduleToJson, bankScheduleToTable } from '../../report/bank-schedule-report.js';
+import { envelopeToCsv, envelopeToJson, envelopeToTable } from '../../report/envelope-report.js';
+import {
+  choiceOption,
+  numberListOption,
+  numberOption,
+  requireOption,
+  stringOption,
+  type CommandSpec,
+  type ParsedArgs,
+} from '../args.js';
+import { UsageError } from '../errors.js';
+import { loadAircraftFile, loadThresholdsFile } from '../load.js';
 
 export const spec: CommandSpec = {
   name: 'envelope',
-  summary: 'not implemented yet',
-  usage: 'turnmargin envelope',
-  options: [],
+  summary: 'print the turn envelope (load-factor limits against TAS) of an airframe',
+  usage:
+    'turnmargin envelope --aircraft FILE [--altitude M] [--isa-dev C | --oat C] [--mass KG] ' +
+    '[--speeds V1,V2,… | --from V --to V --step V] [--format table|json|csv]\n' +
+    '       turnmargin envelope --aircraft FILE --altitudes A1,A2,… [--masses M1,M2,…] [--thresholds FILE] [--format csv|json|table]',
+  options: [
+    { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON)' },
+    { name: 'altitude', type: 'string', valueName: 'M', unit: 'm, pressure altitude', defaultText: '0', description: 'altitude of the envelope' },
+    { name: 'isa-dev', type: 'string', valueName: 'C', unit: '°C (= K)', defaultText: '0', description: 'temperature deviation from ISA' },
+    { name: 'oat', type: 'string', valueName: 'C', unit: '°C', description: 'outside air temperature (instead of --isa-dev)' },
+    { name: 'mass', type: 'string', valueName: 'KG', unit: 'kg', defaultText: "the file's mass_kg", description: 'aircraft mass' },
+    { name: 'speeds', type: 'string', valueName: 'V1,V2,…', unit: 'm/s TAS', description: 'speeds to tabulate' },
+    { name: 'from', type: 'string', valueName: 'V', unit: 'm/s TAS', defaultText: 'Vs1', description: 'first speed of a regular grid' },
+    { name: 'to', type: 'string', valueName: 'V', unit: 'm/s TAS', defaultText: 'vne_mps, else 4·Vs1', description: 'last speed of a regular grid' },
+    { name: 'step', type: 'string', valueName: 'V', unit: 'm/s', defaultText: '(to − from)/30', description: 'speed step of a regular grid' },
+    { name: 'format', type: 'string', valueName: 'FMT', defaultText: 'table', description: 'output format: table, json or csv' },
+    { name: 'altitudes', type: 'string', valueName: 'A1,A2,…', unit: 'm', description: 'bank-limit schedule: pressure altitudes' },
+    { name: 'masses', type: 'string', valueName: 'M1,M2,…', unit: 'kg', defaultText: "the file's mass_kg", description: 'bank-limit schedule: masses' },
+    { name: 'thresholds', type: 'string', valueName: 'FILE', defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust", description: 'alert thresholds (JSON) for the schedule' },
+  ],
+  notes: [
+    'Speeds are true airspeeds. The sustained limit is where thrust available equals drag in the turn; the\n' +
+      'instantaneous limit is the lower of the stall and structural limits. Without n_limit_pos in the file,\n' +
+      'the 14 CFR 23.337(a) normal-category default is used and the output says so.',
+    'With --altitudes the command prints, for each altitude and mass, bank_limit_deg and bank_sustained_deg\n' +
+      'against TAS with the caution thresholds applied: a bank-limit schedule for an autopilot.',
+    'Advisory figures for test planning, not flight-critical: the aircraft\'s approved limits, the operator\'s\n' +
+      'procedures and local aviation rules take precedence.',
+  ],
 };
 
-export async function run(_args: ParsedArgs): Promise<number> {
-  process.stderr.write('turnmargin: envelope is not implemented yet\n');
-  return 2;
+const ALTITUDE_RULE = { min: MIN_ALTITUDE_M, max: MAX_ALTITUDE_M };
+const MAX_POINTS = 100_000;
+
+function temperatureOptions(args: ParsedArgs): TemperatureOptions {
+  const isaDev = numberOption(args, 'isa-dev', undefined, { min: -100, max: 100 });
+  const oat = numberOption(args, 'oat', undefined, { min: -100, max: 70 });
+  if (isaDev !== undefined && oat !== undefined) throw new UsageError('give --isa-dev or --oat, not both');
+  const t: TemperatureOptions = {};
+  if (isaDev !== undefined) t.isaDeviationK = isaDev;
+  if (oat !== undefined) t.oatC = oat;
+  return t;
 }
+
+function speedList(args: ParsedArgs, aircraft: Aircraft, lowDefault: () => number): number[] | undefined {
+  const speeds = numberListOption(args, 'speeds', { above: 0, max: 1000 });
+  const hasGrid = ['from', 'to', 'step'].some((k) => args.values[k] !== undefined);
+  if (speeds && hasGrid) throw new UsageError('give --speeds or --from/--to/--step, not both');
+  if (speeds) return speeds;
+  if (!hasGrid) return undefined;
+  const from = numberOption(args, 'from', undefined, { above: 0, max: 1000 }) ?? lowDefault();
+  const to = numberOption(args, 'to', undefined, { above: 0, max: 1000 }) ?? aircraft.vneMps ?? 4 * lowDefault();
+  if (to < from) throw new UsageError(`--to (${to}) must not be below --from (${from.toFixed(3)})`);
+  const step = numberOption(args, 'step', undefined, { above: 0 }) ?? ((to - from) / 30 || 1);
+  const count = Math.floor((to - from) / step + 1e-9) + 1;
+  if (count > MAX_POINTS) throw new UsageError(`--step ${step} gives ${count} speeds; at most ${MAX_POINTS}`);
+  const list = Array.from({ length: count }, (_, i) => from + step * i);
+  if (to - list[list.length - 1]! > 1e-9) list.push(to);
+  return list;
+}
+
+function limitNotes(aircraft: Aircraft): string[] {
+  const notes: string[] = [];
+  if (aircraft.nLimitPosSource !== 'file') {
+    notes.push(`n_limit_pos not given: ${aircraft.nLimitPos.toFixed(3)} from the ${aircraft.nLimitPosSource} (normal category, capped at 3.8)`);
+  }
+  if (aircraft.nLimitNegSource !== 'file') {
+    notes.push(`n_limit_neg not given: ${aircraft.nLimitNeg.toFixed(3)} from the ${aircraft.nLimitNegSource} (−0.4 × n_limit_pos)`);
+  }
+  if (aircraft.thrust.model === 'table') {
+    notes.push('thrust from a table: outside its speed range the thrust limit is unknown (not extrapolated)');
+  }
+  return notes;
+}
+
+export async function run(args: ParsedArgs): Promise<number> {
+  if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
+  const aircraftPath = requireOption(args, 'aircraft');
+  const temperature = temperatureOptions(args);
+  const altitudes = numberListOption(args, 'altitudes', ALTITUDE_RULE);
+  const masses = numberListOption(args, 'masses', { above: 0, max: 10_000 });
+  const thresholdsPath = stringOption(args, 'thresholds');
+  const aircraft = loadAircraftFile(aircraftPath);
+  const out = (text: string) => process.stdout.write(text);
+
+  if (altitudes) {
+    if (args.values['altitude'] !== undefined) throw new UsageError('give --altitude or --altitudes, not both');
+    if (args.values['mass'] !== undefined) throw new UsageError('with --altitudes, give masses as --masses');
+    const format = choiceOption(args, 'format', ['csv', 'json', 'table'] as const, 'csv');
+    const massList = masses ?? [aircraft.massKg];
+    const thresholds = thresholdsPath ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
+    const lowest = () =>
+      Math.min(
+        ...altitudes.flatMap((a) => massList.map((m) => stallSpeedMps(aircraft, computeAirState(a, temperature).densityKgM3, m))),
+      );
+    const speeds = speedList(args, aircraft, lowest);
+    const request = { altitudesM: altitudes, massesKg: massList, temperature, ...(speeds ? { speedsMps: speeds } : {}) };
+    const rows = computeBankSchedule(aircraft, thresholds, request);
+    if (format === 'csv') out(bankScheduleToCsv(rows));
+    else if (format === 'json') out(JSON.stringify(bankScheduleToJson(aircraft.name, thresholds, rows), null, 2) + '\n');
+    else out(bankScheduleToTable(aircraft.name, rows));
+    return 0;
+  }
+  if (masses) throw new UsageError('--masses goes with --altitudes (for a single mass use --mass)');
+  if (thresholdsPath) throw new UsageError('--thresholds goes with --altitudes (the schedule applies them)');
+
+  const format = choiceOption(args, 'format', ['table', 'json', 'csv'] as const, 'table');
+  const altitudeM = numberOption(args, 'altitude', 0, ALTITUDE_RULE);
+  const massKg = numberOption(args, 'mass', aircraft.massKg, { above: 0, max: 10_000 });
+  const rho = computeAirState(altitudeM, temperature).densityKgM3;
+  const speeds = speedList(args, aircraft, () => stallSpeedMps(aircraft, rho, massKg));
+  const envelope = computeEnvelope(aircraft, { altitudeM, temperature, massKg }, speeds ?? undefined);
+  const notes = { notes: limitNotes(aircraft) };
+  if (format === 'json') out(JSON.stringify(envelopeToJson(envelope, notes), null, 2) + '\n');
+  else if (format === 'csv') out(envelopeToCsv(envelope));
+  else out(envelopeToTable(envelope, notes));
+  return 0;
+}
+

@@ -1,0 +1,31 @@
+/**
+ * Bank limits for a level coordinated turn, with the alert thresholds applied: the bank whose load factor reaches
+ * the caution level of the nearest limit.
+ */
+import type { AlertThresholds } from './thresholds.js';
+import { radToDeg } from './units.js';
+
+/** Bank of a level coordinated turn at load factor n: acos(1/n); 0 when n ≤ 1. */
+export function bankForLoadFactorDeg(loadFactor: number): number {
+  return loadFactor > 1 ? radToDeg(Math.acos(1 / loadFactor)) : 0;
+}
+
+export interface BankLimits {
+  /** From min(stall caution × n_stall, structure caution × n_limit_pos). */
+  bankLimitDeg: number;
+  /** As above with thrust caution × n_thrust also in the min; null when the thrust is unknown. */
+  bankSustainedDeg: number | null;
+}
+
+export function computeBankLimits(
+  nStall: number,
+  nThrust: number | null,
+  nLimitPos: number,
+  thresholds: AlertThresholds,
+): BankLimits {
+  const nInstant = Math.min(thresholds.stallCaution * nStall, thresholds.structureCaution * nLimitPos);
+  return {
+    bankLimitDeg: bankForLoadFactorDeg(nInstant),
+    bankSustainedDeg: nThrust === null ? null : bankForLoadFactorDeg(Math.min(nInstant, thresholds.thrustCaution * nThrust)),
+  };
+}
