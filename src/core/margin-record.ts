@@ -52,4 +52,10 @@ export interface MarginRecord {
   uncoordinated: boolean;
   /** false below 0.5·Vs1: utilizations are null and no alert is raised. */
   flying: boolean;
+  /** The unsmoothed load factor of this frame (nz, else 1/cos(bank)). */
+  n_raw: number;
+  /** Negative-g stall limit q·S·CLmin/W, or null without cl_min. */
+  n_stall_neg: number | null;
+  /** Negative structural limit n_limit_neg. */
+  n_structural_neg: number;
 }

@@ -1,0 +1,125 @@
+/**
+ * Limit events: one contiguous interval in which one (limit, level) alert is on. start_s is the time of the first
+ * frame on; end_s the time of the first frame off, or of the last frame when the data end with the alert on.
+ * A warning interval lies inside its caution interval; both are reported as separate events.
+ */
+import type { AlertLevel, MarginRecord } from './margin-record.js';
+import type { LimitName } from './performance.js';
+
+export interface LimitEvent {
+  limit: LimitName;
+  level: AlertLevel;
+  start_s: number;
+  end_s: number;
+  duration_s: number;
+  /**
+   * Highest utilization of the limit while the alert was on. A thrust alert raised because n_thrust = 0 (level
+   * flight not sustainable) has no finite utilization: it counts as Infinity (null in JSON).
+   */
+  peak_utilization: number;
+  peak_t_s: number;
+  /** TAS at the peak, m/s. */
+  speed_at_peak_mps: number;
+  /** n_measured at the peak. */
+  n_at_peak: number;
+  /** true while the alert is still on (end_s and duration_s are then those of the latest frame). */
+  open: boolean;
+}
+
+export interface EventTracker {
+  /** Feed the next record; returns the events that started and ended at it. */
+  push(rec: MarginRecord): { started: LimitEvent[]; ended: LimitEvent[] };
+  /** Closes open events at the last frame and returns all events. */
+  finish(): LimitEvent[];
+  /** All events so far, in order of start (open ones included). */
+  events(): readonly LimitEvent[];
+}
+
+/** The utilization an event's peak is measured on; n_thrust = 0 counts as unbounded. */
+export function eventUtilization(rec: MarginRecord, limit: LimitName): number | null {
+  const u = rec.utilization[limit];
+  if (u !== null) return u;
+  if (limit === 'thrust' && rec.n_thrust === 0 && rec.flying) return Infinity;
+  return null;
+}
+
+function keyOf(limit: LimitName, level: AlertLevel): string {
+  return `${limit}:${level}`;
+}
+
+function startEvent(rec: MarginRecord, limit: LimitName, level: AlertLevel): LimitEvent {
+  return {
+    limit,
+    level,
+    start_s: rec.t_s,
+    end_s: rec.t_s,
+    duration_s: 0,
+    peak_utilization: eventUtilization(rec, limit) ?? -Infinity,
+    peak_t_s: rec.t_s,
+    speed_at_peak_mps: rec.tas_mps,
+    n_at_peak: rec.n_measured,
+    open: true,
+  };
+}
+
+function extendEvent(event: LimitEvent, rec: MarginRecord): void {
+  event.end_s = rec.t_s;
+  event.duration_s = rec.t_s - event.start_s;
+  const u = eventUtilization(rec, event.limit);
+  if (u !== null && u > event.peak_utilization) {
+    event.peak_utilization = u;
+    event.peak_t_s = rec.t_s;
+    event.speed_at_peak_mps = rec.tas_mps;
+    event.n_at_peak = rec.n_measured;
+  }
+}
+
+function closeEvent(event: LimitEvent, endS: number): void {
+  event.end_s = endS;
+  event.duration_s = endS - event.start_s;
+  event.open = false;
+}
+
+export function createEventTracker(): EventTracker {
+  const all: LimitEvent[] = [];
+  const open = new Map<string, LimitEvent>();
+  let lastTS: number | null = null;
+  return {
+    push(rec) {
+      lastTS = rec.t_s;
+      const ended: LimitEvent[] = [];
+      const onNow = new Set(rec.alerts.map((a) => keyOf(a.limit, a.level)));
+      for (const [key, event] of open) {
+        if (!onNow.has(key)) {
+          closeEvent(event, rec.t_s);
+          open.delete(key);
+          ended.push(event);
+        }
+      }
+      const started: LimitEvent[] = [];
+      // Cautions first, so a warning starting with its caution is listed after it.
+      const ordered = [...rec.alerts].sort((a, b) => (a.level === b.level ? 0 : a.level === 'caution' ? -1 : 1));
+      for (const alert of ordered) {
+        const key = keyOf(alert.limit, alert.level);
+        const existing = open.get(key);
+        if (existing) {
+          extendEvent(existing, rec);
+        } else {
+          const event = startEvent(rec, alert.limit, alert.level);
+          open.set(key, event);
+          all.push(event);
+          started.push(event);
+        }
+      }
+      return { started, ended };
+    },
+    finish() {
+      for (const event of open.values()) closeEvent(event, lastTS ?? event.end_s);
+      open.clear();
+      return all;
+    },
+    events() {
+      return all;
+    },
+  };
+}

@@ -1,0 +1,37 @@
+/**
+ * First-order low-pass filter on a sampled signal with irregular time steps (common practice):
+ * y ← y + (1 − e^(−Δt/τ))·(x − y). It restarts at the raw value on the first sample, after a gap Δt above
+ * `maxGapS`, and when time does not advance (a new segment of the sender's clock).
+ */
+
+export interface LowPassState {
+  /** Time of the last sample, s. */
+  tS: number;
+  /** Filtered value. */
+  value: number;
+}
+
+/** Gap after which the filter restarts, s. */
+export const FILTER_RESTART_GAP_S = 1;
+
+export interface LowPassStep {
+  state: LowPassState;
+  /** true when the filter started afresh at this sample. */
+  restarted: boolean;
+}
+
+/** One step of the filter. τ = 0 turns it off (the output is the input). */
+export function lowPassStep(
+  previous: LowPassState | null,
+  tS: number,
+  input: number,
+  tauS: number,
+  maxGapS: number = FILTER_RESTART_GAP_S,
+): LowPassStep {
+  if (previous === null) return { state: { tS, value: input }, restarted: true };
+  const dtS = tS - previous.tS;
+  if (!(dtS > 0) || dtS > maxGapS) return { state: { tS, value: input }, restarted: true };
+  if (tauS <= 0) return { state: { tS, value: input }, restarted: false };
+  const gain = 1 - Math.exp(-dtS / tauS);
+  return { state: { tS, value: previous.value + gain * (input - previous.value) }, restarted: false };
+}

@@ -1,0 +1,271 @@
+/**
+ * Per-frame margins: from an accepted frame and the airframe, the air state, the three load-factor limits at the
+ * present TAS, density and mass, the smoothed measured load factor, utilizations, alerts with hysteresis, bank
+ * limits and the turn readouts — one MarginRecord per frame.
+ *
+ * Pure: `computeMarginRecord(aircraft, options, state, frame)` returns the record and the next state;
+ * `createMarginTracker` is the small stateful wrapper the shell uses.
+ */
+import type { Aircraft } from './aircraft.js';
+import { computeAirState } from './atmosphere.js';
+import { casToTasMps, iasToCasMps, tasToEasMps } from './airspeed.js';
+import { levelOfAlerts, updateAlerts } from './alerts.js';
+import { lowPassStep, type LowPassState } from './filter.js';
+import type { Frame } from './frame.js';
+import type { ActiveAlert, MarginRecord, Utilization } from './margin-record.js';
+import {
+  computeLimits,
+  dynamicPressurePa,
+  levelTurnAt,
+  negativeStallLoadFactor,
+  stallSpeedMps,
+} from './performance.js';
+import type { AlertThresholds } from './thresholds.js';
+import { G0_MPS2, radToDeg } from './units.js';
+
+export interface MarginOptions {
+  /** Alert thresholds. Default: the airframe's (its `alert_thresholds` over the defaults). */
+  thresholds: AlertThresholds;
+  /** Time constant of the load-factor low-pass filter, s. Default 0.15; 0 turns smoothing off. */
+  smoothTauS: number;
+}
+
+export const DEFAULT_SMOOTH_TAU_S = 0.15;
+/** Below this fraction of Vs1 the aircraft is taken as not flying (on the ground, launch, or a bad airspeed). */
+export const FLYING_FRACTION_OF_VS1 = 0.5;
+/** n_measured and 1/cos(bank) must differ by more than this … */
+export const COORDINATION_TOLERANCE = 0.15;
+/** … for longer than this, s, to flag the turn as uncoordinated. */
+export const COORDINATION_DURATION_S = 1;
+
+export function resolveMarginOptions(aircraft: Aircraft, options: Partial<MarginOptions> = {}): MarginOptions {
+  return {
+    thresholds: options.thresholds ?? aircraft.thresholds,
+    smoothTauS: options.smoothTauS ?? DEFAULT_SMOOTH_TAU_S,
+  };
+}
+
+/** What carries over from one frame to the next. */
+export interface MarginState {
+  filter: LowPassState | null;
+  alerts: readonly ActiveAlert[];
+  /** Start time of the present run of frames where n_measured and 1/cos(bank) disagree, or null. */
+  disagreeSinceS: number | null;
+}
+
+export function initialMarginState(): MarginState {
+  return { filter: null, alerts: [], disagreeSinceS: null };
+}
+
+export interface FrameAir {
+  tasMps: number;
+  easMps: number;
+  densityKgM3: number;
+  temperatureK: number;
+  massKg: number;
+}
+
+/** Air state and TAS of a frame: ISA pressure from alt_m, OAT when given, TAS from whichever airspeed it has. */
+export function computeFrameAir(aircraft: Aircraft, frame: Frame): FrameAir {
+  const air = computeAirState(frame.altM, frame.oatC !== undefined ? { oatC: frame.oatC } : {});
+  let tasMps: number;
+  switch (frame.airspeedKind) {
+    case 'tas':
+      tasMps = frame.airspeedMps;
+      break;
+    case 'cas':
+      tasMps = casToTasMps(frame.airspeedMps, air.pressurePa, air.temperatureK);
+      break;
+    case 'ias':
+      tasMps = casToTasMps(iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration), air.pressurePa, air.temperatureK);
+      break;
+  }
+  return {
+    tasMps,
+    easMps: tasToEasMps(tasMps, air.densityKgM3),
+    densityKgM3: air.densityKgM3,
+    temperatureK: air.temperatureK,
+    massKg: frame.massKg ?? aircraft.massKg,
+  };
+}
+
+/** 1/cos(bank): the load factor of a level coordinated turn at that bank; null where cos(bank) is about 0. */
+export function loadFactorFromBank(bankDeg: number): number | null {
+  const c = Math.cos((bankDeg * Math.PI) / 180);
+  return Math.abs(c) < 1e-9 ? null : 1 / c;
+}
+
+/** The frame's measured load factor: nz when present, else 1/cos(bank). */
+export function rawLoadFactor(frame: Frame): number {
+  if (frame.nz !== undefined) return frame.nz;
+  if (frame.bankDeg !== undefined) {
+    const n = loadFactorFromBank(frame.bankDeg);
+    if (n !== null) return n;
+  }
+  throw new RangeError(`frame at t_s ${frame.tS} has neither a usable bank_deg nor nz`);
+}
+
+export interface LimitsForUtilization {
+  nStall: number;
+  nStallNeg: number | null;
+  nThrust: number | null;
+  nLimitPos: number;
+  nLimitNeg: number;
+}
+
+/**
+ * Utilization of each limit at load factor n: n/limit. For n < 0 the negative limits apply (structure n/n_limit_neg;
+ * stall n/n_stall_neg, null without cl_min). Thrust is null where n_thrust is null or 0. All null when not flying.
+ */
+export function computeUtilization(n: number, limits: LimitsForUtilization, flying: boolean): Utilization {
+  if (!flying) return { stall: null, thrust: null, structure: null };
+  const negative = n < 0;
+  return {
+    stall: negative ? (limits.nStallNeg === null ? null : n / limits.nStallNeg) : n / limits.nStall,
+    thrust: limits.nThrust === null || limits.nThrust === 0 ? null : n / limits.nThrust,
+    structure: negative ? n / limits.nLimitNeg : n / limits.nLimitPos,
+  };
+}
+
+/** Bank of a level coordinated turn at load factor n, deg: acos(1/n), 0 when n ≤ 1. */
+export function bankForLoadFactorDeg(n: number): number {
+  return n > 1 ? radToDeg(Math.acos(1 / n)) : 0;
+}
+
+export interface BankLimits {
+  bankLimitDeg: number;
+  bankSustainedDeg: number | null;
+}
+
+/**
+ * bank_limit_deg: the bank whose n = min(stall caution × n_stall, structure caution × n_limit_pos);
+ * bank_sustained_deg: the same with thrust caution × n_thrust also in the min (null when n_thrust is unknown).
+ */
+export function computeBankLimits(limits: LimitsForUtilization, thresholds: AlertThresholds): BankLimits {
+  const nInstantaneous = Math.min(thresholds.stallCaution * limits.nStall, thresholds.structureCaution * limits.nLimitPos);
+  const bankLimitDeg = bankForLoadFactorDeg(nInstantaneous);
+  if (limits.nThrust === null) return { bankLimitDeg, bankSustainedDeg: null };
+  return { bankLimitDeg, bankSustainedDeg: bankForLoadFactorDeg(Math.min(nInstantaneous, thresholds.thrustCaution * limits.nThrust)) };
+}
+
+/** Stall speed (TAS) at load factor n: Vs1·√n for n > 0; with cl_min for n < 0; null otherwise. */
+export function stallSpeedAtLoadFactorMps(aircraft: Aircraft, densityKgM3: number, massKg: number, n: number): number | null {
+  if (n > 0) return stallSpeedMps(aircraft, densityKgM3, massKg, n);
+  if (n < 0 && aircraft.clMin !== undefined) {
+    return Math.sqrt((2 * -n * massKg * G0_MPS2) / (densityKgM3 * aircraft.wingAreaM2 * -aircraft.clMin));
+  }
+  return null;
+}
+
+/** One step of the coordination check: returns the new start of the disagreement run and the flag. */
+export function coordinationStep(
+  disagreeSinceS: number | null,
+  tS: number,
+  nMeasured: number,
+  nFromBank: number | null,
+  restarted: boolean,
+): { disagreeSinceS: number | null; uncoordinated: boolean } {
+  if (nFromBank === null || !(Math.abs(nMeasured - nFromBank) > COORDINATION_TOLERANCE)) {
+    return { disagreeSinceS: null, uncoordinated: false };
+  }
+  const since = disagreeSinceS === null || restarted ? tS : disagreeSinceS;
+  return { disagreeSinceS: since, uncoordinated: tS - since > COORDINATION_DURATION_S };
+}
+
+/** The margin record of one frame, and the state for the next. */
+export function computeMarginRecord(
+  aircraft: Aircraft,
+  options: MarginOptions,
+  state: MarginState,
+  frame: Frame,
+): { record: MarginRecord; state: MarginState } {
+  const air = computeFrameAir(aircraft, frame);
+  const { tasMps, densityKgM3, massKg } = air;
+
+  const nRaw = rawLoadFactor(frame);
+  const step = lowPassStep(state.filter, frame.tS, nRaw, options.smoothTauS);
+  const nF = step.state.value;
+
+  const base = computeLimits(aircraft, tasMps, densityKgM3, massKg);
+  const limits: LimitsForUtilization = {
+    nStall: base.nStall,
+    nStallNeg: negativeStallLoadFactor(aircraft, tasMps, densityKgM3, massKg),
+    nThrust: base.nThrust,
+    nLimitPos: aircraft.nLimitPos,
+    nLimitNeg: aircraft.nLimitNeg,
+  };
+
+  const flying = tasMps >= FLYING_FRACTION_OF_VS1 * stallSpeedMps(aircraft, densityKgM3, massKg);
+  const utilization = computeUtilization(nF, limits, flying);
+  const alerts = updateAlerts(state.alerts, { utilization, nThrust: limits.nThrust, flying }, options.thresholds);
+  const bank = computeBankLimits(limits, options.thresholds);
+
+  const nFromBank = frame.bankDeg !== undefined ? loadFactorFromBank(frame.bankDeg) : null;
+  // Comparing n with 1/cos(bank) means something only when n comes from an accelerometer.
+  const coordination = coordinationStep(
+    state.disagreeSinceS,
+    frame.tS,
+    nF,
+    frame.nz !== undefined ? nFromBank : null,
+    step.restarted,
+  );
+
+  const stallSpeed = stallSpeedAtLoadFactorMps(aircraft, densityKgM3, massKg, nF);
+  const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
+  const turn = nFromBank !== null && nFromBank >= 1 ? levelTurnAt(nFromBank, tasMps) : null;
+
+  const record: MarginRecord = {
+    t_s: frame.tS,
+    tas_mps: tasMps,
+    eas_mps: air.easMps,
+    density_kg_m3: densityKgM3,
+    n_measured: nF,
+    n_stall: limits.nStall,
+    n_thrust: limits.nThrust,
+    n_structural: aircraft.nLimitPos,
+    utilization,
+    bank_limit_deg: bank.bankLimitDeg,
+    bank_sustained_deg: bank.bankSustainedDeg,
+    level: levelOfAlerts(alerts),
+    alerts,
+    alt_m: frame.altM,
+    mass_kg: massKg,
+    temperature_k: air.temperatureK,
+    bank_deg: frame.bankDeg ?? null,
+    nz: frame.nz ?? null,
+    n_from_bank: nFromBank,
+    stall_speed_mps: stallSpeed,
+    stall_speed_margin_pct: stallSpeed !== null && stallSpeed > 0 ? (tasMps / stallSpeed - 1) * 100 : null,
+    cl: qS > 0 ? (nF * massKg * G0_MPS2) / qS : null,
+    turn_rate_dps: turn?.turnRateDps ?? null,
+    radius_m: turn?.radiusM ?? null,
+    uncoordinated: coordination.uncoordinated,
+    flying,
+    n_raw: nRaw,
+    n_stall_neg: limits.nStallNeg,
+    n_structural_neg: aircraft.nLimitNeg,
+  };
+  return { record, state: { filter: step.state, alerts, disagreeSinceS: coordination.disagreeSinceS } };
+}
+
+export interface MarginTracker {
+  /** The margin record of the next accepted frame. */
+  push(frame: Frame): MarginRecord;
+  /** After a reconnect or a seek: the filter restarts, hysteresis and coordination state are cleared. */
+  reset(): void;
+}
+
+export function createMarginTracker(aircraft: Aircraft, options?: Partial<MarginOptions>): MarginTracker {
+  const resolved = resolveMarginOptions(aircraft, options);
+  let state = initialMarginState();
+  return {
+    push(frame) {
+      const out = computeMarginRecord(aircraft, resolved, state, frame);
+      state = out.state;
+      return out.record;
+    },
+    reset() {
+      state = initialMarginState();
+    },
+  };
+}
