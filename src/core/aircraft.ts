@@ -60,7 +60,10 @@ const TableThrust = z.strictObject({
 });
 
 const Thrust = z.discriminatedUnion('model', [ConstantThrust, PowerThrust, TableThrust], {
-  error: 'must be an object whose "model" is "constant", "power" or "table"',
+  error: (issue) =>
+    issue.input !== null && typeof issue.input === 'object'
+      ? 'must be "constant", "power" or "table"'
+      : 'must be an object whose "model" is "constant", "power" or "table"',
 });
 
 const Polar = z

@@ -124,3 +124,10 @@ export function stallSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: n
 export function cornerSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: number): number {
   return stallSpeedMps(aircraft, densityKgM3, massKg, aircraft.nLimitPos);
 }
+
+/** Drag at load factor n: CL = n·W/(q·S), D = q·S·(CD0 + k·CL²), N. */
+export function dragAtLoadFactorN(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number, loadFactor: number): number {
+  const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
+  const cl = (loadFactor * massKg * G0_MPS2) / qS;
+  return qS * (aircraft.cd0 + aircraft.k * cl * cl);
+}

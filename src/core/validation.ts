@@ -6,6 +6,7 @@ function valueAt(input: unknown, path: ReadonlyArray<PropertyKey>): { found: boo
   for (const key of path) {
     if (cur === null || typeof cur !== 'object' || !(key in (cur as object))) return { found: false, value: undefined };
     cur = (cur as Record<PropertyKey, unknown>)[key];
+    if (cur === undefined) return { found: false, value: undefined };
   }
   return { found: true, value: cur };
 }

@@ -1,12 +1,12 @@
 /** Number formatting shared by the reports. */
 
 /** Round for machine output (JSON/CSV): enough digits for independent checks, no float noise. */
-export function roundTo(value: number, decimals = 4): number {
+export function roundTo(value: number, decimals = 6): number {
   const f = 10 ** decimals;
   return Math.round(value * f) / f;
 }
 
-export function roundOrNull(value: number | null | undefined, decimals = 4): number | null {
+export function roundOrNull(value: number | null | undefined, decimals = 6): number | null {
   return value === null || value === undefined || !Number.isFinite(value) ? null : roundTo(value, decimals);
 }
 
