@@ -10,6 +10,7 @@ import type { Aircraft } from './aircraft.js';
 import { computeAirState } from './atmosphere.js';
 import { casToTasMps, iasToCasMps, tasToEasMps } from './airspeed.js';
 import { levelOfAlerts, updateAlerts } from './alerts.js';
+import { computeBankLimits } from './bank-limits.js';
 import { lowPassStep, type LowPassState } from './filter.js';
 import type { Frame } from './frame.js';
 import type { ActiveAlert, MarginRecord, Utilization } from './margin-record.js';
@@ -21,7 +22,7 @@ import {
   stallSpeedMps,
 } from './performance.js';
 import type { AlertThresholds } from './thresholds.js';
-import { G0_MPS2, radToDeg } from './units.js';
+import { G0_MPS2 } from './units.js';
 
 export interface MarginOptions {
   /** Alert thresholds. Default: the airframe's (its `alert_thresholds` over the defaults). */
@@ -127,27 +128,6 @@ export function computeUtilization(n: number, limits: LimitsForUtilization, flyi
   };
 }
 
-/** Bank of a level coordinated turn at load factor n, deg: acos(1/n), 0 when n ≤ 1. */
-export function bankForLoadFactorDeg(n: number): number {
-  return n > 1 ? radToDeg(Math.acos(1 / n)) : 0;
-}
-
-export interface BankLimits {
-  bankLimitDeg: number;
-  bankSustainedDeg: number | null;
-}
-
-/**
- * bank_limit_deg: the bank whose n = min(stall caution × n_stall, structure caution × n_limit_pos);
- * bank_sustained_deg: the same with thrust caution × n_thrust also in the min (null when n_thrust is unknown).
- */
-export function computeBankLimits(limits: LimitsForUtilization, thresholds: AlertThresholds): BankLimits {
-  const nInstantaneous = Math.min(thresholds.stallCaution * limits.nStall, thresholds.structureCaution * limits.nLimitPos);
-  const bankLimitDeg = bankForLoadFactorDeg(nInstantaneous);
-  if (limits.nThrust === null) return { bankLimitDeg, bankSustainedDeg: null };
-  return { bankLimitDeg, bankSustainedDeg: bankForLoadFactorDeg(Math.min(nInstantaneous, thresholds.thrustCaution * limits.nThrust)) };
-}
-
 /** Stall speed (TAS) at load factor n: Vs1·√n for n > 0; with cl_min for n < 0; null otherwise. */
 export function stallSpeedAtLoadFactorMps(aircraft: Aircraft, densityKgM3: number, massKg: number, n: number): number | null {
   if (n > 0) return stallSpeedMps(aircraft, densityKgM3, massKg, n);
@@ -198,7 +178,7 @@ export function computeMarginRecord(
   const flying = tasMps >= FLYING_FRACTION_OF_VS1 * stallSpeedMps(aircraft, densityKgM3, massKg);
   const utilization = computeUtilization(nF, limits, flying);
   const alerts = updateAlerts(state.alerts, { utilization, nThrust: limits.nThrust, flying }, options.thresholds);
-  const bank = computeBankLimits(limits, options.thresholds);
+  const bank = computeBankLimits(limits.nStall, limits.nThrust, limits.nLimitPos, options.thresholds);
 
   const nFromBank = frame.bankDeg !== undefined ? loadFactorFromBank(frame.bankDeg) : null;
   // Comparing n with 1/cos(bank) means something only when n comes from an accelerometer.
