@@ -1,0 +1,146 @@
+/**
+ * Builds LinkHealth from what the pipeline sees. Pure bookkeeping: every call carries the time (receive clock, ms),
+ * nothing here reads a clock.
+ */
+import type { LinkHealth, LinkState } from './link-health.js';
+import type { SourceStatus } from './source.js';
+
+/** No accepted frame for this long on an open link → "stale". */
+export const STALE_AFTER_MS = 1000;
+/** A t_s jump above this between accepted frames counts as a gap. */
+export const GAP_S = 0.5;
+const BUCKET_MS = 100;
+const WINDOW_BUCKETS = 10;
+const MAX_REASON_KINDS = 40;
+
+/** Reason without the offending value, so that counts group ("tas_mps must be … (got "x")" → "tas_mps must be …"). */
+export function reasonKind(reason: string): string {
+  return reason.replace(/ \(got .*\)$/, '');
+}
+
+export interface LinkHealthTracker {
+  status(s: SourceStatus): void;
+  /** A line arrived (before judging). */
+  line(byteCount: number, atMs: number): void;
+  accepted(tS: number, atMs: number, newSegment: boolean): void;
+  rejected(reason: string): void;
+  /** Recording facts, supplied by the recorder's owner at snapshot time. */
+  snapshot(nowMs: number, recording?: { file: string; bytes: number; error: string | null }): LinkHealth;
+}
+
+export function createLinkHealthTracker(source: string, startMs: number): LinkHealthTracker {
+  let state: LinkState = 'connecting';
+  let opens = 0;
+  let lines = 0;
+  let accepted = 0;
+  let rejected = 0;
+  const rejectedByReason: Record<string, number> = {};
+  let gaps = 0;
+  let clockRestarts = 0;
+  let lastTS: number | undefined;
+  let lastFrameMs: number | undefined;
+  let openedMs = startMs;
+  // Rate buckets: index = floor(ms / BUCKET_MS).
+  const bucketIndex = new Array<number>(WINDOW_BUCKETS).fill(-1);
+  const bucketFrames = new Array<number>(WINDOW_BUCKETS).fill(0);
+  const bucketBytes = new Array<number>(WINDOW_BUCKETS).fill(0);
+
+  function bucket(atMs: number): number {
+    const index = Math.floor(atMs / BUCKET_MS);
+    const slot = ((index % WINDOW_BUCKETS) + WINDOW_BUCKETS) % WINDOW_BUCKETS;
+    if (bucketIndex[slot] !== index) {
+      bucketIndex[slot] = index;
+      bucketFrames[slot] = 0;
+      bucketBytes[slot] = 0;
+    }
+    return slot;
+  }
+
+  return {
+    status(s) {
+      switch (s.kind) {
+        case 'open':
+          opens += 1;
+          state = 'live';
+          openedMs = s.atMs;
+          break;
+        case 'lost':
+          state = 'lost';
+          break;
+        case 'ended':
+          state = 'ended';
+          break;
+        case 'connecting':
+          // While retrying after a loss the link stays "lost" for the operator.
+          if (state !== 'lost') state = 'connecting';
+          break;
+        case 'seek':
+          lastTS = undefined;
+          break;
+      }
+    },
+    line(byteCount, atMs) {
+      lines += 1;
+      bucketBytes[bucket(atMs)]! += byteCount + 1;
+    },
+    accepted(tS, atMs, newSegment) {
+      accepted += 1;
+      if (newSegment) clockRestarts += 1;
+      else if (lastTS !== undefined && tS - lastTS > GAP_S) gaps += 1;
+      lastTS = tS;
+      lastFrameMs = atMs;
+      bucketFrames[bucket(atMs)]! += 1;
+    },
+    rejected(reason) {
+      rejected += 1;
+      let kind = reasonKind(reason);
+      if (!(kind in rejectedByReason) && Object.keys(rejectedByReason).length >= MAX_REASON_KINDS) kind = 'other';
+      rejectedByReason[kind] = (rejectedByReason[kind] ?? 0) + 1;
+    },
+    snapshot(nowMs, recording) {
+      const current = Math.floor(nowMs / BUCKET_MS);
+      let frames = 0;
+      let bytes = 0;
+      for (let i = 0; i < WINDOW_BUCKETS; i++) {
+        const index = bucketIndex[i]!;
+        if (index > current - WINDOW_BUCKETS && index <= current) {
+          frames += bucketFrames[i]!;
+          bytes += bucketBytes[i]!;
+        }
+      }
+      const windowS = (WINDOW_BUCKETS * BUCKET_MS) / 1000;
+      let shown = state;
+      const quietSinceMs = Math.max(lastFrameMs ?? openedMs, openedMs);
+      if (state === 'live' && nowMs - quietSinceMs > STALE_AFTER_MS) shown = 'stale';
+      return {
+        source,
+        state: shown,
+        framesPerS: frames / windowS,
+        bytesPerS: bytes / windowS,
+        lines,
+        accepted,
+        rejected,
+        rejectedByReason: { ...rejectedByReason },
+        gaps,
+        clockRestarts,
+        sinceLastFrameS: lastFrameMs === undefined ? null : Math.max(0, (nowMs - lastFrameMs) / 1000),
+        reconnects: Math.max(0, opens - 1),
+        recordingFile: recording?.file ?? null,
+        recordingBytes: recording?.bytes ?? 0,
+        recordingError: recording?.error ?? null,
+      };
+    },
+  };
+}
+
+/** The `--no-ui` exit summary: a few plain lines for stderr. */
+export function formatLinkSummary(h: LinkHealth): string {
+  const lines = [
+    `link summary — ${h.source}: ${h.state}`,
+    `  lines ${h.lines}, accepted ${h.accepted}, rejected ${h.rejected}, gaps ${h.gaps}, clock restarts ${h.clockRestarts}, reconnects ${h.reconnects}`,
+  ];
+  const reasons = Object.entries(h.rejectedByReason).sort((a, b) => b[1] - a[1]);
+  for (const [reason, count] of reasons) lines.push(`  rejected ${count}× ${reason}`);
+  if (h.recordingFile) lines.push(`  recording ${h.recordingFile}: ${h.recordingBytes} bytes${h.recordingError ? ` — ${h.recordingError}` : ''}`);
+  return lines.join('\n') + '\n';
+}

@@ -1,0 +1,40 @@
+/** Serial adapter (radio modem, USB serial): reopens the same path with backoff when the port disappears. */
+import { SerialPort } from 'serialport';
+import { createLinkSource, type LinkSourceOptions } from './link-source.js';
+import type { TelemetrySource } from './source.js';
+
+export const DEFAULT_BAUD = 57600;
+
+export interface SerialSourceOptions extends LinkSourceOptions {
+  path: string;
+  baudRate?: number;
+}
+
+export function createSerialSource(options: SerialSourceOptions): TelemetrySource {
+  const baudRate = options.baudRate ?? DEFAULT_BAUD;
+  const label = `serial ${options.path} @ ${baudRate}`;
+  return createLinkSource(
+    label,
+    (events) => {
+      const port = new SerialPort({ path: options.path, baudRate, autoOpen: false });
+      // Always listen for 'error': without a listener an I/O error would crash the process.
+      port.on('error', (err: Error) => events.dropped(`serial error: ${err.message}`));
+      port.on('close', (err: (Error & { disconnected?: boolean }) | null) =>
+        events.dropped(err?.disconnected ? 'port disappeared' : err ? `port closed (${err.message})` : 'port closed'),
+      );
+      port.on('data', (chunk: Buffer) => events.data(chunk));
+      port.open((err) => {
+        if (err) events.dropped(`cannot open ${options.path}: ${err.message.replace(/^Error: /, '')}`);
+        else events.opened(options.path);
+      });
+      return {
+        close: () =>
+          new Promise<void>((resolve) => {
+            if (!port.isOpen) return resolve();
+            port.close(() => resolve());
+          }),
+      };
+    },
+    options,
+  );
+}

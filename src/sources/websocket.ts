@@ -1,0 +1,51 @@
+/** Websocket client adapter (telemetry relay): a text message holds one or more lines; reconnects with backoff. */
+import { WebSocket } from 'ws';
+import { createLinkSource, type LinkSourceOptions } from './link-source.js';
+import type { TelemetrySource } from './source.js';
+
+/** Largest message accepted; a bigger one is refused by ws (the link is dropped and reconnected). */
+export const WS_MAX_PAYLOAD_BYTES = 1024 * 1024;
+
+export interface WebSocketSourceOptions extends LinkSourceOptions {
+  url: string;
+  maxPayloadBytes?: number;
+}
+
+function describeWsError(err: Error & { code?: string }): string {
+  if (err.code === 'WS_ERR_UNSUPPORTED_MESSAGE_LENGTH') return 'message larger than 1 MiB refused';
+  if (err.code === 'ECONNREFUSED') return 'connection refused';
+  if (err.code === 'ENOTFOUND') return 'host not found';
+  return err.message;
+}
+
+export function createWebSocketSource(options: WebSocketSourceOptions): TelemetrySource {
+  return createLinkSource(
+    `websocket ${options.url}`,
+    (events) => {
+      let lastError: string | undefined;
+      const ws = new WebSocket(options.url, { maxPayload: options.maxPayloadBytes ?? WS_MAX_PAYLOAD_BYTES, handshakeTimeout: 5000 });
+      // Always listen for 'error' (ECONNREFUSED, oversized message…): it is followed by 'close'.
+      ws.on('error', (err: Error) => {
+        lastError = describeWsError(err);
+      });
+      ws.on('open', () => events.opened(options.url));
+      ws.on('message', (data: Buffer | ArrayBuffer | Buffer[]) => {
+        const chunk = Array.isArray(data) ? Buffer.concat(data) : Buffer.isBuffer(data) ? data : Buffer.from(data);
+        events.data(chunk, true);
+      });
+      ws.on('close', (code: number, reason: Buffer) => {
+        const why = reason.length ? ` ${reason.toString('utf8')}` : '';
+        events.dropped(lastError ?? `connection closed (${code}${why})`);
+      });
+      return {
+        close: () =>
+          new Promise<void>((resolve) => {
+            if (ws.readyState === WebSocket.CLOSED) return resolve();
+            ws.once('close', () => resolve());
+            ws.terminate();
+          }),
+      };
+    },
+    options,
+  );
+}
