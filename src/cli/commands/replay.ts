@@ -1,14 +1,50 @@
-/** Placeholder until its issue lands: the command exists in the table but is not implemented yet. */
-import type { CommandSpec, ParsedArgs } from '../args.js';
+/** `turnmargin replay`: play a recorded flight (recording, NDJSON or CSV log) through the monitor, paced by t_s. */
+import { statSync } from 'node:fs';
+import { loadMappingFile } from '../../decode/read-frames.js';
+import { createFileSource } from '../../sources/file.js';
+import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
+import { InputError, UsageError } from '../errors.js';
+import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js';
 
 export const spec: CommandSpec = {
   name: 'replay',
-  summary: 'not implemented yet',
-  usage: 'turnmargin replay',
-  options: [],
+  summary: 'play a recorded flight through the monitor',
+  usage: 'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--no-ui]',
+  options: [
+    { name: 'speed', type: 'string', valueName: 'X', defaultText: '1', description: 'playback speed: 1 = real time, 2 = twice as fast, 0 = as fast as possible' },
+    { name: 'mapping', type: 'string', valueName: 'FILE', description: 'column mapping (JSON) for a foreign log: which column feeds which frame key, in which unit' },
+    { name: 'loop', type: 'boolean', description: 'start again at the end (dashboard only)' },
+    ...COMMON_MONITOR_OPTIONS,
+  ],
+  notes: [
+    'FILE is a turnmargin recording (watch --record), NDJSON (one frame per line) or CSV with a header of frame\n' +
+      'keys (# comment lines allowed); a mapping file reads logs with other column names and units.',
+    'Dashboard keys: space pause, + and − speed, ← → seek 10 s, q quit.',
+  ],
 };
 
-export async function run(_args: ParsedArgs): Promise<number> {
-  process.stderr.write('turnmargin: replay is not implemented yet\n');
-  return 2;
+export async function run(args: ParsedArgs): Promise<number> {
+  const [path, ...extra] = args.positionals;
+  if (path === undefined) throw new UsageError('the flight file is required: turnmargin replay FILE --aircraft FILE');
+  if (extra.length > 0) throw new UsageError(`unexpected argument "${extra[0]}"`);
+  try {
+    if (statSync(path).isDirectory()) throw new InputError([`${path}: cannot read the flight file (is a directory)`]);
+  } catch (err) {
+    if (err instanceof InputError) throw err;
+    const code = (err as NodeJS.ErrnoException).code;
+    throw new InputError([`${path}: cannot read the flight file (${code === 'ENOENT' ? 'no such file' : (err as Error).message})`]);
+  }
+  const speed = numberOption(args, 'speed', 1, { min: 0, max: 1000 });
+  const mappingPath = stringOption(args, 'mapping');
+  if (mappingPath !== undefined) loadMappingFile(mappingPath); // report a bad mapping before starting
+  const setup = loadMonitorSetup(args);
+  const wantsUi = !setup.noUi && process.stdout.isTTY === true;
+  const source = createFileSource({
+    path,
+    speed,
+    scanLength: wantsUi,
+    loop: wantsUi && args.values['loop'] === true,
+    ...(mappingPath !== undefined ? { mappingPath } : {}),
+  });
+  return runMonitor({ ...setup, source, replay: { transport: source, length: source.length() } });
 }

@@ -1,0 +1,333 @@
+/**
+ * The live pipeline behind `watch` and `replay`: source → recorder → decoder → margin tracker → sinks
+ * (one MarginRecord JSON line per accepted frame with --no-ui, or the dashboard), with link health, signals and
+ * a clean stop (flush, summary, exit 0).
+ */
+import type { Aircraft } from '../core/aircraft.js';
+import { numberOption, requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
+import { loadAircraftFile, loadThresholdsFile } from './load.js';
+import { createEventTracker, type LimitEvent } from '../core/events.js';
+import type { MarginRecord } from '../core/margin-record.js';
+import { createMarginTracker, type MarginOptions } from '../core/margins.js';
+import type { AlertThresholds } from '../core/thresholds.js';
+import { createFrameDecoder, type DecodedLine } from '../decode/frame-decoder.js';
+import type { FileLine } from '../decode/read-frames.js';
+import type { Recorder } from '../recording/recorder.js';
+import type { LinkHealth } from '../sources/link-health.js';
+import { createLinkHealthTracker, formatLinkSummary } from '../sources/link-health-tracker.js';
+import { systemClock, type Clock, type ReceivedLine, type ReplayTransport, type SourceStatus, type TelemetrySource } from '../sources/source.js';
+
+export interface PipelineSinks {
+  record(rec: MarginRecord, line: DecodedLine): void;
+  /** `where`: "line N" for a file, "line N at <receive time>" for a live link. */
+  rejected(line: DecodedLine, where: string, reason: string): void;
+  eventStarted?(ev: LimitEvent): void;
+  eventEnded?(ev: LimitEvent): void;
+  status?(s: SourceStatus): void;
+}
+
+export interface PipelineOptions {
+  source: TelemetrySource;
+  aircraft: Aircraft;
+  margins?: Partial<MarginOptions>;
+  recorder?: Recorder;
+  sinks: PipelineSinks;
+  clock?: Clock;
+}
+
+export interface Pipeline {
+  start(): void;
+  /** Resolves when a finite source has ended. */
+  readonly ended: Promise<void>;
+  /** Stop the source, flush and close the recording; returns every limit event (open ones closed). */
+  stop(): Promise<LimitEvent[]>;
+  health(): LinkHealth;
+}
+
+function isoTime(ms: number): string {
+  return new Date(ms).toISOString();
+}
+
+export function createPipeline(options: PipelineOptions): Pipeline {
+  const clock = options.clock ?? systemClock;
+  const { source, recorder, sinks } = options;
+  const decoder = createFrameDecoder();
+  const margins = createMarginTracker(options.aircraft, options.margins);
+  const events = createEventTracker();
+  const health = createLinkHealthTracker(source.label, clock());
+  let opens = 0;
+  let resolveEnded!: () => void;
+  const ended = new Promise<void>((resolve) => (resolveEnded = resolve));
+  let stopped = false;
+
+  const breakData = (): void => {
+    // A break in the data (reconnect, seek, clock restart): filters restart, open events close at their last frame.
+    margins.reset();
+    for (const ev of events.closeOpen()) sinks.eventEnded?.(ev);
+  };
+
+  function onLine(line: ReceivedLine): void {
+    recorder?.writeLine(line); // before parsing: the recording holds every line received
+    health.line(line.bytes.length, line.receivedAtMs);
+    const decoded: (DecodedLine & Partial<Pick<FileLine, 'afterReconnect'>>) | null = line.decoded ?? decoder.judgeLine(line);
+    if (!decoded) return;
+    const verdict = decoded.verdict;
+    if (!verdict.ok) {
+      health.rejected(verdict.reason);
+      const where = line.decoded ? `line ${decoded.lineNo}` : `line ${decoded.lineNo} at ${isoTime(line.receivedAtMs)}`;
+      sinks.rejected(decoded, where, verdict.reason);
+      return;
+    }
+    if (decoded.newSegment || decoded.afterReconnect) breakData();
+    health.accepted(verdict.frame.tS, line.receivedAtMs, decoded.newSegment === true);
+    const rec = margins.push(verdict.frame);
+    const change = events.push(rec);
+    for (const ev of change.ended) sinks.eventEnded?.(ev);
+    sinks.record(rec, decoded);
+    for (const ev of change.started) sinks.eventStarted?.(ev);
+  }
+
+  function onStatus(status: SourceStatus): void {
+    recorder?.writeStatus(status);
+    health.status(status);
+    if (status.kind === 'open') {
+      opens += 1;
+      if (opens > 1) {
+        decoder.resetTime(); // the time check starts afresh after a reconnect
+        breakData();
+      }
+    } else if (status.kind === 'seek') {
+      breakData();
+    } else if (status.kind === 'lost') {
+      breakData();
+    }
+    sinks.status?.(status);
+    if (status.kind === 'ended') resolveEnded();
+  }
+
+  return {
+    start() {
+      source.start({ onLine, onStatus });
+    },
+    ended,
+    async stop() {
+      if (!stopped) {
+        stopped = true;
+        await source.stop();
+        recorder?.close();
+      }
+      return events.finish();
+    },
+    health() {
+      return health.snapshot(
+        clock(),
+        recorder ? { file: recorder.path, bytes: recorder.bytesWritten(), error: recorder.error() } : undefined,
+      );
+    },
+  };
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// The monitor: a pipeline plus its output (headless lines or the dashboard), signals and the exit summary.
+
+/** The dashboard module's API (src/dashboard/index.ts), loaded only when a UI is wanted. */
+interface DashboardLike {
+  pushRecord(rec: MarginRecord): void;
+  pushEvent(ev: LimitEvent): void;
+  setLink(h: LinkHealth): void;
+  setReplay(s: { positionS: number; lengthS: number; speed: number; paused: boolean }): void;
+  showError(message: string): void;
+  destroy(): void;
+}
+interface DashboardModuleLike {
+  startDashboard(
+    options: { aircraft: Aircraft; thresholds: AlertThresholds; sourceLabel: string; replay?: { lengthS: number } },
+    controls: { quit(): void; togglePause?(): void; changeSpeed?(factor: number): void; seekBy?(deltaS: number): void },
+  ): DashboardLike;
+}
+
+export interface MonitorOptions {
+  source: TelemetrySource;
+  aircraft: Aircraft;
+  thresholds: AlertThresholds;
+  smoothTauS?: number;
+  recorder?: Recorder;
+  /** Headless: JSON lines on stdout. Otherwise the dashboard (falls back to headless when stdout is not a terminal). */
+  noUi: boolean;
+  /** For replay: the transport and the flight length promise. */
+  replay?: { transport: ReplayTransport; length: Promise<number | null> };
+  /** Exit when the source ends (headless replay). Default: true when headless. */
+  exitOnEnd?: boolean;
+  stdout?: NodeJS.WritableStream & { isTTY?: boolean };
+  stderr?: NodeJS.WritableStream;
+}
+
+const UI_REFRESH_MS = 250;
+const SPEED_MIN = 1 / 64;
+const SPEED_MAX = 256;
+
+function excerpt(text: string): string {
+  const cut = text.length > 60 ? `${text.slice(0, 57)}...` : text;
+  return JSON.stringify(cut);
+}
+
+/** Run until the source ends (headless replay), the user quits, or SIGINT/SIGTERM. Returns the exit code (0). */
+export async function runMonitor(options: MonitorOptions): Promise<number> {
+  const stdout = options.stdout ?? process.stdout;
+  const stderr = options.stderr ?? process.stderr;
+  let noUi = options.noUi;
+  if (!noUi && !stdout.isTTY) {
+    stderr.write('turnmargin: stdout is not a terminal: printing margin records as JSON lines (as with --no-ui)\n');
+    noUi = true;
+  }
+  let dashboardModule: DashboardModuleLike | undefined;
+  if (!noUi) {
+    const specifier = '../dashboard/index.js'; // loaded only here, so headless runs never load the terminal UI
+    try {
+      dashboardModule = (await import(specifier)) as DashboardModuleLike;
+    } catch (err) {
+      stderr.write(`turnmargin: the dashboard cannot start (${(err as Error).message}); printing JSON lines instead\n`);
+      noUi = true;
+    }
+  }
+  const marginOptions: Partial<MarginOptions> = { thresholds: options.thresholds };
+  if (options.smoothTauS !== undefined) marginOptions.smoothTauS = options.smoothTauS;
+
+  let dashboard: DashboardLike | undefined;
+  let finish!: () => void;
+  const finished = new Promise<void>((resolve) => (finish = resolve));
+  let outputBroken = false;
+
+  const sinks: PipelineSinks = noUi
+    ? {
+        record(rec) {
+          if (!outputBroken) stdout.write(JSON.stringify(rec) + '\n');
+        },
+        rejected(line, where, reason) {
+          stderr.write(`turnmargin: rejected ${where}: ${reason}: ${excerpt(line.text)}\n`);
+        },
+        status(s) {
+          if (s.kind === 'lost') stderr.write(`turnmargin: link lost (${s.detail ?? 'no detail'}); retrying\n`);
+          else if (s.kind === 'open' && s.detail && !options.replay) stderr.write(`turnmargin: link open: ${s.detail}\n`);
+        },
+      }
+    : {
+        record: (rec) => dashboard?.pushRecord(rec),
+        rejected: () => undefined, // counted in link health, shown by the dashboard
+        eventStarted: (ev) => dashboard?.pushEvent(ev),
+        eventEnded: (ev) => dashboard?.pushEvent(ev),
+      };
+
+  const pipeline = createPipeline({
+    source: options.source,
+    aircraft: options.aircraft,
+    margins: marginOptions,
+    sinks,
+    ...(options.recorder ? { recorder: options.recorder } : {}),
+  });
+
+  const onOutputError = (err: NodeJS.ErrnoException): void => {
+    // The reader went away (`| head`): stop cleanly rather than crash.
+    if (err.code === 'EPIPE') outputBroken = true;
+    finish();
+  };
+  stdout.on('error', onOutputError);
+  const onSignal = (): void => finish();
+  process.on('SIGINT', onSignal);
+  process.on('SIGTERM', onSignal);
+  process.on('SIGHUP', onSignal);
+
+  let refresh: NodeJS.Timeout | undefined;
+  let lastRecordingError: string | null = null;
+  if (dashboardModule) {
+    const mod = dashboardModule;
+    const lengthS = options.replay ? ((await Promise.race([options.replay.length, new Promise<null>((r) => setTimeout(() => r(null), 2000))])) ?? 0) : undefined;
+    const transport = options.replay?.transport;
+    dashboard = mod.startDashboard(
+      {
+        aircraft: options.aircraft,
+        thresholds: options.thresholds,
+        sourceLabel: options.source.label,
+        ...(lengthS !== undefined ? { replay: { lengthS } } : {}),
+      },
+      {
+        quit: () => finish(),
+        ...(transport
+          ? {
+              togglePause: () => transport.togglePause(),
+              changeSpeed: (factor: number) => {
+                const s = transport.state().speed;
+                transport.setSpeed(Math.min(SPEED_MAX, Math.max(SPEED_MIN, (s === 0 ? 1 : s) * factor)));
+              },
+              seekBy: (deltaS: number) => transport.seekBy(deltaS),
+            }
+          : {}),
+      },
+    );
+    refresh = setInterval(() => {
+      const h = pipeline.health();
+      dashboard?.setLink(h);
+      if (h.recordingError && h.recordingError !== lastRecordingError) dashboard?.showError(h.recordingError);
+      lastRecordingError = h.recordingError;
+      if (transport) {
+        const st = transport.state();
+        dashboard?.setReplay({ positionS: st.positionS, lengthS: st.lengthS ?? 0, speed: st.speed, paused: st.paused });
+      }
+    }, UI_REFRESH_MS);
+  } else if (options.recorder) {
+    refresh = setInterval(() => {
+      const err = options.recorder!.error();
+      if (err && err !== lastRecordingError) stderr.write(`turnmargin: ${err}; the monitor keeps running\n`);
+      lastRecordingError = err;
+    }, UI_REFRESH_MS);
+    refresh.unref();
+  }
+
+  const exitOnEnd = options.exitOnEnd ?? noUi;
+  void pipeline.ended.then(() => {
+    if (exitOnEnd) finish();
+  });
+
+  try {
+    pipeline.start();
+    await finished;
+  } finally {
+    if (refresh) clearInterval(refresh);
+    process.off('SIGINT', onSignal);
+    process.off('SIGTERM', onSignal);
+    process.off('SIGHUP', onSignal);
+    stdout.off('error', onOutputError);
+    await pipeline.stop();
+    dashboard?.destroy();
+  }
+  // After the dashboard has restored the terminal, the summary goes to stderr in both modes.
+  stderr.write(formatLinkSummary(pipeline.health()));
+  return 0;
+}
+
+// ---------------------------------------------------------------------------------------------------------------
+// Options shared by `watch` and `replay`.
+
+export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
+  { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
+  { name: 'thresholds', type: 'string', valueName: 'FILE', defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust", description: 'alert thresholds (JSON)' },
+  { name: 'smooth', type: 'string', valueName: 'S', unit: 's', defaultText: '0.15', description: 'time constant of the load-factor low-pass filter (0 = off)' },
+  { name: 'no-ui', type: 'boolean', description: 'no dashboard: one margin record (JSON) per accepted frame on stdout, rejected lines and a link summary on stderr' },
+];
+
+export interface MonitorSetup {
+  aircraft: Aircraft;
+  thresholds: AlertThresholds;
+  smoothTauS?: number;
+  noUi: boolean;
+}
+
+export function loadMonitorSetup(args: ParsedArgs): MonitorSetup {
+  const aircraft = loadAircraftFile(requireOption(args, 'aircraft'));
+  const thresholdsPath = stringOption(args, 'thresholds');
+  const thresholds = thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
+  const smoothTauS = numberOption(args, 'smooth', undefined, { min: 0, max: 10 });
+  const setup: MonitorSetup = { aircraft, thresholds, noUi: args.values['no-ui'] === true };
+  if (smoothTauS !== undefined) setup.smoothTauS = smoothTauS;
+  return setup;
+}
