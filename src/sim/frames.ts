@@ -4,7 +4,7 @@
  */
 import type { Aircraft } from '../core/aircraft.js';
 import { interpolateTable } from '../core/airspeed.js';
-import { A0_MPS, GAMMA_AIR, P0_PA, R_AIR } from '../core/units.js';
+import { A0_MPS, GAMMA_AIR, KELVIN_OFFSET, P0_PA, R_AIR } from '../core/units.js';
 import { createGaussian } from './noise.js';
 import type { FlightPlan } from './plan.js';
 import type { SimSample } from './point-mass.js';
@@ -69,7 +69,7 @@ export function createFrameWriter(aircraft: Aircraft, plan: FlightPlan, options:
       bank_deg: round(s.bankDeg, 2),
       nz: round(s.loadFactor + nzNoise, 4),
     };
-    if (plan.isaDeviationK !== undefined) frame['oat_c'] = round(s.temperatureK - 273.15, 2);
+    if (plan.isaDeviationK !== undefined) frame['oat_c'] = round(s.temperatureK - KELVIN_OFFSET, 2);
     if (plan.massKg !== undefined) frame['mass_kg'] = plan.massKg;
     frame['heading_deg'] = round(s.headingDeg, 1);
     frame['segment'] = plan.segments[s.segmentIndex]!.label;
