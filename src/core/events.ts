@@ -31,6 +31,11 @@ export interface EventTracker {
   push(rec: MarginRecord): { started: LimitEvent[]; ended: LimitEvent[] };
   /** Closes open events at the last frame and returns all events. */
   finish(): LimitEvent[];
+  /**
+   * Closes open events at the last frame pushed and returns them, but keeps tracking: for a break in the data
+   * (a reconnect, a restart of the sender's clock, a gap). An alert still on after the break starts a new event.
+   */
+  closeOpen(): LimitEvent[];
   /** All events so far, in order of start (open ones included). */
   events(): readonly LimitEvent[];
 }
@@ -84,6 +89,12 @@ export function createEventTracker(): EventTracker {
   const all: LimitEvent[] = [];
   const open = new Map<string, LimitEvent>();
   let lastTS: number | null = null;
+  const closeOpen = (): LimitEvent[] => {
+    const closed = [...open.values()];
+    for (const event of closed) closeEvent(event, lastTS ?? event.end_s);
+    open.clear();
+    return closed;
+  };
   return {
     push(rec) {
       lastTS = rec.t_s;
@@ -113,9 +124,9 @@ export function createEventTracker(): EventTracker {
       }
       return { started, ended };
     },
+    closeOpen,
     finish() {
-      for (const event of open.values()) closeEvent(event, lastTS ?? event.end_s);
-      open.clear();
+      closeOpen();
       return all;
     },
     events() {

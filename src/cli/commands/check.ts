@@ -1,14 +1,32 @@
-/** Placeholder until its issue lands: the command exists in the table but is not implemented yet. */
-import type { CommandSpec, ParsedArgs } from '../args.js';
+/**
+ * `turnmargin check FILE --aircraft FILE [--fail-on caution|warning]`: pass/fail of a recorded flight for an
+ * autopilot's CI. Exit 0 when no event reaches the level, 1 when one does, 2 for unusable input.
+ */
+import { checkSummary, failingEvents, type FailLevel } from '../../report/review-report.js';
+import { choiceOption, type CommandSpec, type ParsedArgs } from '../args.js';
+import { EXIT_CHECK_FAILED, EXIT_OK } from '../errors.js';
+import { FLIGHT_INPUT_OPTIONS, parseFlightInput, reviewFlight } from './review.js';
 
 export const spec: CommandSpec = {
   name: 'check',
-  summary: 'not implemented yet',
-  usage: 'turnmargin check',
-  options: [],
+  summary: 'pass/fail a recorded flight against the alert levels (for CI)',
+  usage: 'turnmargin check FILE --aircraft FILE [--fail-on caution|warning] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+  options: [
+    ...FLIGHT_INPUT_OPTIONS,
+    { name: 'fail-on', type: 'string', valueName: 'LEVEL', defaultText: 'warning', description: 'fail when an event reaches this level: caution or warning' },
+  ],
+  notes: [
+    'Prints a one-screen summary. Exit 0: no event reached the level; 1: at least one did; 2: unusable input ' +
+      '(unreadable file, invalid airframe or thresholds, no accepted frame). Rejected lines are reported but do not by ' +
+      'themselves fail the check.',
+    "Advisory only; the aircraft's approved limits, the operator's procedures and local aviation rules take precedence.",
+  ],
 };
 
-export async function run(_args: ParsedArgs): Promise<number> {
-  process.stderr.write('turnmargin: check is not implemented yet\n');
-  return 2;
+export async function run(args: ParsedArgs): Promise<number> {
+  const failOn = choiceOption<FailLevel>(args, 'fail-on', ['caution', 'warning'], 'warning');
+  const input = parseFlightInput(args, 'check');
+  const review = await reviewFlight(input);
+  process.stdout.write(checkSummary(review, { source: input.file, aircraft: input.aircraft, aircraftFile: input.aircraftFile }, failOn));
+  return failingEvents(review, failOn).length > 0 ? EXIT_CHECK_FAILED : EXIT_OK;
 }

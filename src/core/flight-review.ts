@@ -1,0 +1,209 @@
+/**
+ * The review of a recorded flight, accumulated frame by frame in bounded memory: limit events, peaks, time in
+ * each level, counters, the first rejected lines, flight conditions and an evenly spread sample of points for
+ * the n–V plot. Pure: the shell reads the file and feeds accepted frames and rejected lines in file order.
+ */
+import type { Aircraft } from './aircraft.js';
+import { createDecimator, median } from './decimate.js';
+import { createEventTracker, type LimitEvent } from './events.js';
+import { FILTER_RESTART_GAP_S } from './filter.js';
+import type { Frame } from './frame.js';
+import { createMarginTracker, resolveMarginOptions, type MarginOptions } from './margins.js';
+import type { Level, MarginRecord } from './margin-record.js';
+import type { LimitName } from './performance.js';
+
+/** Rejected lines kept for the report (the count covers all). */
+export const MAX_REJECTS_KEPT = 100;
+/** Points kept per level for the plot, and frames kept for the medians. */
+export const PLOT_POINTS_PER_LEVEL = 1500;
+export const CONDITION_SAMPLES = 2048;
+
+export interface RejectedLine {
+  line: number;
+  reason: string;
+}
+
+export interface Peak {
+  /** Highest utilization of the limit over the flight (flying frames), or null when never defined. */
+  utilization: number | null;
+  t_s: number | null;
+}
+
+export interface PlotPoint {
+  tasMps: number;
+  n: number;
+  level: Level;
+}
+
+export interface Range {
+  min: number;
+  max: number;
+}
+
+export interface FlightConditions {
+  altitudeM: Range | null;
+  tasMps: Range | null;
+  nMeasured: Range | null;
+  temperatureK: Range | null;
+  medianDensityKgM3: number | null;
+  medianMassKg: number | null;
+  /** Frames below 0.5·Vs1 (not flying: no alerts raised). */
+  notFlyingFrames: number;
+  /** Time flagged uncoordinated (n_measured against 1/cos(bank)), s. */
+  uncoordinatedS: number;
+  /** Intervals between accepted frames longer than 1 s: count and total, s (not in time_in_level). */
+  gaps: number;
+  gapS: number;
+  /** Restarts of the sender's clock or reconnects found in the file (the computation restarted). */
+  segments: number;
+}
+
+export interface FlightReview {
+  frames: number;
+  accepted: number;
+  rejected: number;
+  rejects: RejectedLine[];
+  durationS: number;
+  firstTS: number | null;
+  lastTS: number | null;
+  events: LimitEvent[];
+  peaks: Record<LimitName, Peak>;
+  timeInLevelS: Record<Level, number>;
+  conditions: FlightConditions;
+  plotPoints: PlotPoint[];
+  /** Accepted frames the plot sample was drawn from. */
+  plotPointsOf: number;
+  options: MarginOptions;
+}
+
+export interface AcceptOptions {
+  /** The frame starts a new segment (sender clock restart) or follows a reconnect: the computation restarts. */
+  newSegment?: boolean;
+}
+
+export interface FlightReviewer {
+  accept(frame: Frame, options?: AcceptOptions): MarginRecord;
+  reject(lineNo: number, reason: string): void;
+  /** Counts of lines read so far. */
+  counts(): { frames: number; accepted: number; rejected: number };
+  finish(): FlightReview;
+}
+
+function widen(range: Range | null, value: number): Range {
+  if (range === null) return { min: value, max: value };
+  return { min: Math.min(range.min, value), max: Math.max(range.max, value) };
+}
+
+export function createFlightReviewer(aircraft: Aircraft, options?: Partial<MarginOptions>): FlightReviewer {
+  const resolved = resolveMarginOptions(aircraft, options);
+  const margins = createMarginTracker(aircraft, resolved);
+  const events = createEventTracker();
+  const rejects: RejectedLine[] = [];
+  let rejected = 0;
+  let accepted = 0;
+  let durationS = 0;
+  let firstTS: number | null = null;
+  let previous: MarginRecord | null = null;
+  const peaks: Record<LimitName, Peak> = {
+    stall: { utilization: null, t_s: null },
+    thrust: { utilization: null, t_s: null },
+    structure: { utilization: null, t_s: null },
+  };
+  const timeInLevelS: Record<Level, number> = { normal: 0, caution: 0, warning: 0 };
+  const conditions: FlightConditions = {
+    altitudeM: null,
+    tasMps: null,
+    nMeasured: null,
+    temperatureK: null,
+    medianDensityKgM3: null,
+    medianMassKg: null,
+    notFlyingFrames: 0,
+    uncoordinatedS: 0,
+    gaps: 0,
+    gapS: 0,
+    segments: 0,
+  };
+  const plot: Record<Level, ReturnType<typeof createDecimator<PlotPoint>>> = {
+    normal: createDecimator(PLOT_POINTS_PER_LEVEL),
+    caution: createDecimator(PLOT_POINTS_PER_LEVEL),
+    warning: createDecimator(PLOT_POINTS_PER_LEVEL),
+  };
+  const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
+
+  return {
+    accept(frame, acceptOptions = {}) {
+      const restart = acceptOptions.newSegment === true || (previous !== null && frame.tS <= previous.t_s);
+      if (restart) {
+        // A new stretch of data: the filter, hysteresis and events start afresh.
+        margins.reset();
+        events.closeOpen();
+        conditions.segments += 1;
+      } else if (previous !== null && frame.tS - previous.t_s > FILTER_RESTART_GAP_S) {
+        events.closeOpen();
+      }
+      const rec = margins.push(frame);
+      if (conditions.segments === 0) conditions.segments = 1;
+
+      if (previous !== null && !restart) {
+        const dtS = rec.t_s - previous.t_s;
+        durationS += dtS;
+        if (dtS > FILTER_RESTART_GAP_S) {
+          conditions.gaps += 1;
+          conditions.gapS += dtS;
+        } else {
+          // Each interval counts at the level of the frame that begins it.
+          timeInLevelS[previous.level] += dtS;
+          if (previous.uncoordinated) conditions.uncoordinatedS += dtS;
+        }
+      }
+      events.push(rec);
+
+      for (const limit of ['stall', 'thrust', 'structure'] as const) {
+        const u = rec.utilization[limit];
+        const peak = peaks[limit];
+        if (u !== null && (peak.utilization === null || u > peak.utilization)) {
+          peak.utilization = u;
+          peak.t_s = rec.t_s;
+        }
+      }
+      conditions.altitudeM = widen(conditions.altitudeM, rec.alt_m);
+      conditions.tasMps = widen(conditions.tasMps, rec.tas_mps);
+      conditions.nMeasured = widen(conditions.nMeasured, rec.n_measured);
+      conditions.temperatureK = widen(conditions.temperatureK, rec.temperature_k);
+      if (!rec.flying) conditions.notFlyingFrames += 1;
+      conditionSamples.push({ densityKgM3: rec.density_kg_m3, massKg: rec.mass_kg });
+      plot[rec.level].push({ tasMps: rec.tas_mps, n: rec.n_measured, level: rec.level });
+
+      firstTS ??= rec.t_s;
+      accepted += 1;
+      previous = rec;
+      return rec;
+    },
+    reject(lineNo, reason) {
+      rejected += 1;
+      if (rejects.length < MAX_REJECTS_KEPT) rejects.push({ line: lineNo, reason });
+    },
+    counts: () => ({ frames: accepted + rejected, accepted, rejected }),
+    finish() {
+      const samples = conditionSamples.items();
+      conditions.medianDensityKgM3 = median(samples.map((s) => s.densityKgM3));
+      conditions.medianMassKg = median(samples.map((s) => s.massKg));
+      return {
+        frames: accepted + rejected,
+        accepted,
+        rejected,
+        rejects,
+        durationS,
+        firstTS,
+        lastTS: previous?.t_s ?? null,
+        events: events.finish(),
+        peaks,
+        timeInLevelS,
+        conditions,
+        plotPoints: [...plot.normal.items(), ...plot.caution.items(), ...plot.warning.items()],
+        plotPointsOf: accepted,
+        options: resolved,
+      };
+    },
+  };
+}
