@@ -1,14 +1,116 @@
-/** Placeholder until its issue lands: the command exists in the table but is not implemented yet. */
-import type { CommandSpec, ParsedArgs } from '../args.js';
+/** `turnmargin serve`: answer an autopilot on the bench with margin records over a websocket. */
+import { statSync } from 'node:fs';
+import { startServeServer, DEFAULT_MAX_CLIENTS, type ServeServerOptions } from '../../serve/server.js';
+import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
+import type { MarginOptions } from '../../core/margins.js';
+import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
+import { EXIT_OK, InputError, UsageError } from '../errors.js';
+import { loadAircraftFile, loadThresholdsFile } from '../load.js';
+
+export const DEFAULT_LISTEN = '127.0.0.1:8765';
 
 export const spec: CommandSpec = {
   name: 'serve',
-  summary: 'not implemented yet',
-  usage: 'turnmargin serve',
-  options: [],
+  summary: 'answer an autopilot on the bench with margins over a websocket',
+  usage:
+    'turnmargin serve --aircraft FILE [--listen HOST:PORT [--allow-remote]] [--thresholds FILE] [--token T]\n' +
+    '                        [--record DIR] [--smooth S] [--max-clients N]',
+  options: [
+    { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
+    { name: 'listen', type: 'string', valueName: 'HOST:PORT', defaultText: DEFAULT_LISTEN, description: 'address to listen on (port 0: a free port, printed at start)' },
+    { name: 'allow-remote', type: 'boolean', description: 'allow a non-loopback --listen address (reachable from the network; prints a warning)' },
+    { name: 'thresholds', type: 'string', valueName: 'FILE', defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust", description: 'alert thresholds (JSON)' },
+    { name: 'token', type: 'string', valueName: 'T', description: 'clients must present this token ("Authorization: Bearer T" header or ?token=T in the URL)' },
+    { name: 'record', type: 'string', valueName: 'DIR', description: 'keep every line each client sends, one recording file per connection (replay/review read them)' },
+    { name: 'smooth', type: 'string', valueName: 'S', unit: 's', defaultText: '0.15', description: 'time constant of the load-factor low-pass filter (0 = off), per connection' },
+    { name: 'max-clients', type: 'string', valueName: 'N', defaultText: String(DEFAULT_MAX_CLIENTS), description: 'most clients at once (more are refused with HTTP 503)' },
+  ],
+  notes: [
+    'Protocol: send text messages, each holding one frame (the telemetry keys: t_s, tas_mps | cas_mps | ias_mps,\n' +
+      'alt_m, bank_deg and/or nz, oat_c?, mass_kg?) or several frames one per line. Every frame is answered, in\n' +
+      'order, with one JSON text message: the margin record (t_s, tas_mps, eas_mps, density_kg_m3, n_measured,\n' +
+      'n_stall, n_thrust, n_structural, utilization {stall, thrust, structure}, bank_limit_deg, bank_sustained_deg,\n' +
+      'level, alerts [{limit, level}], and more). A bad line is answered with {"error": "<reason>", "line": N,\n' +
+      '"t_s"?} and the connection goes on. t_s must increase on each connection; smoothing and alert hysteresis\n' +
+      'are per connection.',
+    'A message over 1 MiB closes that connection with code 1009; other clients are not affected. A client that\n' +
+      'does not read its answers (8 MiB pending) is closed with 1008. With --token, a client without the token\n' +
+      'is refused with HTTP 401 before the websocket opens.',
+    'At start the server prints "listening on ws://HOST:PORT" to stdout. SIGINT or SIGTERM: clients are closed\n' +
+      '(1001), recordings flushed, a summary goes to stderr, exit 0.',
+  ],
 };
 
-export async function run(_args: ParsedArgs): Promise<number> {
-  process.stderr.write('turnmargin: serve is not implemented yet\n');
-  return 2;
+export async function run(args: ParsedArgs): Promise<number> {
+  if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
+  const aircraft = loadAircraftFile(requireOption(args, 'aircraft'));
+  const thresholdsPath = stringOption(args, 'thresholds');
+  const thresholds = thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
+  const smoothTauS = numberOption(args, 'smooth', undefined, { min: 0, max: 10 });
+  const maxClients = numberOption(args, 'max-clients', DEFAULT_MAX_CLIENTS, { integer: true, min: 1, max: 10_000 });
+  const listenText = stringOption(args, 'listen') ?? DEFAULT_LISTEN;
+  const parsed = parseListenAddress(listenText);
+  if (!parsed.ok) throw new UsageError(`--listen ${parsed.reason}`);
+  const { host, port } = parsed.value;
+  const allowRemote = args.values['allow-remote'] === true;
+  const token = stringOption(args, 'token');
+  if (token !== undefined && token.length === 0) throw new UsageError('--token must not be empty');
+  if (!isLoopbackHost(host)) {
+    if (!allowRemote) {
+      throw new UsageError(`--listen ${host} is not a loopback address; give --allow-remote to listen on the network`);
+    }
+    process.stderr.write(
+      `turnmargin: warning: listening on ${host}: anyone who can reach this machine on port ${port || '(chosen)'} can connect` +
+        `${token === undefined ? ' (no --token given)' : ''}\n`,
+    );
+  }
+  const recordDir = stringOption(args, 'record');
+  if (recordDir !== undefined) {
+    try {
+      if (!statSync(recordDir).isDirectory()) throw new InputError([`--record ${recordDir}: not a directory`]);
+    } catch (err) {
+      if (err instanceof InputError) throw err;
+      // A missing directory is created by the server.
+    }
+  }
+
+  const margins: Partial<MarginOptions> = { thresholds };
+  if (smoothTauS !== undefined) margins.smoothTauS = smoothTauS;
+  const options: ServeServerOptions = {
+    aircraft,
+    host,
+    port,
+    margins,
+    maxClients,
+    log: (line) => process.stderr.write(`turnmargin: serve: ${line}\n`),
+  };
+  if (token !== undefined) options.token = token;
+  if (recordDir !== undefined) options.recordDir = recordDir;
+
+  let server;
+  try {
+    server = await startServeServer(options);
+  } catch (err) {
+    const e = err as NodeJS.ErrnoException;
+    const why = e.code === 'EADDRINUSE' ? 'the port is in use' : e.code === 'EADDRNOTAVAIL' ? 'no such address on this machine' : e.code === 'EACCES' ? 'permission denied' : e.message;
+    throw new InputError([`--listen ${listenText}: cannot listen (${why})`]);
+  }
+  process.stdout.write(`listening on ${server.url}\n`);
+
+  await new Promise<void>((resolve) => {
+    const stop = () => {
+      process.off('SIGINT', stop);
+      process.off('SIGTERM', stop);
+      resolve();
+    };
+    process.on('SIGINT', stop);
+    process.on('SIGTERM', stop);
+  });
+  const summary = await server.close();
+  process.stderr.write(
+    `turnmargin: serve: stopped; ${summary.connections} connections, ${summary.answered} frames answered, ` +
+      `${summary.errors} errors, ${summary.refused} refused` +
+      `${summary.recordings.length ? `; recordings in ${recordDir}` : ''}\n`,
+  );
+  return EXIT_OK;
 }

@@ -1,0 +1,106 @@
+/**
+ * One bench client's conversation with `serve`: each message holds one frame or several lines; every line that
+ * is not blank is answered, in order, with one margin record or one error object. State (line count, time order,
+ * smoothing, alert hysteresis) belongs to the session, so clients are independent.
+ *
+ * No socket here: the server hands in message bytes and sends out the answers; the recorder is injected.
+ */
+import type { Aircraft } from '../core/aircraft.js';
+import { createMarginTracker, type MarginOptions } from '../core/margins.js';
+import type { MarginRecord } from '../core/margin-record.js';
+import { createFrameDecoder } from '../decode/frame-decoder.js';
+import { createLineSplitter } from '../decode/line-splitter.js';
+import type { ReceivedLine } from '../sources/source.js';
+
+/** The answer to a line that is not an accepted frame. */
+export interface ServeErrorAnswer {
+  /** Why the line was refused (the same reasons the monitor shows). */
+  error: string;
+  /** The line's number on this connection (1-based, blank lines not counted); absent for an empty message. */
+  line?: number;
+  /** The line's t_s when it could be read, so the client can match the answer. */
+  t_s?: number;
+}
+
+export type ServeAnswer = MarginRecord | ServeErrorAnswer;
+
+/** Where a session keeps the lines it received (a recording file), when recording. */
+export interface LineRecorder {
+  writeLine(line: ReceivedLine): void;
+}
+
+export interface ServeSessionOptions {
+  margins: Partial<MarginOptions>;
+  recorder?: LineRecorder;
+  clock?: () => number;
+}
+
+export interface ServeSessionStats {
+  lines: number;
+  answered: number;
+  errors: number;
+}
+
+export interface ServeSession {
+  /** Answers for one message (text or bytes), in the order of its lines. */
+  handleMessage(data: Buffer | string): ServeAnswer[];
+  stats(): ServeSessionStats;
+}
+
+export const EMPTY_MESSAGE_REASON = 'empty message (no frame in it)';
+
+export function createServeSession(aircraft: Aircraft, options: ServeSessionOptions): ServeSession {
+  const clock = options.clock ?? Date.now;
+  const tracker = createMarginTracker(aircraft, options.margins);
+  const decoder = createFrameDecoder();
+  const stats: ServeSessionStats = { lines: 0, answered: 0, errors: 0 };
+
+  return {
+    handleMessage(data) {
+      const receivedAtMs = clock();
+      // A message is complete in itself: its last line needs no newline, and nothing carries over.
+      const splitter = createLineSplitter();
+      const rawLines = [...splitter.push(data), ...splitter.end()];
+      const answers: ServeAnswer[] = [];
+      for (const raw of rawLines) {
+        options.recorder?.writeLine({ bytes: raw.bytes, receivedAtMs, cut: raw.cut });
+        const decoded = decoder.judgeLine(raw);
+        if (!decoded) continue;
+        stats.lines++;
+        const verdict = decoded.verdict;
+        if (!verdict.ok) {
+          const answer: ServeErrorAnswer = { error: verdict.reason, line: decoded.lineNo };
+          const tS = readTime(decoded.text);
+          if (tS !== undefined) answer.t_s = tS;
+          answers.push(answer);
+          stats.errors++;
+          continue;
+        }
+        // The sender's clock restarted: filters and hysteresis start afresh, as in the monitor.
+        if (decoded.newSegment) tracker.reset();
+        answers.push(tracker.push(verdict.frame));
+        stats.answered++;
+      }
+      if (answers.length === 0 && rawLines.every((l) => l.bytes.toString('utf8').trim() === '')) {
+        stats.errors++;
+        answers.push({ error: EMPTY_MESSAGE_REASON });
+      }
+      return answers;
+    },
+    stats: () => ({ ...stats }),
+  };
+}
+
+/** t_s of a refused line when it is a JSON object with a finite t_s (to help the client match the answer). */
+function readTime(text: string): number | undefined {
+  try {
+    const obj = JSON.parse(text) as unknown;
+    if (obj && typeof obj === 'object' && !Array.isArray(obj)) {
+      const t = (obj as Record<string, unknown>)['t_s'];
+      if (typeof t === 'number' && Number.isFinite(t)) return t;
+    }
+  } catch {
+    // Not JSON: no time to report.
+  }
+  return undefined;
+}
