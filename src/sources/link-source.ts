@@ -51,6 +51,8 @@ export function createLinkSource(label: string, connect: Connect, options: LinkS
   let attempt = 0;
   let retryTimer: NodeJS.Timeout | undefined;
   let current: Connection | undefined;
+  // Retries after a loss are silent: one 'lost' per outage, not one per failed attempt.
+  let reportedLost = false;
 
   const deliver = (lines: RawLine[]): void => {
     for (const l of lines) handlers?.onLine({ bytes: l.bytes, cut: l.cut, receivedAtMs: clock() });
@@ -58,13 +60,14 @@ export function createLinkSource(label: string, connect: Connect, options: LinkS
 
   function open(): void {
     if (stopped) return;
-    handlers?.onStatus({ kind: 'connecting', atMs: clock(), detail: label });
+    if (!reportedLost) handlers?.onStatus({ kind: 'connecting', atMs: clock(), detail: label });
     const splitter = createLineSplitter();
     let done = false;
     const events: ConnectionEvents = {
       opened(detail) {
         if (done || stopped) return;
         attempt = 0;
+        reportedLost = false;
         handlers?.onStatus(detail === undefined ? { kind: 'open', atMs: clock() } : { kind: 'open', atMs: clock(), detail });
       },
       data(chunk, messageEnd) {
@@ -77,7 +80,8 @@ export function createLinkSource(label: string, connect: Connect, options: LinkS
         done = true;
         if (stopped) return;
         deliver(splitter.end());
-        handlers?.onStatus({ kind: 'lost', atMs: clock(), detail });
+        if (!reportedLost) handlers?.onStatus({ kind: 'lost', atMs: clock(), detail });
+        reportedLost = true;
         const delay = retryDelay(attempt);
         attempt += 1;
         retryTimer = setTimeout(() => {

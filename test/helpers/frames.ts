@@ -2,9 +2,7 @@
 
 export interface FrameFields {
   t_s: number;
-  tas_mps?: number;
-  alt_m?: number;
-  bank_deg?: number;
+  /** Any other key, of any type (bad inputs included). */
   [key: string]: unknown;
 }
 
