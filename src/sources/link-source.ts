@@ -51,6 +51,7 @@ export function createLinkSource(label: string, connect: Connect, options: LinkS
   let attempt = 0;
   let retryTimer: NodeJS.Timeout | undefined;
   let current: Connection | undefined;
+  let currentSplitter: ReturnType<typeof createLineSplitter> | undefined;
   // Retries after a loss are silent: one 'lost' per outage, not one per failed attempt.
   let reportedLost = false;
 
@@ -62,6 +63,7 @@ export function createLinkSource(label: string, connect: Connect, options: LinkS
     if (stopped) return;
     if (!reportedLost) handlers?.onStatus({ kind: 'connecting', atMs: clock(), detail: label });
     const splitter = createLineSplitter();
+    currentSplitter = splitter;
     let done = false;
     const events: ConnectionEvents = {
       opened(detail) {
@@ -110,6 +112,9 @@ export function createLinkSource(label: string, connect: Connect, options: LinkS
       const conn = current;
       current = undefined;
       await conn?.close().catch(() => undefined);
+      // A partial line received before the stop is still data received: deliver it (it will be judged a truncated line).
+      if (currentSplitter) deliver(currentSplitter.end());
+      currentSplitter = undefined;
       handlers = undefined;
     },
   };

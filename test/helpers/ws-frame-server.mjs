@@ -2,6 +2,7 @@
 //   node ws-frame-server.mjs PORT     (0 = any free port) → prints "listening <port>", then "connected" per client
 //   send FIRST COUNT   frames seq FIRST.. in messages of several lines, lines split across messages, and every 50th
 //                      frame alone in a message without newline; paced (~1 ms per frame); prints "sent <count>"
+//   noise              three bad lines (not JSON, a wrong type, control bytes); prints "sent noise"
 //   big                one 1.5 MiB message (over the client's 1 MiB cap); prints "sent big"
 import { createInterface } from 'node:readline';
 import { WebSocketServer } from 'ws';
@@ -44,6 +45,9 @@ createInterface({ input: process.stdin }).on('line', async (line) => {
     }
     if (group) broadcast(group);
     console.log(`sent ${count}`);
+  } else if (cmd === 'noise') {
+    broadcast('not json at all\n{"t_s":1e9,"tas_mps":"fast","alt_m":0,"nz":1}\n\u0000\u0001\n');
+    console.log('sent noise');
   } else if (cmd === 'big') {
     broadcast('x'.repeat(1.5 * 1024 * 1024));
     console.log('sent big');
