@@ -113,7 +113,8 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
   };
   const stallD = polyline(speeds.map((v) => stallLoadFactor(aircraft, v, rho, mass)));
   const stallNegD = aircraft.clMin !== undefined ? polyline(speeds.map((v) => negativeStallLoadFactor(aircraft, v, rho, mass))) : '';
-  const thrustD = polyline(speeds.map((v) => (v > 0 ? thrustLoadFactor(aircraft, v, rho, mass) : null)));
+  // Below Vs1 no turn is sustained whatever the thrust, so the thrust curve starts there.
+  const thrustD = polyline(speeds.map((v) => (v >= vs1 ? thrustLoadFactor(aircraft, v, rho, mass) : null)));
   const structureD = `M${num(sx(0))} ${num(sy(aircraft.nLimitPos))}L${num(sx(xMax))} ${num(sy(aircraft.nLimitPos))}`;
   const structureNegD = `M${num(sx(0))} ${num(sy(aircraft.nLimitNeg))}L${num(sx(xMax))} ${num(sy(aircraft.nLimitNeg))}`;
 
