@@ -1,14 +1,73 @@
-/** Placeholder until its issue lands: the command exists in the table but is not implemented yet. */
-import type { CommandSpec, ParsedArgs } from '../args.js';
+/**
+ * `turnmargin demo` (`npm start`): replays the bundled demo flight with the demo airframe through the same live
+ * pipeline as `replay`, looping, so a newcomer sees the dashboard work with no hardware. Both files are an
+ * invented scenario (replays/README.md).
+ */
+import { existsSync } from 'node:fs';
+import { dirname, join, resolve } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { createFileSource } from '../../sources/file.js';
+import { numberOption, type CommandSpec, type ParsedArgs } from '../args.js';
+import { InputError } from '../errors.js';
+import { runMonitor } from '../live.js';
+import { loadAircraftFile } from '../load.js';
 
 export const spec: CommandSpec = {
   name: 'demo',
-  summary: 'not implemented yet',
-  usage: 'turnmargin demo',
-  options: [],
+  summary: 'replay the bundled demo flight with the demo airframe on the dashboard, looping (npm start)',
+  usage: 'turnmargin demo [--speed X] [--no-ui]',
+  options: [
+    { name: 'speed', type: 'string', valueName: 'X', defaultText: '1 (real time)', description: 'replay speed; + and − change it on the dashboard' },
+    { name: 'no-ui', type: 'boolean', description: 'print the margin records of one pass as JSON lines instead of the dashboard' },
+  ],
+  notes: [
+    'The demo airframe and flight (replays/) are an invented scenario: no real aircraft is described.',
+    'Keys: q quit, space pause, + and − speed, ← → seek 10 s, m mute the bell, u speed units, c clear the trail,\n' +
+      '? all keys. Without a terminal (stdout piped) the demo prints one pass as JSON lines.',
+  ],
 };
 
-export async function run(_args: ParsedArgs): Promise<number> {
-  process.stderr.write('turnmargin: demo is not implemented yet\n');
-  return 2;
+export const DEMO_FLIGHT = 'demo-flight.ndjson';
+export const DEMO_AIRFRAME = 'demo-airframe.json';
+
+/** The replays/ folder of the installed package: searched upward from this module (works from src/ and dist/). */
+export function findReplaysDir(startDir = dirname(fileURLToPath(import.meta.url))): string | null {
+  let dir = resolve(startDir);
+  for (;;) {
+    const candidate = join(dir, 'replays');
+    if (existsSync(join(candidate, DEMO_AIRFRAME))) return candidate;
+    const parent = dirname(dir);
+    if (parent === dir) return null;
+    dir = parent;
+  }
+}
+
+export async function run(args: ParsedArgs): Promise<number> {
+  const replays = findReplaysDir();
+  if (replays === null || !existsSync(join(replays, DEMO_FLIGHT))) {
+    throw new InputError([`demo: the bundled demo files (replays/${DEMO_AIRFRAME}, replays/${DEMO_FLIGHT}) are missing from this installation`]);
+  }
+  const aircraft = loadAircraftFile(join(replays, DEMO_AIRFRAME));
+  const speed = numberOption(args, 'speed', 1, { min: 0, max: 256 });
+  const headless = args.values['no-ui'] === true || !process.stdout.isTTY;
+  if (headless && args.values['no-ui'] !== true) {
+    process.stderr.write(
+      'turnmargin demo: stdout is not a terminal, so no dashboard: printing one pass of the demo flight as JSON lines.\n' +
+        'Run `npm start` (or `turnmargin demo`) in a terminal to see the dashboard.\n',
+    );
+  }
+  const source = createFileSource({
+    path: join(replays, DEMO_FLIGHT),
+    speed: headless ? 0 : speed,
+    scanLength: !headless,
+    loop: !headless,
+  });
+  return runMonitor({
+    source,
+    aircraft,
+    thresholds: aircraft.thresholds,
+    noUi: headless,
+    exitOnEnd: headless,
+    ...(headless ? {} : { replay: { transport: source, length: source.length() } }),
+  });
 }

@@ -1,0 +1,344 @@
+/**
+ * The terminal dashboard (blessed + blessed-contrib). This module only draws: every text and every pixel comes
+ * from the pure screen and plot models. Records are only stored on arrival; a timer redraws at most 20 times a
+ * second, so the data rate never drives the screen. The shell's clock decides staleness.
+ */
+import blessed from 'blessed';
+import contrib from 'blessed-contrib';
+import type { Aircraft } from '../core/aircraft.js';
+import type { LimitEvent } from '../core/events.js';
+import type { MarginRecord } from '../core/margin-record.js';
+import type { AlertThresholds } from '../core/thresholds.js';
+import type { LinkHealth } from '../sources/link-health.js';
+import { newWarnings } from './format-alert.js';
+import { colorAllowed, renderLine, renderLines, type Line, type Tone } from './format-tags.js';
+import { nextSpeedUnit, type SpeedUnit } from './format-units.js';
+import { computeLayout, type DashboardLayout, type Rect } from './layout.js';
+import { buildPlotModel, isMaterialChange, type EnvelopeConditions } from './plot-model.js';
+import { rasterizePolyline } from './raster.js';
+import { buildScreenModel, type Panel, type ReplayStatus, type ScreenInput } from './screen-model.js';
+import { createTrail } from './trail.js';
+
+export interface DashboardOptions {
+  aircraft: Aircraft;
+  thresholds: AlertThresholds;
+  /** Shown in the link panel's title, e.g. "serial /dev/ttyUSB0 @ 57600". */
+  sourceLabel: string;
+  /** Present for a replay: the transport keys apply. */
+  replay?: { lengthS: number };
+}
+
+export interface DashboardControls {
+  /** q or Ctrl-C: the caller flushes, destroys the dashboard and exits 0. */
+  quit(): void;
+  togglePause?(): void;
+  /** ×2 or ÷2 (factor 2 or 0.5). */
+  changeSpeed?(factor: number): void;
+  seekBy?(deltaS: number): void;
+}
+
+export interface Dashboard {
+  pushRecord(rec: MarginRecord): void;
+  pushEvent(ev: LimitEvent): void;
+  setLink(h: LinkHealth): void;
+  setReplay(s: { positionS: number; lengthS: number; speed: number; paused: boolean }): void;
+  showError(message: string): void;
+  /** Restores the terminal. Safe to call more than once. */
+  destroy(): void;
+}
+
+/** Redraw period of the timer, ms (10 per second). */
+export const RENDER_PERIOD_MS = 100;
+/** Least time between two redraws, ms: at most 20 per second even with keys pressed. */
+export const MIN_RENDER_GAP_MS = 50;
+const MAX_EVENTS = 500;
+
+/** The canvas's drawing surface (blessed-contrib's d.ts does not declare it). */
+interface BrailleSurface {
+  width: number;
+  height: number;
+  content: Buffer;
+  colors: unknown[];
+  chars: unknown[];
+  color: string;
+  fontFg: string;
+  fontBg: string;
+  set(x: number, y: number): void;
+  writeText(text: string, x: number, y: number): void;
+}
+
+const CANVAS_COLOR: Record<Tone, string> = {
+  plain: 'white',
+  dim: 'blue',
+  heading: 'white',
+  ok: 'green',
+  caution: 'yellow',
+  warning: 'red',
+  stale: 'magenta',
+  key: 'cyan',
+  'banner-normal': 'green',
+  'banner-caution': 'yellow',
+  'banner-warning': 'red',
+  'banner-stale': 'magenta',
+  'banner-idle': 'white',
+};
+
+const BORDER_COLOR: Partial<Record<Tone, string>> = { caution: 'yellow', warning: 'red', stale: 'magenta' };
+
+function place(el: blessed.Widgets.BlessedElement, r: Rect): void {
+  el.left = r.left;
+  el.top = r.top;
+  el.width = Math.max(1, r.width);
+  el.height = Math.max(1, r.height);
+}
+
+export function startDashboard(options: DashboardOptions, controls: DashboardControls): Dashboard {
+  const color = colorAllowed(process.env);
+  const isReplay = options.replay !== undefined;
+  const screen = blessed.screen({
+    smartCSR: true,
+    fullUnicode: true,
+    forceUnicode: true,
+    autoPadding: false,
+    warnings: false,
+    title: 'turnmargin',
+  });
+
+  const panel = (): blessed.Widgets.BoxElement =>
+    blessed.box({ tags: true, border: { type: 'line' }, style: { border: {} }, wrap: false });
+  const banner = blessed.box({ tags: true, wrap: false });
+  const margins = panel();
+  const readouts = panel();
+  const link = panel();
+  const events = panel();
+  const keys = blessed.box({ tags: true, wrap: false });
+  const caution = blessed.box({ tags: true, wrap: false });
+  const tooSmall = blessed.box({ tags: true, wrap: false, hidden: true });
+  const help = blessed.box({ tags: true, border: { type: 'line' }, label: ' All keys ', hidden: true, style: { border: {} } });
+  const plot = contrib.canvas({ border: { type: 'line' }, label: ' n–V plane ', style: { border: {} }, wrap: false } as contrib.Widgets.CanvasOptions);
+  // Draw inside the border: blessed-contrib sizes its canvas as if there were none.
+  (plot as unknown as { calcSize(): void }).calcSize = function (this: blessed.Widgets.BoxElement & { canvasSize: { width: number; height: number } }) {
+    this.canvasSize = { width: Math.max(2, (Number(this.width) - 2) * 2), height: Math.max(4, (Number(this.height) - 2) * 4) };
+  };
+  for (const el of [banner, plot, events, margins, readouts, link, keys, caution, tooSmall, help]) screen.append(el);
+
+  const trail = createTrail();
+  const eventsByKey = new Map<string, LimitEvent>();
+  let record: MarginRecord | null = null;
+  let lastRecordAtMs: number | null = null;
+  let linkHealth: LinkHealth | null = null;
+  let replay: ReplayStatus | null = options.replay ? { positionS: 0, lengthS: options.replay.lengthS, speed: 1, paused: false } : null;
+  let units: SpeedUnit = 'mps';
+  let muted = false;
+  let helpVisible = false;
+  let error: string | null = null;
+  let bellPending = false;
+  let drawn: EnvelopeConditions | null = null;
+  let layout: DashboardLayout = computeLayout(Number(screen.width), Number(screen.height));
+  let lastRenderMs = 0;
+  let pendingRender: NodeJS.Timeout | null = null;
+  let destroyed = false;
+
+  const applyLayout = (): void => {
+    layout = computeLayout(Number(screen.width), Number(screen.height));
+    place(banner, layout.banner);
+    place(plot, layout.plot);
+    place(events, layout.events);
+    place(margins, layout.margins);
+    place(readouts, layout.readouts);
+    place(link, layout.link);
+    place(keys, layout.keys);
+    place(caution, layout.caution);
+    place(help, layout.help);
+    place(tooSmall, { left: 0, top: layout.banner.height, width: layout.cols, height: Math.max(1, layout.rows - layout.banner.height) });
+    for (const el of [plot, events, margins, readouts, link, keys, caution]) {
+      if (layout.tooSmall) el.hide();
+      else el.show();
+    }
+    if (layout.tooSmall) tooSmall.show();
+    else tooSmall.hide();
+    // Rebuild the braille surface at the new size.
+    plot.emit('attach');
+  };
+
+  const setPanel = (el: blessed.Widgets.BoxElement, p: Panel): void => {
+    el.setLabel(` ${p.title} `);
+    const style = el.style as { border: { fg?: string } };
+    style.border.fg = color ? BORDER_COLOR[p.tone] : undefined;
+    el.setContent(renderLines(p.lines, { color }));
+  };
+
+  const drawPlot = (input: ScreenInput, stale: boolean): void => {
+    const ctx = (plot as unknown as { ctx?: { _canvas: BrailleSurface } }).ctx;
+    if (!ctx) return;
+    const surface = ctx._canvas;
+    surface.content.fill(0);
+    surface.colors = new Array(surface.colors.length);
+    surface.chars = new Array(surface.chars.length);
+    if (record !== null) {
+      const now = { densityKgM3: record.density_kg_m3, massKg: record.mass_kg };
+      if (isMaterialChange(drawn, now)) drawn = now;
+    }
+    const model = buildPlotModel({
+      aircraft: options.aircraft,
+      thresholds: options.thresholds,
+      conditions: drawn ?? { densityKgM3: 1.225, massKg: options.aircraft.massKg },
+      trail: trail.points(),
+      nowTS: record?.t_s ?? null,
+      current: record ? { tasMps: record.tas_mps, n: record.n_measured, level: record.flying ? record.level : 'normal' } : null,
+      stale,
+      units: input.units,
+      cols: surface.width / 2,
+      rows: surface.height / 4,
+    });
+    const paint = (tone: Tone): string => (color ? CANVAS_COLOR[tone] : 'normal');
+    for (const line of model.polylines) {
+      surface.color = paint(line.tone);
+      for (const [x, y] of rasterizePolyline(line.points, line.dotEvery)) surface.set(x, y);
+    }
+    if (model.marker) {
+      surface.color = paint(model.marker.tone);
+      for (let dx = -1; dx <= 1; dx++) for (let dy = -2; dy <= 2; dy++) surface.set(model.marker.x + dx, model.marker.y + dy);
+    }
+    const cols = surface.width / 2;
+    for (const t of model.texts) {
+      if (t.row < 0 || t.row >= surface.height / 4 || t.col >= cols) continue;
+      const text = Array.from(t.text).slice(0, cols - Math.max(0, t.col)).join('');
+      if (!text) continue;
+      surface.fontFg = paint(t.tone);
+      surface.writeText(text, Math.max(0, t.col) * 2, t.row * 4);
+    }
+  };
+
+  const render = (): void => {
+    if (destroyed) return;
+    lastRenderMs = performance.now();
+    if (pendingRender) {
+      clearTimeout(pendingRender);
+      pendingRender = null;
+    }
+    const input: ScreenInput = {
+      aircraftName: options.aircraft.name,
+      thresholds: options.thresholds,
+      sourceLabel: options.sourceLabel,
+      record,
+      events: [...eventsByKey.values()],
+      link: linkHealth,
+      replay,
+      isReplay,
+      ageS: lastRecordAtMs === null ? null : (performance.now() - lastRecordAtMs) / 1000,
+      units,
+      muted,
+      error,
+    };
+    const model = buildScreenModel(input, layout);
+    banner.setContent(renderLines(model.banner, { color }));
+    if (model.tooSmall) {
+      tooSmall.setContent(renderLines(model.tooSmall, { color }));
+    } else {
+      setPanel(margins, model.margins);
+      setPanel(readouts, model.readouts);
+      setPanel(link, model.link);
+      setPanel(events, model.events);
+      plot.setLabel(` ${model.plotTitle} `);
+      const plotStyle = plot.style as { border: { fg?: string } };
+      plotStyle.border.fg = color && model.stale ? BORDER_COLOR.stale : undefined;
+      drawPlot(input, model.stale);
+      keys.setContent(renderLine(model.keys, { color }));
+      caution.setContent(renderLine(model.caution, { color }));
+    }
+    if (helpVisible) {
+      help.setContent(renderLines(model.help as Line[], { color }));
+      help.show();
+      help.setFront();
+    } else {
+      help.hide();
+    }
+    if (bellPending && !muted) screen.program.bell();
+    bellPending = false;
+    screen.render();
+  };
+
+  /** Redraw soon, but never sooner than MIN_RENDER_GAP_MS after the last redraw. */
+  const requestRender = (): void => {
+    if (destroyed || pendingRender) return;
+    const wait = Math.max(0, lastRenderMs + MIN_RENDER_GAP_MS - performance.now());
+    pendingRender = setTimeout(render, wait);
+  };
+
+  const onKey = (ch: string | undefined, key: { name?: string; full?: string; ctrl?: boolean } | undefined): void => {
+    const name = key?.name;
+    if (ch === 'q' || (key?.ctrl && name === 'c')) {
+      controls.quit();
+      return;
+    }
+    if (ch === '?') helpVisible = !helpVisible;
+    else if (name === 'escape') helpVisible = false;
+    else if (name === 'space' || ch === ' ') controls.togglePause?.();
+    else if (ch === '+' || ch === '=') controls.changeSpeed?.(2);
+    else if (ch === '-' || ch === '_' || ch === '−') controls.changeSpeed?.(0.5);
+    else if (name === 'left') controls.seekBy?.(-10);
+    else if (name === 'right') controls.seekBy?.(10);
+    else if (ch === 'm') muted = !muted;
+    else if (ch === 'u') units = nextSpeedUnit(units);
+    else if (ch === 'c') trail.clear();
+    else return;
+    requestRender();
+  };
+  screen.on('keypress', onKey);
+  screen.on('resize', () => {
+    applyLayout();
+    render();
+  });
+
+  // An exception anywhere while the dashboard is up: restore the terminal first, then print the error.
+  const onFatal = (err: unknown): void => {
+    destroy();
+    const text = err instanceof Error ? (err.stack ?? err.message) : String(err);
+    process.stderr.write(`turnmargin: unexpected error: ${text}\n`);
+    process.exit(2);
+  };
+  process.on('uncaughtException', onFatal);
+  process.on('unhandledRejection', onFatal);
+
+  const timer = setInterval(render, RENDER_PERIOD_MS);
+
+  function destroy(): void {
+    if (destroyed) return;
+    destroyed = true;
+    clearInterval(timer);
+    if (pendingRender) clearTimeout(pendingRender);
+    process.removeListener('uncaughtException', onFatal);
+    process.removeListener('unhandledRejection', onFatal);
+    screen.destroy();
+  }
+
+  applyLayout();
+  render();
+
+  return {
+    pushRecord(rec) {
+      if (record !== null && newWarnings(record.alerts, rec.alerts).length > 0) bellPending = true;
+      else if (record === null && rec.alerts.some((a) => a.level === 'warning')) bellPending = true;
+      if (record !== null && rec.t_s < record.t_s) drawn = null;
+      record = rec;
+      lastRecordAtMs = performance.now();
+      trail.push({ tS: rec.t_s, tasMps: rec.tas_mps, n: rec.n_measured });
+    },
+    pushEvent(ev) {
+      eventsByKey.set(`${ev.limit}:${ev.level}:${ev.start_s}`, { ...ev });
+      if (eventsByKey.size > MAX_EVENTS) eventsByKey.delete(eventsByKey.keys().next().value!);
+    },
+    setLink(h) {
+      linkHealth = h;
+    },
+    setReplay(s) {
+      replay = { ...s };
+    },
+    showError(message) {
+      error = message;
+      requestRender();
+    },
+    destroy,
+  };
+}

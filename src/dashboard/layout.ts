@@ -1,0 +1,75 @@
+/**
+ * Where each panel goes for a terminal size. The n–V plane takes the left side; margins, readouts and the link
+ * stack on the right; the alert banner spans the top and the keys and the advisory line the bottom. Pure.
+ */
+export interface Rect {
+  left: number;
+  top: number;
+  width: number;
+  height: number;
+}
+
+export interface DashboardLayout {
+  cols: number;
+  rows: number;
+  /** Below the 80×24 minimum: only the banner and a note to enlarge the terminal are shown. */
+  tooSmall: boolean;
+  banner: Rect;
+  plot: Rect;
+  events: Rect;
+  margins: Rect;
+  readouts: Rect;
+  link: Rect;
+  keys: Rect;
+  caution: Rect;
+  help: Rect;
+}
+
+export const MIN_COLS = 80;
+export const MIN_ROWS = 24;
+
+const MARGINS_HEIGHT = 8; // 3 limits × 2 lines + border
+
+function clamp(value: number, lo: number, hi: number): number {
+  return Math.min(hi, Math.max(lo, value));
+}
+
+export function computeLayout(cols: number, rows: number): DashboardLayout {
+  const c = Math.max(1, Math.floor(cols));
+  const r = Math.max(1, Math.floor(rows));
+  const tooSmall = c < MIN_COLS || r < MIN_ROWS;
+  const bannerHeight = r >= 32 ? 3 : 1;
+  const middleTop = bannerHeight;
+  const middleHeight = Math.max(0, r - bannerHeight - 2);
+  const rightWidth = clamp(Math.round(c * 0.42), 36, 52);
+  const leftWidth = Math.max(0, c - rightWidth);
+  const eventsHeight = clamp(Math.round(middleHeight * 0.3), 6, 12);
+  const readoutsHeight = middleHeight >= 30 ? 11 : 8;
+  const linkHeight = Math.max(0, middleHeight - MARGINS_HEIGHT - readoutsHeight);
+  const helpWidth = Math.min(c, 66);
+  const helpHeight = Math.min(r, 22);
+  return {
+    cols: c,
+    rows: r,
+    tooSmall,
+    banner: { left: 0, top: 0, width: c, height: bannerHeight },
+    plot: { left: 0, top: middleTop, width: leftWidth, height: Math.max(0, middleHeight - eventsHeight) },
+    events: { left: 0, top: middleTop + middleHeight - eventsHeight, width: leftWidth, height: eventsHeight },
+    margins: { left: leftWidth, top: middleTop, width: rightWidth, height: MARGINS_HEIGHT },
+    readouts: { left: leftWidth, top: middleTop + MARGINS_HEIGHT, width: rightWidth, height: readoutsHeight },
+    link: { left: leftWidth, top: middleTop + MARGINS_HEIGHT + readoutsHeight, width: rightWidth, height: linkHeight },
+    keys: { left: 0, top: r - 2, width: c, height: 1 },
+    caution: { left: 0, top: r - 1, width: c, height: 1 },
+    help: {
+      left: Math.max(0, Math.floor((c - helpWidth) / 2)),
+      top: Math.max(0, Math.floor((r - helpHeight) / 2)),
+      width: helpWidth,
+      height: helpHeight,
+    },
+  };
+}
+
+/** Inner size of a bordered panel. */
+export function innerSize(rect: Rect): { width: number; height: number } {
+  return { width: Math.max(0, rect.width - 2), height: Math.max(0, rect.height - 2) };
+}

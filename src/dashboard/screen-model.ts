@@ -1,0 +1,453 @@
+/**
+ * The screen model: everything the dashboard shows, as styled text lines, built from the latest margin record,
+ * the events, the link health and the replay state. Pure — the clock comes in as `ageS`; the blessed module only
+ * draws what this returns.
+ */
+import { alertThreshold } from '../core/alerts.js';
+import type { LimitEvent } from '../core/events.js';
+import type { MarginRecord } from '../core/margin-record.js';
+import type { LimitName } from '../core/performance.js';
+import type { AlertThresholds } from '../core/thresholds.js';
+import type { LinkHealth, LinkState } from '../sources/link-health.js';
+import {
+  LIMITS,
+  closestLimit,
+  describeAlert,
+  levelTone,
+  levelWord,
+  limitLevel,
+  limitWord,
+} from './format-alert.js';
+import { buildUtilizationBar } from './format-bars.js';
+import { fitLine, lineWidth, seg, type Line, type Tone } from './format-tags.js';
+import {
+  fitPathTail,
+  fitText,
+  formatAge,
+  formatBytes,
+  formatClock,
+  formatFixed,
+  formatPercent,
+  formatSigned,
+  formatSpeed,
+  type SpeedUnit,
+} from './format-units.js';
+import { innerSize, type DashboardLayout } from './layout.js';
+
+/** After this long without a frame the data are marked STALE, s (issue contract). */
+export const STALE_AFTER_S = 1;
+
+export interface ReplayStatus {
+  positionS: number;
+  lengthS: number;
+  speed: number;
+  paused: boolean;
+}
+
+export interface ScreenInput {
+  aircraftName: string;
+  thresholds: AlertThresholds;
+  sourceLabel: string;
+  record: MarginRecord | null;
+  /** In order of start; open ones included. */
+  events: readonly LimitEvent[];
+  link: LinkHealth | null;
+  replay: ReplayStatus | null;
+  /** A replay (transport keys apply). */
+  isReplay: boolean;
+  /** Seconds since the last record arrived, by the shell's clock; null before the first. */
+  ageS: number | null;
+  units: SpeedUnit;
+  muted: boolean;
+  error: string | null;
+}
+
+export interface Panel {
+  title: string;
+  /** Whether the panel's border shows the alert/stale tone. */
+  tone: Tone;
+  lines: Line[];
+}
+
+export interface ScreenModel {
+  stale: boolean;
+  banner: Line[];
+  margins: Panel;
+  readouts: Panel;
+  link: Panel;
+  events: Panel;
+  plotTitle: string;
+  keys: Line;
+  caution: Line;
+  help: Line[];
+  /** Shown instead of the panels below 80×24. */
+  tooSmall: Line[] | null;
+}
+
+export const CAUTION_TEXT = "Advisory only, not flight-critical — the aircraft's approved limits prevail.";
+
+/** Stale: no frame for over STALE_AFTER_S (unless the replay is paused on purpose), or the link says so. */
+export function isStale(input: Pick<ScreenInput, 'record' | 'ageS' | 'replay' | 'link'>): boolean {
+  if (input.record === null) return false;
+  if (input.replay?.paused) return false;
+  if (input.ageS !== null && input.ageS > STALE_AFTER_S) return true;
+  return input.link?.state === 'stale' || input.link?.state === 'lost';
+}
+
+function centre(text: string, width: number): string {
+  const chars = Array.from(text).length;
+  if (chars >= width) return text;
+  const left = Math.floor((width - chars) / 2);
+  return ' '.repeat(left) + text + ' '.repeat(width - chars - left);
+}
+
+export function buildBannerText(input: ScreenInput, stale: boolean): { tone: Tone; text: string } {
+  const rec = input.record;
+  const flags: string[] = [];
+  if (input.replay?.paused) flags.push('PAUSED');
+  if (input.muted) flags.push('bell muted');
+  const suffix = flags.length ? `   [${flags.join(' · ')}]` : '';
+  if (rec === null) {
+    const state = input.link ? ` — link ${input.link.state.toUpperCase()}` : '';
+    return { tone: 'banner-idle', text: `WAITING FOR DATA${state}${suffix}` };
+  }
+  if (stale) {
+    const age = input.ageS !== null ? ` — no frame for ${formatAge(input.ageS)}` : '';
+    const link = input.link && input.link.state !== 'live' ? ` · link ${input.link.state.toUpperCase()}` : '';
+    const last = rec.level !== 'normal' ? ` · last: ${levelWord(rec.level)}` : '';
+    return { tone: 'banner-stale', text: `STALE DATA${age}${link}${last}${suffix}` };
+  }
+  if (!rec.flying) {
+    return { tone: 'banner-idle', text: `NOT FLYING — below half the stall speed, no alerts${suffix}` };
+  }
+  if (rec.level === 'normal') {
+    const c = closestLimit(rec);
+    const closest = c ? ` · closest: ${c.limit} ${formatPercent(c.utilization)}` : '';
+    return { tone: 'banner-normal', text: `NORMAL — inside the envelope${closest}${suffix}` };
+  }
+  const main = rec.alerts.filter((a) => a.level === rec.level).map((a) => describeAlert(rec, a.limit));
+  const others = rec.alerts
+    .filter((a) => a.level !== rec.level && !rec.alerts.some((b) => b.limit === a.limit && b.level === rec.level))
+    .map((a) => `${levelWord(a.level)} ${describeAlert(rec, a.limit)}`);
+  const also = others.length ? ` · also ${others.join(', ')}` : '';
+  const word = levelWord(rec.level);
+  const text = rec.level === 'warning' ? `▲ ${word} ▲ ${main.join(', ')}${also}` : `${word} ${main.join(', ')}${also}`;
+  return { tone: rec.level === 'warning' ? 'banner-warning' : 'banner-caution', text: text + suffix };
+}
+
+export function buildBanner(input: ScreenInput, stale: boolean, width: number, height: number): Line[] {
+  const { tone, text } = buildBannerText(input, stale);
+  const blank = [seg(' '.repeat(width), tone)];
+  const middle = fitLine([seg(centre(text, width), tone)], width).map((s) => ({ ...s, tone }));
+  const lines: Line[] = [];
+  for (let i = 0; i < height; i++) lines.push(i === Math.floor(height / 2) ? middle : blank);
+  return lines;
+}
+
+/** Δn to a limit: how much more load factor is available (negative past it). */
+export function loadFactorMargin(rec: MarginRecord, limit: LimitName): number | null {
+  const n = rec.n_measured;
+  if (!rec.flying) return null;
+  switch (limit) {
+    case 'stall':
+      if (n < 0) return rec.n_stall_neg === null ? null : n - rec.n_stall_neg;
+      return rec.n_stall - n;
+    case 'thrust':
+      return rec.n_thrust === null ? null : rec.n_thrust - n;
+    case 'structure':
+      return n < 0 ? n - rec.n_structural_neg : rec.n_structural - n;
+  }
+}
+
+const LIMIT_LABEL: Record<LimitName, string> = { stall: 'Stall', thrust: 'Thrust', structure: 'Structure' };
+
+export function buildMarginLines(input: ScreenInput, stale: boolean, width: number): Line[] {
+  const rec = input.record;
+  const lines: Line[] = [];
+  for (const limit of LIMITS) {
+    const name = LIMIT_LABEL[limit].padEnd(9);
+    const cautionAt = alertThreshold(limit, 'caution', input.thresholds);
+    const warningAt = alertThreshold(limit, 'warning', input.thresholds);
+    const suffixWidth = 10;
+    const barWidth = Math.max(4, width - 2 - suffixWidth);
+    if (rec === null || !rec.flying) {
+      lines.push(fitLine([seg(name, 'heading'), seg(rec === null ? '—' : 'not flying', 'dim')], width));
+      lines.push(fitLine([seg('  '), ...buildUtilizationBar({ utilization: null, cautionAt, warningAt, width: barWidth })], width));
+      continue;
+    }
+    const u = rec.utilization[limit];
+    const level = limitLevel(rec.alerts, limit);
+    const valueTone: Tone = stale ? 'stale' : level ? levelTone(level) : 'plain';
+    const dn = loadFactorMargin(rec, limit);
+    let pct = formatPercent(u);
+    if (limit === 'thrust' && rec.n_thrust === 0) pct = 'no sust.';
+    if (limit === 'thrust' && rec.n_thrust === null) pct = 'no data';
+    const word = stale ? 'STALE' : level ? levelWord(level) : 'ok';
+    const wordTone: Tone = stale ? 'stale' : level ? levelTone(level) : 'ok';
+    const left = [seg(name, 'heading'), seg(pct.padStart(8), valueTone), seg(` Δn ${formatSigned(dn, 2)}`.padEnd(10), valueTone)];
+    const used = left.reduce((n, s) => n + Array.from(s.text).length, 0);
+    const pad = Math.max(1, width - used - word.length);
+    lines.push(fitLine([...left, seg(' '.repeat(pad)), seg(word, wordTone)], width));
+    let suffix = '';
+    if (limit === 'stall' && rec.stall_speed_margin_pct !== null) suffix = `V ${formatSigned(rec.stall_speed_margin_pct, 0)} %`;
+    const bar = buildUtilizationBar({ utilization: limit === 'thrust' && rec.n_thrust === 0 ? Infinity : u, cautionAt, warningAt, width: barWidth });
+    lines.push(fitLine([seg('  '), ...bar, seg(' '), seg(suffix.padStart(suffixWidth - 1), valueTone)], width));
+  }
+  return lines;
+}
+
+function pair(labelA: string, valueA: string, labelB: string, valueB: string, valueTone: Tone, width: number): Line {
+  const half = Math.floor(width / 2);
+  const a = fitLine([seg(labelA, 'dim'), seg(valueA, valueTone)], half);
+  const b = fitLine([seg(labelB, 'dim'), seg(valueB, valueTone)], width - half);
+  return [...a, ...b];
+}
+
+function deg(value: number | null, decimals = 1): string {
+  return value === null ? '—' : `${formatFixed(value, decimals)}°`;
+}
+
+export function buildReadoutLines(input: ScreenInput, stale: boolean, width: number, height: number): Line[] {
+  const rec = input.record;
+  const lines: Line[] = [];
+  if (rec === null) {
+    lines.push(fitLine([seg('no frame yet', 'dim')], width));
+    return lines;
+  }
+  const t: Tone = stale ? 'stale' : 'plain';
+  // The title already says STALE; a full line says it again where there is room for it.
+  if (stale && height >= 8) {
+    lines.push(fitLine([seg(`STALE — last frame ${formatAge(input.ageS)} ago, t ${formatClock(rec.t_s)}`, 'stale')], width));
+  }
+  const u = input.units;
+  lines.push(pair('TAS  ', formatSpeed(rec.tas_mps, u), 'EAS  ', formatSpeed(rec.eas_mps, u), t, width));
+  lines.push(pair('alt  ', `${formatFixed(rec.alt_m, 0)} m`, 'ρ    ', `${formatFixed(rec.density_kg_m3, 3)} kg/m³`, t, width));
+  lines.push(pair('bank ', deg(rec.bank_deg), 'rate ', rec.turn_rate_dps === null ? '—' : `${formatFixed(rec.turn_rate_dps, 1)} °/s`, t, width));
+  const nBank = rec.n_from_bank === null ? '—' : formatFixed(rec.n_from_bank, 2);
+  const nLine: Line = [seg('n    ', 'dim'), seg(formatFixed(rec.n_measured, 2), t), seg(' vs 1/cos φ ', 'dim'), seg(nBank, t), seg('  ')];
+  if (rec.n_from_bank !== null) {
+    const roomy = width - lineWidth(nLine) >= 13;
+    const word = rec.uncoordinated ? (roomy ? 'UNCOORDINATED' : 'UNCOORD') : roomy ? 'coordinated' : 'coord';
+    nLine.push(seg(word, stale ? 'stale' : rec.uncoordinated ? 'caution' : 'ok'));
+  }
+  lines.push(fitLine(nLine, width));
+  lines.push(pair('radius ', rec.radius_m === null ? '—' : `${formatFixed(rec.radius_m, 0)} m`, 'stall V ', formatSpeed(rec.stall_speed_mps, u), t, width));
+  lines.push(pair('bank limit ', deg(rec.bank_limit_deg, 0), 'sustained ', deg(rec.bank_sustained_deg, 0), t, width));
+  lines.push(pair('mass ', `${formatFixed(rec.mass_kg, 2)} kg`, 'CL   ', formatFixed(rec.cl, 2), t, width));
+  lines.push(pair('nz   ', formatFixed(rec.nz, 2), 'temp ', `${formatFixed(rec.temperature_k - 273.15, 1)} °C`, t, width));
+  return lines.slice(0, Math.max(0, height));
+}
+
+const LINK_STATE_TONE: Record<LinkState, Tone> = {
+  connecting: 'dim',
+  live: 'ok',
+  stale: 'stale',
+  lost: 'warning',
+  ended: 'dim',
+};
+
+export function buildLinkLines(input: ScreenInput, stale: boolean, width: number, height: number): Line[] {
+  const link = input.link;
+  const lines: Line[] = [];
+  if (link === null) {
+    lines.push(fitLine([seg(stale ? 'STALE ' : '', 'stale'), seg('waiting for the source…', 'dim')], width));
+  } else {
+    // A paused replay sends no frames on purpose: say so rather than "stale".
+    const pausedReplay = input.replay?.paused === true && (link.state === 'stale' || link.state === 'live');
+    const stateWord = pausedReplay ? 'PAUSED' : stale && link.state === 'live' ? 'STALE' : link.state.toUpperCase();
+    const stateTone: Tone = pausedReplay ? 'caution' : stale && link.state === 'live' ? 'stale' : LINK_STATE_TONE[link.state];
+    lines.push(
+      fitLine(
+        [
+          seg(stateWord, stateTone),
+          seg(` ${formatFixed(link.framesPerS, 1)} fr/s`),
+          seg(' rej ', 'dim'),
+          seg(String(link.rejected), link.rejected > 0 ? 'caution' : 'plain'),
+          seg(' last ', 'dim'),
+          seg(formatAge(link.sinceLastFrameS ?? input.ageS), stale ? 'stale' : 'plain'),
+        ],
+        width,
+      ),
+    );
+    if (link.recordingError) {
+      lines.push(fitLine([seg('REC ERROR ', 'warning'), seg(link.recordingError, 'warning')], width));
+    } else if (link.recordingFile) {
+      const size = ` ${formatBytes(link.recordingBytes)}`;
+      lines.push(fitLine([seg('rec ', 'dim'), seg(fitPathTail(link.recordingFile, Math.max(4, width - 4 - size.length))), seg(size)], width));
+    } else {
+      lines.push(fitLine([seg('rec ', 'dim'), seg('not recording', 'dim')], width));
+    }
+  }
+  if (input.isReplay) {
+    const r = input.replay;
+    if (r === null) {
+      lines.push(fitLine([seg('replay ', 'dim'), seg('—')], width));
+    } else {
+      lines.push(
+        fitLine(
+          [
+            seg('replay ', 'dim'),
+            seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS)}`),
+            seg(` ×${r.speed === 0 ? 'max' : formatSpeedFactor(r.speed)} `),
+            r.paused ? seg('PAUSED', 'caution') : seg('playing', 'ok'),
+          ],
+          width,
+        ),
+      );
+    }
+  }
+  if (link !== null) {
+    lines.push(fitLine([seg('source ', 'dim'), seg(link.source)], width));
+    lines.push(
+      fitLine(
+        [seg('lines ', 'dim'), seg(String(link.lines)), seg('  ok ', 'dim'), seg(String(link.accepted)), seg('  gaps ', 'dim'), seg(String(link.gaps)), seg('  reconn ', 'dim'), seg(String(link.reconnects))],
+        width,
+      ),
+    );
+    lines.push(fitLine([seg('in ', 'dim'), seg(`${formatBytes(link.bytesPerS)}/s`), seg('  clock restarts ', 'dim'), seg(String(link.clockRestarts))], width));
+    const reasons = Object.entries(link.rejectedByReason).sort((a, b) => b[1] - a[1]);
+    for (const [reason, count] of reasons) lines.push(fitLine([seg(`  ${String(count).padStart(5)} `, 'caution'), seg(reason, 'dim')], width));
+  }
+  return lines.slice(0, Math.max(0, height));
+}
+
+/** ×2, ×0.5, ×0.25: a replay speed factor without trailing zeros. */
+export function formatSpeedFactor(speed: number): string {
+  return Number.isInteger(speed) ? String(speed) : String(Number(speed.toPrecision(3)));
+}
+
+/** Event log, newest first: time, limit, level, duration, peak and the speed at the peak. */
+export function buildEventLines(input: ScreenInput, width: number, height: number): Line[] {
+  const lines: Line[] = [];
+  if (input.error) lines.push(fitLine([seg('ERROR ', 'warning'), seg(input.error, 'warning')], width));
+  if (input.events.length === 0) {
+    lines.push(fitLine([seg('no exceedances so far', 'dim')], width));
+    return lines.slice(0, Math.max(0, height));
+  }
+  lines.push(fitLine([seg('  start limit     level   duration peak   at TAS', 'dim')], width));
+  const newestFirst = [...input.events].sort((a, b) => b.start_s - a.start_s || (a.level === 'warning' ? -1 : 1));
+  for (const ev of newestFirst) {
+    if (lines.length >= height) break;
+    const tone = levelTone(ev.level);
+    const dur = ev.open ? 'ON NOW' : `${formatFixed(ev.duration_s, 1)} s`;
+    const peak = Number.isFinite(ev.peak_utilization) ? formatPercent(ev.peak_utilization) : 'no sust';
+    lines.push(
+      fitLine(
+        [
+          seg(formatClock(ev.start_s).padStart(7)),
+          seg(' '),
+          seg(limitWord(ev.limit).padEnd(9), tone),
+          seg(' '),
+          seg(levelWord(ev.level).padEnd(7), tone),
+          seg(' '),
+          seg(dur.padStart(7), ev.open ? tone : 'plain'),
+          seg(' '),
+          seg(peak.padStart(6)),
+          seg(' '),
+          seg(formatSpeed(ev.speed_at_peak_mps, input.units)),
+        ],
+        width,
+      ),
+    );
+  }
+  return lines.slice(0, Math.max(0, height));
+}
+
+interface KeyHelp {
+  keys: string;
+  short: string;
+  long: string;
+  replayOnly?: boolean;
+}
+
+export const KEY_HELP: readonly KeyHelp[] = [
+  { keys: '?', short: 'keys', long: 'show or hide this list' },
+  { keys: 'q', short: 'quit', long: 'quit (Ctrl-C too): the recording is flushed' },
+  { keys: 'space', short: 'pause', long: 'pause or resume the replay', replayOnly: true },
+  { keys: '+ −', short: 'speed', long: 'replay speed ×2 / ÷2', replayOnly: true },
+  { keys: '← →', short: 'seek', long: 'seek back / forward 10 s', replayOnly: true },
+  { keys: 'm', short: 'mute', long: 'mute or unmute the bell on a new warning' },
+  { keys: 'u', short: 'units', long: 'speed units: m/s → kt → km/h' },
+  { keys: 'c', short: 'clear', long: 'clear the trail on the n–V plane' },
+];
+
+export function buildKeysLine(input: ScreenInput, width: number): Line {
+  const line: Line = [];
+  for (const k of KEY_HELP) {
+    if (k.replayOnly && !input.isReplay) continue;
+    if (line.length) line.push(seg('  '));
+    line.push(seg(k.keys, 'key'), seg(` ${k.short}`));
+  }
+  return fitLine(line, width);
+}
+
+export function buildHelpLines(input: ScreenInput, width: number): Line[] {
+  const lines: Line[] = [seg('Keys', 'heading')].map((s) => [s]);
+  for (const k of KEY_HELP) {
+    const note = k.replayOnly && !input.isReplay ? '  (replay only)' : '';
+    lines.push([seg(`  ${k.keys.padEnd(7)}`, 'key'), seg(k.long), seg(note, 'dim')]);
+  }
+  lines.push([]);
+  lines.push([seg('n–V plane (TAS across, load factor up)', 'heading')]);
+  lines.push([seg('  stall   ', 'warning'), seg('stall-limited n = q·S·CLmax/W; dotted: stall caution')]);
+  lines.push([seg('  thrust  ', 'caution'), seg('largest sustained n (thrust = drag)')]);
+  lines.push([seg('  n limit ', 'warning'), seg('structural limit load factor')]);
+  lines.push([seg('  ◀ now   ', 'ok'), seg('present point; trail: last 10 s (older dimmer)')]);
+  lines.push([seg('  STALE   ', 'stale'), seg('no frame for over 1 s: point and numbers are old')]);
+  lines.push([]);
+  lines.push([seg('Press ? or Esc to close.', 'dim')]);
+  return lines.map((l) => fitLine(l, width));
+}
+
+/** A panel title cut to fit its border (blessed would wrap a long label into the panel). */
+export function fitTitle(title: string, panelWidth: number): string {
+  const room = Math.max(0, panelWidth - 4);
+  return Array.from(title).length <= room ? title : fitText(title, room);
+}
+
+export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): ScreenModel {
+  const stale = isStale(input);
+  const rec = input.record;
+  const marginsInner = innerSize(layout.margins);
+  const readoutsInner = innerSize(layout.readouts);
+  const linkInner = innerSize(layout.link);
+  const eventsInner = innerSize(layout.events);
+  const level = rec === null || !rec.flying ? 'normal' : rec.level;
+  const alertTone: Tone = stale ? 'stale' : level === 'normal' ? 'plain' : levelTone(level);
+  const staleTitle = stale ? ' — STALE' : '';
+  return {
+    stale,
+    banner: buildBanner(input, stale, layout.banner.width, layout.banner.height),
+    margins: {
+      title: fitTitle(`Margins to the limits${staleTitle}`, layout.margins.width),
+      tone: alertTone,
+      lines: buildMarginLines(input, stale, marginsInner.width),
+    },
+    readouts: {
+      title: fitTitle(stale ? `Readouts — STALE ${formatAge(input.ageS)}` : 'Readouts', layout.readouts.width),
+      tone: stale ? 'stale' : 'plain',
+      lines: buildReadoutLines(input, stale, readoutsInner.width, readoutsInner.height),
+    },
+    link: {
+      title: `Link: ${fitPathTail(input.sourceLabel, Math.max(4, layout.link.width - 12))}`,
+      tone: stale ? 'stale' : input.link?.state === 'lost' ? 'warning' : 'plain',
+      lines: buildLinkLines(input, stale, linkInner.width, linkInner.height),
+    },
+    events: {
+      title: fitTitle(`Exceedances (${input.events.length})`, layout.events.width),
+      tone: input.events.some((e) => e.open && e.level === 'warning') ? 'warning' : 'plain',
+      lines: buildEventLines(input, eventsInner.width, eventsInner.height),
+    },
+    plotTitle: fitTitle(`n–V plane${staleTitle} · ${input.aircraftName}`, layout.plot.width),
+    keys: buildKeysLine(input, layout.keys.width),
+    caution: fitLine([seg(CAUTION_TEXT, 'dim')], layout.caution.width),
+    help: buildHelpLines(input, innerSize(layout.help).width),
+    tooSmall: layout.tooSmall
+      ? [
+          [seg(`The dashboard needs at least 80×24; this terminal is ${layout.cols}×${layout.rows}.`, 'heading')],
+          [seg('Enlarge the window, or use --no-ui for JSON lines.', 'dim')],
+          [seg('q quits.', 'dim')],
+        ]
+      : null,
+  };
+}
