@@ -130,21 +130,8 @@ export function createPipeline(options: PipelineOptions): Pipeline {
 // ---------------------------------------------------------------------------------------------------------------
 // The monitor: a pipeline plus its output (headless lines or the dashboard), signals and the exit summary.
 
-/** The dashboard module's API (src/dashboard/index.ts), loaded only when a UI is wanted. */
-interface DashboardLike {
-  pushRecord(rec: MarginRecord): void;
-  pushEvent(ev: LimitEvent): void;
-  setLink(h: LinkHealth): void;
-  setReplay(s: { positionS: number; lengthS: number; speed: number; paused: boolean }): void;
-  showError(message: string): void;
-  destroy(): void;
-}
-interface DashboardModuleLike {
-  startDashboard(
-    options: { aircraft: Aircraft; thresholds: AlertThresholds; sourceLabel: string; replay?: { lengthS: number } },
-    controls: { quit(): void; togglePause?(): void; changeSpeed?(factor: number): void; seekBy?(deltaS: number): void },
-  ): DashboardLike;
-}
+type DashboardModule = typeof import('../dashboard/index.js');
+type DashboardLike = import('../dashboard/index.js').Dashboard;
 
 export interface MonitorOptions {
   source: TelemetrySource;
@@ -180,11 +167,11 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     stderr.write('turnmargin: stdout is not a terminal: printing margin records as JSON lines (as with --no-ui)\n');
     noUi = true;
   }
-  let dashboardModule: DashboardModuleLike | undefined;
+  let dashboardModule: DashboardModule | undefined;
   if (!noUi) {
-    const specifier = '../dashboard/index.js'; // loaded only here, so headless runs never load the terminal UI
     try {
-      dashboardModule = (await import(specifier)) as DashboardModuleLike;
+      // Loaded only here, so that headless runs never load the terminal UI libraries.
+      dashboardModule = await import('../dashboard/index.js');
     } catch (err) {
       stderr.write(`turnmargin: the dashboard cannot start (${(err as Error).message}); printing JSON lines instead\n`);
       noUi = true;
