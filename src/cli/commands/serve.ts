@@ -95,9 +95,8 @@ export async function run(args: ParsedArgs): Promise<number> {
     const why = e.code === 'EADDRINUSE' ? 'the port is in use' : e.code === 'EADDRNOTAVAIL' ? 'no such address on this machine' : e.code === 'EACCES' ? 'permission denied' : e.message;
     throw new InputError([`--listen ${listenText}: cannot listen (${why})`]);
   }
-  process.stdout.write(`listening on ${server.url}\n`);
-
-  await new Promise<void>((resolve) => {
+  // The handlers are in place before the address is printed: a client script may signal as soon as it reads it.
+  const stopped = new Promise<void>((resolve) => {
     const stop = () => {
       process.off('SIGINT', stop);
       process.off('SIGTERM', stop);
@@ -106,6 +105,8 @@ export async function run(args: ParsedArgs): Promise<number> {
     process.on('SIGINT', stop);
     process.on('SIGTERM', stop);
   });
+  process.stdout.write(`listening on ${server.url}\n`);
+  await stopped;
   const summary = await server.close();
   process.stderr.write(
     `turnmargin: serve: stopped; ${summary.connections} connections, ${summary.answered} frames answered, ` +
