@@ -2,6 +2,7 @@ import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
+import { encodeHeader, encodeLine, encodeLinkEvent } from '../../src/recording/format.js';
 import { checkXml } from '../report/xml-check.js';
 import { EXAMPLE_AIRFRAME_PATH } from '../helpers/airframes.js';
 import { REPO_ROOT, runCli } from '../helpers/run-cli.js';
@@ -164,6 +165,41 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(out.events.map((e: Record<string, unknown>) => [e['level'], e['start_s'], e['end_s']])).toEqual([
       ['caution', 1, 1.5],
       ['warning', 1, 1.5],
+    ]);
+  });
+
+  it('reads a recording, restarting the computation after a reconnect whose sender clock restarted', async () => {
+    // Invented recording: 12 m/s at sea level; first link 0–2 s with nz 1.6 (stall utilization 0.8625, caution)
+    // from 1.0 to 1.5 s; the link drops, reopens, and the sender's clock starts again at 0: nz 1.75 (0.943, warning)
+    // from 0.5 to 0.8 s. One line of radio noise in between.
+    const dir = tmp();
+    const rec = join(dir, 'flight.tmrec');
+    const parts: Buffer[] = [encodeHeader('serial /dev/ttyTEST @ 57600', 1_700_000_000_000), encodeLinkEvent(1_700_000_000_000, 'open')];
+    let ms = 1_700_000_000_000;
+    const frame = (t: number, nz: number) => {
+      ms += 100;
+      parts.push(encodeLine(ms, Buffer.from(JSON.stringify({ t_s: t, tas_mps: 12, alt_m: 0, nz })), false));
+    };
+    for (let i = 0; i <= 20; i++) frame(i / 10, i >= 10 && i < 15 ? 1.6 : 1.0);
+    parts.push(encodeLine(ms + 50, Buffer.from([0x00, 0xff, 0x13, 0x37]), false));
+    parts.push(encodeLinkEvent(ms + 60, 'lost', 'port disappeared'), encodeLinkEvent(ms + 900, 'open'));
+    ms += 900;
+    for (let i = 0; i <= 10; i++) frame(i / 10, i >= 5 && i < 8 ? 1.75 : 1.0);
+    writeFileSync(rec, Buffer.concat(parts));
+
+    const r = await runCli(['review', rec, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0', '--format', 'json']);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.accepted).toBe(32);
+    expect(out.rejected).toBe(1);
+    expect(out.frames).toBe(33);
+    expect(out.conditions.segments).toBe(2);
+    expect(out.duration_s).toBeCloseTo(3.0, 9);
+    expect(out.events.map((e: Record<string, unknown>) => [e['level'], e['start_s'], e['end_s']])).toEqual([
+      ['caution', 1, 1.5],
+      ['caution', 0.5, 0.8],
+      ['warning', 0.5, 0.8],
     ]);
   });
 
