@@ -6,7 +6,8 @@ import { ThresholdsSchema, resolveThresholds, type AlertThresholds } from '../co
 import { describeIssues } from '../core/validation.js';
 import { InputError } from './errors.js';
 
-function readJson(path: string, what: string): unknown {
+/** Read and parse a JSON input file; InputError naming the file when it cannot be read or parsed. */
+export function readJson(path: string, what: string): unknown {
   const label = basename(path);
   let text: string;
   try {

@@ -4,7 +4,7 @@
  * so that the monitor can be tried without an aircraft.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { createWriteStream, existsSync, readFileSync, statSync, type WriteStream } from 'node:fs';
+import { createWriteStream, existsSync, statSync, type WriteStream } from 'node:fs';
 import { basename } from 'node:path';
 import { createInterface } from 'node:readline';
 import type { Aircraft } from '../../core/aircraft.js';
@@ -14,7 +14,7 @@ import { SimulationError, simulateFlight, type SimSample } from '../../sim/point
 import { formatWsUrl, isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { EXIT_OK, EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
-import { loadAircraftFile } from '../load.js';
+import { loadAircraftFile, readJson } from '../load.js';
 
 export const spec: CommandSpec = {
   name: 'simulate',
@@ -66,20 +66,7 @@ const DEFAULT_RATE_HZ = 10;
 const DEFAULT_BAUD = 57600;
 
 function loadPlanFile(path: string): FlightPlan {
-  let text: string;
-  try {
-    text = readFileSync(path, 'utf8');
-  } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    const why = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'is a directory' : (err as Error).message;
-    throw new InputError([`${path}: cannot read the plan file (${why})`]);
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text.replace(/^\uFEFF/, ''));
-  } catch (err) {
-    throw new InputError([`${basename(path)}: not valid JSON (${(err as Error).message})`]);
-  }
+  const json = readJson(path, 'plan');
   const result = parseFlightPlan(json, basename(path));
   if (!result.ok) throw new InputError(result.problems);
   return result.value;
