@@ -203,6 +203,40 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     ]);
   });
 
+  it('reads a foreign log through a mapping file (time in ms, speed in knots, altitude in feet, nz in m/s²)', async () => {
+    // Invented log: 12 m/s = 23.3261 kt (1 kt = 1852/3600 m/s, exact); nz 1.75 g = 17.1616 m/s² (g0 9.80665)
+    // from 1000 to 1400 ms → stall utilization 0.943 (warning) from 1.0 to 1.5 s.
+    const dir = tmp();
+    const log = join(dir, 'foreign.csv');
+    const rows = ['time_ms;speed_kt;alt_ft;acc_z'];
+    for (let i = 0; i <= 20; i++) rows.push(`${i * 100};23.3261;0;${i >= 10 && i < 15 ? 17.1616 : 9.80665}`);
+    writeFileSync(log, rows.join('\n') + '\n');
+    const mapping = join(dir, 'mapping.json');
+    writeFileSync(
+      mapping,
+      JSON.stringify({
+        delimiter: ';',
+        keys: {
+          t_s: { column: 'time_ms', unit: 'ms' },
+          tas_mps: { column: 'speed_kt', unit: 'kt' },
+          alt_m: { column: 'alt_ft', unit: 'ft' },
+          nz: { column: 'acc_z', unit: 'm/s²' },
+        },
+      }),
+    );
+    const r = await runCli(['review', log, '--mapping', mapping, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0', '--format', 'json']);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.accepted).toBe(21);
+    expect(out.events.map((e: Record<string, unknown>) => [e['level'], e['start_s'], e['end_s']])).toEqual([
+      ['caution', 1, 1.5],
+      ['warning', 1, 1.5],
+    ]);
+    expect(out.events[1].speed_at_peak_mps).toBeCloseTo(12, 3);
+    expect(out.events[1].n_at_peak).toBeCloseTo(1.75, 4);
+  });
+
   it('applies a thresholds file over the airframe', async () => {
     const dir = tmp();
     const th = join(dir, 'thresholds.json');
