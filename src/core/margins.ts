@@ -99,11 +99,9 @@ export function loadFactorFromBank(bankDeg: number): number | null {
 /** The frame's measured load factor: nz when present, else 1/cos(bank). */
 export function rawLoadFactor(frame: Frame): number {
   if (frame.nz !== undefined) return frame.nz;
-  if (frame.bankDeg !== undefined) {
-    const n = loadFactorFromBank(frame.bankDeg);
-    if (n !== null) return n;
-  }
-  throw new RangeError(`frame at t_s ${frame.tS} has neither a usable bank_deg nor nz`);
+  // Near 90° of bank this is huge, as a level turn there would need: the alerts then err on the safe side.
+  if (frame.bankDeg !== undefined) return 1 / Math.cos((frame.bankDeg * Math.PI) / 180);
+  throw new RangeError(`frame at t_s ${frame.tS} has neither bank_deg nor nz`);
 }
 
 export interface LimitsForUtilization {

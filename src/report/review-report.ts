@@ -186,7 +186,7 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
     ['Time span', review.firstTS === null ? '—' : `t = ${fixed(review.firstTS, 2)} s to ${fixed(review.lastTS, 2)} s (${fixed(review.durationS, 2)} s of data)`],
     ['Pressure altitude', c.altitudeM ? `${fixed(c.altitudeM.min, 0)} to ${fixed(c.altitudeM.max, 0)} m` : '—'],
     ['TAS', c.tasMps ? `${fixed(c.tasMps.min, 1)} to ${fixed(c.tasMps.max, 1)} m/s` : '—'],
-    ['Load factor (smoothed)', c.nMeasured ? `${fixed(c.nMeasured.min, 2)} to ${fixed(c.nMeasured.max, 2)}` : '—'],
+    [`Load factor n${review.options.smoothTauS > 0 ? ' (smoothed)' : ''}`, c.nMeasured ? `${fixed(c.nMeasured.min, 2)} to ${fixed(c.nMeasured.max, 2)}` : '—'],
     ['Air temperature', c.temperatureK ? `${fixed(c.temperatureK.min - 273.15, 1)} to ${fixed(c.temperatureK.max - 273.15, 1)} °C` : '—'],
     ['Median density', `${fixed(c.medianDensityKgM3, 4)} kg/m³`],
     ['Median mass', `${fixed(c.medianMassKg, 2)} kg`],

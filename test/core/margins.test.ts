@@ -317,3 +317,13 @@ describe('coordination check', () => {
     expect(flags.every((f) => !f)).toBe(true);
   });
 });
+
+describe('extreme bank without nz', () => {
+  it('does not fail at 90° of bank: 1/cos(bank) is huge and the alerts err on the safe side', () => {
+    const rec = single(frame(0, { bankDeg: 90 }));
+    expect(rec.n_measured).toBeGreaterThan(1e6);
+    expect(rec.level).toBe('warning');
+    expect(rec.n_from_bank).toBeNull();
+    expect(rec.turn_rate_dps).toBeNull();
+  });
+});
