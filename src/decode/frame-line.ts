@@ -1,9 +1,10 @@
 /**
- * Validation of one telemetry line (NDJSON object text) into a Frame. Pure and stateless: the time-order rule
+ * Validation of one telemetry line (NDJSON object text) into a Frame, with a zod schema. Pure and stateless: the time-order rule
  * lives in time-gate.ts and is applied by the stateful decoder.
  *
  * Reasons are short, stable and human: they are shown per line, counted in link health and listed by review.
  */
+import { z } from 'zod';
 import type { AirspeedKind, Frame } from '../core/frame.js';
 
 export type LineVerdict =
@@ -40,27 +41,35 @@ function show(value: unknown): string {
   return text.length > 40 ? `${text.slice(0, 37)}...` : text;
 }
 
-type Check = { ok: true; value: number | undefined } | { ok: false; reason: string };
+/** What each key must be, in the words of the rejection reason. */
+const RULE_TEXT: Readonly<Record<string, string>> = {
+  t_s: 'a finite number',
+  ias_mps: 'a finite number ≥ 0',
+  cas_mps: 'a finite number ≥ 0',
+  tas_mps: 'a finite number ≥ 0',
+  alt_m: `a number from ${FRAME_BOUNDS.altMinM} to ${FRAME_BOUNDS.altMaxM} m`,
+  bank_deg: `a number from -${FRAME_BOUNDS.bankMaxAbsDeg} to ${FRAME_BOUNDS.bankMaxAbsDeg} deg`,
+  nz: `a number from -${FRAME_BOUNDS.nzMaxAbs} to ${FRAME_BOUNDS.nzMaxAbs} g`,
+  oat_c: `a number from ${FRAME_BOUNDS.oatMinC} to ${FRAME_BOUNDS.oatMaxC} °C`,
+  mass_kg: `a number above 0 and up to ${FRAME_BOUNDS.massMaxKg} kg`,
+};
 
-interface NumberRule {
-  required: boolean;
-  min?: number;
-  max?: number;
-  /** Human form of the rule, e.g. "a finite number ≥ 0". */
-  rule: string;
-}
-
-function checkNumber(obj: Record<string, unknown>, key: string, r: NumberRule): Check {
-  const value = obj[key];
-  // null is taken as "not sent" for optional keys: many senders write null for a missing sensor.
-  if (value === undefined || (value === null && !r.required)) {
-    return r.required ? { ok: false, reason: `${key} is required` } : { ok: true, value: undefined };
-  }
-  if (typeof value !== 'number' || !Number.isFinite(value) || (r.min !== undefined && value < r.min) || (r.max !== undefined && value > r.max)) {
-    return { ok: false, reason: `${key} must be ${r.rule} (got ${show(value)})` };
-  }
-  return { ok: true, value };
-}
+const speed = z.number().min(0).nullish();
+/**
+ * The frame keys (zod numbers are finite: NaN and ±Infinity fail). Optional keys may be null (many senders write
+ * null for a missing sensor); other keys pass through untouched.
+ */
+export const FrameSchema = z.looseObject({
+  t_s: z.number(),
+  ias_mps: speed,
+  cas_mps: speed,
+  tas_mps: speed,
+  alt_m: z.number().min(FRAME_BOUNDS.altMinM).max(FRAME_BOUNDS.altMaxM),
+  bank_deg: z.number().min(-FRAME_BOUNDS.bankMaxAbsDeg).max(FRAME_BOUNDS.bankMaxAbsDeg).nullish(),
+  nz: z.number().min(-FRAME_BOUNDS.nzMaxAbs).max(FRAME_BOUNDS.nzMaxAbs).nullish(),
+  oat_c: z.number().min(FRAME_BOUNDS.oatMinC).max(FRAME_BOUNDS.oatMaxC).nullish(),
+  mass_kg: z.number().positive().max(FRAME_BOUNDS.massMaxKg).nullish(),
+});
 
 /** Validate an already-parsed object (a JSON line or a mapped CSV row). */
 export function validateFrameObject(input: unknown): LineVerdict {
@@ -68,55 +77,27 @@ export function validateFrameObject(input: unknown): LineVerdict {
     return { ok: false, reason: `not a JSON object (got ${Array.isArray(input) ? 'an array' : show(input)})` };
   }
   const raw = input as Record<string, unknown>;
-  const t = checkNumber(raw, 't_s', { required: true, rule: 'a finite number' });
-  if (!t.ok) return t;
-
-  const present = AIRSPEED_KEYS.filter(([key]) => raw[key] !== undefined && raw[key] !== null);
+  const result = FrameSchema.safeParse(raw);
+  if (!result.success) {
+    // One reason per line: the first problem, in the key order of the schema.
+    const key = String(result.error.issues[0]?.path[0] ?? '');
+    const value = raw[key];
+    if (value === undefined) return { ok: false, reason: `${key} is required` };
+    return { ok: false, reason: `${key} must be ${RULE_TEXT[key] ?? 'valid'} (got ${show(value)})` };
+  }
+  const f = result.data;
+  const present = AIRSPEED_KEYS.filter(([key]) => f[key as 'tas_mps'] != null);
   if (present.length === 0) return { ok: false, reason: 'an airspeed is required (one of ias_mps, cas_mps, tas_mps)' };
   if (present.length > 1) {
     return { ok: false, reason: `exactly one airspeed key is allowed (got ${present.map(([k]) => k).join(' and ')})` };
   }
+  if (f.bank_deg == null && f.nz == null) return { ok: false, reason: 'bank_deg or nz is required' };
   const [speedKey, airspeedKind] = present[0]!;
-  const speed = checkNumber(raw, speedKey, { required: true, min: 0, rule: 'a finite number ≥ 0' });
-  if (!speed.ok) return speed;
-
-  const alt = checkNumber(raw, 'alt_m', {
-    required: true,
-    min: FRAME_BOUNDS.altMinM,
-    max: FRAME_BOUNDS.altMaxM,
-    rule: `a number from ${FRAME_BOUNDS.altMinM} to ${FRAME_BOUNDS.altMaxM} m`,
-  });
-  if (!alt.ok) return alt;
-  const bank = checkNumber(raw, 'bank_deg', {
-    required: false,
-    min: -FRAME_BOUNDS.bankMaxAbsDeg,
-    max: FRAME_BOUNDS.bankMaxAbsDeg,
-    rule: `a number from -${FRAME_BOUNDS.bankMaxAbsDeg} to ${FRAME_BOUNDS.bankMaxAbsDeg} deg`,
-  });
-  if (!bank.ok) return bank;
-  const nz = checkNumber(raw, 'nz', {
-    required: false,
-    min: -FRAME_BOUNDS.nzMaxAbs,
-    max: FRAME_BOUNDS.nzMaxAbs,
-    rule: `a number from -${FRAME_BOUNDS.nzMaxAbs} to ${FRAME_BOUNDS.nzMaxAbs} g`,
-  });
-  if (!nz.ok) return nz;
-  if (bank.value === undefined && nz.value === undefined) return { ok: false, reason: 'bank_deg or nz is required' };
-  const oat = checkNumber(raw, 'oat_c', {
-    required: false,
-    min: FRAME_BOUNDS.oatMinC,
-    max: FRAME_BOUNDS.oatMaxC,
-    rule: `a number from ${FRAME_BOUNDS.oatMinC} to ${FRAME_BOUNDS.oatMaxC} °C`,
-  });
-  if (!oat.ok) return oat;
-  const mass = checkNumber(raw, 'mass_kg', { required: false, min: Number.MIN_VALUE, max: FRAME_BOUNDS.massMaxKg, rule: `a number above 0 and up to ${FRAME_BOUNDS.massMaxKg} kg` });
-  if (!mass.ok) return mass;
-
-  const frame: Frame = { tS: t.value!, airspeedKind, airspeedMps: speed.value!, altM: alt.value! };
-  if (bank.value !== undefined) frame.bankDeg = bank.value;
-  if (nz.value !== undefined) frame.nz = nz.value;
-  if (oat.value !== undefined) frame.oatC = oat.value;
-  if (mass.value !== undefined) frame.massKg = mass.value;
+  const frame: Frame = { tS: f.t_s, airspeedKind, airspeedMps: f[speedKey as 'tas_mps']!, altM: f.alt_m };
+  if (f.bank_deg != null) frame.bankDeg = f.bank_deg;
+  if (f.nz != null) frame.nz = f.nz;
+  if (f.oat_c != null) frame.oatC = f.oat_c;
+  if (f.mass_kg != null) frame.massKg = f.mass_kg;
   return { ok: true, frame, raw };
 }
 
