@@ -12,7 +12,6 @@ import { DEMO_AIRFRAME_PATH, EXAMPLE_AIRFRAME_PATH } from '../helpers/airframes.
 const dir = mkdtempSync(join(tmpdir(), 'simulate-cli-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
-const DEMO_PLAN = join(REPO_ROOT, 'replays/plans/demo-flight.json');
 
 function writePlan(name: string, plan: unknown): string {
   const path = join(dir, name);
@@ -68,10 +67,27 @@ describe('turnmargin simulate', () => {
     for (const line of lines) expect(parseFrameLine(line).ok).toBe(true);
   });
 
-  it('regenerates exactly the committed demo flight from its plan (replays/README.md)', async () => {
-    const r = await runCli(['simulate', '--aircraft', DEMO_AIRFRAME_PATH, '--plan', DEMO_PLAN, '--rate', '10', '--seed', '1', '--quiet']);
+  for (const name of ['demo-flight', 'turn-card']) {
+    it(`regenerates exactly the committed ${name}.ndjson from its plan (replays/README.md)`, async () => {
+      const planPath = join(REPO_ROOT, `replays/plans/${name}.json`);
+      const r = await runCli(['simulate', '--aircraft', DEMO_AIRFRAME_PATH, '--plan', planPath, '--rate', '10', '--seed', '1', '--quiet']);
+      expect(r.code, r.stderr).toBe(0);
+      expect(r.stdout).toBe(readFileSync(join(REPO_ROOT, `replays/${name}.ndjson`), 'utf8'));
+    });
+  }
+
+  it('gives a turn card with IAS frames in which review finds the stall caution and warning of the slow turn', async () => {
+    const r = await runCli(['review', join(REPO_ROOT, 'replays/turn-card.ndjson'), '--aircraft', DEMO_AIRFRAME_PATH, '--format', 'json']);
     expect(r.code, r.stderr).toBe(0);
-    expect(r.stdout).toBe(readFileSync(join(REPO_ROOT, 'replays/demo-flight.ndjson'), 'utf8'));
+    const review = JSON.parse(r.stdout) as { rejected: number; events: Array<{ limit: string; level: string; start_s: number; end_s: number }> };
+    expect(review.rejected).toBe(0);
+    // The slow 1.5 g turn flies from 65.6 to 71.6 s (after a 0.6 s pull-up, so the boundaries are off the 0.1 s grid).
+    for (const level of ['caution', 'warning']) {
+      const stall = review.events.filter((e) => e.limit === 'stall' && e.level === level);
+      expect(stall, level).toHaveLength(1);
+      expect(stall[0]!.start_s).toBeGreaterThan(65.5);
+      expect(stall[0]!.start_s).toBeLessThan(71.6);
+    }
   });
 
   it('gives a demo flight in which review finds the planted thrust, structure and stall cautions', async () => {
