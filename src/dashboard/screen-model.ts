@@ -180,11 +180,11 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
     const valueTone: Tone = stale ? 'stale' : level ? levelTone(level) : 'plain';
     const dn = loadFactorMargin(rec, limit);
     let pct = formatPercent(u);
-    if (limit === 'thrust' && rec.n_thrust === 0) pct = 'no sust.';
+    if (limit === 'thrust' && rec.n_thrust === 0) pct = 'no sust';
     if (limit === 'thrust' && rec.n_thrust === null) pct = 'no data';
     const word = stale ? 'STALE' : level ? levelWord(level) : 'ok';
     const wordTone: Tone = stale ? 'stale' : level ? levelTone(level) : 'ok';
-    const left = [seg(name, 'heading'), seg(pct.padStart(8), valueTone), seg(` Δn ${formatSigned(dn, 2)}`.padEnd(10), valueTone)];
+    const left = [seg(name, 'heading'), seg(pct.padStart(7), valueTone), seg(` Δn ${formatSigned(dn, 2)}`, valueTone)];
     const used = left.reduce((n, s) => n + Array.from(s.text).length, 0);
     const pad = Math.max(1, width - used - word.length);
     lines.push(fitLine([...left, seg(' '.repeat(pad)), seg(word, wordTone)], width));

@@ -1,0 +1,252 @@
+import { describe, expect, it } from 'vitest';
+import { lineText, renderLines, type Line } from '../../src/dashboard/format-tags.js';
+import { innerSize } from '../../src/dashboard/layout.js';
+import {
+  STALE_AFTER_S,
+  buildScreenModel,
+  isStale,
+  loadFactorMargin,
+  type ScreenModel,
+} from '../../src/dashboard/screen-model.js';
+import { AIRCRAFT, LAYOUT_120x40, LAYOUT_80x24, event, link, screenInput, steadyRecord } from './records.js';
+
+const text = (lines: Line[]): string => lines.map(lineText).join('\n');
+
+// A steady level turn at 20 m/s TAS, 45° bank, 100 m: well inside the example airframe's envelope.
+const turn45 = steadyRecord({ tasMps: 20, altM: 100, bankDeg: 45 });
+// Slow and steep: 12.3 m/s at 56° bank, past the stall warning threshold (utilization ≈ 0.93).
+const slowSteep = steadyRecord({ tasMps: 12.3, altM: 123, bankDeg: 56 });
+// 52° bank at the same speed: stall caution only (utilization ≈ 0.84).
+const slowCaution = steadyRecord({ tasMps: 12.3, altM: 123, bankDeg: 52 });
+
+describe('readouts', () => {
+  const model = buildScreenModel(screenInput({ record: turn45 }), LAYOUT_120x40);
+  const readouts = text(model.readouts.lines);
+
+  it('show the frame: TAS, EAS, altitude, density and bank', () => {
+    expect(readouts).toContain('TAS  20.0 m/s');
+    expect(readouts).toMatch(/EAS {2}19\.9 m\/s/);
+    expect(readouts).toContain('alt  100 m');
+    expect(readouts).toMatch(/ρ {4}1\.213 kg\/m³/); // ISA at 100 m: 1.2133 kg/m³ (U.S. Standard Atmosphere 1976)
+    expect(readouts).toContain('bank 45.0°');
+  });
+
+  it('compare n with 1/cos(bank) and flag the turn coordinated', () => {
+    // 45° bank → n = 1.414 (FAA-H-8083-25, load factor chart).
+    expect(readouts).toMatch(/n {4}1\.41 vs 1\/cos φ 1\.41 +coordinated/);
+  });
+
+  it('give turn rate and radius of the level turn', () => {
+    // ω = g·tan φ / V and R = V²/(g·tan φ) (Anderson, Aircraft Performance and Design, ch. 6):
+    // at 20 m/s and 45°: ω = 9.80665/20 rad/s = 28.09 °/s, R = 400/9.80665 = 40.8 m.
+    expect(readouts).toContain('rate 28.1 °/s');
+    expect(readouts).toContain('radius 41 m');
+  });
+
+  it('give the bank limit and the sustained bank limit from the record', () => {
+    expect(readouts).toContain(`bank limit ${turn45.bank_limit_deg.toFixed(0)}°`);
+    expect(readouts).toContain(`sustained ${turn45.bank_sustained_deg!.toFixed(0)}°`);
+  });
+
+  it('switch the speeds to knots', () => {
+    const kt = text(buildScreenModel(screenInput({ record: turn45, units: 'kt' }), LAYOUT_120x40).readouts.lines);
+    // 20 m/s = 20 × 3600/1852 kt = 38.88 kt (exact knot definition).
+    expect(kt).toContain('TAS  38.9 kt');
+  });
+
+  it('flag an uncoordinated turn in words', () => {
+    const rec = { ...turn45, uncoordinated: true };
+    expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_120x40).readouts.lines)).toContain('UNCOORDINATED');
+    expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_80x24).readouts.lines)).toContain('UNCOORD');
+  });
+});
+
+describe('alert banner and margins', () => {
+  it('says NORMAL and names the closest limit when inside the envelope', () => {
+    const model = buildScreenModel(screenInput({ record: turn45 }), LAYOUT_80x24);
+    expect(text(model.banner)).toMatch(/NORMAL — inside the envelope · closest: \w+ \d+ %/);
+    expect(model.banner[0]![0]!.tone).toBe('banner-normal');
+  });
+
+  it('says CAUTION with the limit, in words and in amber', () => {
+    expect(slowCaution.level).toBe('caution');
+    const model = buildScreenModel(screenInput({ record: slowCaution }), LAYOUT_80x24);
+    expect(text(model.banner)).toMatch(/CAUTION STALL \d+ %/);
+    expect(model.banner[0]![0]!.tone).toBe('banner-caution');
+    const stallLine = lineText(model.margins.lines[0]!);
+    expect(stallLine).toMatch(/^Stall +\d+ % +Δn \+\d\.\d\d +CAUTION$/);
+  });
+
+  it('says WARNING with the limit in red, and the stall margins in Δn and speed', () => {
+    expect(slowSteep.level).toBe('warning');
+    const model = buildScreenModel(screenInput({ record: slowSteep }), LAYOUT_80x24);
+    expect(text(model.banner)).toMatch(/▲ WARNING ▲ STALL 93 %/);
+    expect(model.banner[0]![0]!.tone).toBe('banner-warning');
+    const margins = text(model.margins.lines);
+    expect(margins).toContain('WARNING');
+    // Δn to the stall = n_stall − n; speed margin from the record (TAS over the stall speed at this n).
+    expect(margins).toContain(`Δn +${(slowSteep.n_stall - slowSteep.n_measured).toFixed(2)}`);
+    expect(margins).toContain(`V +${slowSteep.stall_speed_margin_pct!.toFixed(0)} %`);
+    expect(model.margins.tone).toBe('warning');
+  });
+
+  it('keeps the state readable without colour (NO_COLOR)', () => {
+    const model = buildScreenModel(screenInput({ record: slowSteep }), LAYOUT_80x24);
+    const mono = renderLines([...model.banner, ...model.margins.lines], { color: false });
+    expect(mono).not.toMatch(/-(fg|bg)\}/);
+    expect(mono).toContain('WARNING');
+    expect(mono).toContain('STALL');
+  });
+
+  it('computes Δn against the negative limits when n is negative', () => {
+    const neg = { ...turn45, n_measured: -0.5 };
+    expect(loadFactorMargin(neg, 'structure')).toBeCloseTo(-0.5 - AIRCRAFT.nLimitNeg, 12);
+    expect(loadFactorMargin(neg, 'stall')).toBeCloseTo(-0.5 - neg.n_stall_neg!, 12);
+  });
+
+  it('says NOT FLYING below half the stall speed, and WAITING before the first frame', () => {
+    const ground = steadyRecord({ tasMps: 2, altM: 0, bankDeg: 0 });
+    expect(ground.flying).toBe(false);
+    expect(text(buildScreenModel(screenInput({ record: ground }), LAYOUT_80x24).banner)).toContain('NOT FLYING');
+    expect(text(buildScreenModel(screenInput({ record: null, ageS: null }), LAYOUT_80x24).banner)).toContain('WAITING FOR DATA');
+  });
+
+  it('shows that the bell is muted and the replay paused', () => {
+    const model = buildScreenModel(
+      screenInput({ record: turn45, muted: true, isReplay: true, replay: { positionS: 3, lengthS: 9, speed: 1, paused: true } }),
+      LAYOUT_80x24,
+    );
+    expect(text(model.banner)).toContain('[PAUSED · bell muted]');
+  });
+});
+
+describe('stale data', () => {
+  it(`is stale after ${STALE_AFTER_S} s without a frame, not before`, () => {
+    expect(isStale({ record: turn45, ageS: 0.9, replay: null, link: link() })).toBe(false);
+    expect(isStale({ record: turn45, ageS: 1.2, replay: null, link: link() })).toBe(true);
+  });
+
+  it('is stale when the link says stale or lost, whatever the age', () => {
+    expect(isStale({ record: turn45, ageS: 0.1, replay: null, link: link({ state: 'lost' }) })).toBe(true);
+    expect(isStale({ record: turn45, ageS: 0.1, replay: null, link: link({ state: 'stale' }) })).toBe(true);
+  });
+
+  it('is not stale while a replay is paused on purpose, and the link says PAUSED', () => {
+    const input = screenInput({ record: turn45, ageS: 30, isReplay: true, link: link({ state: 'stale' }), replay: { positionS: 3, lengthS: 9, speed: 1, paused: true } });
+    expect(isStale(input)).toBe(false);
+    expect(lineText(buildScreenModel(input, LAYOUT_80x24).link.lines[0]!)).toMatch(/^PAUSED /);
+  });
+
+  it('marks the banner, the readouts and every margin STALE', () => {
+    const model = buildScreenModel(screenInput({ record: slowSteep, ageS: 3.4 }), LAYOUT_120x40);
+    expect(model.stale).toBe(true);
+    expect(text(model.banner)).toMatch(/STALE DATA — no frame for 3\.4 s · last: WARNING/);
+    expect(model.banner[0]![0]!.tone).toBe('banner-stale');
+    expect(model.readouts.title).toBe('Readouts — STALE 3.4 s');
+    expect(text(model.readouts.lines)).toContain('STALE — last frame 3.4 s ago');
+    const words = model.margins.lines.filter((_, i) => i % 2 === 0).map((l) => lineText(l).trim().split(' ').pop());
+    expect(words).toEqual(['STALE', 'STALE', 'STALE']);
+    expect(model.readouts.lines.flat().filter((s) => /\d/.test(s.text) && s.tone !== 'dim').every((s) => s.tone === 'stale')).toBe(true);
+  });
+});
+
+describe('link, replay and event log', () => {
+  it('shows state, frames/s, rejected lines, age of the last frame and the recording', () => {
+    const model = buildScreenModel(
+      screenInput({ record: turn45, link: link({ recordingFile: '/data/flights/today.rec', recordingBytes: 1_234_567 }) }),
+      LAYOUT_120x40,
+    );
+    const lines = text(model.link.lines);
+    expect(lines).toContain('LIVE 20.0 fr/s rej 2 last 0.05 s');
+    expect(lines).toContain('rec /data/flights/today.rec 1.23 MB');
+    expect(lines).toContain('time not increasing');
+    expect(model.link.title).toBe('Link: file flight.ndjson');
+  });
+
+  it('shows a recording error as a warning', () => {
+    const model = buildScreenModel(screenInput({ record: turn45, link: link({ recordingFile: 'x.rec', recordingError: 'disk full' }) }), LAYOUT_80x24);
+    const line = model.link.lines[1]!;
+    expect(lineText(line)).toContain('REC ERROR disk full');
+    expect(line[0]!.tone).toBe('warning');
+  });
+
+  it('shows replay position, length, speed and pause', () => {
+    const model = buildScreenModel(
+      screenInput({ record: turn45, isReplay: true, replay: { positionS: 12, lengthS: 92, speed: 0.5, paused: false } }),
+      LAYOUT_80x24,
+    );
+    expect(text(model.link.lines)).toContain('replay 0:12.0/1:32.0 ×0.5 playing');
+  });
+
+  it('lists exceedances newest first with time, limit, level, duration and peak', () => {
+    const events = [
+      event(),
+      event({ limit: 'thrust', start_s: 30, duration_s: 4.9, peak_utilization: 1.5, speed_at_peak_mps: 20.8 }),
+      event({ level: 'warning', start_s: 31, open: true, peak_utilization: 0.93 }),
+    ];
+    const model = buildScreenModel(screenInput({ record: turn45, events }), LAYOUT_120x40);
+    const lines = model.events.lines.map(lineText).map((l) => l.trimEnd());
+    expect(lines[1]).toMatch(/^ 0:31\.0 STALL +WARNING +ON NOW +93 % 12\.4 m\/s$/);
+    expect(lines[2]).toMatch(/^ 0:30\.0 THRUST +CAUTION +4\.9 s +150 % 20\.8 m\/s$/);
+    expect(lines[3]).toMatch(/^ 0:12\.5 STALL +CAUTION +1\.5 s +86 % 12\.4 m\/s$/);
+    expect(model.events.title).toBe('Exceedances (3)');
+    expect(model.events.tone).toBe('warning');
+  });
+
+  it('shows an error from the caller at the top of the log', () => {
+    const model = buildScreenModel(screenInput({ record: turn45, error: 'recording stopped: disk full' }), LAYOUT_80x24);
+    expect(lineText(model.events.lines[0]!)).toContain('ERROR recording stopped: disk full');
+  });
+});
+
+describe('keys and layout fit', () => {
+  it('shows the transport keys only for a replay, and always ? q m u c', () => {
+    const live = lineText(buildScreenModel(screenInput(), LAYOUT_120x40).keys);
+    const replay = lineText(buildScreenModel(screenInput({ isReplay: true }), LAYOUT_120x40).keys);
+    for (const k of ['? keys', 'q quit', 'm mute', 'u units', 'c clear']) {
+      expect(live).toContain(k);
+      expect(replay).toContain(k);
+    }
+    expect(live).not.toContain('space pause');
+    expect(replay).toContain('space pause');
+    expect(replay).toContain('← → seek');
+  });
+
+  it('shows the advisory caution line', () => {
+    expect(lineText(buildScreenModel(screenInput(), LAYOUT_80x24).caution)).toMatch(/^Advisory only.*approved limits prevail\./);
+  });
+
+  for (const layout of [LAYOUT_80x24, LAYOUT_120x40]) {
+    it(`fits every line in its panel at ${layout.cols}×${layout.rows}`, () => {
+      const input = screenInput({
+        record: slowSteep,
+        ageS: 2,
+        isReplay: true,
+        replay: { positionS: 3725, lengthS: 7200, speed: 0.25, paused: false },
+        events: Array.from({ length: 20 }, (_, i) => event({ start_s: i * 10 })),
+        link: link({ recordingFile: '/a/very/long/path/to/some/flight/recording/file-name.rec', recordingBytes: 9e9 }),
+        error: 'x'.repeat(300),
+      });
+      const model: ScreenModel = buildScreenModel(input, layout);
+      const check = (lines: Line[], width: number, height: number): void => {
+        expect(lines.length).toBeLessThanOrEqual(height);
+        for (const l of lines) expect(Array.from(lineText(l)).length).toBeLessThanOrEqual(width);
+      };
+      check(model.margins.lines, innerSize(layout.margins).width, innerSize(layout.margins).height);
+      check(model.readouts.lines, innerSize(layout.readouts).width, innerSize(layout.readouts).height);
+      check(model.link.lines, innerSize(layout.link).width, innerSize(layout.link).height);
+      check(model.events.lines, innerSize(layout.events).width, innerSize(layout.events).height);
+      check(model.help, innerSize(layout.help).width, innerSize(layout.help).height);
+      check(model.banner, layout.cols, layout.banner.height);
+      check([model.keys, model.caution], layout.cols, 2);
+      for (const [title, rect] of [[model.margins.title, layout.margins], [model.link.title, layout.link], [model.plotTitle, layout.plot]] as const) {
+        expect(Array.from(title).length).toBeLessThanOrEqual(rect.width - 4);
+      }
+    });
+  }
+
+  it('asks for a bigger terminal below 80×24', () => {
+    const model = buildScreenModel(screenInput(), { ...LAYOUT_80x24, ...{ tooSmall: true, cols: 70, rows: 20 } });
+    expect(text(model.tooSmall!)).toContain('needs at least 80×24; this terminal is 70×20');
+  });
+});
