@@ -110,4 +110,37 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     expect(replay.stdout).toBe(run.stdout);
     expect(replay.stderr.split('\n').filter((l) => l.startsWith('turnmargin: rejected')).map((l) => l.replace(/^.*?: .*?: /, ''))).toHaveLength(3);
   });
+
+  it('SIGINT during a real-time replay ends cleanly with the summary and exit 0', async () => {
+    const path = join(dir, 'long.ndjson');
+    writeFileSync(path, frameLines(2000, 0, 0.05).join('\n')); // 100 s at speed 1
+    const replay = startCli(['replay', path, '--aircraft', AIRFRAME, '--no-ui']);
+    await expect.poll(() => jsonLines(replay.out()).length, { timeout: 10_000 }).toBeGreaterThan(2);
+    replay.child.kill('SIGINT');
+    const r = await replay.done;
+    expect(r.code).toBe(0);
+    expect(r.stderr).toMatch(/link summary — file .*long\.ndjson: live/);
+    expect(jsonLines(r.stdout).length).toBeLessThan(2000);
+  });
+
+  it('reports a recording write error (disk full) and keeps monitoring', async () => {
+    if (!existsSync('/dev/full')) return; // Linux device whose writes fail with ENOSPC
+    const server = await startFrameServer(0);
+    const watch = startCli(['watch', '--ws', `ws://127.0.0.1:${server.port}`, '--aircraft', AIRFRAME, '--record', '/dev/full', '--force', '--no-ui']);
+    let run: Run;
+    try {
+      await server.waitFor(/^connected/);
+      server.send('send 0 50');
+      await expect.poll(() => watch.err(), { timeout: 10_000 }).toContain('recording write failed: disk full; the monitor keeps running');
+      server.send('send 50 50');
+      await expect.poll(() => jsonLines(watch.out()).length, { timeout: 10_000 }).toBe(100);
+      watch.child.kill('SIGINT');
+      run = await watch.done;
+    } finally {
+      watch.child.kill('SIGKILL');
+      await server.kill();
+    }
+    expect(run.code).toBe(0);
+    expect(run.stderr).toMatch(/recording \/dev\/full: \d+ bytes — recording write failed: disk full/);
+  });
 });
