@@ -149,6 +149,15 @@ describe('turnmargin simulate', () => {
     expect(readFileSync(out, 'utf8')).not.toBe('keep me\n');
   });
 
+  it('refuses two outputs at once, and a --serial path that is not a device', async () => {
+    const two = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--out', join(dir, 'x.ndjson'), '--pty']);
+    expect(two.code).toBe(2);
+    expect(two.stderr).toMatch(/give one output at most \(got --out and --pty\)/);
+    const notDevice = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--serial', shortPlan, '--quiet']);
+    expect(notDevice.code).toBe(2);
+    expect(notDevice.stderr).toMatch(/not a serial device or pseudo-terminal/);
+  });
+
   it('names the bad key of a plan and exits 2', async () => {
     const bad = writePlan('bad.json', { start: { alt_m: 100, tas_mps: 18 }, segments: [{ type: 'turn', bank_deg: 120, duration_s: 5 }] });
     const r = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', bad]);
@@ -188,6 +197,46 @@ describe('turnmargin simulate', () => {
     expect(closeCode).toBe(1000);
     expect(await sim.exit).toBe(0);
     expect(received).toEqual(readFileSync(file, 'utf8').trim().split('\n'));
+  });
+
+  it('streams live frames to an existing serial line (--serial PATH): the far end receives the whole flight', async () => {
+    const file = join(dir, 'serial-ref.ndjson');
+    expect((await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--out', file, '--quiet'])).code).toBe(0);
+    const expected = readFileSync(file, 'utf8').trim().split('\n');
+    // The far end of the line: a python3 pseudo-terminal pair whose master side is copied to stdout.
+    const far = spawn('python3', ['-c', [
+      'import os, pty, sys, tty',
+      'm, s = pty.openpty()',
+      'tty.setraw(s)',
+      'print(os.ttyname(s), flush=True)',
+      'while True:',
+      '    d = os.read(m, 65536)',
+      '    sys.stdout.buffer.write(d)',
+      '    sys.stdout.flush()',
+    ].join('\n')]);
+    try {
+      const received: string[] = [];
+      let resolveAll!: () => void;
+      const all = new Promise<void>((resolve) => (resolveAll = resolve));
+      let path: string | undefined;
+      let resolvePath!: (p: string) => void;
+      const pathKnown = new Promise<string>((resolve) => (resolvePath = resolve));
+      createInterface({ input: far.stdout }).on('line', (l) => {
+        if (path === undefined) {
+          path = l.trim();
+          resolvePath(path);
+          return;
+        }
+        received.push(l.replace(/\r$/, ''));
+        if (received.length === expected.length) resolveAll();
+      });
+      const r = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--serial', await pathKnown, '--speed', '20', '--quiet']);
+      expect(r.code, r.stderr).toBe(0);
+      await all;
+      expect(received).toEqual(expected);
+    } finally {
+      far.kill('SIGKILL');
+    }
   });
 
   it('streams live frames on a pseudo-terminal a serial reader can open', async () => {
