@@ -173,8 +173,8 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
     out.push(`<line id="vne" x1="${num(sx(aircraft.vneMps))}" y1="${PLOT.top}" x2="${num(sx(aircraft.vneMps))}" y2="${PLOT.bottom}" stroke="#7a1f7a" stroke-width="1.5" stroke-dasharray="6 3 1 3"/>`);
   }
   out.push('</g>');
-  out.push(`<text x="${PLOT.right - 6}" y="${num(sy(aircraft.nLimitPos) - 6)}" text-anchor="end" font-size="12">n limit +${num(aircraft.nLimitPos)}</text>`);
-  out.push(`<text x="${PLOT.right - 6}" y="${num(sy(aircraft.nLimitNeg) + 15)}" text-anchor="end" font-size="12">n limit ${num(aircraft.nLimitNeg)}</text>`);
+  out.push(`<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitPos) - 6)}" font-size="12">n limit +${num(aircraft.nLimitPos)}</text>`);
+  out.push(`<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitNeg) + 15)}" font-size="12">n limit ${num(aircraft.nLimitNeg)}</text>`);
   if (aircraft.vneMps !== undefined) {
     out.push(`<text x="${num(sx(aircraft.vneMps) - 4)}" y="${PLOT.top + 14}" text-anchor="end" font-size="12" fill="#7a1f7a">Vne</text>`);
   }
