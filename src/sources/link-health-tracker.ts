@@ -20,7 +20,7 @@ export function reasonKind(reason: string): string {
 
 export interface LinkHealthTracker {
   status(s: SourceStatus): void;
-  /** A line arrived (before judging). */
+  /** A line arrived (before judging): counts its bytes. Blank lines count as bytes, not as lines. */
   line(byteCount: number, atMs: number): void;
   accepted(tS: number, atMs: number, newSegment: boolean): void;
   rejected(reason: string): void;
@@ -31,7 +31,6 @@ export interface LinkHealthTracker {
 export function createLinkHealthTracker(source: string, startMs: number): LinkHealthTracker {
   let state: LinkState = 'connecting';
   let opens = 0;
-  let lines = 0;
   let accepted = 0;
   let rejected = 0;
   const rejectedByReason: Record<string, number> = {};
@@ -80,7 +79,6 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
       }
     },
     line(byteCount, atMs) {
-      lines += 1;
       bucketBytes[bucket(atMs)]! += byteCount + 1;
     },
     accepted(tS, atMs, newSegment) {
@@ -117,7 +115,7 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
         state: shown,
         framesPerS: frames / windowS,
         bytesPerS: bytes / windowS,
-        lines,
+        lines: accepted + rejected,
         accepted,
         rejected,
         rejectedByReason: { ...rejectedByReason },
