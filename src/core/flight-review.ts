@@ -67,6 +67,8 @@ export interface FlightReview {
   firstTS: number | null;
   lastTS: number | null;
   events: LimitEvent[];
+  /** Events still on at the last frame (closed there by the end of the data). */
+  onAtEnd: LimitEvent[];
   peaks: Record<LimitName, Peak>;
   timeInLevelS: Record<Level, number>;
   conditions: FlightConditions;
@@ -185,6 +187,7 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
     },
     counts: () => ({ frames: accepted + rejected, accepted, rejected }),
     finish() {
+      const onAtEnd = events.events().filter((e) => e.open);
       const samples = conditionSamples.items();
       conditions.medianDensityKgM3 = median(samples.map((s) => s.densityKgM3));
       conditions.medianMassKg = median(samples.map((s) => s.massKg));
@@ -197,6 +200,7 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
         firstTS,
         lastTS: previous?.t_s ?? null,
         events: events.finish(),
+        onAtEnd,
         peaks,
         timeInLevelS,
         conditions,

@@ -204,7 +204,7 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
       limitWords(e.limit),
       e.level.toUpperCase(),
       fixed(e.start_s, 2),
-      fixed(e.end_s, 2),
+      `${fixed(e.end_s, 2)}${review.onAtEnd.includes(e) ? ' (end of data)' : ''}`,
       fixed(e.duration_s, 2),
       formatUtilization(e.peak_utilization),
       fixed(e.peak_t_s, 2),
