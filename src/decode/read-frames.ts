@@ -7,7 +7,7 @@ import { createReadStream, readFileSync, statSync } from 'node:fs';
 import { basename, extname } from 'node:path';
 import { InputError } from '../cli/errors.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
-import { csvRow } from './csv.js';
+import { csvRow, splitCsvLine } from './csv.js';
 import { createLineJudge, cutReason, isBlank, lineText, type DecodedLine } from './frame-decoder.js';
 import { parseFrameLine, validateFrameObject, type LineVerdict } from './frame-line.js';
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES } from './line-splitter.js';
@@ -101,8 +101,9 @@ async function* physicalLines(path: string, options: ReadFrameOptions): AsyncGen
 }
 
 /**
- * Read a telemetry file. The format comes from the first meaningful line: the recording header, a JSON object
- * (NDJSON), otherwise a CSV header (the extension .csv/.ndjson decides when present). Throws InputError when the
+ * Read a telemetry file. The format comes from the first meaningful line: the recording header, a CSV header
+ * (a line holding the delimiter that is not a JSON object), otherwise NDJSON; the extension .csv/.ndjson/.jsonl
+ * decides when present. Throws InputError when the
  * file or the mapping file cannot be read.
  */
 export async function* readFrameFile(path: string, options: ReadFrameOptions = {}): AsyncGenerator<FileLine> {
@@ -140,7 +141,8 @@ export async function* readFrameFile(path: string, options: ReadFrameOptions = {
         continue;
       }
       if (format === undefined && !text.startsWith('#')) {
-        format = text.trimStart().startsWith('{') ? 'ndjson' : 'csv';
+        // A CSV header holds the delimiter; anything else (JSON, or noise before the first frame) reads as NDJSON.
+        format = !text.trimStart().startsWith('{') && text.includes(mapping?.delimiter ?? ',') ? 'csv' : 'ndjson';
       }
       if (!text.startsWith('#')) first = false;
     }
@@ -173,7 +175,7 @@ export async function* readFrameFile(path: string, options: ReadFrameOptions = {
     } else if (format === 'csv') {
       if (text.startsWith('#')) continue;
       if (header === undefined) {
-        header = text.split(mapping?.delimiter ?? ',').map((c) => c.trim().replace(/^"(.*)"$/, '$1'));
+        header = splitCsvLine(text, mapping?.delimiter ?? ',');
         continue;
       }
       const row = csvRow(header, text, mapping?.delimiter ?? ',');

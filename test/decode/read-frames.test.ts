@@ -32,6 +32,12 @@ describe('readFrameFile', () => {
     const path = join(dir, 'noext');
     writeFileSync(path, frameLine({ t_s: 2 }) + '\n');
     expect(brief(await readAll(path))).toEqual(['1:ok 2']);
+    const noisy = join(dir, 'noisy.log');
+    writeFileSync(noisy, 'radio boot v2\n' + frameLine({ t_s: 3 }) + '\n');
+    expect(brief(await readAll(noisy))).toEqual(['1:invalid JSON', '2:ok 3']);
+    const csv = join(dir, 'flight.log');
+    writeFileSync(csv, '"t_s",tas_mps,alt_m,nz\n0,20,100,1\n');
+    expect(brief(await readAll(csv))).toEqual(['2:ok 0']);
   });
 
   it('reads CSV with comment lines, empty cells and bad cells', async () => {
