@@ -1,5 +1,5 @@
 import { spawn } from 'node:child_process';
-import { mkdtempSync, readdirSync, readFileSync, rmSync } from 'node:fs';
+import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { createInterface } from 'node:readline';
@@ -70,6 +70,15 @@ describe('turnmargin serve', () => {
     const r = await runCli(['serve', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--listen', '0.0.0.0:0']);
     expect(r.code).toBe(2);
     expect(r.stderr).toMatch(/0\.0\.0\.0 is not a loopback address; give --allow-remote/);
+    expect(r.stdout).toBe('');
+  });
+
+  it('refuses a --record path that is not a directory, before listening', async () => {
+    const file = join(dir, 'plain-file');
+    writeFileSync(file, '');
+    const r = await runCli(['serve', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--listen', '127.0.0.1:0', '--record', file]);
+    expect(r.code).toBe(2);
+    expect(r.stderr).toContain(`--record ${file}: cannot use it for recordings (not a directory)`);
     expect(r.stdout).toBe('');
   });
 

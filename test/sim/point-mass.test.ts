@@ -176,6 +176,16 @@ describe('limits of the model', () => {
     expect(() => [...simulateFlight(exampleAirframe(), p, { rateHz: 10 })]).toThrow(/segment "big pull"/);
   });
 
+  it('flies a table thrust model and holds its end values outside the table instead of losing the thrust', () => {
+    // A table from 10 to 20 m/s; the flight starts at 22 m/s at full throttle, beyond the table.
+    const table = exampleAirframe({ thrust: { model: 'table', points: [[10, 9], [20, 5]] } });
+    const p = plan({ ...quiet, start: { alt_m: 0, tas_mps: 22 }, segments: [{ type: 'straight', throttle: 1, duration_s: 0.5 }] });
+    const first = [...simulateFlight(table, p, { rateHz: 10 })][0]!;
+    expect(first.thrustN).toBeCloseTo(5, 5); // the 20 m/s end value (σ = 1 at sea level)
+    const inside = plan({ ...quiet, start: { alt_m: 0, tas_mps: 15 }, segments: [{ type: 'straight', throttle: 1, duration_s: 0.1 }] });
+    expect([...simulateFlight(table, inside, { rateHz: 10 })][0]!.thrustN).toBeCloseTo(7, 5); // linear: (9 + 5)/2
+  });
+
   it('emits a frame at the start and every 1/rate s to the end of the plan, with exact times', () => {
     const samples = fly({ ...quiet, start: { alt_m: 0, tas_mps: 18, t_s: 100 }, segments: [{ type: 'straight', duration_s: 1.5 }, { type: 'turn', bank_deg: 10, duration_s: 1 }] }, 4);
     expect(samples.map((s) => s.tS)).toEqual([100, 100.25, 100.5, 100.75, 101, 101.25, 101.5, 101.75, 102, 102.25, 102.5]);

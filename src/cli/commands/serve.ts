@@ -1,5 +1,5 @@
 /** `turnmargin serve`: answer an autopilot on the bench with margin records over a websocket. */
-import { statSync } from 'node:fs';
+import { mkdirSync } from 'node:fs';
 import { startServeServer, DEFAULT_MAX_CLIENTS, type ServeServerOptions } from '../../serve/server.js';
 import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import type { MarginOptions } from '../../core/margins.js';
@@ -67,10 +67,11 @@ export async function run(args: ParsedArgs): Promise<number> {
   const recordDir = stringOption(args, 'record');
   if (recordDir !== undefined) {
     try {
-      if (!statSync(recordDir).isDirectory()) throw new InputError([`--record ${recordDir}: not a directory`]);
+      mkdirSync(recordDir, { recursive: true });
     } catch (err) {
-      if (err instanceof InputError) throw err;
-      // A missing directory is created by the server.
+      const code = (err as NodeJS.ErrnoException).code;
+      const why = code === 'EEXIST' || code === 'ENOTDIR' ? 'not a directory' : code === 'EACCES' ? 'permission denied' : (err as Error).message;
+      throw new InputError([`--record ${recordDir}: cannot use it for recordings (${why})`]);
     }
   }
 
