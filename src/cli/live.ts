@@ -114,6 +114,7 @@ export function createPipeline(options: PipelineOptions): Pipeline {
       if (!stopped) {
         stopped = true;
         await source.stop();
+        recorder?.writeStatus({ kind: 'ended', atMs: clock(), detail: 'monitor stopped' });
         recorder?.close();
       }
       return events.finish();

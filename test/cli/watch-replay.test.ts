@@ -143,4 +143,24 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     expect(run.code).toBe(0);
     expect(run.stderr).toMatch(/recording \/dev\/full: \d+ bytes — recording write failed: disk full/);
   });
+
+  it('SIGKILL loses at most the last second: lines received more than a second before the kill are in the recording', async () => {
+    const server = await startFrameServer(0);
+    const recordPath = join(dir, 'killed.tmrec');
+    const watch = startCli(['watch', '--ws', `ws://127.0.0.1:${server.port}`, '--aircraft', AIRFRAME, '--record', recordPath, '--no-ui']);
+    try {
+      await server.waitFor(/^connected/);
+      server.send('send 0 200');
+      await server.waitFor(/^sent 200/);
+      await expect.poll(() => jsonLines(watch.out()).length, { timeout: 10_000 }).toBe(200);
+      // Quiet for 1.5 s (the recorder flushes at least every second), then a hard kill: no chance to flush.
+      await new Promise((r) => setTimeout(r, 1500));
+      watch.child.kill('SIGKILL');
+      await watch.done;
+    } finally {
+      await server.kill();
+    }
+    const lines = readFileSync(recordPath).toString('utf8').split('\n').filter((l) => /^\d+\t/.test(l));
+    expect(lines).toHaveLength(200);
+  });
 });

@@ -69,7 +69,7 @@ describe('serial source on a real pseudo-terminal', () => {
     const noise = lines.filter((r) => r.kind === 'line' && r.bytes.includes(Buffer.from('NOISE')));
     expect(noise).toHaveLength(4);
     expect(noise[0]!.kind === 'line' && noise[0]!.bytes.equals(Buffer.from([0x00, 0xff, 0xfe, ...Buffer.from('NOISE'), 0x01]))).toBe(true);
-    expect(records.filter((r) => r.kind === 'link').map((r) => r.kind === 'link' && r.state)).toEqual(['open', 'lost', 'open']);
+    expect(records.filter((r) => r.kind === 'link').map((r) => r.kind === 'link' && r.state)).toEqual(['open', 'lost', 'open', 'ended']);
   });
 
   it('reports a port that does not exist as lost and keeps retrying without crashing', async () => {
