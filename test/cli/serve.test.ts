@@ -59,6 +59,19 @@ describe('turnmargin serve', () => {
     expect(readFileSync(join(recordDir, files[0]!), 'utf8')).toContain(`\t${line}\n`);
   });
 
+  it('reads the token from --token-file', async () => {
+    const tokenFile = join(dir, 'token.txt');
+    writeFileSync(tokenFile, 'from-file\n');
+    const server = await startServe(['--token-file', tokenFile]);
+    const url = server.first.replace('listening on ', '');
+    await expect(ask(`${url}/?token=wrong`, '{}')).rejects.toThrow('HTTP 401');
+    const { answer, ws } = await ask(`${url}/?token=from-file`, '{"t_s":0,"tas_mps":18,"alt_m":0,"nz":1}');
+    expect(answer['n_measured']).toBe(1);
+    ws.close();
+    server.child.kill('SIGTERM');
+    expect(await server.exit).toBe(0);
+  });
+
   it('ends cleanly on SIGINT with no client', async () => {
     const server = await startServe([]);
     expect(server.first).toMatch(/^listening on ws:\/\/127\.0\.0\.1:\d+$/);

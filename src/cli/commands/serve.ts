@@ -1,5 +1,5 @@
 /** `turnmargin serve`: answer an autopilot on the bench with margin records over a websocket. */
-import { mkdirSync } from 'node:fs';
+import { mkdirSync, readFileSync } from 'node:fs';
 import { startServeServer, DEFAULT_MAX_CLIENTS, type ServeServerOptions } from '../../serve/server.js';
 import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import type { MarginOptions } from '../../core/margins.js';
@@ -13,14 +13,15 @@ export const spec: CommandSpec = {
   name: 'serve',
   summary: 'answer an autopilot on the bench with margins over a websocket',
   usage:
-    'turnmargin serve --aircraft FILE [--listen HOST:PORT [--allow-remote]] [--thresholds FILE] [--token T]\n' +
-    '                        [--record DIR] [--smooth S] [--max-clients N]',
+    'turnmargin serve --aircraft FILE [--listen HOST:PORT [--allow-remote]] [--thresholds FILE]\n' +
+    '                        [--token T | --token-file FILE] [--record DIR] [--smooth S] [--max-clients N]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
     { name: 'listen', type: 'string', valueName: 'HOST:PORT', defaultText: DEFAULT_LISTEN, description: 'address to listen on (port 0: a free port, printed at start)' },
     { name: 'allow-remote', type: 'boolean', description: 'allow a non-loopback --listen address (reachable from the network; prints a warning)' },
     { name: 'thresholds', type: 'string', valueName: 'FILE', defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust", description: 'alert thresholds (JSON)' },
     { name: 'token', type: 'string', valueName: 'T', description: 'clients must present this token ("Authorization: Bearer T" header or ?token=T in the URL)' },
+    { name: 'token-file', type: 'string', valueName: 'FILE', description: 'read the token from the first line of a file (keeps it out of the process list)' },
     { name: 'record', type: 'string', valueName: 'DIR', description: 'keep every line each client sends, one recording file per connection (replay/review read them)' },
     { name: 'smooth', type: 'string', valueName: 'S', unit: 's', defaultText: '0.15', description: 'time constant of the load-factor low-pass filter (0 = off), per connection' },
     { name: 'max-clients', type: 'string', valueName: 'N', defaultText: String(DEFAULT_MAX_CLIENTS), description: 'most clients at once (more are refused with HTTP 503)' },
@@ -41,6 +42,23 @@ export const spec: CommandSpec = {
   ],
 };
 
+function readToken(args: ParsedArgs): string | undefined {
+  const given = stringOption(args, 'token');
+  const file = stringOption(args, 'token-file');
+  if (given !== undefined && file !== undefined) throw new UsageError('give --token or --token-file, not both');
+  let token = given;
+  if (file !== undefined) {
+    try {
+      token = (readFileSync(file, 'utf8').split(/\r?\n/)[0] ?? '').trim();
+    } catch (err) {
+      throw new InputError([`--token-file ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message})`]);
+    }
+    if (token === '') throw new InputError([`--token-file ${file}: the first line is empty`]);
+  }
+  if (token !== undefined && token.length === 0) throw new UsageError('--token must not be empty');
+  return token;
+}
+
 export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
   const aircraft = loadAircraftFile(requireOption(args, 'aircraft'));
@@ -53,8 +71,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (!parsed.ok) throw new UsageError(`--listen ${parsed.reason}`);
   const { host, port } = parsed.value;
   const allowRemote = args.values['allow-remote'] === true;
-  const token = stringOption(args, 'token');
-  if (token !== undefined && token.length === 0) throw new UsageError('--token must not be empty');
+  const token = readToken(args);
   if (!isLoopbackHost(host)) {
     if (!allowRemote) {
       throw new UsageError(`--listen ${host} is not a loopback address; give --allow-remote to listen on the network`);

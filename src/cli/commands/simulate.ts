@@ -24,8 +24,8 @@ export const spec: CommandSpec = {
     '                           [--out FILE [--force] | --serial PATH [--baud N] | --pty | --ws-listen HOST:PORT]\n' +
     '                           [--speed X] [--loop] [--quiet]',
   options: [
-    { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON)' },
-    { name: 'plan', type: 'string', valueName: 'FILE', description: 'flight plan (JSON): start state and segments (see below)' },
+    { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
+    { name: 'plan', type: 'string', valueName: 'FILE', description: 'flight plan (JSON): start state and segments (see below); required' },
     { name: 'rate', type: 'string', valueName: 'HZ', unit: 'Hz', defaultText: '10', description: 'frame rate' },
     { name: 'seed', type: 'string', valueName: 'N', defaultText: '1', description: 'seed of the measurement noise (same seed, same frames)' },
     { name: 'out', type: 'string', valueName: 'FILE', defaultText: 'stdout', description: 'write NDJSON frames to a file, as fast as possible' },
