@@ -71,7 +71,8 @@ export function createFrameWriter(aircraft: Aircraft, plan: FlightPlan, options:
     };
     if (plan.isaDeviationK !== undefined) frame['oat_c'] = round(s.temperatureK - KELVIN_OFFSET, 2);
     if (plan.massKg !== undefined) frame['mass_kg'] = plan.massKg;
-    frame['heading_deg'] = round(s.headingDeg, 1);
+    const heading = round(s.headingDeg, 1);
+    frame['heading_deg'] = heading >= 360 ? 0 : heading;
     frame['segment'] = plan.segments[s.segmentIndex]!.label;
     return frame;
   };

@@ -364,6 +364,8 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (chosen.length > 1) throw new UsageError(`give one output at most (got ${chosen.join(' and ')})`);
   const live = serial !== undefined || usePty || wsListen !== undefined;
   if (loop && !live) throw new UsageError('--loop applies to live streaming only (--serial, --pty or --ws-listen)');
+  if (args.values['speed'] !== undefined && !live) throw new UsageError('--speed applies to live streaming only (--serial, --pty or --ws-listen)');
+  if (args.values['baud'] !== undefined && serial === undefined) throw new UsageError('--baud applies to --serial only');
   if (args.values['force'] && out === undefined) throw new UsageError('--force applies to --out only');
   if (args.values['allow-remote'] && wsListen === undefined) throw new UsageError('--allow-remote applies to --ws-listen only');
   if (out !== undefined && existsSync(out) && !args.values['force']) {
