@@ -1,0 +1,55 @@
+/** Measuring helpers for the benchmarks: child processes with wall time and peak RSS, percentiles. */
+import { spawn } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
+
+export const REPO_ROOT = fileURLToPath(new URL('../../', import.meta.url));
+export const CLI = fileURLToPath(new URL('../src/cli/main.js', import.meta.url));
+export const RSS_PROBE = fileURLToPath(new URL('./rss-probe.js', import.meta.url));
+
+export interface ChildRun {
+  wallMs: number;
+  maxRssMb: number | null;
+  code: number | null;
+  stdoutBytes: number;
+  stderr: string;
+}
+
+/** Run `node [--import rss-probe] script args…`, discarding stdout, and measure it. */
+export function runNode(script: string, args: string[], options: { probe?: boolean } = {}): Promise<ChildRun> {
+  return new Promise((resolve, reject) => {
+    const nodeArgs = [...(options.probe === false ? [] : ['--import', RSS_PROBE]), script, ...args];
+    const start = process.hrtime.bigint();
+    const child = spawn(process.execPath, nodeArgs, { cwd: REPO_ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
+    let stdoutBytes = 0;
+    let stderr = '';
+    child.stdout.on('data', (d: Buffer) => (stdoutBytes += d.length));
+    child.stderr.setEncoding('utf8').on('data', (d: string) => {
+      stderr += d;
+      if (stderr.length > 100_000) stderr = stderr.slice(-50_000);
+    });
+    child.on('error', reject);
+    child.on('close', (code) => {
+      const wallMs = Number(process.hrtime.bigint() - start) / 1e6;
+      const m = /@@maxrss_kib=(\d+)/.exec(stderr);
+      resolve({ wallMs, maxRssMb: m ? Number(m[1]) / 1024 : null, code, stdoutBytes, stderr: stderr.replace(/\n?@@maxrss_kib=\d+\n/, '') });
+    });
+  });
+}
+
+export function percentile(sorted: readonly number[], p: number): number {
+  if (sorted.length === 0) return NaN;
+  const i = Math.min(sorted.length - 1, Math.max(0, Math.ceil((p / 100) * sorted.length) - 1));
+  return sorted[i]!;
+}
+
+export function median(values: readonly number[]): number {
+  return percentile([...values].sort((a, b) => a - b), 50);
+}
+
+export function formatTable(rows: ReadonlyArray<readonly [string, string, string, string]>): string {
+  const header = ['measure', 'result', 'target', 'verdict'] as const;
+  const all = [header, ...rows];
+  const widths = header.map((_, i) => Math.max(...all.map((r) => r[i]!.length)));
+  const line = (r: readonly string[]) => r.map((c, i) => c.padEnd(widths[i]!)).join('  ').trimEnd();
+  return [line(header), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)].join('\n');
+}
