@@ -145,6 +145,18 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     expect([...a.answers, ...b.answers].every((x) => !('error' in x))).toBe(true);
   });
 
+  it('serves ten clients at once, each with its own answers', async () => {
+    const server = await start();
+    const clients = Array.from({ length: 10 }, () => new Client(server.url));
+    await Promise.all(clients.map((c) => c.opened));
+    const linesOf = (k: number) => Array.from({ length: 20 }, (_, i) => frameLine(i * 0.05, { nz: 1 + 0.1 * k + 0.01 * i, tas_mps: 15 + k }));
+    // All clients send at once, one frame per message.
+    clients.forEach((c, k) => linesOf(k).forEach((l) => c.ws.send(l)));
+    await Promise.all(clients.map((c) => c.until(20)));
+    clients.forEach((c, k) => expect(c.answers).toEqual(coreAnswers(linesOf(k))));
+    expect(server.clientCount()).toBe(10);
+  });
+
   it('requires the token when one is set: header or query, else HTTP 401', async () => {
     const server = await start({ token: 's3cret' });
     await expect(new Client(server.url).opened).rejects.toThrow('HTTP 401');
