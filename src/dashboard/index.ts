@@ -318,15 +318,17 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
 
   return {
     pushRecord(rec) {
-      if (record !== null && newWarnings(record.alerts, rec.alerts).length > 0) bellPending = true;
-      else if (record === null && rec.alerts.some((a) => a.level === 'warning')) bellPending = true;
+      // Only records with a warning can start one (keeps the 1 kHz path cheap).
+      if (rec.level === 'warning' && newWarnings(record?.alerts ?? [], rec.alerts).length > 0) bellPending = true;
       if (record !== null && rec.t_s < record.t_s) drawn = null;
       record = rec;
       lastRecordAtMs = performance.now();
       trail.push({ tS: rec.t_s, tasMps: rec.tas_mps, n: rec.n_measured });
     },
     pushEvent(ev) {
-      eventsByKey.set(`${ev.limit}:${ev.level}:${ev.start_s}`, { ...ev });
+      // Kept by reference: the event tracker updates an open event in place (end, duration, peak), so the log
+      // shows it growing without a push per frame.
+      eventsByKey.set(`${ev.limit}:${ev.level}:${ev.start_s}`, ev);
       if (eventsByKey.size > MAX_EVENTS) eventsByKey.delete(eventsByKey.keys().next().value!);
     },
     setLink(h) {

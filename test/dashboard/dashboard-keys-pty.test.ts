@@ -3,7 +3,7 @@
  * terminal emulator (see replayFixture in pty-screen.ts for the flight).
  */
 import { afterEach, describe, expect, it } from 'vitest';
-import { POLL, ROOT, brailleCount, colourCodes, quitAndCheckRestored, replayFixture, runInPty, type PtyScreen } from './pty-screen.js';
+import { POLL, bellCount, ROOT, brailleCount, colourCodes, quitAndCheckRestored, replayFixture, runInPty, type PtyScreen } from './pty-screen.js';
 
 let running: PtyScreen | undefined;
 afterEach(() => running?.kill());
@@ -22,6 +22,11 @@ describe('the dashboard keys and terminal handling', () => {
     screen.write('\x1b');
     await expect.poll(() => screen.text(), POLL).not.toMatch(/All keys/);
 
+    screen.write('+');
+    await expect.poll(() => screen.text(), POLL).toMatch(/replay \S+ ×8 /);
+    screen.write('-');
+    screen.write('-');
+    await expect.poll(() => screen.text(), POLL).toMatch(/replay \S+ ×2 /);
     screen.write(' ');
     await expect.poll(() => screen.text(), POLL).toMatch(/replay .* PAUSED/);
 
@@ -37,10 +42,14 @@ describe('the dashboard keys and terminal handling', () => {
     await quitAndCheckRestored(screen);
   });
 
-  it('uses no colour under NO_COLOR and still says WARNING and STALE in words', async () => {
+  it('uses no colour under NO_COLOR and still says WARNING and STALE in words; m mutes the bell', async () => {
     const screen = (running = replayFixture(80, 24, { NO_COLOR: '1' }));
+    await expect.poll(() => screen.text(), POLL).toMatch(/NORMAL/);
+    screen.write('m');
+    await expect.poll(() => screen.text(), POLL).toMatch(/bell muted/);
     await expect.poll(() => screen.text(), POLL).toMatch(/STALE DATA/);
     expect(screen.raw()).toContain('WARNING');
+    expect(bellCount(screen.raw())).toBe(0);
     expect(colourCodes(screen.raw())).toEqual([]);
     await quitAndCheckRestored(screen);
   });

@@ -3,7 +3,7 @@
  * a headless terminal emulator (see replayFixture in pty-screen.ts for the flight).
  */
 import { afterEach, describe, expect, it } from 'vitest';
-import { POLL, brailleCount, colourCodes, quitAndCheckRestored, replayFixture, type PtyScreen } from './pty-screen.js';
+import { POLL, bellCount, brailleCount, colourCodes, quitAndCheckRestored, replayFixture, type PtyScreen } from './pty-screen.js';
 
 let running: PtyScreen | undefined;
 afterEach(() => running?.kill());
@@ -39,6 +39,7 @@ describe.each([
     expect(stale).toMatch(/Exceedances \(2\)/);
     expect(stale).toMatch(/ENDED/);
     expect(colourCodes(screen.raw()).length).toBeGreaterThan(0); // in colour unless NO_COLOR (see the keys test)
+    expect(bellCount(screen.raw())).toBe(1); // the bell rang once, for the new warning
 
     await quitAndCheckRestored(screen);
   });

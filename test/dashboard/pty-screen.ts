@@ -111,3 +111,8 @@ export async function quitAndCheckRestored(screen: PtyScreen): Promise<void> {
   expect(screen.raw()).toContain('\x1b[?1049l'); // left the alternate screen
   expect(screen.raw()).toMatch(/\x1b\[\?25h/); // cursor shown again
 }
+
+/** Terminal bells rung (BEL outside of OSC sequences such as the window title, which BEL also terminates). */
+export function bellCount(raw: string): number {
+  return raw.replace(/\x1b\][^\x07\x1b]*(?:\x07|\x1b\\)/g, '').split('\x07').length - 1;
+}
