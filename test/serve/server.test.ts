@@ -4,6 +4,7 @@ import { join } from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { WebSocket } from 'ws';
 import { createMarginTracker } from '../../src/core/margins.js';
+import { resolveThresholds } from '../../src/core/thresholds.js';
 import { G0_MPS2 } from '../../src/core/units.js';
 import { parseFrameLine } from '../../src/decode/frame-line.js';
 import { readFrameFile } from '../../src/decode/read-frames.js';
@@ -143,6 +144,21 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     expect(b.answers).toEqual(coreAnswers(linesB));
     // B's earlier clock did not count as "time not increasing" for A, nor the other way round.
     expect([...a.answers, ...b.answers].every((x) => !('error' in x))).toBe(true);
+  });
+
+  it('applies the thresholds and smoothing it was started with', async () => {
+    const thresholds = resolveThresholds({ stall_caution: 0.2, stall_warning: 0.95 });
+    const server = await start({ margins: { thresholds, smoothTauS: 0 } });
+    const client = new Client(server.url);
+    await client.opened;
+    client.ws.send([frameLine(0, { nz: 1 }), frameLine(0.1, { nz: 2 })].join('\n'));
+    const [first, second] = await client.until(2);
+    // Without smoothing n_measured is the raw nz of each frame.
+    expect(first!['n_measured']).toBe(1);
+    expect(second!['n_measured']).toBe(2);
+    // At 18 m/s, 100 m the stall utilization 1/n_stall ≈ 0.24 is over the 0.2 caution set here (default 0.80).
+    expect(first!['level']).toBe('caution');
+    expect(first!['alerts']).toEqual([{ limit: 'stall', level: 'caution' }]);
   });
 
   it('serves ten clients at once, each with its own answers', async () => {
