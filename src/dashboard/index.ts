@@ -60,16 +60,17 @@ interface BrailleSurface {
   content: Buffer;
   colors: unknown[];
   chars: unknown[];
-  color: string;
-  fontFg: string;
-  fontBg: string;
+  color: string | number;
+  fontFg: string | number;
+  fontBg: string | number;
   set(x: number, y: number): void;
   writeText(text: string, x: number, y: number): void;
 }
 
-const CANVAS_COLOR: Record<Tone, string> = {
+/** Canvas colours: names of the 8 basic colours, or a 256-colour index (blessed maps it down on smaller terminals). */
+const CANVAS_COLOR: Record<Tone, string | number> = {
   plain: 'white',
-  dim: 'blue',
+  dim: 244,
   heading: 'white',
   ok: 'green',
   caution: 'yellow',
@@ -191,7 +192,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       cols: surface.width / 2,
       rows: surface.height / 4,
     });
-    const paint = (tone: Tone): string => (color ? CANVAS_COLOR[tone] : 'normal');
+    const paint = (tone: Tone): string | number => (color ? CANVAS_COLOR[tone] : 'normal');
     for (const line of model.polylines) {
       surface.color = paint(line.tone);
       for (const [x, y] of rasterizePolyline(line.points, line.dotEvery)) surface.set(x, y);

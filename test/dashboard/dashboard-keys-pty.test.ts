@@ -51,7 +51,7 @@ describe('the dashboard keys and terminal handling', () => {
     expect(screen.raw()).toContain('WARNING');
     expect(bellCount(screen.raw())).toBe(0);
     expect(colourCodes(screen.raw())).toEqual([]);
-    await quitAndCheckRestored(screen);
+    await quitAndCheckRestored(screen, 'ctrl-c');
   });
 
   it('restores the terminal after an exception and prints the error after it', async () => {

@@ -100,9 +100,9 @@ export function replayFixture(cols: number, rows: number, env: Record<string, st
   return runInPty(process.execPath, args, { cols, rows, env, cwd: ROOT });
 }
 
-/** Press q: the program exits 0 and leaves the terminal as it found it. */
-export async function quitAndCheckRestored(screen: PtyScreen): Promise<void> {
-  screen.write('q');
+/** Press q (or Ctrl-C): the program exits 0 and leaves the terminal as it found it. */
+export async function quitAndCheckRestored(screen: PtyScreen, key: 'q' | 'ctrl-c' = 'q'): Promise<void> {
+  screen.write(key === 'q' ? 'q' : '\x03');
   const { exitCode } = await screen.exited;
   expect(exitCode).toBe(0);
   // Back on the normal screen, where the link summary is printed after the dashboard has gone.
