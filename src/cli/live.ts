@@ -214,17 +214,6 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     ...(options.recorder ? { recorder: options.recorder } : {}),
   });
 
-  const onOutputError = (err: NodeJS.ErrnoException): void => {
-    // The reader went away (`| head`): stop cleanly rather than crash.
-    if (err.code === 'EPIPE') outputBroken = true;
-    finish();
-  };
-  stdout.on('error', onOutputError);
-  const onSignal = (): void => finish();
-  process.on('SIGINT', onSignal);
-  process.on('SIGTERM', onSignal);
-  process.on('SIGHUP', onSignal);
-
   let refresh: NodeJS.Timeout | undefined;
   let lastRecordingError: string | null = null;
   if (dashboardModule) {
@@ -270,6 +259,18 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     }, UI_REFRESH_MS);
     refresh.unref();
   }
+
+  // Handlers go on once the dashboard (if any) is up, and come off in the finally below.
+  const onOutputError = (err: NodeJS.ErrnoException): void => {
+    // The reader went away (`| head`): stop cleanly rather than crash.
+    if (err.code === 'EPIPE') outputBroken = true;
+    finish();
+  };
+  stdout.on('error', onOutputError);
+  const onSignal = (): void => finish();
+  process.on('SIGINT', onSignal);
+  process.on('SIGTERM', onSignal);
+  process.on('SIGHUP', onSignal);
 
   const exitOnEnd = options.exitOnEnd ?? noUi;
   void pipeline.ended.then(() => {

@@ -10,7 +10,7 @@ export interface ConnectionEvents {
   opened(detail?: string): void;
   /** Bytes received. `messageEnd`: a message-based link finished a message (see flushCompleteObject). */
   data(chunk: Buffer, messageEnd?: boolean): void;
-  /** The connection ended or could not be made; called at most once per connection is enough (extra calls are ignored). */
+  /** The connection ended or could not be made. Only the first call per connection counts; later ones are ignored. */
   dropped(detail: string): void;
 }
 

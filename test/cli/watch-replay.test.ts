@@ -80,7 +80,7 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     const watch = startCli(['watch', '--ws', `ws://127.0.0.1:${server.port}`, '--aircraft', AIRFRAME, '--record', recordPath, '--no-ui']);
     let run: Run;
     try {
-      await server.waitFor(/^connected/);
+      await server.waitFor(/^connected/, 20_000);
       server.send('send 0 100');
       await server.waitFor(/^sent 100/);
       server.send('noise');
@@ -129,7 +129,7 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     const watch = startCli(['watch', '--ws', `ws://127.0.0.1:${server.port}`, '--aircraft', AIRFRAME, '--record', '/dev/full', '--force', '--no-ui']);
     let run: Run;
     try {
-      await server.waitFor(/^connected/);
+      await server.waitFor(/^connected/, 20_000);
       server.send('send 0 50');
       await expect.poll(() => watch.err(), { timeout: 10_000 }).toContain('recording write failed: disk full; the monitor keeps running');
       server.send('send 50 50');
@@ -149,7 +149,7 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     const recordPath = join(dir, 'killed.tmrec');
     const watch = startCli(['watch', '--ws', `ws://127.0.0.1:${server.port}`, '--aircraft', AIRFRAME, '--record', recordPath, '--no-ui']);
     try {
-      await server.waitFor(/^connected/);
+      await server.waitFor(/^connected/, 20_000);
       server.send('send 0 200');
       await server.waitFor(/^sent 200/);
       await expect.poll(() => jsonLines(watch.out()).length, { timeout: 10_000 }).toBe(200);
