@@ -19,7 +19,7 @@ import { systemClock, type Clock, type ReceivedLine, type ReplayTransport, type 
 
 export interface PipelineSinks {
   record(rec: MarginRecord, line: DecodedLine): void;
-  /** `where`: "line N" for a file, "line N at <receive time>" for a live link. */
+  /** `where`: "line N" for a file, "line N (received <time>)" for a recording, "line N at <receive time>" live. */
   rejected(line: DecodedLine, where: string, reason: string): void;
   eventStarted?(ev: LimitEvent): void;
   eventEnded?(ev: LimitEvent): void;
@@ -74,7 +74,12 @@ export function createPipeline(options: PipelineOptions): Pipeline {
     const verdict = decoded.verdict;
     if (!verdict.ok) {
       health.rejected(verdict.reason);
-      const where = line.decoded ? `line ${decoded.lineNo}` : `line ${decoded.lineNo} at ${isoTime(line.receivedAtMs)}`;
+      const recordedAtMs = (decoded as FileLine).receivedAtMs; // a line replayed from a recording keeps its receive time
+      const where = !line.decoded
+        ? `line ${decoded.lineNo} at ${isoTime(line.receivedAtMs)}`
+        : recordedAtMs !== undefined
+          ? `line ${decoded.lineNo} (received ${isoTime(recordedAtMs)})`
+          : `line ${decoded.lineNo}`;
       sinks.rejected(decoded, where, verdict.reason);
       return;
     }
