@@ -76,4 +76,18 @@ describe('file source', () => {
     await p.source.stop();
     expect(p.lines).toHaveLength(1);
   });
+
+  it('loops back to the start when asked (the demo), restarting the time check', async () => {
+    const path = flight('loop.ndjson', frameLines(10, 0, 0.1));
+    const lines: ReceivedLine[] = [];
+    const statuses: SourceStatus[] = [];
+    const source = createFileSource({ path, speed: 0, loop: true });
+    source.start({ onLine: (l) => lines.push(l), onStatus: (s) => statuses.push(s) });
+    await expect.poll(() => lines.length, { timeout: 5000 }).toBeGreaterThanOrEqual(25);
+    await source.stop();
+    expect(lines.slice(0, 25).map(seqOf)).toEqual([...Array(10).keys(), ...Array(10).keys(), 0, 1, 2, 3, 4]);
+    expect(lines.slice(0, 25).every((l) => l.decoded!.verdict.ok)).toBe(true);
+    expect(statuses.filter((s) => s.kind === 'seek').length).toBeGreaterThanOrEqual(2);
+    expect(statuses.some((s) => s.kind === 'ended')).toBe(false);
+  });
 });
