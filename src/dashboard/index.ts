@@ -48,9 +48,9 @@ export interface Dashboard {
 }
 
 /** Redraw period of the timer, ms (10 per second). */
-export const RENDER_PERIOD_MS = 100;
+const RENDER_PERIOD_MS = 100;
 /** Least time between two redraws, ms: at most 20 per second even with keys pressed. */
-export const MIN_RENDER_GAP_MS = 50;
+const MIN_RENDER_GAP_MS = 50;
 const MAX_EVENTS = 500;
 
 /** The canvas's drawing surface (blessed-contrib's d.ts does not declare it). */
@@ -128,7 +128,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
   let record: MarginRecord | null = null;
   let lastRecordAtMs: number | null = null;
   let linkHealth: LinkHealth | null = null;
-  let replay: ReplayStatus | null = options.replay ? { positionS: 0, lengthS: options.replay.lengthS, speed: 1, paused: false } : null;
+  let replay: ReplayStatus | null = null; // until the caller's first setReplay
   let units: SpeedUnit = 'mps';
   let muted = false;
   let helpVisible = false;

@@ -424,7 +424,7 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
       lines: buildMarginLines(input, stale, marginsInner.width),
     },
     readouts: {
-      title: fitTitle(stale ? `Readouts — STALE ${formatAge(input.ageS)}` : 'Readouts', layout.readouts.width),
+      title: fitTitle(`${stale ? `Readouts — STALE ${formatAge(input.ageS)}` : 'Readouts'}${rec ? ` · t ${formatClock(rec.t_s)}` : ''}`, layout.readouts.width),
       tone: stale ? 'stale' : 'plain',
       lines: buildReadoutLines(input, stale, readoutsInner.width, readoutsInner.height),
     },

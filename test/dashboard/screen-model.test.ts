@@ -142,7 +142,7 @@ describe('stale data', () => {
     expect(model.stale).toBe(true);
     expect(text(model.banner)).toMatch(/STALE DATA — no frame for 3\.4 s · last: WARNING/);
     expect(model.banner[0]![0]!.tone).toBe('banner-stale');
-    expect(model.readouts.title).toBe('Readouts — STALE 3.4 s');
+    expect(model.readouts.title).toBe('Readouts — STALE 3.4 s · t 0:02.0'); // t of the last frame
     expect(text(model.readouts.lines)).toContain('STALE — last frame 3.4 s ago');
     const words = model.margins.lines.filter((_, i) => i % 2 === 0).map((l) => lineText(l).trim().split(' ').pop());
     expect(words).toEqual(['STALE', 'STALE', 'STALE']);
