@@ -19,9 +19,14 @@ export interface DecodedLine {
 
 /** Decode raw bytes of one line to text without line ending or BOM. */
 export function lineText(bytes: Buffer): string {
-  let text = bytes.toString('utf8');
-  if (text.endsWith('\r')) text = text.slice(0, -1);
-  if (text.startsWith('\uFEFF')) text = text.slice(1);
+  return withoutLineEnd(bytes.toString('utf8'));
+}
+
+/** A decoded line without its CR ending or BOM. */
+export function withoutLineEnd(decoded: string): string {
+  let text = decoded;
+  if (text.charCodeAt(text.length - 1) === 0x0d) text = text.slice(0, -1);
+  if (text.charCodeAt(0) === 0xfeff) text = text.slice(1);
   return text;
 }
 

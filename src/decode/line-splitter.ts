@@ -18,6 +18,8 @@ export interface LineSplitter {
   end(): RawLine[];
   /** Bytes held for the line in progress. */
   pendingBytes(): number;
+  /** True after a cut, until the next LF: bytes pushed are dropped. */
+  discarding(): boolean;
   /** The unterminated rest, without consuming it. */
   peekPending(): Buffer;
 }
@@ -84,6 +86,7 @@ export function createLineSplitter(maxLineBytes: number = DEFAULT_MAX_LINE_BYTES
       return wasDiscarding || isEmpty(bytes) ? [] : [{ bytes, cut: false }];
     },
     pendingBytes: () => pendingLength,
+    discarding: () => discarding,
     peekPending: () => (pending.length === 1 ? pending[0]! : Buffer.concat(pending, pendingLength)),
   };
 }

@@ -1,6 +1,7 @@
 /**
  * Streaming reader for review and replay: NDJSON, CSV (optionally through a mapping file) or a turnmargin
- * recording. Memory does not grow with the file: lines are read through a bounded splitter and yielded one by one.
+ * recording. Memory does not grow with the file: lines are read in bounded chunks and yielded one by one
+ * (readFrameFile) or a chunk's worth at a time (readFrameBatches).
  * Blank lines are skipped (not counted); lineNo is the line's number in the file.
  */
 import { createReadStream, readFileSync, statSync } from 'node:fs';
@@ -8,9 +9,9 @@ import { basename, extname } from 'node:path';
 import { InputError } from '../cli/errors.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
 import { csvRow, splitCsvLine } from './csv.js';
-import { createLineJudge, cutReason, isBlank, lineText, type DecodedLine } from './frame-decoder.js';
-import { parseFrameLine, validateFrameObject, type LineVerdict } from './frame-line.js';
-import { createLineSplitter, DEFAULT_MAX_LINE_BYTES } from './line-splitter.js';
+import { createLineJudge, cutReason, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
+import { hasControlBytes, parseCleanFrameLine, parseFrameLine, validateFrameObject, type LineVerdict } from './frame-line.js';
+import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
 import { applyMapping, parseMapping, type ColumnMapping } from './mapping.js';
 
 export interface FileLine extends DecodedLine {
@@ -56,8 +57,37 @@ function formatFromExtension(path: string): FileFormat | undefined {
   return undefined;
 }
 
-/** Reads lines of a file with their 1-based physical numbers, in bounded memory. Blank lines are not yielded. */
-async function* physicalLines(path: string, options: ReadFrameOptions): AsyncGenerator<{ physicalNo: number; bytes: Buffer; cut: boolean }> {
+/** One line of a file: its 1-based physical number and its bytes (`block` from `start` to `end`, LF removed). */
+interface PhysicalLine {
+  physicalNo: number;
+  block: Buffer;
+  start: number;
+  end: number;
+  cut: boolean;
+  /** The bytes decoded as UTF-8 (CR and BOM kept), when the line came from a block decoded at once. */
+  decoded: string | undefined;
+  /** The decoded text holds no control bytes (checked once for its whole block). */
+  clean: boolean;
+}
+
+function lineBytes(line: PhysicalLine): Buffer {
+  return line.start === 0 && line.end === line.block.length ? line.block : line.block.subarray(line.start, line.end);
+}
+
+/** A recording line carries up to the cap plus its prefix; allow some room. */
+const FILE_LINE_CAP_BYTES = DEFAULT_MAX_LINE_BYTES + 64;
+
+/**
+ * Reads the lines of a file with their 1-based physical numbers, in bounded memory, one batch per chunk read.
+ * Blank lines are not returned.
+ *
+ * Speed: the complete lines of a chunk are decoded at once and cut out of the text when every byte decodes to one
+ * character (ASCII, the usual case), so offsets in the text are byte offsets and the length cap can be checked on
+ * the text; otherwise, and for a line running over from the previous chunk or past the cap, the lines go one at a
+ * time through the bounded splitter. Decoding a block of whole lines gives the same text as decoding each line: an
+ * LF never belongs to a multi-byte sequence.
+ */
+async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncGenerator<PhysicalLine[]> {
   let size = 0;
   try {
     const st = statSync(path);
@@ -66,27 +96,69 @@ async function* physicalLines(path: string, options: ReadFrameOptions): AsyncGen
   } catch (err) {
     throw new InputError([`${path}: cannot read the telemetry file (${describeErrno(err)})`]);
   }
-  // A recording line carries up to the cap plus its prefix; allow some room.
-  const splitter = createLineSplitter(DEFAULT_MAX_LINE_BYTES + 64);
+  const splitter = createLineSplitter(FILE_LINE_CAP_BYTES);
   const stream = createReadStream(path, { highWaterMark: 64 * 1024 });
   let physicalNo = 0;
   let bytesRead = 0;
   let lastProgress = 0;
-  // Empty lines are dropped by the splitter; count them by counting LFs instead.
+
+  const fromSplitter = (lines: RawLine[], out: PhysicalLine[]): void => {
+    for (const l of lines) {
+      out.push({ physicalNo: physicalNo + 1, block: l.bytes, start: 0, end: l.bytes.length, cut: l.cut, decoded: undefined, clean: false });
+    }
+  };
+  /** Lines of chunk[from, to) one at a time through the splitter; `to` is just after an LF or the chunk's end. */
+  const oneByOne = (chunk: Buffer, from: number, to: number, out: PhysicalLine[]): void => {
+    let start = from;
+    for (;;) {
+      const lf = chunk.indexOf(0x0a, start);
+      if (lf < 0 || lf >= to) break;
+      fromSplitter(splitter.push(chunk.subarray(start, lf + 1)), out);
+      physicalNo += 1;
+      start = lf + 1;
+    }
+    if (start < to) fromSplitter(splitter.push(chunk.subarray(start, to)), out);
+  };
+  /** Whole lines of chunk[from, lastLf] decoded at once; returns where it stopped (lastLf + 1 when done). */
+  const asBlock = (chunk: Buffer, from: number, lastLf: number, out: PhysicalLine[]): number => {
+    const text = chunk.toString('utf8', from, lastLf);
+    if (text.length !== lastLf - from) return from;
+    const clean = !hasControlBytes(text);
+    let pos = 0;
+    for (;;) {
+      let nl = text.indexOf('\n', pos);
+      if (nl < 0) nl = text.length;
+      const length = nl - pos;
+      // (A 64 KiB chunk cannot hold a line over the cap; kept should the chunk size change.)
+      if (length > FILE_LINE_CAP_BYTES) return from + pos;
+      physicalNo += 1;
+      if (length > 1 || (length === 1 && text.charCodeAt(pos) !== 0x0d)) {
+        out.push({ physicalNo, block: chunk, start: from + pos, end: from + nl, cut: false, decoded: text.slice(pos, nl), clean });
+      }
+      if (nl === text.length) return lastLf + 1;
+      pos = nl + 1;
+    }
+  };
+
   try {
     for await (const chunk of stream as AsyncIterable<Buffer>) {
       bytesRead += chunk.length;
+      const out: PhysicalLine[] = [];
       let start = 0;
-      const lines = [];
-      for (;;) {
-        const lf = chunk.indexOf(0x0a, start);
-        if (lf < 0) break;
-        lines.push(...splitter.push(chunk.subarray(start, lf + 1)).map((l) => ({ ...l, no: physicalNo + 1 })));
-        physicalNo += 1;
-        start = lf + 1;
+      if (splitter.pendingBytes() > 0 || splitter.discarding()) {
+        // The line in progress from the previous chunk ends at this chunk's first LF.
+        const lf = chunk.indexOf(0x0a);
+        start = lf < 0 ? chunk.length : lf + 1;
+        oneByOne(chunk, 0, start, out);
       }
-      if (start < chunk.length) lines.push(...splitter.push(chunk.subarray(start)).map((l) => ({ ...l, no: physicalNo + 1 })));
-      for (const l of lines) yield { physicalNo: l.no, bytes: l.bytes, cut: l.cut };
+      const lastLf = chunk.lastIndexOf(0x0a);
+      if (lastLf >= start) {
+        start = asBlock(chunk, start, lastLf, out);
+        if (start <= lastLf) oneByOne(chunk, start, lastLf + 1, out);
+        start = lastLf + 1;
+      }
+      if (start < chunk.length) oneByOne(chunk, start, chunk.length, out);
+      if (out.length > 0) yield out;
       if (options.onProgress && bytesRead - lastProgress >= 1 << 20) {
         lastProgress = bytesRead;
         options.onProgress(bytesRead, size);
@@ -96,7 +168,9 @@ async function* physicalLines(path: string, options: ReadFrameOptions): AsyncGen
     if (err instanceof InputError) throw err;
     throw new InputError([`${path}: read error after ${physicalNo} lines (${describeErrno(err)})`]);
   }
-  for (const l of splitter.end()) yield { physicalNo: physicalNo + 1, bytes: l.bytes, cut: l.cut };
+  const last: PhysicalLine[] = [];
+  fromSplitter(splitter.end(), last);
+  if (last.length > 0) yield last;
   options.onProgress?.(bytesRead, size);
 }
 
@@ -107,6 +181,14 @@ async function* physicalLines(path: string, options: ReadFrameOptions): AsyncGen
  * file or the mapping file cannot be read.
  */
 export async function* readFrameFile(path: string, options: ReadFrameOptions = {}): AsyncGenerator<FileLine> {
+  for await (const batch of readFrameBatches(path, options)) yield* batch;
+}
+
+/**
+ * readFrameFile in batches (the lines of one chunk read at a time, in file order): the same lines, without one
+ * await per line. For readers of long files (review, check).
+ */
+export async function* readFrameBatches(path: string, options: ReadFrameOptions = {}): AsyncGenerator<FileLine[]> {
   const mapping = options.mappingPath !== undefined ? loadMappingFile(options.mappingPath) : undefined;
   const judge = createLineJudge();
   let format: FileFormat | undefined = formatFromExtension(path);
@@ -131,68 +213,73 @@ export async function* readFrameFile(path: string, options: ReadFrameOptions = {
     return objectVerdict(parsed);
   };
 
-  for await (const { physicalNo, bytes, cut } of physicalLines(path, options)) {
-    const text = lineText(bytes);
-    if (first && !cut) {
-      if (isBlank(text)) continue;
-      if (text.startsWith(RECORDING_MAGIC)) {
-        format = 'recording';
-        first = false;
-        continue;
-      }
-      if (format === undefined && !text.startsWith('#')) {
-        // A CSV header holds the delimiter; anything else (JSON, or noise before the first frame) reads as NDJSON.
-        format = !text.trimStart().startsWith('{') && text.includes(mapping?.delimiter ?? ',') ? 'csv' : 'ndjson';
-      }
-      if (!text.startsWith('#')) first = false;
-    }
-
-    let verdict: LineVerdict;
-    let shown = text;
-    let receivedAtMs: number | undefined;
-    if (format === 'recording') {
-      const entry = decodeEntry(bytes);
-      if (entry.kind === 'meta') continue;
-      if (entry.kind === 'link') {
-        if (entry.state === 'open') {
-          if (sawOpen) reconnectPending = true;
-          sawOpen = true;
+  for await (const batch of physicalBatches(path, options)) {
+    const out: FileLine[] = [];
+    for (const physical of batch) {
+      const { physicalNo, cut } = physical;
+      const text = physical.decoded !== undefined ? withoutLineEnd(physical.decoded) : lineText(lineBytes(physical));
+      if (first && !cut) {
+        if (isBlank(text)) continue;
+        if (text.startsWith(RECORDING_MAGIC)) {
+          format = 'recording';
+          first = false;
+          continue;
         }
-        continue;
+        if (format === undefined && !text.startsWith('#')) {
+          // A CSV header holds the delimiter; anything else (JSON, or noise before the first frame) reads as NDJSON.
+          format = !text.trimStart().startsWith('{') && text.includes(mapping?.delimiter ?? ',') ? 'csv' : 'ndjson';
+        }
+        if (!text.startsWith('#')) first = false;
       }
-      if (entry.kind === 'bad') {
-        verdict = { ok: false, reason: entry.reason };
-      } else {
-        shown = lineText(entry.bytes);
-        receivedAtMs = entry.receivedAtMs;
-        if (!entry.cut && isBlank(shown)) continue;
-        verdict = entry.cut ? { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) } : jsonVerdict(shown);
-      }
-    } else if (cut) {
-      verdict = { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) };
-    } else if (isBlank(text)) {
-      continue;
-    } else if (format === 'csv') {
-      if (text.startsWith('#')) continue;
-      if (header === undefined) {
-        header = splitCsvLine(text, mapping?.delimiter ?? ',');
-        continue;
-      }
-      const row = csvRow(header, text, mapping?.delimiter ?? ',');
-      verdict = row.ok ? objectVerdict(row.row) : row;
-    } else {
-      verdict = jsonVerdict(text);
-    }
 
-    if (reconnectPending) judge.reset();
-    const gated = judge.gate(verdict);
-    const line: FileLine = { lineNo: physicalNo, text: shown, verdict: gated.verdict };
-    if (gated.newSegment) line.newSegment = true;
-    if (receivedAtMs !== undefined) line.receivedAtMs = receivedAtMs;
-    if (reconnectPending) {
-      line.afterReconnect = true;
-      reconnectPending = false;
+      let verdict: LineVerdict;
+      let shown = text;
+      let receivedAtMs: number | undefined;
+      if (format === 'recording') {
+        const entry = decodeEntry(lineBytes(physical));
+        if (entry.kind === 'meta') continue;
+        if (entry.kind === 'link') {
+          if (entry.state === 'open') {
+            if (sawOpen) reconnectPending = true;
+            sawOpen = true;
+          }
+          continue;
+        }
+        if (entry.kind === 'bad') {
+          verdict = { ok: false, reason: entry.reason };
+        } else {
+          shown = lineText(entry.bytes);
+          receivedAtMs = entry.receivedAtMs;
+          if (!entry.cut && isBlank(shown)) continue;
+          verdict = entry.cut ? { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) } : jsonVerdict(shown);
+        }
+      } else if (cut) {
+        verdict = { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) };
+      } else if (isBlank(text)) {
+        continue;
+      } else if (format === 'csv') {
+        if (text.startsWith('#')) continue;
+        if (header === undefined) {
+          header = splitCsvLine(text, mapping?.delimiter ?? ',');
+          continue;
+        }
+        const row = csvRow(header, text, mapping?.delimiter ?? ',');
+        verdict = row.ok ? objectVerdict(row.row) : row;
+      } else {
+        verdict = !mapping && physical.clean ? parseCleanFrameLine(text) : jsonVerdict(text);
+      }
+
+      if (reconnectPending) judge.reset();
+      const gated = judge.gate(verdict);
+      const line: FileLine = { lineNo: physicalNo, text: shown, verdict: gated.verdict };
+      if (gated.newSegment) line.newSegment = true;
+      if (receivedAtMs !== undefined) line.receivedAtMs = receivedAtMs;
+      if (reconnectPending) {
+        line.afterReconnect = true;
+        reconnectPending = false;
+      }
+      out.push(line);
     }
-    yield line;
+    if (out.length > 0) yield out;
   }
 }

@@ -9,7 +9,7 @@ import type { Aircraft } from '../../core/aircraft.js';
 import { createFlightReviewer, type FlightReview } from '../../core/flight-review.js';
 import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../../core/margins.js';
 import type { MarginRecord } from '../../core/margin-record.js';
-import { readFrameFile } from '../../decode/read-frames.js';
+import { readFrameBatches } from '../../decode/read-frames.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from '../../report/review-report.js';
 import { choiceOption, numberOption, requireOption, stringOption, type CommandSpec, type OptionSpec, type ParsedArgs } from '../args.js';
@@ -134,12 +134,14 @@ export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRe
   const readOptions: { mappingPath?: string; onProgress(bytes: number, total: number): void } = { onProgress: progress.update };
   if (input.mappingPath !== undefined) readOptions.mappingPath = input.mappingPath;
   try {
-    for await (const line of readFrameFile(input.file, readOptions)) {
-      if (line.verdict.ok) {
-        const rec = reviewer.accept(line.verdict.frame, { newSegment: line.newSegment === true || line.afterReconnect === true });
-        onRecord?.(rec);
-      } else {
-        reviewer.reject(line.lineNo, line.verdict.reason);
+    for await (const batch of readFrameBatches(input.file, readOptions)) {
+      for (const line of batch) {
+        if (line.verdict.ok) {
+          const rec = reviewer.accept(line.verdict.frame, { newSegment: line.newSegment === true || line.afterReconnect === true });
+          onRecord?.(rec);
+        } else {
+          reviewer.reject(line.lineNo, line.verdict.reason);
+        }
       }
     }
   } finally {

@@ -1,0 +1,133 @@
+/**
+ * The hand-written fast path of frame validation must give exactly the schema's verdicts: the same frames for the
+ * objects it accepts, and (by falling back to the schema) the same reasons for everything else.
+ */
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import { acceptFrameFast, FRAME_BOUNDS, parseCleanFrameLine, parseFrameLine, validateFrameObject, validateWithSchema } from '../../src/decode/frame-line.js';
+
+const FRAME_KEYS = ['t_s', 'ias_mps', 'cas_mps', 'tas_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg'] as const;
+
+/** Numbers at and just beyond every bound, and the awkward ones (−0, NaN, ±Infinity, the smallest positive). */
+const EDGE_NUMBERS = [
+  0, -0, 1, -1, 15, Number.MIN_VALUE, -Number.MIN_VALUE, NaN, Infinity, -Infinity, Number.MAX_VALUE,
+  FRAME_BOUNDS.altMinM, FRAME_BOUNDS.altMinM - 1e-9, FRAME_BOUNDS.altMaxM, FRAME_BOUNDS.altMaxM + 1e-9,
+  FRAME_BOUNDS.bankMaxAbsDeg, -FRAME_BOUNDS.bankMaxAbsDeg, FRAME_BOUNDS.bankMaxAbsDeg + 1e-9, -FRAME_BOUNDS.bankMaxAbsDeg - 1e-9,
+  FRAME_BOUNDS.nzMaxAbs, -FRAME_BOUNDS.nzMaxAbs, FRAME_BOUNDS.nzMaxAbs + 1e-9, -FRAME_BOUNDS.nzMaxAbs - 1e-9,
+  FRAME_BOUNDS.oatMinC, FRAME_BOUNDS.oatMaxC, FRAME_BOUNDS.oatMinC - 1e-9, FRAME_BOUNDS.oatMaxC + 1e-9,
+  FRAME_BOUNDS.massMaxKg, FRAME_BOUNDS.massMaxKg + 1e-9,
+];
+
+const anyValue: fc.Arbitrary<unknown> = fc.oneof(
+  { weight: 6, arbitrary: fc.constantFrom(...EDGE_NUMBERS) },
+  { weight: 4, arbitrary: fc.double() },
+  { weight: 2, arbitrary: fc.constantFrom(null, undefined) },
+  { weight: 1, arbitrary: fc.oneof(fc.string(), fc.boolean(), fc.constant([1]), fc.constant({ v: 1 }), fc.constant('12')) },
+);
+
+/** Objects built from the frame keys (each present or not) plus an occasional foreign key. */
+const frameLikeObject: fc.Arbitrary<Record<string, unknown>> = fc
+  .record(
+    Object.fromEntries(FRAME_KEYS.map((k) => [k, anyValue])) as Record<(typeof FRAME_KEYS)[number], fc.Arbitrary<unknown>>,
+    { requiredKeys: [] },
+  )
+  .chain((obj) => fc.option(fc.tuple(fc.string(), anyValue)).map((extra) => (extra ? { ...obj, [extra[0]]: extra[1] } : obj)));
+
+/** Mostly valid frames with one key disturbed, so that the accepting branches are exercised too. */
+const nearlyValidFrame: fc.Arbitrary<Record<string, unknown>> = fc
+  .tuple(
+    fc.constantFrom('ias_mps', 'cas_mps', 'tas_mps'),
+    fc.constantFrom<ReadonlyArray<string>>(['bank_deg'], ['nz'], ['bank_deg', 'nz']),
+    fc.constantFrom(...FRAME_KEYS, 'none'),
+    anyValue,
+    fc.boolean(),
+  )
+  .map(([speedKey, attitude, disturbed, value, withOptional]) => {
+    const obj: Record<string, unknown> = { t_s: 12.5, [speedKey]: 18, alt_m: 120 };
+    for (const k of attitude) obj[k] = k === 'nz' ? 1.3 : -35;
+    if (withOptional) Object.assign(obj, { oat_c: 11, mass_kg: 3.2 });
+    if (disturbed !== 'none') obj[disturbed] = value;
+    return obj;
+  });
+
+describe('frame validation fast path', () => {
+  it('gives the schema verdict for every object in a corpus of good and bad frames', () => {
+    const corpus: unknown[] = [
+      { t_s: 1, tas_mps: 20, alt_m: 100, bank_deg: 30 },
+      { t_s: 1, ias_mps: 20, alt_m: 100, nz: 1.2, oat_c: null, mass_kg: null },
+      { t_s: 1, cas_mps: 0, alt_m: -500, bank_deg: -180, nz: -20, oat_c: -90, mass_kg: 10_000 },
+      { t_s: 1, tas_mps: 20, alt_m: 20_000, bank_deg: 180, nz: 20, oat_c: 70, mass_kg: Number.MIN_VALUE },
+      { t_s: 1, tas_mps: 20, ias_mps: null, cas_mps: null, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: 20, ias_mps: 20, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: 20, ias_mps: 20, cas_mps: 3, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: -0, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: -1e-300, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: 20, alt_m: 0 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, bank_deg: null, nz: null },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, mass_kg: 0 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, mass_kg: -0 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, mass_kg: 10_000.5 },
+      { t_s: Infinity, tas_mps: 20, alt_m: 0, nz: 1 },
+      { t_s: NaN, tas_mps: 20, alt_m: 0, nz: 1 },
+      { t_s: null, tas_mps: 20, alt_m: 0, nz: 1 },
+      { t_s: '1', tas_mps: 20, alt_m: 0, nz: 1 },
+      { tas_mps: 20, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: 20, nz: 1 },
+      { t_s: 1, tas_mps: 20, alt_m: null, nz: 1 },
+      { t_s: 1, tas_mps: 'fast', alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: true },
+      { t_s: 1, tas_mps: 20, alt_m: 0, bank_deg: [30] },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, oat_c: 71 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, oat_c: '15' },
+      JSON.parse('{"__proto__":{"t_s":1},"tas_mps":20,"alt_m":0,"nz":1}'),
+      {},
+      [],
+      [1, 2],
+      null,
+      42,
+      'text',
+      true,
+    ];
+    for (const obj of corpus) expect(validateFrameObject(obj)).toEqual(validateWithSchema(obj));
+  });
+
+  it('accepts a plain valid frame without the schema and maps it like the schema path', () => {
+    const raw = { t_s: 3, cas_mps: 17, alt_m: 90, bank_deg: 25, nz: 1.1, oat_c: 9, mass_kg: 2.8, rssi: -60 };
+    expect(acceptFrameFast(raw)).toEqual({ tS: 3, airspeedKind: 'cas', airspeedMps: 17, altM: 90, bankDeg: 25, nz: 1.1, oatC: 9, massKg: 2.8 });
+    expect(acceptFrameFast({ ...raw, nz: 21 })).toBeNull();
+  });
+
+  it('gives the schema verdict on random objects of frame keys (property)', () => {
+    fc.assert(
+      fc.property(frameLikeObject, (obj) => {
+        expect(validateFrameObject(obj)).toEqual(validateWithSchema(obj));
+      }),
+      { numRuns: 3000 },
+    );
+  });
+
+  it('gives the schema verdict on valid frames with one key disturbed (property)', () => {
+    fc.assert(
+      fc.property(nearlyValidFrame, (obj) => {
+        const fast = validateFrameObject(obj);
+        expect(fast).toEqual(validateWithSchema(obj));
+        if (fast.ok) expect(fast.raw).toBe(obj);
+      }),
+      { numRuns: 3000 },
+    );
+  });
+
+  it('judges a line from a block found free of control bytes like parseFrameLine (property)', () => {
+    const line = fc.oneof(
+      nearlyValidFrame.map((o) => JSON.stringify(o)),
+      fc.string().filter((s) => !/[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F\uFFFD]/.test(s)),
+      fc.constantFrom('\uFEFF{"t_s":1,"tas_mps":2,"alt_m":0,"nz":1}\r', '  {"t_s":1', '{"t_s":NaN}', '', ' \t '),
+    );
+    fc.assert(
+      fc.property(line, (text) => {
+        expect(parseCleanFrameLine(text)).toEqual(parseFrameLine(text));
+      }),
+      { numRuns: 2000 },
+    );
+  });
+});

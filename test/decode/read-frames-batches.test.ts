@@ -1,0 +1,155 @@
+/**
+ * The file reader decodes whole chunks at once where it can; it must give exactly the lines of judging each
+ * physical line on its own, whatever falls on a chunk boundary (long lines, multi-byte text, invalid bytes, CRLF).
+ */
+import fc from 'fast-check';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { createFrameDecoder } from '../../src/decode/frame-decoder.js';
+import { DEFAULT_MAX_LINE_BYTES } from '../../src/decode/line-splitter.js';
+import { readFrameBatches, readFrameFile } from '../../src/decode/read-frames.js';
+import { encodeHeader, encodeLine } from '../../src/recording/format.js';
+import { frameLine } from '../helpers/frames.js';
+
+const dir = mkdtempSync(join(tmpdir(), 'tm-batches-'));
+afterAll(() => rmSync(dir, { recursive: true, force: true }));
+
+/** The reader's line cap (a recording line may carry a prefix beyond the 64 KiB of the line). */
+const FILE_CAP = DEFAULT_MAX_LINE_BYTES + 64;
+
+interface Judged {
+  lineNo: number;
+  text: string;
+  verdict: unknown;
+  newSegment?: boolean;
+}
+
+/** Reference: split the bytes at each LF and judge every physical line alone (cut past the cap). */
+function judgeEachLine(bytes: Buffer): Judged[] {
+  const decoder = createFrameDecoder();
+  const out: Judged[] = [];
+  let start = 0;
+  let physicalNo = 0;
+  while (start < bytes.length) {
+    let lf = bytes.indexOf(0x0a, start);
+    if (lf < 0) lf = bytes.length;
+    physicalNo += 1;
+    const line = bytes.subarray(start, lf);
+    start = lf + 1;
+    if (line.length === 0 || (line.length === 1 && line[0] === 0x0d)) continue;
+    const cut = line.length > FILE_CAP;
+    const judged = decoder.judgeLine({ bytes: cut ? line.subarray(0, FILE_CAP) : line, cut });
+    if (!judged) continue;
+    const entry: Judged = { lineNo: physicalNo, text: judged.text, verdict: judged.verdict };
+    if (judged.newSegment) entry.newSegment = true;
+    out.push(entry);
+  }
+  return out;
+}
+
+async function readAll(path: string): Promise<Judged[]> {
+  const out: Judged[] = [];
+  for await (const l of readFrameFile(path)) out.push(l);
+  return out;
+}
+
+let fileCount = 0;
+function writeTemp(bytes: Buffer): string {
+  const path = join(dir, `f${fileCount++}.ndjson`);
+  writeFileSync(path, bytes);
+  return path;
+}
+
+/** Pieces of a telemetry file, each ending in LF (or CRLF); `i` makes the times of good frames increase. */
+const piece = fc.oneof(
+  { weight: 8, arbitrary: fc.integer({ min: 1, max: 900 }).map((n) => ({ kind: 'frames', n })) },
+  {
+    weight: 4,
+    arbitrary: fc.constantFrom(
+      'oops',
+      '',
+      '   ',
+      '\r',
+      '{"t_s":1,"tas_mps":NaN,"alt_m":0,"nz":1}',
+      '{"t_s":2,"tas_mps":20',
+      '\u0001\u0002 noise',
+      '[1,2]',
+    ).map((text) => ({ kind: 'text', text })),
+  },
+  { weight: 2, arbitrary: fc.constantFrom('é→°', '\uFEFF', 'ü').map((mark) => ({ kind: 'unicode', mark })) },
+  { weight: 2, arbitrary: fc.constantFrom(Buffer.from([0xff]), Buffer.from([0xe2, 0x82]), Buffer.from([0xc3])).map((bad) => ({ kind: 'invalid', bad })) },
+  { weight: 1, arbitrary: fc.constantFrom(FILE_CAP - 1, FILE_CAP, FILE_CAP + 1, 70_000, 140_000).map((length) => ({ kind: 'long', length })) },
+);
+
+function buildFile(pieces: ReadonlyArray<{ kind: string; [k: string]: unknown }>, crlf: boolean, finalNewline: boolean): Buffer {
+  const parts: Buffer[] = [];
+  const end = crlf ? '\r\n' : '\n';
+  let t = 0;
+  const next = (): string => frameLine({ t_s: Number((t++ * 0.02).toFixed(2)) });
+  for (const p of pieces) {
+    if (p.kind === 'frames') parts.push(Buffer.from(Array.from({ length: p['n'] as number }, next).join(end) + end));
+    else if (p.kind === 'text') parts.push(Buffer.from((p['text'] as string) + end));
+    else if (p.kind === 'unicode') parts.push(Buffer.from(next().replace('{', `{"note":"${p['mark'] as string}",`) + end));
+    else if (p.kind === 'invalid') parts.push(Buffer.concat([Buffer.from(next().slice(0, -1) + ',"x":"'), p['bad'] as Buffer, Buffer.from('"}' + end)]));
+    else parts.push(Buffer.from('{"t_s":1,"pad":"' + 'x'.repeat((p['length'] as number) - 18) + '"}' + end));
+  }
+  const bytes = Buffer.concat(parts);
+  return finalNewline ? bytes : bytes.subarray(0, bytes.length - end.length);
+}
+
+describe('readFrameFile reading by chunks', () => {
+  it('gives the lines of judging each physical line alone, whatever crosses a chunk boundary (property)', async () => {
+    await fc.assert(
+      fc.asyncProperty(fc.array(piece, { minLength: 1, maxLength: 12 }), fc.boolean(), fc.boolean(), async (pieces, crlf, finalNewline) => {
+        const bytes = buildFile(pieces, crlf, finalNewline);
+        expect(await readAll(writeTemp(bytes))).toEqual(judgeEachLine(bytes));
+      }),
+      { numRuns: 40 },
+    );
+  });
+
+  it('handles a line running over several chunks and lines of exactly the cap', async () => {
+    const bytes = buildFile(
+      [
+        { kind: 'frames', n: 880 },
+        { kind: 'long', length: 200_000 },
+        { kind: 'frames', n: 3 },
+        { kind: 'long', length: FILE_CAP },
+        { kind: 'long', length: FILE_CAP + 1 },
+        { kind: 'frames', n: 1000 },
+      ],
+      false,
+      true,
+    );
+    const lines = await readAll(writeTemp(bytes));
+    expect(lines).toEqual(judgeEachLine(bytes));
+    expect(lines.filter((l) => !(l.verdict as { ok: boolean }).ok).map((l) => l.lineNo)).toEqual([881, 885, 886]);
+  });
+
+  it('reads the exact bytes of each record of a recording holding multi-byte text and invalid bytes', async () => {
+    const t0 = 1_700_000_000_000;
+    const sent = Array.from({ length: 4000 }, (_, i) =>
+      i % 7 === 3 ? Buffer.from(frameLine({ t_s: i, note: 'é→°' })) : i % 11 === 5 ? Buffer.from([0x7b, 0xff, 0x7d]) : Buffer.from(frameLine({ t_s: i })),
+    );
+    const path = join(dir, 'unicode.tmrec');
+    writeFileSync(path, Buffer.concat([encodeHeader('test', t0), ...sent.map((b, i) => encodeLine(t0 + i, b, false))]));
+    const lines = await readAll(path);
+    expect(lines.map((l) => l.text)).toEqual(sent.map((b) => b.toString('utf8')));
+    expect(lines.map((l) => (l as { receivedAtMs?: number }).receivedAtMs! - t0)).toEqual(sent.map((_b, i) => i));
+  });
+
+  it('yields the same lines in batches, in file order', async () => {
+    const bytes = buildFile([{ kind: 'frames', n: 3000 }, { kind: 'text', text: 'oops' }, { kind: 'frames', n: 10 }], false, true);
+    const path = writeTemp(bytes);
+    const batched: Judged[] = [];
+    let batches = 0;
+    for await (const batch of readFrameBatches(path)) {
+      batches += 1;
+      batched.push(...batch);
+    }
+    expect(batches).toBeGreaterThan(1);
+    expect(batched).toEqual(await readAll(path));
+  });
+});
