@@ -45,23 +45,30 @@ export interface AlertInputs {
   flying: boolean;
 }
 
-function sameAlert(a: ActiveAlert, b: ActiveAlert): boolean {
-  return a.limit === b.limit && a.level === b.level;
+function wasOn(previous: readonly ActiveAlert[], limit: LimitName, level: AlertLevel): boolean {
+  for (let i = 0; i < previous.length; i++) {
+    const p = previous[i]!;
+    if (p.limit === limit && p.level === level) return true;
+  }
+  return false;
 }
 
-/** The alerts on at this frame, given those on at the previous one (most severe first, see ALERT_KINDS). */
+/**
+ * The alerts on at this frame, given those on at the previous one (most severe first, see ALERT_KINDS).
+ * Written out kind by kind, in ALERT_KINDS order: this runs once per frame.
+ */
 export function updateAlerts(previous: readonly ActiveAlert[], inputs: AlertInputs, thresholds: AlertThresholds): ActiveAlert[] {
-  if (!inputs.flying) return [];
   const on: ActiveAlert[] = [];
-  for (const kind of ALERT_KINDS) {
-    const threshold = alertThreshold(kind.limit, kind.level, thresholds);
-    if (threshold === null) continue;
-    const wasOn = previous.some((p) => sameAlert(p, kind));
-    const value = inputs.utilization[kind.limit];
-    const thrustExhausted = kind.limit === 'thrust' && inputs.nThrust === 0;
-    if (thrustExhausted || isAlertOn(wasOn, value, threshold, thresholds.hysteresis)) {
-      on.push({ limit: kind.limit, level: kind.level });
-    }
+  if (!inputs.flying) return on;
+  const u = inputs.utilization;
+  const h = thresholds.hysteresis;
+  if (isAlertOn(wasOn(previous, 'stall', 'warning'), u.stall, thresholds.stallWarning, h)) on.push({ limit: 'stall', level: 'warning' });
+  if (isAlertOn(wasOn(previous, 'structure', 'warning'), u.structure, thresholds.structureWarning, h)) on.push({ limit: 'structure', level: 'warning' });
+  if (isAlertOn(wasOn(previous, 'stall', 'caution'), u.stall, thresholds.stallCaution, h)) on.push({ limit: 'stall', level: 'caution' });
+  if (isAlertOn(wasOn(previous, 'structure', 'caution'), u.structure, thresholds.structureCaution, h)) on.push({ limit: 'structure', level: 'caution' });
+  // n_thrust = 0: level flight cannot be sustained at all, a thrust caution by itself.
+  if (inputs.nThrust === 0 || isAlertOn(wasOn(previous, 'thrust', 'caution'), u.thrust, thresholds.thrustCaution, h)) {
+    on.push({ limit: 'thrust', level: 'caution' });
   }
   return on;
 }

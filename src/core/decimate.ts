@@ -10,6 +10,10 @@ export interface Decimator<T> {
   items(): readonly T[];
   /** Items offered so far. */
   seen(): number;
+  /** Whether the next item offered will be kept (so a caller can build it only then). */
+  keepsNext(): boolean;
+  /** Offer an item that would not be kept, without building it (the same as push when keepsNext() is false). */
+  skip(): void;
 }
 
 export function createDecimator<T>(capacity: number): Decimator<T> {
@@ -30,6 +34,11 @@ export function createDecimator<T>(capacity: number): Decimator<T> {
     },
     items: () => kept,
     seen: () => count,
+    keepsNext: () => count % stride === 0,
+    skip() {
+      if (count % stride === 0) throw new RangeError('decimator: skip() of an item that would be kept');
+      count += 1;
+    },
   };
 }
 

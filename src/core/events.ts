@@ -98,6 +98,8 @@ export function createEventTracker(): EventTracker {
   return {
     push(rec) {
       lastTS = rec.t_s;
+      // Most frames: no alert on and none open.
+      if (open.size === 0 && rec.alerts.length === 0) return { started: [], ended: [] };
       const ended: LimitEvent[] = [];
       const onNow = new Set(rec.alerts.map((a) => keyOf(a.limit, a.level)));
       for (const [key, event] of open) {

@@ -91,10 +91,15 @@ export interface FlightReviewer {
   finish(): FlightReview;
 }
 
+/** The range widened to hold the value (updated in place: the ranges are the reviewer's own until finish). */
 function widen(range: Range | null, value: number): Range {
   if (range === null) return { min: value, max: value };
-  return { min: Math.min(range.min, value), max: Math.max(range.max, value) };
+  range.min = Math.min(range.min, value);
+  range.max = Math.max(range.max, value);
+  return range;
 }
+
+const LIMITS: readonly LimitName[] = ['stall', 'thrust', 'structure'];
 
 export function createFlightReviewer(aircraft: Aircraft, options?: Partial<MarginOptions>): FlightReviewer {
   const resolved = resolveMarginOptions(aircraft, options);
@@ -160,7 +165,7 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
       }
       events.push(rec);
 
-      for (const limit of ['stall', 'thrust', 'structure'] as const) {
+      for (const limit of LIMITS) {
         const u = rec.utilization[limit];
         const peak = peaks[limit];
         if (u !== null && (peak.utilization === null || u > peak.utilization)) {
@@ -173,8 +178,12 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
       conditions.nMeasured = widen(conditions.nMeasured, rec.n_measured);
       conditions.temperatureK = widen(conditions.temperatureK, rec.temperature_k);
       if (!rec.flying) conditions.notFlyingFrames += 1;
-      conditionSamples.push({ densityKgM3: rec.density_kg_m3, massKg: rec.mass_kg });
-      plot[rec.level].push({ tasMps: rec.tas_mps, n: rec.n_measured, level: rec.level });
+      // Sample objects only for the items the decimators keep.
+      if (conditionSamples.keepsNext()) conditionSamples.push({ densityKgM3: rec.density_kg_m3, massKg: rec.mass_kg });
+      else conditionSamples.skip();
+      const levelPlot = plot[rec.level];
+      if (levelPlot.keepsNext()) levelPlot.push({ tasMps: rec.tas_mps, n: rec.n_measured, level: rec.level });
+      else levelPlot.skip();
 
       firstTS ??= rec.t_s;
       accepted += 1;

@@ -7,7 +7,7 @@
  * `createMarginTracker` is the small stateful wrapper the shell uses.
  */
 import type { Aircraft } from './aircraft.js';
-import { computeAirState } from './atmosphere.js';
+import { computeAirState, type AirState } from './atmosphere.js';
 import { casToTasMps, iasToCasMps, tasToEasMps } from './airspeed.js';
 import { levelOfAlerts, updateAlerts } from './alerts.js';
 import { computeBankLimits } from './bank-limits.js';
@@ -15,11 +15,12 @@ import { lowPassStep, type LowPassState } from './filter.js';
 import type { Frame } from './frame.js';
 import type { ActiveAlert, MarginRecord, Utilization } from './margin-record.js';
 import {
-  computeLimits,
   dynamicPressurePa,
   levelTurnAt,
   negativeStallLoadFactor,
+  stallLoadFactor,
   stallSpeedMps,
+  thrustLoadFactor,
 } from './performance.js';
 import type { AlertThresholds } from './thresholds.js';
 import { G0_MPS2 } from './units.js';
@@ -52,6 +53,11 @@ export interface MarginState {
   alerts: readonly ActiveAlert[];
   /** Start time of the present run of frames where n_measured and 1/cos(bank) disagree, or null. */
   disagreeSinceS: number | null;
+  /**
+   * The air state of the last frame and the altitude and OAT it was computed from: reused while they stay the same
+   * (telemetry repeats them from frame to frame), as computing it again would give the same values.
+   */
+  air?: { altM: number; oatC: number | undefined; state: AirState };
 }
 
 export function initialMarginState(): MarginState {
@@ -66,9 +72,16 @@ export interface FrameAir {
   massKg: number;
 }
 
-/** Air state and TAS of a frame: ISA pressure from alt_m, OAT when given, TAS from whichever airspeed it has. */
-export function computeFrameAir(aircraft: Aircraft, frame: Frame): FrameAir {
-  const air = computeAirState(frame.altM, frame.oatC !== undefined ? { oatC: frame.oatC } : {});
+/** The air state at the frame's altitude and OAT (ISA temperature without OAT). */
+export function frameAirState(frame: Frame): AirState {
+  return computeAirState(frame.altM, frame.oatC !== undefined ? { oatC: frame.oatC } : {});
+}
+
+/**
+ * Air state and TAS of a frame: ISA pressure from alt_m, OAT when given, TAS from whichever airspeed it has.
+ * `air` is the frame's air state when already known (frameAirState).
+ */
+export function computeFrameAir(aircraft: Aircraft, frame: Frame, air: AirState = frameAirState(frame)): FrameAir {
   let tasMps: number;
   switch (frame.airspeedKind) {
     case 'tas':
@@ -157,18 +170,21 @@ export function computeMarginRecord(
   state: MarginState,
   frame: Frame,
 ): { record: MarginRecord; state: MarginState } {
-  const air = computeFrameAir(aircraft, frame);
+  const cached = state.air;
+  const airState =
+    cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC) ? cached.state : frameAirState(frame);
+  const air = computeFrameAir(aircraft, frame, airState);
   const { tasMps, densityKgM3, massKg } = air;
 
   const nRaw = rawLoadFactor(frame);
   const step = lowPassStep(state.filter, frame.tS, nRaw, options.smoothTauS);
   const nF = step.state.value;
 
-  const base = computeLimits(aircraft, tasMps, densityKgM3, massKg);
+  // The two limits of computeLimits this record needs, without its other fields.
   const limits: LimitsForUtilization = {
-    nStall: base.nStall,
+    nStall: stallLoadFactor(aircraft, tasMps, densityKgM3, massKg),
     nStallNeg: negativeStallLoadFactor(aircraft, tasMps, densityKgM3, massKg),
-    nThrust: base.nThrust,
+    nThrust: thrustLoadFactor(aircraft, tasMps, densityKgM3, massKg),
     nLimitPos: aircraft.nLimitPos,
     nLimitNeg: aircraft.nLimitNeg,
   };
@@ -223,7 +239,8 @@ export function computeMarginRecord(
     n_stall_neg: limits.nStallNeg,
     n_structural_neg: aircraft.nLimitNeg,
   };
-  return { record, state: { filter: step.state, alerts, disagreeSinceS: coordination.disagreeSinceS } };
+  const airUsed = cached !== undefined && cached.state === airState ? cached : { altM: frame.altM, oatC: frame.oatC, state: airState };
+  return { record, state: { filter: step.state, alerts, disagreeSinceS: coordination.disagreeSinceS, air: airUsed } };
 }
 
 export interface MarginTracker {

@@ -174,27 +174,26 @@ export function parseFrameLine(line: string): LineVerdict {
   return judgeLineText(line, true);
 }
 
-/** True when the text holds a control character (other than tab, CR, LF) or an invalid-byte mark. */
-export function hasControlBytes(text: string): boolean {
-  return CONTROL_BYTES.test(text);
-}
-
 /**
- * parseFrameLine for a line from a block of text already found free of control bytes (hasControlBytes false):
- * the same verdict without testing each line again.
+ * parseFrameLine for a line known to hold neither U+007F nor U+FFFD (a line of plain ASCII, say): the same verdict,
+ * with the control-byte test only for a line that is not valid JSON. The other control characters cannot be in
+ * valid JSON text (JSON allows no raw U+0000–U+001F but tab, CR and LF), so they make JSON.parse fail anyway.
  */
-export function parseCleanFrameLine(line: string): LineVerdict {
+export function parseAsciiFrameLine(line: string): LineVerdict {
   return judgeLineText(line, false);
 }
 
-function judgeLineText(line: string, mayHoldControlBytes: boolean): LineVerdict {
+const noise = (): LineVerdict => ({ ok: false, reason: 'binary noise (control or invalid bytes)' });
+
+function judgeLineText(line: string, mayHoldDelOrReplacement: boolean): LineVerdict {
   const text = (line.charCodeAt(0) === 0xfeff ? line.slice(1) : line).trim();
   if (text === '') return { ok: false, reason: 'empty line' };
-  if (mayHoldControlBytes && CONTROL_BYTES.test(text)) return { ok: false, reason: 'binary noise (control or invalid bytes)' };
+  if (mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return noise();
   let parsed: unknown;
   try {
     parsed = JSON.parse(text);
   } catch {
+    if (!mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return noise();
     if (/(?<![\w"])(NaN|-?Infinity)(?![\w"])/.test(text)) return { ok: false, reason: 'NaN or Infinity is not a finite number' };
     return { ok: false, reason: text.startsWith('{') && !text.endsWith('}') ? 'invalid JSON (truncated line?)' : 'invalid JSON' };
   }

@@ -4,13 +4,14 @@
  * (readFrameFile) or a chunk's worth at a time (readFrameBatches).
  * Blank lines are skipped (not counted); lineNo is the line's number in the file.
  */
+import { isAscii } from 'node:buffer';
 import { createReadStream, readFileSync, statSync } from 'node:fs';
 import { basename, extname } from 'node:path';
 import { InputError } from '../cli/errors.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
 import { csvRow, splitCsvLine } from './csv.js';
 import { createLineJudge, cutReason, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
-import { hasControlBytes, parseCleanFrameLine, parseFrameLine, validateFrameObject, type LineVerdict } from './frame-line.js';
+import { parseAsciiFrameLine, parseFrameLine, validateFrameObject, type LineVerdict } from './frame-line.js';
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
 import { applyMapping, parseMapping, type ColumnMapping } from './mapping.js';
 
@@ -66,8 +67,8 @@ interface PhysicalLine {
   cut: boolean;
   /** The bytes decoded as UTF-8 (CR and BOM kept), when the line came from a block decoded at once. */
   decoded: string | undefined;
-  /** The decoded text holds no control bytes (checked once for its whole block). */
-  clean: boolean;
+  /** The line is plain ASCII without DEL (checked once for its whole block). */
+  ascii: boolean;
 }
 
 function lineBytes(line: PhysicalLine): Buffer {
@@ -104,7 +105,7 @@ async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncG
 
   const fromSplitter = (lines: RawLine[], out: PhysicalLine[]): void => {
     for (const l of lines) {
-      out.push({ physicalNo: physicalNo + 1, block: l.bytes, start: 0, end: l.bytes.length, cut: l.cut, decoded: undefined, clean: false });
+      out.push({ physicalNo: physicalNo + 1, block: l.bytes, start: 0, end: l.bytes.length, cut: l.cut, decoded: undefined, ascii: false });
     }
   };
   /** Lines of chunk[from, to) one at a time through the splitter; `to` is just after an LF or the chunk's end. */
@@ -123,7 +124,9 @@ async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncG
   const asBlock = (chunk: Buffer, from: number, lastLf: number, out: PhysicalLine[]): number => {
     const text = chunk.toString('utf8', from, lastLf);
     if (text.length !== lastLf - from) return from;
-    const clean = !hasControlBytes(text);
+    // Plain ASCII without DEL: no line can hold U+007F or U+FFFD (see parseAsciiFrameLine).
+    const del = chunk.indexOf(0x7f, from);
+    const ascii = (del < 0 || del > lastLf) && isAscii(chunk.subarray(from, lastLf));
     let pos = 0;
     for (;;) {
       let nl = text.indexOf('\n', pos);
@@ -133,7 +136,7 @@ async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncG
       if (length > FILE_LINE_CAP_BYTES) return from + pos;
       physicalNo += 1;
       if (length > 1 || (length === 1 && text.charCodeAt(pos) !== 0x0d)) {
-        out.push({ physicalNo, block: chunk, start: from + pos, end: from + nl, cut: false, decoded: text.slice(pos, nl), clean });
+        out.push({ physicalNo, block: chunk, start: from + pos, end: from + nl, cut: false, decoded: text.slice(pos, nl), ascii });
       }
       if (nl === text.length) return lastLf + 1;
       pos = nl + 1;
@@ -266,7 +269,7 @@ export async function* readFrameBatches(path: string, options: ReadFrameOptions 
         const row = csvRow(header, text, mapping?.delimiter ?? ',');
         verdict = row.ok ? objectVerdict(row.row) : row;
       } else {
-        verdict = !mapping && physical.clean ? parseCleanFrameLine(text) : jsonVerdict(text);
+        verdict = !mapping && physical.ascii ? parseAsciiFrameLine(text) : jsonVerdict(text);
       }
 
       if (reconnectPending) judge.reset();

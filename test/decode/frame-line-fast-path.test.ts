@@ -4,7 +4,7 @@
  */
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { acceptFrameFast, FRAME_BOUNDS, parseCleanFrameLine, parseFrameLine, validateFrameObject, validateWithSchema } from '../../src/decode/frame-line.js';
+import { acceptFrameFast, FRAME_BOUNDS, parseAsciiFrameLine, parseFrameLine, validateFrameObject, validateWithSchema } from '../../src/decode/frame-line.js';
 
 const FRAME_KEYS = ['t_s', 'ias_mps', 'cas_mps', 'tas_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg'] as const;
 
@@ -117,15 +117,19 @@ describe('frame validation fast path', () => {
     );
   });
 
-  it('judges a line from a block found free of control bytes like parseFrameLine (property)', () => {
+  it('judges a line free of U+007F and U+FFFD like parseFrameLine, control characters included (property)', () => {
+    const control = fc.constantFrom('\u0000', '\u0001', '\u0008', '\u000B', '\u000C', '\u001B', '\u001F', '\t', '\r');
     const line = fc.oneof(
       nearlyValidFrame.map((o) => JSON.stringify(o)),
-      fc.string().filter((s) => !/[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F\uFFFD]/.test(s)),
-      fc.constantFrom('\uFEFF{"t_s":1,"tas_mps":2,"alt_m":0,"nz":1}\r', '  {"t_s":1', '{"t_s":NaN}', '', ' \t '),
+      fc
+        .tuple(nearlyValidFrame.map((o) => JSON.stringify(o)), fc.nat(), control)
+        .map(([text, at, ch]) => text.slice(0, at % (text.length + 1)) + ch + text.slice(at % (text.length + 1))),
+      fc.string().filter((s) => !/[\u007F\uFFFD]/.test(s)),
+      fc.constantFrom('\uFEFF{"t_s":1,"tas_mps":2,"alt_m":0,"nz":1}\r', '  {"t_s":1', '{"t_s":NaN}', '', ' \t ', '\u000B{"t_s":1}\u000C'),
     );
     fc.assert(
       fc.property(line, (text) => {
-        expect(parseCleanFrameLine(text)).toEqual(parseFrameLine(text));
+        expect(parseAsciiFrameLine(text)).toEqual(parseFrameLine(text));
       }),
       { numRuns: 2000 },
     );
