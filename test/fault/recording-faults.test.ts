@@ -67,13 +67,14 @@ describe('recording under faults', () => {
     // A prefix of the stream, in order, nothing twice, noise kept verbatim in its place.
     expect(seqs).toEqual(Array.from({ length: seqs.length }, (_, i) => i));
     expect(lines.filter((l) => isNoise(l.bytes))).toHaveLength(Math.floor(seqs.length / NOISE_EVERY));
-    // Every frame the monitor had printed (so had received and recorded first) more than a second before the kill…
+    // Every frame the monitor had printed more than a second before the kill is in the file: it is recorded before
+    // it is judged and printed, and the recorder flushes at least every second.
     const printedBeforeLastSecond = watch.stdoutLinesBy(killAtMs - 1000);
-    expect(printedBeforeLastSecond).toBeGreaterThan(400);
-    expect(frames.length).toBeGreaterThanOrEqual(printedBeforeLastSecond);
-    // …and the newest line in the file was received less than a second before the kill (flushed every 0.5 s).
     expect(FLUSH_INTERVAL_MS).toBeLessThanOrEqual(1000);
-    expect(killAtMs - lines.at(-1)!.receivedAtMs).toBeLessThan(1000);
+    expect(printedBeforeLastSecond).toBeGreaterThan(100);
+    expect(frames.length).toBeGreaterThanOrEqual(printedBeforeLastSecond);
+    // The kill came mid-stream: frames were still arriving in the last second.
+    expect(watch.stdout().split('\n').filter(Boolean).length).toBeGreaterThan(printedBeforeLastSecond);
   });
 
   it('SIGTERM mid-stream at 500 frames/s loses nothing: the file holds every line the monitor received and ends with the stop', async () => {
