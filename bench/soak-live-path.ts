@@ -14,6 +14,7 @@ import { buildPlotModel } from '../src/dashboard/plot-model.js';
 import { rasterizePolyline } from '../src/dashboard/raster.js';
 import { buildScreenModel, type ScreenInput } from '../src/dashboard/screen-model.js';
 import { createTrail } from '../src/dashboard/trail.js';
+import { openRecorder } from '../src/recording/recorder.js';
 import { createMemorySource } from '../src/sources/memory.js';
 import { syntheticFrameLine } from './synthetic-flight.js';
 
@@ -25,6 +26,8 @@ export interface SoakOptions {
   checkpointEvery: number;
   /** Build the screen and plot models every this many frames (default: once per second of data). */
   redrawEvery?: number;
+  /** Also record every received line to this file, as `watch --record` does. */
+  recordPath?: string;
   onCheckpoint?(c: SoakCheckpoint): void;
 }
 
@@ -46,6 +49,9 @@ export interface SoakResult {
   events: number;
   redraws: number;
   wallS: number;
+  /** Bytes written to the recording (when recording). */
+  recordedBytes?: number;
+  recordingError?: string | null;
 }
 
 /** The dashboard keeps at most this many events (src/dashboard/index.ts: MAX_EVENTS). */
@@ -81,10 +87,12 @@ export async function runLiveSoak(options: SoakOptions): Promise<SoakResult> {
     eventLog.set(`${ev.limit}:${ev.level}:${ev.start_s}`, ev);
     if (eventLog.size > EVENT_LOG_CAP) eventLog.delete(eventLog.keys().next().value!);
   };
+  const recorder = options.recordPath === undefined ? undefined : openRecorder({ path: options.recordPath, force: true, sourceLabel: source.label, clock });
   const pipeline = createPipeline({
     source,
     aircraft,
     clock,
+    ...(recorder ? { recorder } : {}),
     margins: { thresholds: aircraft.thresholds },
     sinks: {
       record(rec) {
@@ -158,6 +166,8 @@ export async function runLiveSoak(options: SoakOptions): Promise<SoakResult> {
       const now = performance.now();
       const frames = i + 1;
       const chunkFramesPerS = ((frames - chunkFrom) / (now - chunkStart)) * 1000;
+      // Memory held, not memory in flight: the recorder's unflushed half-second goes to disk first.
+      recorder?.flush();
       const mem = sampleMemory();
       const c: SoakCheckpoint = { frames, flightH: frames / rateHz / 3600, ...mem, chunkFramesPerS, wallS: (now - wallStart) / 1000 };
       checkpoints.push(c);
@@ -169,5 +179,10 @@ export async function runLiveSoak(options: SoakOptions): Promise<SoakResult> {
   source.emitData(pending);
   source.end();
   await pipeline.stop();
-  return { checkpoints, accepted, rejected, events: eventCount, redraws, wallS: (performance.now() - wallStart) / 1000 };
+  const result: SoakResult = { checkpoints, accepted, rejected, events: eventCount, redraws, wallS: (performance.now() - wallStart) / 1000 };
+  if (recorder) {
+    result.recordedBytes = recorder.bytesWritten();
+    result.recordingError = recorder.error();
+  }
+  return result;
 }
