@@ -73,7 +73,7 @@ describe('fuzz: 100 000 random and mutated lines', () => {
     for (const m of ['byte-flip', 'truncate', 'drop-char', 'key-swap', 'value-swap', 'huge-number', 'not-finite', 'out-of-range', 'nul', 'invalid-utf8', 'very-long', 'wrong-type', 'not-an-object', 'crlf-bom']) {
       expect(kinds.get(`mutated:${m}`), m).toBeGreaterThan(2000);
     }
-    expect(lines.filter((l) => l.bytes.length > 64 * 1024).length).toBeGreaterThan(400);
+    expect(lines.filter((l) => l.bytes.length > 64 * 1024).length).toBeGreaterThan(250);
   });
 
   it('the stream decoder judges every line exactly once, in order, whatever the read splits', () => {
