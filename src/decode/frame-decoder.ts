@@ -4,7 +4,7 @@
  * time gate so that "time not increasing" arrives as a rejected verdict.
  */
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
-import { parseFrameLine, type LineVerdict } from './frame-line.js';
+import { parseFrameLine, type FrameVerdict, type LineVerdict } from './frame-line.js';
 import { createTimeGate } from './time-gate.js';
 
 export interface DecodedLine {
@@ -37,7 +37,7 @@ export function isBlank(text: string): boolean {
 /** Validation plus the time gate, shared by the live decoder and the file readers. */
 export interface LineJudge {
   /** Judge an already validated (or rejected) verdict against the time order. */
-  gate(verdict: LineVerdict): { verdict: LineVerdict; newSegment: boolean };
+  gate<V extends FrameVerdict>(verdict: V): { verdict: V | { ok: false; reason: string }; newSegment: boolean };
   reset(): void;
 }
 

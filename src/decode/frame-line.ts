@@ -14,6 +14,9 @@ export type LineVerdict =
   | { ok: true; frame: Frame; raw: Record<string, unknown> }
   | { ok: false; reason: string };
 
+/** A verdict for readers that need only the frame (review): an accepted frame may come without its raw object. */
+export type FrameVerdict = { ok: true; frame: Frame; raw?: Record<string, unknown> } | { ok: false; reason: string };
+
 /** Plausibility bounds: values outside are taken as corrupt data, not as flight conditions. */
 export const FRAME_BOUNDS = {
   altMinM: -500,
@@ -73,14 +76,84 @@ export const FrameSchema = z.looseObject({
   mass_kg: z.number().positive().max(FRAME_BOUNDS.massMaxKg).nullish(),
 });
 
-/** A finite number (what a zod number accepts). */
-function isFiniteNumber(value: unknown): value is number {
-  return typeof value === 'number' && value - value === 0;
+/**
+ * The frame keys' values as the fast check sees them, one slot per key in FRAME_KEY_NAMES order: a kind
+ * (absent or null, a number, anything else) and, for a number, its value. Filled from an object
+ * (acceptFrameFast) or straight from the bytes of a line (scanFlatFrameBytes); checked by frameFromSlots.
+ */
+const FRAME_KEY_NAMES = ['t_s', 'ias_mps', 'cas_mps', 'tas_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg'] as const;
+const SLOT_T = 0;
+const SLOT_IAS = 1;
+const SLOT_CAS = 2;
+const SLOT_TAS = 3;
+const SLOT_ALT = 4;
+const SLOT_BANK = 5;
+const SLOT_NZ = 6;
+const SLOT_OAT = 7;
+const SLOT_MASS = 8;
+const KIND_NULLISH = 0;
+const KIND_NUMBER = 1;
+const KIND_OTHER = 2;
+const slotKinds = new Uint8Array(FRAME_KEY_NAMES.length);
+const slotNumbers = new Float64Array(FRAME_KEY_NAMES.length);
+
+/** A slot holding a finite number (what a zod number accepts). */
+function finiteAt(slot: number): boolean {
+  const v = slotNumbers[slot]!;
+  return slotKinds[slot] === KIND_NUMBER && v - v === 0;
 }
 
 /** An optional key: absent or null, or a finite number from min to max. */
-function optionalInRange(value: unknown, min: number, max: number): boolean {
-  return value == null || (isFiniteNumber(value) && value >= min && value <= max);
+function optionalInRange(slot: number, min: number, max: number): boolean {
+  if (slotKinds[slot] === KIND_NULLISH) return true;
+  const v = slotNumbers[slot]!;
+  return finiteAt(slot) && v >= min && v <= max;
+}
+
+/**
+ * The frame of the slots when they pass FrameSchema with exactly one airspeed and a bank or nz, or null for
+ * anything else (the caller then lets the schema name the reason).
+ */
+function frameFromSlots(): Frame | null {
+  if (!finiteAt(SLOT_T) || !finiteAt(SLOT_ALT)) return null;
+  const altM = slotNumbers[SLOT_ALT]!;
+  if (!(altM >= FRAME_BOUNDS.altMinM && altM <= FRAME_BOUNDS.altMaxM)) return null;
+  const hasIas = slotKinds[SLOT_IAS] !== KIND_NULLISH;
+  const hasCas = slotKinds[SLOT_CAS] !== KIND_NULLISH;
+  const hasTas = slotKinds[SLOT_TAS] !== KIND_NULLISH;
+  if ((hasIas ? 1 : 0) + (hasCas ? 1 : 0) + (hasTas ? 1 : 0) !== 1) return null;
+  const speedSlot = hasTas ? SLOT_TAS : hasCas ? SLOT_CAS : SLOT_IAS;
+  if (!finiteAt(speedSlot) || !(slotNumbers[speedSlot]! >= 0)) return null;
+  const hasBank = slotKinds[SLOT_BANK] !== KIND_NULLISH;
+  const hasNz = slotKinds[SLOT_NZ] !== KIND_NULLISH;
+  if (!hasBank && !hasNz) return null;
+  if (
+    !optionalInRange(SLOT_BANK, -FRAME_BOUNDS.bankMaxAbsDeg, FRAME_BOUNDS.bankMaxAbsDeg) ||
+    !optionalInRange(SLOT_NZ, -FRAME_BOUNDS.nzMaxAbs, FRAME_BOUNDS.nzMaxAbs) ||
+    !optionalInRange(SLOT_OAT, FRAME_BOUNDS.oatMinC, FRAME_BOUNDS.oatMaxC) ||
+    !(slotKinds[SLOT_MASS] === KIND_NULLISH || (finiteAt(SLOT_MASS) && slotNumbers[SLOT_MASS]! > 0 && slotNumbers[SLOT_MASS]! <= FRAME_BOUNDS.massMaxKg))
+  ) {
+    return null;
+  }
+  const frame: Frame = {
+    tS: slotNumbers[SLOT_T]!,
+    airspeedKind: hasTas ? 'tas' : hasCas ? 'cas' : 'ias',
+    airspeedMps: slotNumbers[speedSlot]!,
+    altM,
+  };
+  if (hasBank) frame.bankDeg = slotNumbers[SLOT_BANK]!;
+  if (hasNz) frame.nz = slotNumbers[SLOT_NZ]!;
+  if (slotKinds[SLOT_OAT] !== KIND_NULLISH) frame.oatC = slotNumbers[SLOT_OAT]!;
+  if (slotKinds[SLOT_MASS] !== KIND_NULLISH) frame.massKg = slotNumbers[SLOT_MASS]!;
+  return frame;
+}
+
+function setSlot(slot: number, value: unknown): void {
+  if (value === undefined || value === null) slotKinds[slot] = KIND_NULLISH;
+  else if (typeof value === 'number') {
+    slotKinds[slot] = KIND_NUMBER;
+    slotNumbers[slot] = value;
+  } else slotKinds[slot] = KIND_OTHER;
 }
 
 /**
@@ -88,46 +161,8 @@ function optionalInRange(value: unknown, min: number, max: number): boolean {
  * else (the caller then lets the schema name the reason). Same verdicts as the schema path, without its cost.
  */
 export function acceptFrameFast(raw: Record<string, unknown>): Frame | null {
-  const tS = raw['t_s'];
-  const ias = raw['ias_mps'];
-  const cas = raw['cas_mps'];
-  const tas = raw['tas_mps'];
-  const altM = raw['alt_m'];
-  const bankDeg = raw['bank_deg'];
-  const nz = raw['nz'];
-  const oatC = raw['oat_c'];
-  const massKg = raw['mass_kg'];
-  if (!isFiniteNumber(tS) || !isFiniteNumber(altM) || !(altM >= FRAME_BOUNDS.altMinM && altM <= FRAME_BOUNDS.altMaxM)) return null;
-  let airspeedKind: AirspeedKind;
-  let airspeedMps: unknown;
-  if (tas != null) {
-    if (ias != null || cas != null) return null;
-    airspeedKind = 'tas';
-    airspeedMps = tas;
-  } else if (cas != null) {
-    if (ias != null) return null;
-    airspeedKind = 'cas';
-    airspeedMps = cas;
-  } else if (ias != null) {
-    airspeedKind = 'ias';
-    airspeedMps = ias;
-  } else return null;
-  if (!isFiniteNumber(airspeedMps) || !(airspeedMps >= 0)) return null;
-  if (bankDeg == null && nz == null) return null;
-  if (
-    !optionalInRange(bankDeg, -FRAME_BOUNDS.bankMaxAbsDeg, FRAME_BOUNDS.bankMaxAbsDeg) ||
-    !optionalInRange(nz, -FRAME_BOUNDS.nzMaxAbs, FRAME_BOUNDS.nzMaxAbs) ||
-    !optionalInRange(oatC, FRAME_BOUNDS.oatMinC, FRAME_BOUNDS.oatMaxC) ||
-    !(massKg == null || (isFiniteNumber(massKg) && massKg > 0 && massKg <= FRAME_BOUNDS.massMaxKg))
-  ) {
-    return null;
-  }
-  const frame: Frame = { tS, airspeedKind, airspeedMps, altM };
-  if (bankDeg != null) frame.bankDeg = bankDeg as number;
-  if (nz != null) frame.nz = nz as number;
-  if (oatC != null) frame.oatC = oatC as number;
-  if (massKg != null) frame.massKg = massKg as number;
-  return frame;
+  for (let k = 0; k < FRAME_KEY_NAMES.length; k++) setSlot(k, raw[FRAME_KEY_NAMES[k]!]);
+  return frameFromSlots();
 }
 
 /** Validate an already-parsed object (a JSON line or a mapped CSV row). */
@@ -198,4 +233,201 @@ function judgeLineText(line: string, mayHoldDelOrReplacement: boolean): LineVerd
     return { ok: false, reason: text.startsWith('{') && !text.endsWith('}') ? 'invalid JSON (truncated line?)' : 'invalid JSON' };
   }
   return validateFrameObject(parsed);
+}
+
+/**
+ * The verdict of parseAsciiFrameLine without the raw object, for a line given also as bytes: `bytes` from `start`
+ * to `end` are the line's text (plain ASCII, no DEL; the line ending removed, or a CR left at the end). A flat
+ * object of plain values is read straight from the bytes (scanFlatFrameBytes) and, when it is an accepted frame,
+ * needs neither JSON.parse nor the schema; any other line takes parseAsciiFrameLine. Same verdict either way.
+ */
+export function judgeAsciiFrameBytes(bytes: Uint8Array, start: number, end: number, text: string): FrameVerdict {
+  const last = bytes[end - 1] === CR ? end - 2 : end - 1;
+  if (bytes[start] === OPEN_BRACE && bytes[last] === CLOSE_BRACE && scanFlatFrameBytes(bytes, start, last + 1)) {
+    const frame = frameFromSlots();
+    if (frame !== null) return { ok: true, frame };
+  }
+  return parseAsciiFrameLine(text);
+}
+
+const SPACE = 0x20;
+const TAB = 0x09;
+const LF = 0x0a;
+const CR = 0x0d;
+const QUOTE = 0x22;
+const COMMA = 0x2c;
+const MINUS = 0x2d;
+const DOT = 0x2e;
+const DIGIT_0 = 0x30;
+const DIGIT_9 = 0x39;
+const COLON = 0x3a;
+const OPEN_BRACE = 0x7b;
+const CLOSE_BRACE = 0x7d;
+
+/** Index of the first byte at or after i (before end) that is not JSON whitespace. */
+function skipJsonSpace(bytes: Uint8Array, i: number, end: number): number {
+  while (i < end) {
+    const c = bytes[i]!;
+    if (c !== SPACE && c !== TAB && c !== LF && c !== CR) return i;
+    i++;
+  }
+  return i;
+}
+
+function isDigitAt(bytes: Uint8Array, i: number, end: number): boolean {
+  if (i >= end) return false;
+  const c = bytes[i]!;
+  return c >= DIGIT_0 && c <= DIGIT_9;
+}
+
+/** Powers of ten held exactly by a double (10^0 … 10^22). */
+const EXACT_POWERS_OF_TEN = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
+/** Decimal digits of an integer that a double always holds exactly (< 2^53). */
+const EXACT_DIGITS = 15;
+
+/** Where the last scanned number ended (the scanner returns the value and leaves its end here). */
+let numberEnd = 0;
+
+/**
+ * The JSON number (RFC 8259 grammar) starting at i, or undefined when there is none; its end goes to numberEnd.
+ * The value is the one JSON.parse gives: with at most 15 significant digits and a power of ten up to 22, the
+ * digits and the power are exact doubles and one IEEE division or product rounds correctly (the classic exact
+ * case of decimal-to-binary conversion); other numbers go through Number(), which rounds correctly too.
+ */
+function scanJsonNumber(bytes: Uint8Array, start: number, end: number): number | undefined {
+  let i = start;
+  const negative = bytes[i] === MINUS;
+  if (negative) i++;
+  let mantissa = 0;
+  let digits = 0;
+  if (!isDigitAt(bytes, i, end)) return undefined;
+  if (bytes[i] === DIGIT_0) i++;
+  else {
+    for (; isDigitAt(bytes, i, end); i++) {
+      mantissa = mantissa * 10 + (bytes[i]! - DIGIT_0);
+      digits++;
+    }
+  }
+  let fractionDigits = 0;
+  if (i < end && bytes[i] === DOT) {
+    const fractionStart = ++i;
+    for (; isDigitAt(bytes, i, end); i++) {
+      mantissa = mantissa * 10 + (bytes[i]! - DIGIT_0);
+      if (mantissa !== 0) digits++;
+    }
+    fractionDigits = i - fractionStart;
+    if (fractionDigits === 0) return undefined;
+  }
+  let exponent = 0;
+  let exactExponent = true;
+  if (i < end && (bytes[i]! | 0x20) === 0x65 /* e or E */) {
+    i++;
+    const sign = i < end ? bytes[i] : undefined;
+    if (sign === 0x2b || sign === MINUS) i++;
+    const exponentStart = i;
+    for (; isDigitAt(bytes, i, end); i++) exponent = exponent * 10 + (bytes[i]! - DIGIT_0);
+    if (i === exponentStart) return undefined;
+    if (i - exponentStart > 3) exactExponent = false;
+    if (sign === MINUS) exponent = -exponent;
+  }
+  numberEnd = i;
+  const power = exponent - fractionDigits;
+  if (!exactExponent || digits > EXACT_DIGITS || power > 22 || power < -22) {
+    return Number(Buffer.from(bytes.buffer, bytes.byteOffset + start, i - start).toString('latin1'));
+  }
+  const magnitude = power < 0 ? mantissa / EXACT_POWERS_OF_TEN[-power]! : mantissa * EXACT_POWERS_OF_TEN[power]!;
+  return negative ? -magnitude : magnitude;
+}
+
+/** End of the JSON string whose opening quote is at i (just after its closing quote), or -1 for escapes or controls. */
+function plainJsonStringEnd(bytes: Uint8Array, i: number, end: number): number {
+  for (let j = i + 1; j < end; j++) {
+    const c = bytes[j]!;
+    if (c === QUOTE) return j + 1;
+    if (c === 0x5c /* backslash */ || c < SPACE) return -1;
+  }
+  return -1;
+}
+
+/** Which frame key the bytes from start (length bytes) name: its index in FRAME_KEY_NAMES, or -1. */
+function frameKeyAt(bytes: Uint8Array, start: number, length: number): number {
+  // The candidate from the length and the first letter, then a check of every byte.
+  const first = bytes[start];
+  let k = -1;
+  if (length === 2) k = 6;
+  else if (length === 3) k = 0;
+  else if (length === 5) k = first === 0x61 /* a */ ? 4 : 7;
+  else if (length === 7) k = first === 0x69 /* i */ ? 1 : first === 0x63 /* c */ ? 2 : first === 0x74 /* t */ ? 3 : 8;
+  else if (length === 8) k = 5;
+  if (k < 0) return -1;
+  const name = FRAME_KEY_NAMES[k]!;
+  for (let j = 0; j < length; j++) if (bytes[start + j] !== name.charCodeAt(j)) return -1;
+  return k;
+}
+
+/** Stands for a value that is not a number or null (a string or a boolean): validation rejects it. */
+const OTHER_VALUE = 'other';
+
+function matchesWord(bytes: Uint8Array, i: number, end: number, word: string): boolean {
+  if (i + word.length > end) return false;
+  for (let j = 0; j < word.length; j++) if (bytes[i + j] !== word.charCodeAt(j)) return false;
+  return true;
+}
+
+/**
+ * Reads ASCII JSON text bytes[start, end) that is exactly one flat object of plain values (numbers, null, true,
+ * false, strings without escapes) into the frame-key slots and returns true; false for any other text — which
+ * then takes the JSON.parse path. For the texts it reads, numbers and nulls are those JSON.parse gives, a later
+ * duplicate key winning as there; strings and booleans count as "anything else".
+ */
+function scanFlatFrameBytes(bytes: Uint8Array, start: number, end: number): boolean {
+  if (bytes[start] !== OPEN_BRACE) return false;
+  slotKinds.fill(KIND_NULLISH);
+  let i = skipJsonSpace(bytes, start + 1, end);
+  if (i < end && bytes[i] === CLOSE_BRACE) return i + 1 === end;
+  for (;;) {
+    if (i >= end || bytes[i] !== QUOTE) return false;
+    const keyEnd = plainJsonStringEnd(bytes, i, end);
+    if (keyEnd < 0) return false;
+    const slot = frameKeyAt(bytes, i + 1, keyEnd - i - 2);
+    i = skipJsonSpace(bytes, keyEnd, end);
+    if (i >= end || bytes[i] !== COLON) return false;
+    i = skipJsonSpace(bytes, i + 1, end);
+    if (i >= end) return false;
+    const c = bytes[i];
+    let kind: number;
+    if (c === QUOTE) {
+      const valueEnd = plainJsonStringEnd(bytes, i, end);
+      if (valueEnd < 0) return false;
+      kind = KIND_OTHER;
+      i = valueEnd;
+    } else if (c === 0x6e /* n */) {
+      if (!matchesWord(bytes, i, end, 'null')) return false;
+      kind = KIND_NULLISH;
+      i += 4;
+    } else if (c === 0x74 /* t */) {
+      if (!matchesWord(bytes, i, end, 'true')) return false;
+      kind = KIND_OTHER;
+      i += 4;
+    } else if (c === 0x66 /* f */) {
+      if (!matchesWord(bytes, i, end, 'false')) return false;
+      kind = KIND_OTHER;
+      i += 5;
+    } else {
+      const value = scanJsonNumber(bytes, i, end);
+      if (value === undefined) return false;
+      kind = KIND_NUMBER;
+      if (slot >= 0) slotNumbers[slot] = value;
+      i = numberEnd;
+    }
+    if (slot >= 0) slotKinds[slot] = kind;
+    i = skipJsonSpace(bytes, i, end);
+    if (i >= end) return false;
+    const next = bytes[i];
+    if (next === COMMA) {
+      i = skipJsonSpace(bytes, i + 1, end);
+      continue;
+    }
+    return next === CLOSE_BRACE && i + 1 === end;
+  }
 }

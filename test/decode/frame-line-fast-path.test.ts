@@ -4,7 +4,16 @@
  */
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
-import { acceptFrameFast, FRAME_BOUNDS, parseAsciiFrameLine, parseFrameLine, validateFrameObject, validateWithSchema } from '../../src/decode/frame-line.js';
+import {
+  acceptFrameFast,
+  FRAME_BOUNDS,
+  judgeAsciiFrameBytes,
+  parseAsciiFrameLine,
+  parseFrameLine,
+  validateFrameObject,
+  validateWithSchema,
+  type FrameVerdict,
+} from '../../src/decode/frame-line.js';
 
 const FRAME_KEYS = ['t_s', 'ias_mps', 'cas_mps', 'tas_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg'] as const;
 
@@ -133,5 +142,98 @@ describe('frame validation fast path', () => {
       }),
       { numRuns: 2000 },
     );
+  });
+});
+
+/** A verdict without the raw object, to compare with judgeAsciiFrameBytes. */
+function withoutRaw(v: FrameVerdict): FrameVerdict {
+  return v.ok ? { ok: true, frame: v.frame } : v;
+}
+
+/** Number texts: valid JSON numbers of every shape, and near misses JSON.parse refuses. */
+const numberText = fc.oneof(
+  fc.double({ noNaN: true, noDefaultInfinity: true }).map((x) => JSON.stringify(x)),
+  fc.tuple(fc.boolean(), fc.bigInt({ min: 0n, max: 10n ** 20n }), fc.nat({ max: 12 }), fc.option(fc.integer({ min: -30, max: 30 }))).map(
+    ([negative, digits, point, exp]) => {
+      const d = digits.toString();
+      const cut = Math.min(point, d.length - 1);
+      const body = cut > 0 ? `${d.slice(0, d.length - cut)}.${d.slice(d.length - cut)}` : d;
+      return `${negative ? '-' : ''}${body}${exp === null ? '' : `e${exp}`}`;
+    },
+  ),
+  fc.constantFrom(
+    '-0', '0', '0.0', '-0.0', '1e400', '-1e400', '1e-400', '01', '1.', '.5', '+1', '-', '1e', '1e+', '1E+2', '0e0', '-0e-0',
+    '9007199254740993', '123456789012345.6', '0.1234567890123456789', '5e-324', '1.7976931348623157e308', '1e22', '1e23',
+    '1e-22', '1e-23', '2.675', '1.005', '0.30000000000000004', '1.5e0003', '1.5e00001', '1e0000000000000000000001', '00',
+  ),
+);
+
+const jsonSpace = fc.constantFrom('', '', ' ', '\t', '  ', '\n');
+const valueText = fc.oneof(
+  { weight: 6, arbitrary: numberText },
+  { weight: 1, arbitrary: fc.constantFrom('null', 'true', 'false', '"x"', '"a\\"b"', '[1]', '{"a":1}', 'nul', 'NaN', 'Infinity', '"\u0001"') },
+);
+const keyText = fc.constantFrom(
+  't_s', 'tas_mps', 'cas_mps', 'ias_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg',
+  'note', '__proto__', 'constructor', 'toString', 'Nz', 't_s ', 'mass_kgx', 'alt_', 't\\u005fs', 'oat_m', 'tas_kgs',
+);
+
+/** Flat objects of frame keys in any order with any spacing, sometimes broken. */
+const objectText = fc
+  .tuple(
+    fc.array(fc.tuple(keyText, jsonSpace, jsonSpace, valueText), { minLength: 0, maxLength: 9 }),
+    fc.tuple(fc.constantFrom(12.5, 0, -3), fc.constantFrom('tas_mps', 'cas_mps', 'ias_mps'), fc.double({ min: 0, max: 40, noNaN: true })),
+    fc.constantFrom('none', 'none', 'none', 'drop-brace', 'trailing-x', 'double-comma', 'leading-space'),
+  )
+  .map(([pairs, [tS, speedKey, speed], damage]) => {
+    const base: Array<[string, string, string, string]> = [['t_s', '', '', String(tS)], [speedKey, '', ' ', JSON.stringify(speed)], ['alt_m', '', '', '120'], ['nz', '', '', '1.2']];
+    const all = [...base, ...pairs].map(([k, s1, s2, v]) => `"${k}"${s1}:${s2}${v}`);
+    let text = `{${all.join(',')}}`;
+    if (damage === 'drop-brace') text = text.slice(0, -1);
+    if (damage === 'trailing-x') text += 'x';
+    if (damage === 'double-comma') text = text.replace(',', ',,');
+    if (damage === 'leading-space') text = ' ' + text;
+    return text;
+  });
+
+describe('reading a frame straight from the bytes of an ASCII line', () => {
+  it('gives the verdict of parseFrameLine, without the raw object (property)', () => {
+    fc.assert(
+      fc.property(objectText, fc.boolean(), (text, crlf) => {
+        const bytes = Buffer.from(crlf ? text + '\r' : text, 'latin1');
+        const v = judgeAsciiFrameBytes(bytes, 0, bytes.length, text);
+        const expected = withoutRaw(parseFrameLine(text));
+        expect(withoutRaw(v)).toEqual(expected);
+        if (v.ok && expected.ok) {
+          // −0 and the exact doubles of JSON.parse, key by key.
+          for (const key of ['tS', 'airspeedMps', 'altM', 'bankDeg', 'nz', 'oatC', 'massKg'] as const) {
+            expect(Object.is(v.frame[key], expected.frame[key])).toBe(true);
+          }
+        }
+      }),
+      { numRuns: 5000 },
+    );
+  });
+
+  it('reads numbers exactly as JSON.parse does (property)', () => {
+    fc.assert(
+      fc.property(numberText, (number) => {
+        const text = `{"t_s":1,"tas_mps":15,"alt_m":0,"nz":${number}}`;
+        const bytes = Buffer.from(text, 'latin1');
+        const v = judgeAsciiFrameBytes(bytes, 0, bytes.length, text);
+        const expected = withoutRaw(parseFrameLine(text));
+        expect(withoutRaw(v)).toEqual(expected);
+        if (v.ok && expected.ok) expect(Object.is(v.frame.nz, expected.frame.nz)).toBe(true);
+      }),
+      { numRuns: 5000 },
+    );
+  });
+
+  it('reads a line in the middle of a larger buffer', () => {
+    const line = '{"t_s":2.5,"tas_mps":17.25,"alt_m":-0,"bank_deg":-0.5e1,"note":"ok"}';
+    const bytes = Buffer.from(`junk\n${line}\r\nmore`, 'latin1');
+    const v = judgeAsciiFrameBytes(bytes, 5, 5 + line.length + 1, line);
+    expect(v).toEqual({ ok: true, frame: { tS: 2.5, airspeedKind: 'tas', airspeedMps: 17.25, altM: -0, bankDeg: -5 } });
+    expect(v.ok && Object.is(v.frame.altM, -0)).toBe(true);
   });
 });

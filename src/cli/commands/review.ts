@@ -3,18 +3,21 @@
  * its limit events, peaks and time in each level (Markdown, JSON or CSV), optionally with the per-frame records
  * and an n–V plot. Memory does not grow with the file. Also the shared reading loop of `turnmargin check`.
  */
-import { closeSync, openSync, writeSync } from 'node:fs';
+import { closeSync, existsSync, openSync, statSync, writeSync } from 'node:fs';
 import { basename } from 'node:path';
+import { Worker } from 'node:worker_threads';
 import type { Aircraft } from '../../core/aircraft.js';
 import { createFlightReviewer, type FlightReview } from '../../core/flight-review.js';
 import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../../core/margins.js';
 import type { MarginRecord } from '../../core/margin-record.js';
-import { readFrameBatches } from '../../decode/read-frames.js';
+import { FRAME_SLOTS, packFrame } from '../../decode/frame-batch.js';
+import { readFrameBatches, type ReadFrameOptions } from '../../decode/read-frames.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from '../../report/review-report.js';
 import { choiceOption, numberOption, requireOption, stringOption, type CommandSpec, type OptionSpec, type ParsedArgs } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
+import type { FrameBatchMessage, ReviewWorkerData } from '../review-worker.js';
 
 /** Options shared by review and check. */
 export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
@@ -124,30 +127,108 @@ function createBlockWriter(path: string): { write(text: string): void; close(): 
   };
 }
 
+/** Files from this size on are reviewed with the computation in a worker thread (below, starting it costs more). */
+const WORKER_MIN_FILE_BYTES = 8 * 1024 * 1024;
+/** Batches read ahead of the worker at most: bounds the memory when the computation is the slower side. */
+const MAX_BATCHES_IN_FLIGHT = 32;
+
+/** The worker script when the file is long enough to pay for a worker (and the built script is there). */
+function reviewWorkerUrl(file: string): URL | undefined {
+  let size: number;
+  try {
+    size = statSync(file).size;
+  } catch {
+    return undefined; // the reader names the problem
+  }
+  if (size < WORKER_MIN_FILE_BYTES) return undefined;
+  const url = new URL('../review-worker.js', import.meta.url);
+  return existsSync(url) ? url : undefined;
+}
+
+async function reviewInThread(input: FlightInput, readOptions: ReadFrameOptions, onRecord?: (rec: MarginRecord) => void): Promise<FlightReview> {
+  const reviewer = createFlightReviewer(input.aircraft, input.margins);
+  for await (const batch of readFrameBatches(input.file, { ...readOptions, raw: false })) {
+    for (const line of batch) {
+      if (line.verdict.ok) {
+        const rec = reviewer.accept(line.verdict.frame, { newSegment: line.newSegment === true || line.afterReconnect === true });
+        onRecord?.(rec);
+      } else {
+        reviewer.reject(line.lineNo, line.verdict.reason);
+      }
+    }
+  }
+  return reviewer.finish();
+}
+
+/**
+ * The same review with the computation in a worker thread: this thread reads and validates, packs the accepted
+ * frames of each batch and hands them over in file order; reading waits while MAX_BATCHES_IN_FLIGHT are queued.
+ */
+async function reviewInWorker(script: URL, input: FlightInput, readOptions: ReadFrameOptions): Promise<FlightReview> {
+  const workerData: ReviewWorkerData = { aircraft: input.aircraft, margins: input.margins };
+  const worker = new Worker(script, { workerData });
+  let inFlight = 0;
+  let failure: Error | undefined;
+  let wake: (() => void) | undefined;
+  let settled = false;
+  const result = new Promise<FlightReview>((resolve, reject) => {
+    const fail = (err: Error): void => {
+      if (settled) return;
+      settled = true;
+      failure = err;
+      reject(err);
+      wake?.();
+    };
+    worker.on('message', (message: { ack?: true; review?: FlightReview }) => {
+      if (message.review) {
+        settled = true;
+        resolve(message.review);
+      } else {
+        inFlight -= 1;
+        wake?.();
+      }
+    });
+    worker.on('error', fail);
+    worker.on('exit', (code) => fail(new Error(`review worker stopped (exit code ${code})`)));
+  });
+  result.catch(() => undefined); // awaited below; failures also stop the reading loop
+  try {
+    for await (const batch of readFrameBatches(input.file, { ...readOptions, raw: false })) {
+      const frames = new Float64Array(batch.length * FRAME_SLOTS);
+      const rejects: Array<number | string> = [];
+      let count = 0;
+      for (const line of batch) {
+        if (line.verdict.ok) packFrame(frames, count++, line.verdict.frame, line.newSegment === true || line.afterReconnect === true);
+        else rejects.push(line.lineNo, line.verdict.reason);
+      }
+      const message: FrameBatchMessage = { frames, count, rejects };
+      worker.postMessage(message, [frames.buffer]);
+      inFlight += 1;
+      while (inFlight >= MAX_BATCHES_IN_FLIGHT && failure === undefined) await new Promise<void>((resolve) => (wake = resolve));
+      if (failure) throw failure;
+    }
+    worker.postMessage({ end: true });
+    return await result;
+  } finally {
+    void worker.terminate();
+  }
+}
+
 /**
  * Read the flight file through the margin computation. `onRecord` sees each margin record (for --per-frame).
  * Throws InputError when the file cannot be read or has no accepted frame.
  */
 export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRecord) => void): Promise<FlightReview> {
-  const reviewer = createFlightReviewer(input.aircraft, input.margins);
   const progress = createProgress(input.file);
-  const readOptions: { mappingPath?: string; onProgress(bytes: number, total: number): void } = { onProgress: progress.update };
+  const readOptions: ReadFrameOptions = { onProgress: progress.update };
   if (input.mappingPath !== undefined) readOptions.mappingPath = input.mappingPath;
+  let review: FlightReview;
   try {
-    for await (const batch of readFrameBatches(input.file, readOptions)) {
-      for (const line of batch) {
-        if (line.verdict.ok) {
-          const rec = reviewer.accept(line.verdict.frame, { newSegment: line.newSegment === true || line.afterReconnect === true });
-          onRecord?.(rec);
-        } else {
-          reviewer.reject(line.lineNo, line.verdict.reason);
-        }
-      }
-    }
+    const worker = onRecord === undefined ? reviewWorkerUrl(input.file) : undefined;
+    review = worker ? await reviewInWorker(worker, input, readOptions) : await reviewInThread(input, readOptions, onRecord);
   } finally {
     progress.done();
   }
-  const review = reviewer.finish();
   if (review.accepted === 0) {
     const first = review.rejects[0];
     throw new InputError([

@@ -1,0 +1,41 @@
+/**
+ * Worker thread of `review` and `check` for long files: the margin computation and the flight review run here
+ * while the main thread reads and validates the next lines, so the two overlap on two cores.
+ *
+ * Messages in: { frames: Float64Array (frame-batch.ts), count, rejects: [lineNo, reason, …] } in file order, then
+ * { end: true }. Out: { ack: true } per batch (the reader's flow control), then { review: FlightReview }.
+ */
+import { parentPort, workerData } from 'node:worker_threads';
+import type { Aircraft } from '../core/aircraft.js';
+import { createFlightReviewer } from '../core/flight-review.js';
+import type { MarginOptions } from '../core/margins.js';
+import { packedNewSegment, unpackFrame } from '../decode/frame-batch.js';
+
+export interface ReviewWorkerData {
+  aircraft: Aircraft;
+  margins: MarginOptions;
+}
+
+export interface FrameBatchMessage {
+  frames: Float64Array;
+  count: number;
+  /** Rejected lines of the batch, in order: line number, reason, line number, reason, … */
+  rejects: Array<number | string>;
+}
+
+const port = parentPort;
+if (port) {
+  const data = workerData as ReviewWorkerData;
+  const reviewer = createFlightReviewer(data.aircraft, data.margins);
+  port.on('message', (message: FrameBatchMessage | { end: true }) => {
+    if ('end' in message) {
+      port.postMessage({ review: reviewer.finish() });
+      port.close();
+      return;
+    }
+    const { frames, count, rejects } = message;
+    for (let i = 0; i < count; i++) reviewer.accept(unpackFrame(frames, i), { newSegment: packedNewSegment(frames, i) });
+    for (let i = 0; i < rejects.length; i += 2) reviewer.reject(rejects[i] as number, rejects[i + 1] as string);
+    port.postMessage({ ack: true });
+  });
+}

@@ -1,0 +1,43 @@
+/**
+ * Accepted frames packed into a Float64Array, to hand a batch of them to another thread without copying objects.
+ * Each frame takes FRAME_SLOTS numbers; an absent optional key is NaN (an accepted frame's values are finite).
+ * Pure: packing then unpacking gives back an equal frame (doubles are stored exactly, −0 included).
+ */
+import type { AirspeedKind, Frame } from '../core/frame.js';
+
+export const FRAME_SLOTS = 9;
+
+const KINDS: readonly AirspeedKind[] = ['tas', 'cas', 'ias'];
+
+/** Write the frame at slot `index` of `target`; `newSegment` marks a restart of the computation before it. */
+export function packFrame(target: Float64Array, index: number, frame: Frame, newSegment: boolean): void {
+  const o = index * FRAME_SLOTS;
+  target[o] = frame.tS;
+  target[o + 1] = KINDS.indexOf(frame.airspeedKind);
+  target[o + 2] = frame.airspeedMps;
+  target[o + 3] = frame.altM;
+  target[o + 4] = frame.bankDeg ?? NaN;
+  target[o + 5] = frame.nz ?? NaN;
+  target[o + 6] = frame.oatC ?? NaN;
+  target[o + 7] = frame.massKg ?? NaN;
+  target[o + 8] = newSegment ? 1 : 0;
+}
+
+/** The frame at slot `index`, with its keys in the order validation builds them. */
+export function unpackFrame(source: Float64Array, index: number): Frame {
+  const o = index * FRAME_SLOTS;
+  const frame: Frame = { tS: source[o]!, airspeedKind: KINDS[source[o + 1]!]!, airspeedMps: source[o + 2]!, altM: source[o + 3]! };
+  const bankDeg = source[o + 4]!;
+  const nz = source[o + 5]!;
+  const oatC = source[o + 6]!;
+  const massKg = source[o + 7]!;
+  if (bankDeg === bankDeg) frame.bankDeg = bankDeg;
+  if (nz === nz) frame.nz = nz;
+  if (oatC === oatC) frame.oatC = oatC;
+  if (massKg === massKg) frame.massKg = massKg;
+  return frame;
+}
+
+export function packedNewSegment(source: Float64Array, index: number): boolean {
+  return source[index * FRAME_SLOTS + 8] === 1;
+}
