@@ -17,7 +17,7 @@ export interface ReviewWorkerData {
 }
 
 export interface FrameBatchMessage {
-  frames: Float64Array;
+  frames: Float64Array<ArrayBuffer>;
   count: number;
   /** Rejected lines of the batch, in order: line number, reason, line number, reason, … */
   rejects: Array<number | string>;

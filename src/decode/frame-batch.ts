@@ -11,15 +11,44 @@ const KINDS: readonly AirspeedKind[] = ['tas', 'cas', 'ias'];
 
 /** Write the frame at slot `index` of `target`; `newSegment` marks a restart of the computation before it. */
 export function packFrame(target: Float64Array, index: number, frame: Frame, newSegment: boolean): void {
+  packFrameValues(
+    target,
+    index,
+    frame.tS,
+    frame.airspeedKind,
+    frame.airspeedMps,
+    frame.altM,
+    frame.bankDeg ?? NaN,
+    frame.nz ?? NaN,
+    frame.oatC ?? NaN,
+    frame.massKg ?? NaN,
+    newSegment,
+  );
+}
+
+/** packFrame from the frame's values, NaN for an absent optional key. */
+export function packFrameValues(
+  target: Float64Array,
+  index: number,
+  tS: number,
+  airspeedKind: AirspeedKind,
+  airspeedMps: number,
+  altM: number,
+  bankDeg: number,
+  nz: number,
+  oatC: number,
+  massKg: number,
+  newSegment: boolean,
+): void {
   const o = index * FRAME_SLOTS;
-  target[o] = frame.tS;
-  target[o + 1] = KINDS.indexOf(frame.airspeedKind);
-  target[o + 2] = frame.airspeedMps;
-  target[o + 3] = frame.altM;
-  target[o + 4] = frame.bankDeg ?? NaN;
-  target[o + 5] = frame.nz ?? NaN;
-  target[o + 6] = frame.oatC ?? NaN;
-  target[o + 7] = frame.massKg ?? NaN;
+  target[o] = tS;
+  target[o + 1] = KINDS.indexOf(airspeedKind);
+  target[o + 2] = airspeedMps;
+  target[o + 3] = altM;
+  target[o + 4] = bankDeg;
+  target[o + 5] = nz;
+  target[o + 6] = oatC;
+  target[o + 7] = massKg;
   target[o + 8] = newSegment ? 1 : 0;
 }
 

@@ -5,7 +5,7 @@
  */
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
 import { parseFrameLine, type FrameVerdict, type LineVerdict } from './frame-line.js';
-import { createTimeGate } from './time-gate.js';
+import { createTimeGate, type TimeGate } from './time-gate.js';
 
 export interface DecodedLine {
   /** 1-based: the line's number in its file, or the count of lines received on a live link. */
@@ -38,6 +38,8 @@ export function isBlank(text: string): boolean {
 export interface LineJudge {
   /** Judge an already validated (or rejected) verdict against the time order. */
   gate<V extends FrameVerdict>(verdict: V): { verdict: V | { ok: false; reason: string }; newSegment: boolean };
+  /** The time check alone, for an accepted frame's t_s (what gate applies to an accepted verdict). */
+  checkTime(tS: number): ReturnType<TimeGate['check']>;
   reset(): void;
 }
 
@@ -50,6 +52,7 @@ export function createLineJudge(): LineJudge {
       if (!order.ok) return { verdict: { ok: false, reason: order.reason }, newSegment: false };
       return { verdict, newSegment: order.newSegment };
     },
+    checkTime: (tS) => timeGate.check(tS),
     reset: () => timeGate.reset(),
   };
 }

@@ -9,6 +9,7 @@
  */
 import { z } from 'zod';
 import type { AirspeedKind, Frame } from '../core/frame.js';
+import { packFrameValues } from './frame-batch.js';
 
 export type LineVerdict =
   | { ok: true; frame: Frame; raw: Record<string, unknown> }
@@ -110,42 +111,59 @@ function optionalInRange(slot: number, min: number, max: number): boolean {
   return finiteAt(slot) && v >= min && v <= max;
 }
 
+/** The airspeed slot of the slots last accepted by slotsAccepted. */
+let acceptedSpeedSlot = SLOT_TAS;
+
 /**
- * The frame of the slots when they pass FrameSchema with exactly one airspeed and a bank or nz, or null for
- * anything else (the caller then lets the schema name the reason).
+ * Whether the slots pass FrameSchema with exactly one airspeed and a bank or nz (then acceptedSpeedSlot names the
+ * airspeed); false for anything else (the caller then lets the schema name the reason).
  */
-function frameFromSlots(): Frame | null {
-  if (!finiteAt(SLOT_T) || !finiteAt(SLOT_ALT)) return null;
+function slotsAccepted(): boolean {
+  if (!finiteAt(SLOT_T) || !finiteAt(SLOT_ALT)) return false;
   const altM = slotNumbers[SLOT_ALT]!;
-  if (!(altM >= FRAME_BOUNDS.altMinM && altM <= FRAME_BOUNDS.altMaxM)) return null;
+  if (!(altM >= FRAME_BOUNDS.altMinM && altM <= FRAME_BOUNDS.altMaxM)) return false;
   const hasIas = slotKinds[SLOT_IAS] !== KIND_NULLISH;
   const hasCas = slotKinds[SLOT_CAS] !== KIND_NULLISH;
   const hasTas = slotKinds[SLOT_TAS] !== KIND_NULLISH;
-  if ((hasIas ? 1 : 0) + (hasCas ? 1 : 0) + (hasTas ? 1 : 0) !== 1) return null;
+  if ((hasIas ? 1 : 0) + (hasCas ? 1 : 0) + (hasTas ? 1 : 0) !== 1) return false;
   const speedSlot = hasTas ? SLOT_TAS : hasCas ? SLOT_CAS : SLOT_IAS;
-  if (!finiteAt(speedSlot) || !(slotNumbers[speedSlot]! >= 0)) return null;
-  const hasBank = slotKinds[SLOT_BANK] !== KIND_NULLISH;
-  const hasNz = slotKinds[SLOT_NZ] !== KIND_NULLISH;
-  if (!hasBank && !hasNz) return null;
+  if (!finiteAt(speedSlot) || !(slotNumbers[speedSlot]! >= 0)) return false;
+  if (slotKinds[SLOT_BANK] === KIND_NULLISH && slotKinds[SLOT_NZ] === KIND_NULLISH) return false;
   if (
     !optionalInRange(SLOT_BANK, -FRAME_BOUNDS.bankMaxAbsDeg, FRAME_BOUNDS.bankMaxAbsDeg) ||
     !optionalInRange(SLOT_NZ, -FRAME_BOUNDS.nzMaxAbs, FRAME_BOUNDS.nzMaxAbs) ||
     !optionalInRange(SLOT_OAT, FRAME_BOUNDS.oatMinC, FRAME_BOUNDS.oatMaxC) ||
     !(slotKinds[SLOT_MASS] === KIND_NULLISH || (finiteAt(SLOT_MASS) && slotNumbers[SLOT_MASS]! > 0 && slotNumbers[SLOT_MASS]! <= FRAME_BOUNDS.massMaxKg))
   ) {
-    return null;
+    return false;
   }
+  acceptedSpeedSlot = speedSlot;
+  return true;
+}
+
+function airspeedKindOfSlot(slot: number): AirspeedKind {
+  return slot === SLOT_TAS ? 'tas' : slot === SLOT_CAS ? 'cas' : 'ias';
+}
+
+/** The frame of the slots when slotsAccepted, else null. */
+function frameFromSlots(): Frame | null {
+  if (!slotsAccepted()) return null;
   const frame: Frame = {
     tS: slotNumbers[SLOT_T]!,
-    airspeedKind: hasTas ? 'tas' : hasCas ? 'cas' : 'ias',
-    airspeedMps: slotNumbers[speedSlot]!,
-    altM,
+    airspeedKind: airspeedKindOfSlot(acceptedSpeedSlot),
+    airspeedMps: slotNumbers[acceptedSpeedSlot]!,
+    altM: slotNumbers[SLOT_ALT]!,
   };
-  if (hasBank) frame.bankDeg = slotNumbers[SLOT_BANK]!;
-  if (hasNz) frame.nz = slotNumbers[SLOT_NZ]!;
+  if (slotKinds[SLOT_BANK] !== KIND_NULLISH) frame.bankDeg = slotNumbers[SLOT_BANK]!;
+  if (slotKinds[SLOT_NZ] !== KIND_NULLISH) frame.nz = slotNumbers[SLOT_NZ]!;
   if (slotKinds[SLOT_OAT] !== KIND_NULLISH) frame.oatC = slotNumbers[SLOT_OAT]!;
   if (slotKinds[SLOT_MASS] !== KIND_NULLISH) frame.massKg = slotNumbers[SLOT_MASS]!;
   return frame;
+}
+
+/** A slot's number, or NaN when the key is absent or null. */
+function slotOrNaN(slot: number): number {
+  return slotKinds[slot] === KIND_NULLISH ? NaN : slotNumbers[slot]!;
 }
 
 function setSlot(slot: number, value: unknown): void {
@@ -250,6 +268,38 @@ export function judgeAsciiFrameBytes(bytes: Uint8Array, start: number, end: numb
   return parseAsciiFrameLine(text);
 }
 
+/**
+ * judgeAsciiFrameBytes without building anything: true when the line is a flat frame object read from the bytes
+ * and accepted — then acceptedFrameTime() and packAcceptedFrame() give it; false means "judge it the usual way"
+ * (judgeAsciiFrameBytes or parseAsciiFrameLine then give the verdict, a rejection or the same frame).
+ */
+export function acceptAsciiFrameBytes(bytes: Uint8Array, start: number, end: number): boolean {
+  const last = bytes[end - 1] === CR ? end - 2 : end - 1;
+  return bytes[start] === OPEN_BRACE && bytes[last] === CLOSE_BRACE && scanFlatFrameBytes(bytes, start, last + 1) && slotsAccepted();
+}
+
+/** t_s of the frame last accepted by acceptAsciiFrameBytes. */
+export function acceptedFrameTime(): number {
+  return slotNumbers[SLOT_T]!;
+}
+
+/** Packs the frame last accepted by acceptAsciiFrameBytes at slot `index` (frame-batch.ts), as packFrame would. */
+export function packAcceptedFrame(target: Float64Array, index: number, newSegment: boolean): void {
+  packFrameValues(
+    target,
+    index,
+    slotNumbers[SLOT_T]!,
+    airspeedKindOfSlot(acceptedSpeedSlot),
+    slotNumbers[acceptedSpeedSlot]!,
+    slotNumbers[SLOT_ALT]!,
+    slotOrNaN(SLOT_BANK),
+    slotOrNaN(SLOT_NZ),
+    slotOrNaN(SLOT_OAT),
+    slotOrNaN(SLOT_MASS),
+    newSegment,
+  );
+}
+
 const SPACE = 0x20;
 const TAB = 0x09;
 const LF = 0x0a;
@@ -285,22 +335,20 @@ const EXACT_POWERS_OF_TEN = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`
 /** Decimal digits of an integer that a double always holds exactly (< 2^53). */
 const EXACT_DIGITS = 15;
 
-/** Where the last scanned number ended (the scanner returns the value and leaves its end here). */
-let numberEnd = 0;
-
 /**
- * The JSON number (RFC 8259 grammar) starting at i, or undefined when there is none; its end goes to numberEnd.
- * The value is the one JSON.parse gives: with at most 15 significant digits and a power of ten up to 22, the
- * digits and the power are exact doubles and one IEEE division or product rounds correctly (the classic exact
- * case of decimal-to-binary conversion); other numbers go through Number(), which rounds correctly too.
+ * Reads the JSON number (RFC 8259 grammar) starting at `start` into slotNumbers[slot] (when slot ≥ 0) and returns
+ * where it ends, or -1 when there is none. The value is the one JSON.parse gives: with at most 15 significant
+ * digits and a power of ten up to 22, the digits and the power are exact doubles and one IEEE division or product
+ * rounds correctly (the classic exact case of decimal-to-binary conversion); other numbers go through Number(),
+ * which rounds correctly too.
  */
-function scanJsonNumber(bytes: Uint8Array, start: number, end: number): number | undefined {
+function scanJsonNumber(bytes: Uint8Array, start: number, end: number, slot: number): number {
   let i = start;
   const negative = bytes[i] === MINUS;
   if (negative) i++;
   let mantissa = 0;
   let digits = 0;
-  if (!isDigitAt(bytes, i, end)) return undefined;
+  if (!isDigitAt(bytes, i, end)) return -1;
   if (bytes[i] === DIGIT_0) i++;
   else {
     for (; isDigitAt(bytes, i, end); i++) {
@@ -316,7 +364,7 @@ function scanJsonNumber(bytes: Uint8Array, start: number, end: number): number |
       if (mantissa !== 0) digits++;
     }
     fractionDigits = i - fractionStart;
-    if (fractionDigits === 0) return undefined;
+    if (fractionDigits === 0) return -1;
   }
   let exponent = 0;
   let exactExponent = true;
@@ -326,17 +374,19 @@ function scanJsonNumber(bytes: Uint8Array, start: number, end: number): number |
     if (sign === 0x2b || sign === MINUS) i++;
     const exponentStart = i;
     for (; isDigitAt(bytes, i, end); i++) exponent = exponent * 10 + (bytes[i]! - DIGIT_0);
-    if (i === exponentStart) return undefined;
+    if (i === exponentStart) return -1;
     if (i - exponentStart > 3) exactExponent = false;
     if (sign === MINUS) exponent = -exponent;
   }
-  numberEnd = i;
+  if (slot < 0) return i;
   const power = exponent - fractionDigits;
   if (!exactExponent || digits > EXACT_DIGITS || power > 22 || power < -22) {
-    return Number(Buffer.from(bytes.buffer, bytes.byteOffset + start, i - start).toString('latin1'));
+    slotNumbers[slot] = Number(Buffer.from(bytes.buffer, bytes.byteOffset + start, i - start).toString('latin1'));
+  } else {
+    const magnitude = power < 0 ? mantissa / EXACT_POWERS_OF_TEN[-power]! : mantissa * EXACT_POWERS_OF_TEN[power]!;
+    slotNumbers[slot] = negative ? -magnitude : magnitude;
   }
-  const magnitude = power < 0 ? mantissa / EXACT_POWERS_OF_TEN[-power]! : mantissa * EXACT_POWERS_OF_TEN[power]!;
-  return negative ? -magnitude : magnitude;
+  return i;
 }
 
 /** End of the JSON string whose opening quote is at i (just after its closing quote), or -1 for escapes or controls. */
@@ -349,6 +399,8 @@ function plainJsonStringEnd(bytes: Uint8Array, i: number, end: number): number {
   return -1;
 }
 
+const FRAME_KEY_BYTES = FRAME_KEY_NAMES.map((name) => Buffer.from(name, 'latin1'));
+
 /** Which frame key the bytes from start (length bytes) name: its index in FRAME_KEY_NAMES, or -1. */
 function frameKeyAt(bytes: Uint8Array, start: number, length: number): number {
   // The candidate from the length and the first letter, then a check of every byte.
@@ -360,8 +412,9 @@ function frameKeyAt(bytes: Uint8Array, start: number, length: number): number {
   else if (length === 7) k = first === 0x69 /* i */ ? 1 : first === 0x63 /* c */ ? 2 : first === 0x74 /* t */ ? 3 : 8;
   else if (length === 8) k = 5;
   if (k < 0) return -1;
-  const name = FRAME_KEY_NAMES[k]!;
-  for (let j = 0; j < length; j++) if (bytes[start + j] !== name.charCodeAt(j)) return -1;
+  const name = FRAME_KEY_BYTES[k]!;
+  if (name.length !== length) return -1;
+  for (let j = 0; j < length; j++) if (bytes[start + j] !== name[j]) return -1;
   return k;
 }
 
@@ -414,11 +467,9 @@ function scanFlatFrameBytes(bytes: Uint8Array, start: number, end: number): bool
       kind = KIND_OTHER;
       i += 5;
     } else {
-      const value = scanJsonNumber(bytes, i, end);
-      if (value === undefined) return false;
+      i = scanJsonNumber(bytes, i, end, slot);
+      if (i < 0) return false;
       kind = KIND_NUMBER;
-      if (slot >= 0) slotNumbers[slot] = value;
-      i = numberEnd;
     }
     if (slot >= 0) slotKinds[slot] = kind;
     i = skipJsonSpace(bytes, i, end);

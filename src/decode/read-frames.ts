@@ -9,9 +9,10 @@ import { createReadStream, readFileSync, statSync } from 'node:fs';
 import { basename, extname } from 'node:path';
 import { InputError } from '../cli/errors.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
+import { FRAME_SLOTS, packFrame } from './frame-batch.js';
 import { csvRow, splitCsvLine } from './csv.js';
 import { createLineJudge, cutReason, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
-import { judgeAsciiFrameBytes, parseAsciiFrameLine, parseFrameLine, validateFrameObject, type FrameVerdict, type LineVerdict } from './frame-line.js';
+import { acceptAsciiFrameBytes, acceptedFrameTime, judgeAsciiFrameBytes, packAcceptedFrame, parseAsciiFrameLine, parseFrameLine, validateFrameObject, type FrameVerdict, type LineVerdict } from './frame-line.js';
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
 import { applyMapping, parseMapping, type ColumnMapping } from './mapping.js';
 
@@ -199,8 +200,55 @@ export async function* readFrameFile(path: string, options: ReadFrameOptions = {
 export function readFrameBatches(path: string, options?: ReadFrameOptions & { raw?: true }): AsyncGenerator<FileLine[]>;
 export function readFrameBatches(path: string, options: ReadFrameOptions & { raw: false }): AsyncGenerator<FrameLine[]>;
 export async function* readFrameBatches(path: string, options: ReadFrameOptions & { raw?: boolean } = {}): AsyncGenerator<FrameLine[]> {
-  const withRaw = options.raw !== false;
-  const mapping = options.mappingPath !== undefined ? loadMappingFile(options.mappingPath) : undefined;
+  const reader = createLineReader(path, options.mappingPath, options.raw !== false);
+  for await (const batch of physicalBatches(path, options)) {
+    const out: FrameLine[] = [];
+    for (const physical of batch) {
+      const line = reader.judge(physical);
+      if (line !== null) out.push(line);
+    }
+    if (out.length > 0) yield out;
+  }
+}
+
+/** The accepted frames of a batch of lines packed for another thread (frame-batch.ts), and the rejected lines. */
+export interface PackedFrameBatch {
+  frames: Float64Array<ArrayBuffer>;
+  count: number;
+  /** Rejected lines in order: line number, reason, line number, reason, … */
+  rejects: Array<number | string>;
+}
+
+/**
+ * readFrameBatches for a reader that hands the frames to another thread: each batch's accepted frames packed
+ * (packFrame, with the new-segment mark of a clock restart or a reconnect) and its rejected lines with their
+ * reasons. A plain NDJSON frame line is read from its bytes straight into the batch, without objects.
+ */
+export async function* readFramePackedBatches(path: string, options: ReadFrameOptions = {}): AsyncGenerator<PackedFrameBatch> {
+  const reader = createLineReader(path, options.mappingPath, false);
+  for await (const batch of physicalBatches(path, options)) {
+    const frames = new Float64Array(batch.length * FRAME_SLOTS);
+    const rejects: Array<number | string> = [];
+    let count = 0;
+    for (const physical of batch) {
+      if (reader.plainNdjson() && physical.ascii && acceptAsciiFrameBytes(physical.block, physical.start, physical.end)) {
+        const order = reader.checkTime(acceptedFrameTime());
+        if (order.ok) packAcceptedFrame(frames, count++, order.newSegment);
+        else rejects.push(physical.physicalNo, order.reason);
+        continue;
+      }
+      const line = reader.judge(physical);
+      if (line === null) continue;
+      if (line.verdict.ok) packFrame(frames, count++, line.verdict.frame, line.newSegment === true || line.afterReconnect === true);
+      else rejects.push(line.lineNo, line.verdict.reason);
+    }
+    if (count > 0 || rejects.length > 0) yield { frames, count, rejects };
+  }
+}
+
+/** The per-line judging of readFrameBatches, with the state carried from line to line (format, header, time). */
+function createLineReader(path: string, mappingPath: string | undefined, withRaw: boolean) {
+  const mapping = mappingPath !== undefined ? loadMappingFile(mappingPath) : undefined;
   const judge = createLineJudge();
   let format: FileFormat | undefined = formatFromExtension(path);
   let header: string[] | undefined;
@@ -224,78 +272,82 @@ export async function* readFrameBatches(path: string, options: ReadFrameOptions 
     return objectVerdict(parsed);
   };
 
-  for await (const batch of physicalBatches(path, options)) {
-    const out: FrameLine[] = [];
-    for (const physical of batch) {
-      const { physicalNo, cut } = physical;
-      const text = physical.decoded !== undefined ? withoutLineEnd(physical.decoded) : lineText(lineBytes(physical));
-      if (first && !cut) {
-        if (isBlank(text)) continue;
-        if (text.startsWith(RECORDING_MAGIC)) {
-          format = 'recording';
-          first = false;
-          continue;
-        }
-        if (format === undefined && !text.startsWith('#')) {
-          // A CSV header holds the delimiter; anything else (JSON, or noise before the first frame) reads as NDJSON.
-          format = !text.trimStart().startsWith('{') && text.includes(mapping?.delimiter ?? ',') ? 'csv' : 'ndjson';
-        }
-        if (!text.startsWith('#')) first = false;
+  const judgeLine = (physical: PhysicalLine): FrameLine | null => {
+    const { physicalNo, cut } = physical;
+    const text = physical.decoded !== undefined ? withoutLineEnd(physical.decoded) : lineText(lineBytes(physical));
+    if (first && !cut) {
+      if (isBlank(text)) return null;
+      if (text.startsWith(RECORDING_MAGIC)) {
+        format = 'recording';
+        first = false;
+        return null;
       }
-
-      let verdict: FrameVerdict;
-      let shown = text;
-      let receivedAtMs: number | undefined;
-      if (format === 'recording') {
-        const entry = decodeEntry(lineBytes(physical));
-        if (entry.kind === 'meta') continue;
-        if (entry.kind === 'link') {
-          if (entry.state === 'open') {
-            if (sawOpen) reconnectPending = true;
-            sawOpen = true;
-          }
-          continue;
-        }
-        if (entry.kind === 'bad') {
-          verdict = { ok: false, reason: entry.reason };
-        } else {
-          shown = lineText(entry.bytes);
-          receivedAtMs = entry.receivedAtMs;
-          if (!entry.cut && isBlank(shown)) continue;
-          verdict = entry.cut ? { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) } : jsonVerdict(shown);
-        }
-      } else if (cut) {
-        verdict = { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) };
-      } else if (isBlank(text)) {
-        continue;
-      } else if (format === 'csv') {
-        if (text.startsWith('#')) continue;
-        if (header === undefined) {
-          header = splitCsvLine(text, mapping?.delimiter ?? ',');
-          continue;
-        }
-        const row = csvRow(header, text, mapping?.delimiter ?? ',');
-        verdict = row.ok ? objectVerdict(row.row) : row;
-      } else {
-        verdict =
-          mapping || !physical.ascii
-            ? jsonVerdict(text)
-            : withRaw
-              ? parseAsciiFrameLine(text)
-              : judgeAsciiFrameBytes(physical.block, physical.start, physical.end, text);
+      if (format === undefined && !text.startsWith('#')) {
+        // A CSV header holds the delimiter; anything else (JSON, or noise before the first frame) reads as NDJSON.
+        format = !text.trimStart().startsWith('{') && text.includes(mapping?.delimiter ?? ',') ? 'csv' : 'ndjson';
       }
-
-      if (reconnectPending) judge.reset();
-      const gated = judge.gate(verdict);
-      const line: FrameLine = { lineNo: physicalNo, text: shown, verdict: gated.verdict };
-      if (gated.newSegment) line.newSegment = true;
-      if (receivedAtMs !== undefined) line.receivedAtMs = receivedAtMs;
-      if (reconnectPending) {
-        line.afterReconnect = true;
-        reconnectPending = false;
-      }
-      out.push(line);
+      if (!text.startsWith('#')) first = false;
     }
-    if (out.length > 0) yield out;
-  }
+
+    let verdict: FrameVerdict;
+    let shown = text;
+    let receivedAtMs: number | undefined;
+    if (format === 'recording') {
+      const entry = decodeEntry(lineBytes(physical));
+      if (entry.kind === 'meta') return null;
+      if (entry.kind === 'link') {
+        if (entry.state === 'open') {
+          if (sawOpen) reconnectPending = true;
+          sawOpen = true;
+        }
+        return null;
+      }
+      if (entry.kind === 'bad') {
+        verdict = { ok: false, reason: entry.reason };
+      } else {
+        shown = lineText(entry.bytes);
+        receivedAtMs = entry.receivedAtMs;
+        if (!entry.cut && isBlank(shown)) return null;
+        verdict = entry.cut ? { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) } : jsonVerdict(shown);
+      }
+    } else if (cut) {
+      verdict = { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) };
+    } else if (isBlank(text)) {
+      return null;
+    } else if (format === 'csv') {
+      if (text.startsWith('#')) return null;
+      if (header === undefined) {
+        header = splitCsvLine(text, mapping?.delimiter ?? ',');
+        return null;
+      }
+      const row = csvRow(header, text, mapping?.delimiter ?? ',');
+      verdict = row.ok ? objectVerdict(row.row) : row;
+    } else {
+      verdict =
+        mapping || !physical.ascii
+          ? jsonVerdict(text)
+          : withRaw
+            ? parseAsciiFrameLine(text)
+            : judgeAsciiFrameBytes(physical.block, physical.start, physical.end, text);
+    }
+
+    if (reconnectPending) judge.reset();
+    const gated = judge.gate(verdict);
+    const line: FrameLine = { lineNo: physicalNo, text: shown, verdict: gated.verdict };
+    if (gated.newSegment) line.newSegment = true;
+    if (receivedAtMs !== undefined) line.receivedAtMs = receivedAtMs;
+    if (reconnectPending) {
+      line.afterReconnect = true;
+      reconnectPending = false;
+    }
+    return line;
+  };
+
+  return {
+    judge: judgeLine,
+    /** The lines now read are NDJSON frames without a mapping, past the first line, with no reconnect pending. */
+    plainNdjson: (): boolean => format === 'ndjson' && !first && !mapping && !reconnectPending,
+    /** The time check of an accepted frame judged outside judge(). */
+    checkTime: (tS: number) => judge.checkTime(tS),
+  };
 }

@@ -9,8 +9,10 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { createFrameDecoder } from '../../src/decode/frame-decoder.js';
 import { DEFAULT_MAX_LINE_BYTES } from '../../src/decode/line-splitter.js';
-import { readFrameBatches, readFrameFile } from '../../src/decode/read-frames.js';
-import { encodeHeader, encodeLine } from '../../src/recording/format.js';
+import { FRAME_SLOTS, packedNewSegment, packFrame, unpackFrame } from '../../src/decode/frame-batch.js';
+import { readFrameBatches, readFramePackedBatches, readFrameFile } from '../../src/decode/read-frames.js';
+import type { Frame } from '../../src/core/frame.js';
+import { encodeHeader, encodeLine, encodeLinkEvent } from '../../src/recording/format.js';
 import { frameLine } from '../helpers/frames.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'tm-batches-'));
@@ -151,5 +153,88 @@ describe('readFrameFile reading by chunks', () => {
     }
     expect(batches).toBeGreaterThan(1);
     expect(batched).toEqual(await readAll(path));
+  });
+});
+
+/** Accepted frames (with the restart mark) and rejected lines, as readFrameFile gives them. */
+async function framesAndRejects(path: string): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, string]> }> {
+  const frames: Array<[Frame, boolean]> = [];
+  const rejects: Array<[number, string]> = [];
+  for await (const l of readFrameFile(path)) {
+    if (l.verdict.ok) frames.push([l.verdict.frame, l.newSegment === true || l.afterReconnect === true]);
+    else rejects.push([l.lineNo, l.verdict.reason]);
+  }
+  return { frames, rejects };
+}
+
+async function packedFramesAndRejects(path: string): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, string]> }> {
+  const frames: Array<[Frame, boolean]> = [];
+  const rejects: Array<[number, string]> = [];
+  for await (const batch of readFramePackedBatches(path)) {
+    expect(batch.frames.length).toBeGreaterThanOrEqual(batch.count * FRAME_SLOTS);
+    for (let i = 0; i < batch.count; i++) frames.push([unpackFrame(batch.frames, i), packedNewSegment(batch.frames, i)]);
+    for (let i = 0; i < batch.rejects.length; i += 2) rejects.push([batch.rejects[i] as number, batch.rejects[i + 1] as string]);
+  }
+  return { frames, rejects };
+}
+
+describe('packed batches for the review worker', () => {
+  it('pack and unpack give back an equal frame, -0 and absent keys included', () => {
+    const frames: Frame[] = [
+      { tS: 1.5, airspeedKind: 'tas', airspeedMps: 20, altM: -0 },
+      { tS: -0, airspeedKind: 'cas', airspeedMps: 0, altM: 20_000, bankDeg: -180, nz: 20, oatC: -0, massKg: 10_000 },
+      { tS: 3, airspeedKind: 'ias', airspeedMps: 12.25, altM: 100, nz: -1.5 },
+    ];
+    const packed = new Float64Array(frames.length * FRAME_SLOTS);
+    frames.forEach((f, i) => packFrame(packed, i, f, i === 1));
+    frames.forEach((f, i) => {
+      const back = unpackFrame(packed, i);
+      expect(back).toEqual(f);
+      expect(Object.keys(back)).toEqual(Object.keys(f));
+      for (const key of Object.keys(f) as Array<keyof Frame>) expect(Object.is(back[key], f[key])).toBe(true);
+      expect(packedNewSegment(packed, i)).toBe(i === 1);
+    });
+  });
+
+  it('carry the frames and rejections of readFrameFile, in order, whatever the file holds (property)', async () => {
+    await fc.assert(
+      fc.asyncProperty(fc.array(piece, { minLength: 1, maxLength: 12 }), fc.boolean(), fc.boolean(), async (pieces, crlf, finalNewline) => {
+        const path = writeTemp(buildFile(pieces, crlf, finalNewline));
+        const packed = await packedFramesAndRejects(path);
+        const expected = await framesAndRejects(path);
+        expect(packed).toEqual(expected);
+        packed.frames.forEach(([f], i) => expect(Object.is(f.altM, expected.frames[i]![0].altM)).toBe(true));
+      }),
+      { numRuns: 30 },
+    );
+  });
+
+  it('carry clock restarts, reconnects of a recording and CSV rows like readFrameFile', async () => {
+    const clock = Array.from({ length: 40 }, (_, i) => frameLine({ t_s: i < 20 ? 100 + i : i - 20 }));
+    const ndjson = join(dir, 'restart.ndjson');
+    writeFileSync(ndjson, ['radio boot', ...clock, '{"t_s":5,"tas_mps":20,"alt_m":0,"nz":1}', '{"t_s" : 50, "tas_mps" : 20, "alt_m" : 0, "nz" : 1}'].join('\n'));
+    const t0 = 1_700_000_000_000;
+    const recording = join(dir, 'reconnect.tmrec');
+    writeFileSync(
+      recording,
+      Buffer.concat([
+        encodeHeader('test link', t0),
+        encodeLinkEvent(t0, 'open'),
+        ...clock.slice(0, 10).map((l, i) => encodeLine(t0 + i, Buffer.from(l), false)),
+        encodeLinkEvent(t0 + 20, 'open'),
+        ...clock.slice(0, 10).map((l, i) => encodeLine(t0 + 30 + i, Buffer.from(l), false)),
+      ]),
+    );
+    const csv = join(dir, 'rows.csv');
+    writeFileSync(csv, 't_s,tas_mps,alt_m,nz\n0,20,100,1\n1,fast,100,1\n2,21,100,1.1\n');
+    for (const path of [ndjson, recording, csv]) {
+      const packed = await packedFramesAndRejects(path);
+      expect(packed).toEqual(await framesAndRejects(path));
+      expect(packed.frames.length).toBeGreaterThan(0);
+    }
+    const restarted = await packedFramesAndRejects(ndjson);
+    expect(restarted.frames.filter(([, newSegment]) => newSegment)).toHaveLength(1);
+    const reconnected = await packedFramesAndRejects(recording);
+    expect(reconnected.frames.map(([, mark]) => mark).indexOf(true)).toBe(10);
   });
 });

@@ -10,8 +10,7 @@ import type { Aircraft } from '../../core/aircraft.js';
 import { createFlightReviewer, type FlightReview } from '../../core/flight-review.js';
 import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../../core/margins.js';
 import type { MarginRecord } from '../../core/margin-record.js';
-import { FRAME_SLOTS, packFrame } from '../../decode/frame-batch.js';
-import { readFrameBatches, type ReadFrameOptions } from '../../decode/read-frames.js';
+import { readFrameBatches, readFramePackedBatches, type ReadFrameOptions } from '../../decode/read-frames.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from '../../report/review-report.js';
 import { choiceOption, numberOption, requireOption, stringOption, type CommandSpec, type OptionSpec, type ParsedArgs } from '../args.js';
@@ -193,16 +192,9 @@ async function reviewInWorker(script: URL, input: FlightInput, readOptions: Read
   });
   result.catch(() => undefined); // awaited below; failures also stop the reading loop
   try {
-    for await (const batch of readFrameBatches(input.file, { ...readOptions, raw: false })) {
-      const frames = new Float64Array(batch.length * FRAME_SLOTS);
-      const rejects: Array<number | string> = [];
-      let count = 0;
-      for (const line of batch) {
-        if (line.verdict.ok) packFrame(frames, count++, line.verdict.frame, line.newSegment === true || line.afterReconnect === true);
-        else rejects.push(line.lineNo, line.verdict.reason);
-      }
-      const message: FrameBatchMessage = { frames, count, rejects };
-      worker.postMessage(message, [frames.buffer]);
+    for await (const batch of readFramePackedBatches(input.file, readOptions)) {
+      const message: FrameBatchMessage = batch;
+      worker.postMessage(message, [batch.frames.buffer]);
       inFlight += 1;
       while (inFlight >= MAX_BATCHES_IN_FLIGHT && failure === undefined) await new Promise<void>((resolve) => (wake = resolve));
       if (failure) throw failure;
