@@ -31,13 +31,45 @@ export interface ParsedArgs {
 
 const HELP_OPTION: OptionSpec = { name: 'help', type: 'boolean', short: 'h', description: 'show this help' };
 
+const NEGATIVE_NUMBER = /^-(\d|\.\d)/;
+
+/**
+ * parseArgs takes "-5" after an option for another option; a value that reads as a negative number (an OAT, an
+ * ISA deviation, an altitude below sea level) is joined to its option as "--oat=-5" first.
+ */
+export function joinNegativeValues(spec: CommandSpec, argv: readonly string[]): string[] {
+  const takesValue = new Set<string>();
+  for (const o of spec.options) {
+    if (o.type !== 'string') continue;
+    takesValue.add(`--${o.name}`);
+    if (o.short) takesValue.add(`-${o.short}`);
+  }
+  const out: string[] = [];
+  for (let i = 0; i < argv.length; i++) {
+    const arg = argv[i]!;
+    const next = argv[i + 1];
+    if (arg === '--') {
+      out.push(...argv.slice(i));
+      break;
+    }
+    if (takesValue.has(arg) && next !== undefined && NEGATIVE_NUMBER.test(next)) {
+      out.push(arg.startsWith('--') ? `${arg}=${next}` : `${arg}${next}`);
+      i++;
+    } else {
+      out.push(arg);
+    }
+  }
+  return out;
+}
+
 export function parseCommandArgs(spec: CommandSpec, argv: string[]): ParsedArgs {
   const options: Record<string, { type: 'string' | 'boolean'; short?: string }> = {};
   for (const o of [...spec.options, HELP_OPTION]) {
     options[o.name] = o.short ? { type: o.type, short: o.short } : { type: o.type };
   }
   try {
-    const { values, positionals } = parseArgs({ args: argv, options, allowPositionals: true, strict: true });
+    const args = joinNegativeValues(spec, argv);
+    const { values, positionals } = parseArgs({ args, options, allowPositionals: true, strict: true });
     return { values: values as Record<string, string | boolean | undefined>, positionals };
   } catch (err) {
     const msg = (err as Error).message.replace(/\. To specify a positional argument.*$/s, '');
@@ -45,19 +77,31 @@ export function parseCommandArgs(spec: CommandSpec, argv: string[]): ParsedArgs 
   }
 }
 
-export function formatHelp(spec: CommandSpec): string {
-  const lines = [`turnmargin ${spec.name} — ${spec.summary}`, '', `usage: ${spec.usage}`, '', 'options:'];
-  const rows = [...spec.options, HELP_OPTION].map((o) => {
+function optionRows(spec: CommandSpec): Array<readonly [string, string]> {
+  return [...spec.options, HELP_OPTION].map((o) => {
     const flag = `${o.short ? `-${o.short}, ` : ''}--${o.name}${o.type === 'string' ? ` ${o.valueName ?? 'VALUE'}` : ''}`;
     const extras: string[] = [];
     if (o.unit) extras.push(`unit: ${o.unit}`);
     if (o.defaultText) extras.push(`default: ${o.defaultText}`);
     return [flag, `${o.description}${extras.length ? ` (${extras.join('; ')})` : ''}`] as const;
   });
+}
+
+function formatRows(rows: Array<readonly [string, string]>): string[] {
   const width = Math.min(30, Math.max(...rows.map(([f]) => f.length)));
-  for (const [flag, text] of rows) {
-    lines.push(flag.length > width ? `  ${flag}\n  ${' '.repeat(width)}  ${text}` : `  ${flag.padEnd(width)}  ${text}`);
-  }
+  return rows.map(([flag, text]) =>
+    flag.length > width ? `  ${flag}\n  ${' '.repeat(width)}  ${text}` : `  ${flag.padEnd(width)}  ${text}`,
+  );
+}
+
+/** A heading and the option rows of one command (for the overall help). */
+export function formatOptionList(spec: CommandSpec, heading: string): string {
+  return [`${heading} options:`, ...formatRows(optionRows(spec)), ''].join('\n');
+}
+
+export function formatHelp(spec: CommandSpec): string {
+  const lines = [`turnmargin ${spec.name} — ${spec.summary}`, '', `usage: ${spec.usage}`, '', 'options:'];
+  lines.push(...formatRows(optionRows(spec)));
   if (spec.notes?.length) lines.push('', ...spec.notes.flatMap((n) => [n, '']));
   return lines.join('\n').trimEnd() + '\n';
 }

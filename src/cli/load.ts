@@ -3,7 +3,7 @@ import { readFileSync } from 'node:fs';
 import { basename } from 'node:path';
 import { parseAircraft, type Aircraft } from '../core/aircraft.js';
 import { ThresholdsSchema, resolveThresholds, type AlertThresholds } from '../core/thresholds.js';
-import { describeIssues } from '../core/validation.js';
+import { parseLenient } from '../core/validation.js';
 import { InputError } from './errors.js';
 
 /** Read and parse a JSON input file; InputError naming the file when it cannot be read or parsed. */
@@ -24,17 +24,23 @@ export function readJson(path: string, what: string): unknown {
   }
 }
 
+function warn(lines: readonly string[]): void {
+  for (const line of lines) process.stderr.write(`turnmargin: warning: ${line}\n`);
+}
+
 export function loadAircraftFile(path: string): Aircraft {
   const json = readJson(path, 'airframe');
   const result = parseAircraft(json, basename(path));
   if (!result.ok) throw new InputError(result.problems);
+  warn(result.warnings);
   return result.value;
 }
 
 /** Thresholds from a file, layered over the airframe's own (which are over the defaults). */
 export function loadThresholdsFile(path: string, base: AlertThresholds): AlertThresholds {
   const json = readJson(path, 'thresholds');
-  const result = ThresholdsSchema.safeParse(json);
-  if (!result.success) throw new InputError(describeIssues(basename(path), json, result.error.issues));
-  return resolveThresholds(result.data, base);
+  const result = parseLenient(ThresholdsSchema, json, basename(path));
+  if (!result.ok) throw new InputError(result.problems);
+  warn(result.warnings);
+  return resolveThresholds(result.value, base);
 }

@@ -4,7 +4,7 @@
  * (0 ok, 1 check failed, 2 unusable input or usage). Commands are loaded lazily so that headless commands start
  * fast and never load the dashboard libraries.
  */
-import { formatHelp, parseCommandArgs, type CommandSpec, type ParsedArgs } from './args.js';
+import { formatHelp, formatOptionList, parseCommandArgs, type CommandSpec, type ParsedArgs } from './args.js';
 import { EXIT_UNUSABLE, InputError, UsageError } from './errors.js';
 
 /** What every command module exports. */
@@ -33,9 +33,15 @@ const CAUTION =
   'Advisory tool for test planning and monitoring; not flight-critical. The aircraft\'s approved limits,\n' +
   'the operator\'s procedures and local aviation rules take precedence.';
 
-function mainHelp(): string {
+async function mainHelp(): Promise<string> {
   const width = Math.max(...Object.keys(COMMANDS).map((c) => c.length));
   const rows = Object.entries(COMMANDS).map(([name, c]) => `  ${name.padEnd(width)}  ${c.summary}`);
+  // Every command's options, each with its unit and default (loading a command module loads no dashboard code).
+  const optionSections: string[] = [];
+  for (const [name, entry] of Object.entries(COMMANDS)) {
+    const mod = await entry.load();
+    optionSections.push(formatOptionList(mod.spec, `turnmargin ${name}`));
+  }
   return [
     'turnmargin — how close a turning fixed-wing UAV is to its stall, thrust and structural load-factor limits',
     '',
@@ -44,6 +50,11 @@ function mainHelp(): string {
     'commands:',
     ...rows,
     '',
+    'global options:',
+    '  -h, --help     show this help (turnmargin <command> --help: that command in full)',
+    '  -V, --version  print the version',
+    '',
+    ...optionSections,
     CAUTION,
     '',
   ].join('\n');
@@ -61,7 +72,7 @@ export async function main(argv: string[]): Promise<number> {
       process.stdout.write(formatHelp(mod.spec));
       return 0;
     }
-    process.stdout.write(mainHelp());
+    process.stdout.write(await mainHelp());
     return name === undefined ? EXIT_UNUSABLE : 0;
   }
   if (name === '--version' || name === '-V') {

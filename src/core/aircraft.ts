@@ -5,7 +5,7 @@
 import { z } from 'zod';
 import { G0_MPS2, POUND_KG } from './units.js';
 import { ThresholdsSchema, type AlertThresholds, resolveThresholds } from './thresholds.js';
-import { describeIssues } from './validation.js';
+import { parseLenient, type Checked } from './validation.js';
 
 const positive = (what = 'a positive number') =>
   z.number({ error: `must be ${what}` }).gt(0, { error: `must be ${what}` });
@@ -206,13 +206,16 @@ export function toAircraft(json: AircraftJson): Aircraft {
   return aircraft;
 }
 
-export type ParseResult<T> = { ok: true; value: T } | { ok: false; problems: string[] };
+export type ParseResult<T> = Checked<T>;
 
-/** Validate parsed JSON as an airframe; `label` (usually the file name) starts each problem line. */
+/**
+ * Validate parsed JSON as an airframe; `label` (usually the file name) starts each problem line. Unknown keys are
+ * returned as warnings (they may be typos) unless something else is wrong too.
+ */
 export function parseAircraft(input: unknown, label: string): ParseResult<Aircraft> {
-  const result = AircraftSchema.safeParse(input);
-  if (!result.success) return { ok: false, problems: describeIssues(label, input, result.error.issues) };
-  return { ok: true, value: toAircraft(result.data) };
+  const result = parseLenient(AircraftSchema, input, label);
+  if (!result.ok) return result;
+  return { ok: true, value: toAircraft(result.value), warnings: result.warnings };
 }
 
 /** Weight W = m·g0, N. */

@@ -98,6 +98,18 @@ export function maximizeByScan(f: (x: number) => number | null, lo: number, hi: 
   return best;
 }
 
+function better(a: Optimum | null, b: Optimum | null): Optimum | null {
+  if (a === null) return b;
+  if (b === null) return a;
+  return b.value > a.value ? b : a;
+}
+
+/** A window of 1/200 of the range around a speed, clipped to the range. */
+function nearWindow(speedMps: number, lo: number, hi: number): { lo: number; hi: number } {
+  const half = (hi - lo) / 200;
+  return { lo: Math.max(lo, speedMps - half), hi: Math.min(hi, speedMps + half) };
+}
+
 /** Default speeds for a table: Vs1 to vne (4·Vs1 without vne) in 30 steps. */
 export function defaultSpeeds(stallSpeed: number, topSpeed: number, steps = 30): number[] {
   const speeds: number[] = [];
@@ -119,14 +131,19 @@ export function computeEnvelope(aircraft: Aircraft, conditions: EnvelopeConditio
   let maxRate: Optimum | null = null;
   let minRadius: Optimum | null = null;
   if (turnExists) {
-    maxRate = maximizeByScan((v) => {
+    // The turn may exist only in a narrow band that the coarse scan steps over; searching also around the speed
+    // of the best load factor (which lies inside the band) keeps the three optima consistent.
+    const near = nearWindow(maxN.speedMps, vs1, top);
+    const rate = (v: number): number | null => {
       const n = sustainedN(v);
       return n === null || n <= 1 ? null : (G0_MPS2 * Math.sqrt(n * n - 1)) / v;
-    }, vs1, top);
-    const negRadius = maximizeByScan((v) => {
+    };
+    const negRadiusAt = (v: number): number | null => {
       const n = sustainedN(v);
       return n === null || n <= 1 ? null : -(v * v) / (G0_MPS2 * Math.sqrt(n * n - 1));
-    }, vs1, top);
+    };
+    maxRate = better(maximizeByScan(rate, vs1, top), maximizeByScan(rate, near.lo, near.hi));
+    const negRadius = better(maximizeByScan(negRadiusAt, vs1, top), maximizeByScan(negRadiusAt, near.lo, near.hi));
     if (maxRate) maxRate = { value: (maxRate.value * 180) / Math.PI, speedMps: maxRate.speedMps };
     if (negRadius) minRadius = { value: -negRadius.value, speedMps: negRadius.speedMps };
   }

@@ -68,7 +68,11 @@ export interface TurnGeometry {
 }
 
 /** Level coordinated turn at load factor n: bank = acos(1/n), ω = g√(n²−1)/V, R = V²/(g√(n²−1)). */
+/** Load factors this close to 1 are taken as exactly 1 (a speed computed as Vs1 gives n = 1 ± rounding). */
+const UNIT_LOAD_FACTOR_TOLERANCE = 1e-9;
+
 export function levelTurnAt(loadFactor: number, tasMps: number): TurnGeometry {
+  if (Math.abs(loadFactor - 1) <= UNIT_LOAD_FACTOR_TOLERANCE) return { bankDeg: 0, turnRateDps: 0, radiusM: null };
   if (!(loadFactor >= 1)) return { bankDeg: null, turnRateDps: null, radiusM: null };
   const root = Math.sqrt(loadFactor * loadFactor - 1);
   return {

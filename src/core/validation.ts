@@ -1,6 +1,8 @@
 /** Turns zod issues into user-facing lines: `file: key.path must be … (got value)`. */
 import type { z } from 'zod';
 
+export type Checked<T> = { ok: true; value: T; warnings: string[] } | { ok: false; problems: string[] };
+
 function valueAt(input: unknown, path: ReadonlyArray<PropertyKey>): { found: boolean; value: unknown } {
   let cur: unknown = input;
   for (const key of path) {
@@ -49,4 +51,36 @@ export function describeIssues(label: string, input: unknown, issues: ReadonlyAr
     }
   }
   return lines;
+}
+
+function withoutKeys(input: unknown, path: ReadonlyArray<PropertyKey>, keys: readonly string[]): unknown {
+  if (input === null || typeof input !== 'object') return input;
+  const copy: Record<PropertyKey, unknown> | unknown[] = Array.isArray(input) ? [...input] : { ...(input as object) };
+  if (path.length === 0) {
+    for (const k of keys) delete (copy as Record<string, unknown>)[k];
+    return copy;
+  }
+  const [head, ...rest] = path;
+  (copy as Record<PropertyKey, unknown>)[head!] = withoutKeys((input as Record<PropertyKey, unknown>)[head!], rest, keys);
+  return copy;
+}
+
+/**
+ * Validate with a strict schema, but let unknown keys through as warnings (a misspelt key is worth a word; a file
+ * carrying extra notes of its own is not wrong). Any other problem fails, and the unknown keys are listed with it.
+ */
+export function parseLenient<T>(schema: z.ZodType<T>, input: unknown, label: string): Checked<T> {
+  const first = schema.safeParse(input);
+  if (first.success) return { ok: true, value: first.data, warnings: [] };
+  const unknown = first.error.issues.filter((i) => i.code === 'unrecognized_keys');
+  const others = first.error.issues.filter((i) => i.code !== 'unrecognized_keys');
+  if (others.length > 0) return { ok: false, problems: describeIssues(label, input, first.error.issues) };
+  let stripped = input;
+  for (const issue of unknown) {
+    if (issue.code === 'unrecognized_keys') stripped = withoutKeys(stripped, issue.path, issue.keys);
+  }
+  const second = schema.safeParse(stripped);
+  if (!second.success) return { ok: false, problems: describeIssues(label, input, first.error.issues) };
+  const warnings = describeIssues(label, input, unknown).map((line) => `${line} (ignored)`);
+  return { ok: true, value: second.data, warnings };
 }

@@ -136,6 +136,8 @@ export function formatLinkSummary(h: LinkHealth): string {
   const lines = [
     `link summary — ${h.source}: ${h.state}`,
     `  lines ${h.lines}, accepted ${h.accepted}, rejected ${h.rejected}, gaps ${h.gaps}, clock restarts ${h.clockRestarts}, reconnects ${h.reconnects}`,
+    `  ${h.framesPerS.toFixed(1)} frames/s, ${h.bytesPerS.toFixed(0)} bytes/s (last seconds); ` +
+      (h.sinceLastFrameS === null ? 'no frame received' : `last frame ${h.sinceLastFrameS.toFixed(2)} s ago`),
   ];
   const reasons = Object.entries(h.rejectedByReason).sort((a, b) => b[1] - a[1]);
   for (const [reason, count] of reasons) lines.push(`  rejected ${count}× ${reason}`);

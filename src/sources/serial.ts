@@ -24,7 +24,7 @@ export function createSerialSource(options: SerialSourceOptions): TelemetrySourc
       );
       port.on('data', (chunk: Buffer) => events.data(chunk));
       port.open((err) => {
-        if (err) events.dropped(`cannot open ${options.path}: ${err.message.replace(/^Error: /, '')}`);
+        if (err) events.dropped(describeOpenError(options.path, err));
         else events.opened(options.path);
       });
       return {
@@ -37,4 +37,12 @@ export function createSerialSource(options: SerialSourceOptions): TelemetrySourc
     },
     options,
   );
+}
+
+/** "cannot open PATH: why", without the driver repeating "cannot open PATH" inside its own message. */
+function describeOpenError(path: string, err: Error): string {
+  let why = err.message.replace(/^Error: /, '').trim();
+  const echo = `cannot open ${path}`;
+  if (why.endsWith(echo)) why = why.slice(0, -echo.length).replace(/[,;:\s]+$/, '');
+  return `${echo}: ${why || 'unknown error'}`;
 }

@@ -111,6 +111,16 @@ describe('turnmargin envelope (built CLI)', () => {
     expect(Number(row[7])).toBeCloseTo(bank, 2);
   });
 
+  it('takes negative option values: a cold day below sea level', async () => {
+    const r = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--altitude', '-200', '--oat', '-5', '--speeds', '12', '--format', 'json']);
+    expect(r.code, r.stderr).toBe(0);
+    const out = JSON.parse(r.stdout);
+    expect(out.conditions.altitude_m).toBe(-200);
+    expect(out.conditions.temperature_k).toBeCloseTo(268.15, 6);
+    const cold = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--isa-dev', '-10', '--altitudes', '-200,0', '--format', 'csv']);
+    expect(cold.code, cold.stderr).toBe(0);
+  });
+
   it('lists every option with its unit and default in --help', async () => {
     const r = await runCli(['envelope', '--help']);
     expect(r.code).toBe(0);

@@ -32,7 +32,6 @@ describe('the airframe file', () => {
     ['an unknown thrust model', { thrust: { model: 'jet' } }, /thrust\.model must be "constant", "power" or "table" \(got "jet"\)/],
     ['a polar with neither k nor aspect ratio', { polar: { cd0: 0.03 } }, /polar must give k, or both aspect_ratio and oswald/],
     ['a positive cl_min', { cl_min: 0.5 }, /cl_min must be a negative number \(got 0.5\)/],
-    ['a misspelt key', { mass_kgs: 3 }, /mass_kgs is not a known key/],
     ['an unsorted calibration table', { airspeed_calibration: [[20, 20], [10, 10]] }, /airspeed_calibration\[1\]\[0\] must increase/],
     ['a thrust table with one point', { thrust: { model: 'table', points: [[10, 5]] } }, /thrust\.points must hold at least two/],
     ['a propeller efficiency above 1', { thrust: { model: 'power', power_w: 100, prop_efficiency: 1.5, static_thrust_n: 5 } }, /thrust\.prop_efficiency must be a number above 0 and at most 1 \(got 1.5\)/],
@@ -44,6 +43,24 @@ describe('the airframe file', () => {
       expect(problems.some((p) => pattern.test(p))).toBe(true);
     });
   }
+
+  it('lets an unknown key through with a warning that names it', () => {
+    const result = parseAircraft({ ...exampleAirframeJson(), notes: 'bench airframe', mass_kgs: 3 }, 'airframe.json');
+    expect(result.ok).toBe(true);
+    if (result.ok) {
+      expect(result.warnings).toEqual([
+        'airframe.json: notes is not a known key (ignored)',
+        'airframe.json: mass_kgs is not a known key (ignored)',
+      ]);
+      expect(result.value.massKg).toBe(3.2);
+    }
+  });
+
+  it('names a misspelt key beside the problem it causes', () => {
+    const { mass_kg: _omitted, ...rest } = exampleAirframeJson() as Record<string, unknown>;
+    const problems = problemsFor({ ...rest, mass_kgs: 3.2 });
+    expect(problems.join('\n')).toMatch(/mass_kg is required[\s\S]*mass_kgs is not a known key/);
+  });
 
   it('lists every mistake, not only the first', () => {
     const problems = problemsFor({ ...exampleAirframeJson(), mass_kg: 0, cl_max: 'high', vne_mps: -3, colour: 'red' });

@@ -55,6 +55,29 @@ describe('the turn envelope', () => {
     }
   });
 
+  it('keeps the three optima together when the sustained turn exists only in a narrow speed band', () => {
+    // Thrust known only from 5 to 8.83 m/s, just above Vs1 = 8.811 m/s: the turn exists on a 0.02 m/s band.
+    const ac = exampleAirframe({ thrust: { model: 'table', points: [[5, 14], [8.83, 14]] } });
+    const env = computeEnvelope(ac, SEA_LEVEL);
+    expect(env.maxSustainedLoadFactor!.value).toBeGreaterThan(1);
+    expect(env.maxSustainedTurnRateDps).not.toBeNull();
+    expect(env.minSustainedRadiusM).not.toBeNull();
+    // At the top of the band n = n_stall = q·S·CLmax/W (Anderson ch. 6); rate and radius from the level-turn relations.
+    const n = env.maxSustainedLoadFactor!.value;
+    const v = env.maxSustainedTurnRateDps!.speedMps;
+    expect(env.maxSustainedTurnRateDps!.value).toBeCloseTo((G0_MPS2 * Math.sqrt(n * n - 1)) / v * (180 / Math.PI), 6);
+  });
+
+  it('gives bank 0, rate 0 and no radius at Vs1 (n = 1), not rounding noise', () => {
+    for (const altitudeM of [0, 3000, 7000]) {
+      const env = computeEnvelope(exampleAirframe(), { altitudeM, temperature: {}, massKg: 3.2 });
+      const first = env.points[0]!;
+      expect(first.sustained.bankDeg).toBe(0);
+      expect(first.sustained.turnRateDps).toBe(0);
+      expect(first.sustained.radiusM).toBeNull();
+    }
+  });
+
   it('reports no optima when no sustained turn exists', () => {
     const env = computeEnvelope(exampleAirframe({ thrust: { model: 'constant', thrust_n: 1 } }), SEA_LEVEL);
     expect(env.maxSustainedLoadFactor).toBeNull();

@@ -85,7 +85,10 @@ function speedList(args: ParsedArgs, aircraft: Aircraft, lowDefault: () => numbe
 function limitNotes(aircraft: Aircraft): string[] {
   const notes: string[] = [];
   if (aircraft.nLimitPosSource !== 'file') {
-    notes.push(`n_limit_pos not given: ${aircraft.nLimitPos.toFixed(3)} from the ${aircraft.nLimitPosSource} (normal category, capped at 3.8)`);
+    notes.push(
+      `n_limit_pos not given: ${aircraft.nLimitPos.toFixed(3)} from the ${aircraft.nLimitPosSource} (normal category, capped at 3.8) ` +
+        `at the file's mass_kg ${aircraft.massKg} kg`,
+    );
   }
   if (aircraft.nLimitNegSource !== 'file') {
     notes.push(`n_limit_neg not given: ${aircraft.nLimitNeg.toFixed(3)} from the ${aircraft.nLimitNegSource} (−0.4 × n_limit_pos)`);

@@ -11,9 +11,9 @@ export const spec: CommandSpec = {
   summary: 'play a recorded flight through the monitor',
   usage: 'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
-    { name: 'speed', type: 'string', valueName: 'X', defaultText: '1', description: 'playback speed: 1 = real time, 2 = twice as fast, 0 = as fast as possible' },
+    { name: 'speed', type: 'string', valueName: 'X', unit: '× real time', defaultText: '1', description: 'playback speed: 1 = real time, 2 = twice as fast, 0 = as fast as possible' },
     { name: 'mapping', type: 'string', valueName: 'FILE', description: 'column mapping (JSON) for a foreign log: which column feeds which frame key, in which unit' },
-    { name: 'loop', type: 'boolean', description: 'start again at the end (dashboard only)' },
+    { name: 'loop', type: 'boolean', defaultText: 'off', description: 'start again at the end (dashboard only)' },
     ...COMMON_MONITOR_OPTIONS,
   ],
   notes: [
