@@ -23,6 +23,9 @@ export interface FrameBatchMessage {
   rejects: Array<number | string>;
 }
 
+const NEW_SEGMENT = Object.freeze({ newSegment: true });
+const SAME_SEGMENT = Object.freeze({ newSegment: false });
+
 const port = parentPort;
 if (port) {
   const data = workerData as ReviewWorkerData;
@@ -34,7 +37,7 @@ if (port) {
       return;
     }
     const { frames, count, rejects } = message;
-    for (let i = 0; i < count; i++) reviewer.accept(unpackFrame(frames, i), { newSegment: packedNewSegment(frames, i) });
+    for (let i = 0; i < count; i++) reviewer.accept(unpackFrame(frames, i), packedNewSegment(frames, i) ? NEW_SEGMENT : SAME_SEGMENT);
     for (let i = 0; i < rejects.length; i += 2) reviewer.reject(rejects[i] as number, rejects[i + 1] as string);
     port.postMessage({ ack: true });
   });

@@ -99,7 +99,13 @@ function widen(range: Range | null, value: number): Range {
   return range;
 }
 
-const LIMITS: readonly LimitName[] = ['stall', 'thrust', 'structure'];
+/** The peak raised to the utilization when it is higher (or the first defined). */
+function raisePeak(peak: Peak, utilization: number | null, tS: number): void {
+  if (utilization !== null && (peak.utilization === null || utilization > peak.utilization)) {
+    peak.utilization = utilization;
+    peak.t_s = tS;
+  }
+}
 
 export function createFlightReviewer(aircraft: Aircraft, options?: Partial<MarginOptions>): FlightReviewer {
   const resolved = resolveMarginOptions(aircraft, options);
@@ -165,14 +171,9 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
       }
       events.push(rec);
 
-      for (const limit of LIMITS) {
-        const u = rec.utilization[limit];
-        const peak = peaks[limit];
-        if (u !== null && (peak.utilization === null || u > peak.utilization)) {
-          peak.utilization = u;
-          peak.t_s = rec.t_s;
-        }
-      }
+      raisePeak(peaks.stall, rec.utilization.stall, rec.t_s);
+      raisePeak(peaks.thrust, rec.utilization.thrust, rec.t_s);
+      raisePeak(peaks.structure, rec.utilization.structure, rec.t_s);
       conditions.altitudeM = widen(conditions.altitudeM, rec.alt_m);
       conditions.tasMps = widen(conditions.tasMps, rec.tas_mps);
       conditions.nMeasured = widen(conditions.nMeasured, rec.n_measured);
