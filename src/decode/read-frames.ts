@@ -92,7 +92,18 @@ const FILE_LINE_CAP_BYTES = DEFAULT_MAX_LINE_BYTES + 64;
  * time through the bounded splitter. Decoding a block of whole lines gives the same text as decoding each line: an
  * LF never belongs to a multi-byte sequence.
  */
-async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncGenerator<PhysicalLine[]> {
+/**
+ * Takes the lines of physicalBatches as they are cut, in file order, instead of in arrays. `plain` is offered each
+ * line of an ASCII block (no DEL) first, by its bytes: when it returns true the line is taken care of and no
+ * PhysicalLine is made for it; any other line goes to `line`.
+ */
+interface LineSink {
+  plain(block: Buffer, start: number, end: number, physicalNo: number): boolean;
+  line(line: PhysicalLine): void;
+}
+
+/** With a sink, the batches are empty: one per chunk read, after its lines went to the sink. */
+async function* physicalBatches(path: string, options: ReadFrameOptions, sink?: LineSink): AsyncGenerator<PhysicalLine[]> {
   let size = 0;
   try {
     const st = statSync(path);
@@ -107,9 +118,13 @@ async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncG
   let bytesRead = 0;
   let lastProgress = 0;
 
+  const emit = (line: PhysicalLine, out: PhysicalLine[]): void => {
+    if (sink) sink.line(line);
+    else out.push(line);
+  };
   const fromSplitter = (lines: RawLine[], out: PhysicalLine[]): void => {
     for (const l of lines) {
-      out.push({ physicalNo: physicalNo + 1, block: l.bytes, start: 0, end: l.bytes.length, cut: l.cut, decoded: undefined, ascii: false });
+      emit({ physicalNo: physicalNo + 1, block: l.bytes, start: 0, end: l.bytes.length, cut: l.cut, decoded: undefined, ascii: false }, out);
     }
   };
   /** Lines of chunk[from, to) one at a time through the splitter; `to` is just after an LF or the chunk's end. */
@@ -140,7 +155,9 @@ async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncG
       if (length > FILE_LINE_CAP_BYTES) return from + pos;
       physicalNo += 1;
       if (length > 1 || (length === 1 && text.charCodeAt(pos) !== 0x0d)) {
-        out.push({ physicalNo, block: chunk, start: from + pos, end: from + nl, cut: false, decoded: text.slice(pos, nl), ascii });
+        if (!(ascii && sink?.plain(chunk, from + pos, from + nl, physicalNo))) {
+          emit({ physicalNo, block: chunk, start: from + pos, end: from + nl, cut: false, decoded: text.slice(pos, nl), ascii }, out);
+        }
       }
       if (nl === text.length) return lastLf + 1;
       pos = nl + 1;
@@ -165,7 +182,7 @@ async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncG
         start = lastLf + 1;
       }
       if (start < chunk.length) oneByOne(chunk, start, chunk.length, out);
-      if (out.length > 0) yield out;
+      if (out.length > 0 || sink) yield out;
       if (options.onProgress && bytesRead - lastProgress >= 1 << 20) {
         lastProgress = bytesRead;
         options.onProgress(bytesRead, size);
@@ -177,7 +194,7 @@ async function* physicalBatches(path: string, options: ReadFrameOptions): AsyncG
   }
   const last: PhysicalLine[] = [];
   fromSplitter(splitter.end(), last);
-  if (last.length > 0) yield last;
+  if (last.length > 0 || sink) yield last;
   options.onProgress?.(bytesRead, size);
 }
 
@@ -226,23 +243,43 @@ export interface PackedFrameBatch {
  */
 export async function* readFramePackedBatches(path: string, options: ReadFrameOptions = {}): AsyncGenerator<PackedFrameBatch> {
   const reader = createLineReader(path, options.mappingPath, false);
-  for await (const batch of physicalBatches(path, options)) {
-    const frames = new Float64Array(batch.length * FRAME_SLOTS);
-    const rejects: Array<number | string> = [];
-    let count = 0;
-    for (const physical of batch) {
-      if (reader.plainNdjson() && physical.ascii && acceptAsciiFrameBytes(physical.block, physical.start, physical.end)) {
-        const order = reader.checkTime(acceptedFrameTime());
-        if (order.ok) packAcceptedFrame(frames, count++, order.newSegment);
-        else rejects.push(physical.physicalNo, order.reason);
-        continue;
-      }
+  // A new array per batch: the consumer may transfer the one it was given to another thread.
+  let capacity = 1024;
+  let frames = new Float64Array(capacity * FRAME_SLOTS);
+  let count = 0;
+  let rejects: Array<number | string> = [];
+  const room = (): void => {
+    if (count < capacity) return;
+    capacity *= 2;
+    const larger = new Float64Array(capacity * FRAME_SLOTS);
+    larger.set(frames);
+    frames = larger;
+  };
+  const sink: LineSink = {
+    plain(block, start, end, physicalNo) {
+      if (!reader.plainNdjson() || !acceptAsciiFrameBytes(block, start, end)) return false;
+      const order = reader.checkTime(acceptedFrameTime());
+      if (order.ok) {
+        room();
+        packAcceptedFrame(frames, count++, order.newSegment);
+      } else rejects.push(physicalNo, order.reason);
+      return true;
+    },
+    line(physical) {
       const line = reader.judge(physical);
-      if (line === null) continue;
-      if (line.verdict.ok) packFrame(frames, count++, line.verdict.frame, line.newSegment === true || line.afterReconnect === true);
-      else rejects.push(line.lineNo, line.verdict.reason);
-    }
-    if (count > 0 || rejects.length > 0) yield { frames, count, rejects };
+      if (line === null) return;
+      if (line.verdict.ok) {
+        room();
+        packFrame(frames, count++, line.verdict.frame, line.newSegment === true || line.afterReconnect === true);
+      } else rejects.push(line.lineNo, line.verdict.reason);
+    },
+  };
+  for await (const _chunk of physicalBatches(path, options, sink)) {
+    if (count === 0 && rejects.length === 0) continue;
+    yield { frames, count, rejects };
+    frames = new Float64Array(capacity * FRAME_SLOTS);
+    count = 0;
+    rejects = [];
   }
 }
 

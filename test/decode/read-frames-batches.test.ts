@@ -174,6 +174,8 @@ async function packedFramesAndRejects(path: string): Promise<{ frames: Array<[Fr
     expect(batch.frames.length).toBeGreaterThanOrEqual(batch.count * FRAME_SLOTS);
     for (let i = 0; i < batch.count; i++) frames.push([unpackFrame(batch.frames, i), packedNewSegment(batch.frames, i)]);
     for (let i = 0; i < batch.rejects.length; i += 2) rejects.push([batch.rejects[i] as number, batch.rejects[i + 1] as string]);
+    // As the review does: the batch's array goes to another thread, leaving it detached here.
+    structuredClone(batch.frames.buffer, { transfer: [batch.frames.buffer] });
   }
   return { frames, rejects };
 }

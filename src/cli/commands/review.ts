@@ -129,7 +129,7 @@ function createBlockWriter(path: string): { write(text: string): void; close(): 
 /** Files from this size on are reviewed with the computation in a worker thread (below, starting it costs more). */
 const WORKER_MIN_FILE_BYTES = 8 * 1024 * 1024;
 /** Batches read ahead of the worker at most: bounds the memory when the computation is the slower side. */
-const MAX_BATCHES_IN_FLIGHT = 32;
+const MAX_BATCHES_IN_FLIGHT = 128;
 
 /** The worker script when the file is long enough to pay for a worker (and the built script is there). */
 function reviewWorkerUrl(file: string): URL | undefined {
