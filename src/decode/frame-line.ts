@@ -418,9 +418,6 @@ function frameKeyAt(bytes: Uint8Array, start: number, length: number): number {
   return k;
 }
 
-/** Stands for a value that is not a number or null (a string or a boolean): validation rejects it. */
-const OTHER_VALUE = 'other';
-
 function matchesWord(bytes: Uint8Array, i: number, end: number, word: string): boolean {
   if (i + word.length > end) return false;
   for (let j = 0; j < word.length; j++) if (bytes[i + j] !== word.charCodeAt(j)) return false;

@@ -83,16 +83,6 @@ function lineBytes(line: PhysicalLine): Buffer {
 const FILE_LINE_CAP_BYTES = DEFAULT_MAX_LINE_BYTES + 64;
 
 /**
- * Reads the lines of a file with their 1-based physical numbers, in bounded memory, one batch per chunk read.
- * Blank lines are not returned.
- *
- * Speed: the complete lines of a chunk are decoded at once and cut out of the text when every byte decodes to one
- * character (ASCII, the usual case), so offsets in the text are byte offsets and the length cap can be checked on
- * the text; otherwise, and for a line running over from the previous chunk or past the cap, the lines go one at a
- * time through the bounded splitter. Decoding a block of whole lines gives the same text as decoding each line: an
- * LF never belongs to a multi-byte sequence.
- */
-/**
  * Takes the lines of physicalBatches as they are cut, in file order, instead of in arrays. `plain` is offered each
  * line of an ASCII block (no DEL) first, by its bytes: when it returns true the line is taken care of and no
  * PhysicalLine is made for it; any other line goes to `line`.
@@ -102,7 +92,17 @@ interface LineSink {
   line(line: PhysicalLine): void;
 }
 
-/** With a sink, the batches are empty: one per chunk read, after its lines went to the sink. */
+/**
+ * Reads the lines of a file with their 1-based physical numbers, in bounded memory, one batch per chunk read.
+ * Blank lines are not returned.
+ *
+ * Speed: the complete lines of a chunk are decoded at once and cut out of the text when every byte decodes to one
+ * character (ASCII, the usual case), so offsets in the text are byte offsets and the length cap can be checked on
+ * the text; otherwise, and for a line running over from the previous chunk or past the cap, the lines go one at a
+ * time through the bounded splitter. Decoding a block of whole lines gives the same text as decoding each line: an
+ * LF never belongs to a multi-byte sequence. With a sink, the batches are empty: one per chunk read, after its lines
+ * went to the sink.
+ */
 async function* physicalBatches(path: string, options: ReadFrameOptions, sink?: LineSink): AsyncGenerator<PhysicalLine[]> {
   let size = 0;
   try {
