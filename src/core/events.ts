@@ -13,8 +13,8 @@ export interface LimitEvent {
   end_s: number;
   duration_s: number;
   /**
-   * Highest utilization of the limit while the alert was on. A thrust alert raised because n_thrust = 0 (level
-   * flight not sustainable) has no finite utilization: it counts as Infinity (null in JSON).
+   * Highest utilization of the limit while the alert was on. Frames where n_thrust = 0 (level flight not
+   * sustainable) have no utilization; an event made only of such frames reports Infinity (null in JSON).
    */
   peak_utilization: number;
   peak_t_s: number;
@@ -67,11 +67,18 @@ function startEvent(rec: MarginRecord, limit: LimitName, level: AlertLevel): Lim
   };
 }
 
+/** A finite utilization beats the stand-ins (Infinity for n_thrust = 0, −Infinity for none), so peaks agree with the records. */
+function isNewPeak(u: number | null, peak: number): u is number {
+  if (u === null) return false;
+  if (Number.isFinite(peak)) return Number.isFinite(u) && u > peak;
+  return Number.isFinite(u) || u > peak;
+}
+
 function extendEvent(event: LimitEvent, rec: MarginRecord): void {
   event.end_s = rec.t_s;
   event.duration_s = rec.t_s - event.start_s;
   const u = eventUtilization(rec, event.limit);
-  if (u !== null && u > event.peak_utilization) {
+  if (isNewPeak(u, event.peak_utilization)) {
     event.peak_utilization = u;
     event.peak_t_s = rec.t_s;
     event.speed_at_peak_mps = rec.tas_mps;

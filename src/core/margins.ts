@@ -110,10 +110,17 @@ export function loadFactorFromBank(bankDeg: number): number | null {
 }
 
 /** The frame's measured load factor: nz when present, else 1/cos(bank). */
+/** Bound on a load factor derived from bank alone (the same as the plausibility bound on nz), g. */
+export const MAX_BANK_LOAD_FACTOR = 20;
+
 export function rawLoadFactor(frame: Frame): number {
   if (frame.nz !== undefined) return frame.nz;
-  // Near 90° of bank this is huge, as a level turn there would need: the alerts then err on the safe side.
-  if (frame.bankDeg !== undefined) return 1 / Math.cos((frame.bankDeg * Math.PI) / 180);
+  // Near 90° of bank 1/cos(bank) runs off to infinity; it is held to the plausibility bound of nz (±20 g), which
+  // still raises every alert without letting one absurd frame dominate the peaks and the filter.
+  if (frame.bankDeg !== undefined) {
+    const n = 1 / Math.cos((frame.bankDeg * Math.PI) / 180);
+    return Math.max(-MAX_BANK_LOAD_FACTOR, Math.min(MAX_BANK_LOAD_FACTOR, n));
+  }
   throw new RangeError(`frame at t_s ${frame.tS} has neither bank_deg nor nz`);
 }
 

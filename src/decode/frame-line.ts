@@ -43,6 +43,8 @@ function show(value: unknown): string {
   let text: string;
   if (typeof value === 'string') text = JSON.stringify(value);
   else if (value === undefined) text = 'nothing';
+  // JSON.parse turns an overflowing literal such as 1e999 into ±Infinity, which JSON.stringify would print as null.
+  else if (typeof value === 'number' && !Number.isFinite(value)) text = `${value} (number too large)`;
   else text = JSON.stringify(value) ?? String(value);
   return text.length > 40 ? `${text.slice(0, 37)}...` : text;
 }

@@ -283,6 +283,14 @@ export function checkSummary(review: FlightReview, ctx: ReviewContext, failOn: F
     'peaks: ' +
       LIMITS.map((l) => `${l} ${formatUtilization(review.peaks[l].utilization)}${review.peaks[l].t_s !== null ? ` at ${fixed(review.peaks[l].t_s, 2)} s` : ''}`).join(', '),
   );
+  const notFlying = review.conditions.notFlyingFrames;
+  if (notFlying > 0) {
+    lines.push(
+      notFlying === review.accepted
+        ? 'note: no frame was flying (TAS below 0.5·Vs1 throughout), so no limit could be checked'
+        : `note: ${notFlying} frame${notFlying === 1 ? '' : 's'} below 0.5·Vs1 (not flying: no alerts raised there)`,
+    );
+  }
   if (review.rejected > 0) {
     const byReason = new Map<string, number>();
     for (const r of review.rejects) byReason.set(r.reason, (byReason.get(r.reason) ?? 0) + 1);

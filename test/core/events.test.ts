@@ -120,4 +120,20 @@ describe('limit events', () => {
     expect(e!.peak_utilization).toBe(Infinity);
     expect(JSON.parse(JSON.stringify(e)).peak_utilization).toBeNull();
   });
+
+  it('peaks at the highest real utilization when the event also holds frames with n_thrust = 0', () => {
+    // Example airframe, sea level: at 22.5 m/s n_thrust = (qS/W)·√((T − qS·CD0)/(qS·k)) > 0 with T = η·P/V;
+    // at 24 m/s η·P/V = 5.17 N < qS·CD0 = 5.82 N, so n_thrust = 0 (Anderson ch. 6 relation, hand computation).
+    const tracker = createMarginTracker(exampleAirframe(), { smoothTauS: 0 });
+    const events = createEventTracker();
+    const first = tracker.push({ tS: 0, airspeedKind: 'tas', airspeedMps: 22.5, altM: 0, nz: 2.5 });
+    events.push(first);
+    const second = tracker.push({ tS: 0.1, airspeedKind: 'tas', airspeedMps: 24, altM: 0, nz: 1 });
+    expect(second.n_thrust).toBe(0);
+    events.push(second);
+    const [e] = events.finish();
+    expect(e!.limit).toBe('thrust');
+    expect(e!.peak_utilization).toBeCloseTo(first.utilization.thrust!, 9);
+    expect(e!.peak_t_s).toBe(0);
+  });
 });

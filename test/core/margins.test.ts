@@ -319,10 +319,12 @@ describe('coordination check', () => {
 });
 
 describe('extreme bank without nz', () => {
-  it('does not fail at 90° of bank: 1/cos(bank) is huge and the alerts err on the safe side', () => {
+  it('holds 1/cos(bank) to ±20 g near 90° of bank: the alerts err on the safe side without absurd peaks', () => {
     const rec = single(frame(0, { bankDeg: 90 }));
-    expect(rec.n_measured).toBeGreaterThan(1e6);
+    expect(rec.n_measured).toBe(20);
     expect(rec.level).toBe('warning');
+    expect(single(frame(0, { bankDeg: 60 })).n_measured).toBeCloseTo(2, 9); // FAA-H-8083-25 chart: 60° → 2.0
+    expect(single(frame(0, { bankDeg: -89.99 })).n_measured).toBe(20);
     expect(rec.n_from_bank).toBeNull();
     expect(rec.turn_rate_dps).toBeNull();
   });

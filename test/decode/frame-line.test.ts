@@ -61,6 +61,12 @@ describe('parseFrameLine', () => {
     expect(reason(line)).toBe(expected);
   });
 
+  it('names an overflowing number as too large rather than null', () => {
+    const v = parseFrameLine('{"t_s":0.5,"tas_mps":1e999,"alt_m":100,"bank_deg":10}');
+    expect(v.ok).toBe(false);
+    if (!v.ok) expect(v.reason).toBe('tas_mps must be a finite number ≥ 0 (got Infinity (number too large))');
+  });
+
   it('accepts the edges of the plausible ranges', () => {
     expect(parseFrameLine('{"t_s":1,"tas_mps":0,"alt_m":-500,"bank_deg":-180}').ok).toBe(true);
     expect(parseFrameLine('{"t_s":1,"tas_mps":0,"alt_m":20000,"nz":20}').ok).toBe(true);

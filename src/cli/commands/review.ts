@@ -94,6 +94,22 @@ function createProgress(file: string): { update(bytes: number, total: number): v
  * Writes text to a file in large blocks (bounded buffer), so per-frame output does not hold the flight in memory.
  * The file is created (or replaced: it is derived output) at the first write.
  */
+function describeWriteError(err: unknown): string {
+  switch ((err as NodeJS.ErrnoException).code) {
+    case 'ENOENT':
+      return 'no such directory';
+    case 'EISDIR':
+      return 'is a directory';
+    case 'EACCES':
+    case 'EPERM':
+      return 'permission denied';
+    case 'ENOSPC':
+      return 'disk full';
+    default:
+      return (err as Error).message;
+  }
+}
+
 function createBlockWriter(path: string): { write(text: string): void; close(): void } {
   let fd: number | null = null;
   let buffer: string[] = [];
@@ -104,7 +120,7 @@ function createBlockWriter(path: string): { write(text: string): void; close(): 
       fd ??= openSync(path, 'w');
       writeSync(fd, buffer.join(''));
     } catch (err) {
-      throw new InputError([`${path}: cannot write (${(err as NodeJS.ErrnoException).code ?? (err as Error).message})`]);
+      throw new InputError([`${path}: cannot write (${describeWriteError(err)})`]);
     }
     buffer = [];
     size = 0;
@@ -225,7 +241,10 @@ export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRe
     const first = review.rejects[0];
     throw new InputError([
       `${input.file}: no accepted frame (${review.frames} line${review.frames === 1 ? '' : 's'} read, ${review.rejected} rejected)` +
-        (first ? `; first problem, line ${first.line}: ${first.reason}` : ''),
+        (first ? `; first problem, line ${first.line}: ${first.reason}` : '') +
+        (input.mappingPath === undefined && /\.(csv|tsv|txt|log)$/i.test(input.file)
+          ? ' — if the log has other column names or units, give a --mapping file'
+          : ''),
     ]);
   }
   return review;
