@@ -13,8 +13,8 @@ export function bankForLoadFactorDeg(loadFactor: number): number {
 export interface BankLimits {
   /** From min(stall caution × n_stall, structure caution × n_limit_pos). */
   bankLimitDeg: number;
-  /** As above with thrust caution × n_thrust also in the min; null when the thrust is unknown. */
-  bankSustainedDeg: number | null;
+  /** As above with thrust caution × n_thrust also in the min when n_thrust is known (else the same as bankLimitDeg). */
+  bankSustainedDeg: number;
 }
 
 export function computeBankLimits(
@@ -26,6 +26,6 @@ export function computeBankLimits(
   const nInstant = Math.min(thresholds.stallCaution * nStall, thresholds.structureCaution * nLimitPos);
   return {
     bankLimitDeg: bankForLoadFactorDeg(nInstant),
-    bankSustainedDeg: nThrust === null ? null : bankForLoadFactorDeg(Math.min(nInstant, thresholds.thrustCaution * nThrust)),
+    bankSustainedDeg: bankForLoadFactorDeg(nThrust === null ? nInstant : Math.min(nInstant, thresholds.thrustCaution * nThrust)),
   };
 }

@@ -17,7 +17,7 @@ export interface BankScheduleRow {
   nThrust: number | null;
   nStructural: number;
   bankLimitDeg: number;
-  bankSustainedDeg: number | null;
+  bankSustainedDeg: number;
 }
 
 export interface BankScheduleRequest {

@@ -30,7 +30,8 @@ export interface MarginRecord {
   n_structural: number;
   utilization: Utilization;
   bank_limit_deg: number;
-  bank_sustained_deg: number | null;
+  /** bank_limit_deg with thrust caution × n_thrust also in the min when n_thrust is known. */
+  bank_sustained_deg: number;
   level: Level;
   alerts: ActiveAlert[];
   // --- more keys (the contract allows them) ---

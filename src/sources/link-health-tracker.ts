@@ -96,17 +96,20 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
       rejectedByReason[kind] = (rejectedByReason[kind] ?? 0) + 1;
     },
     snapshot(nowMs, recording) {
+      // Rates over the last whole buckets only (the current one is still filling): a steady stream reads its true
+      // rate instead of dipping by up to one bucket's share.
       const current = Math.floor(nowMs / BUCKET_MS);
+      const fullBuckets = Math.max(1, Math.min(WINDOW_BUCKETS - 1, current - Math.floor(startMs / BUCKET_MS)));
       let frames = 0;
       let bytes = 0;
       for (let i = 0; i < WINDOW_BUCKETS; i++) {
         const index = bucketIndex[i]!;
-        if (index > current - WINDOW_BUCKETS && index <= current) {
+        if (index >= current - fullBuckets && index < current) {
           frames += bucketFrames[i]!;
           bytes += bucketBytes[i]!;
         }
       }
-      const windowS = (WINDOW_BUCKETS * BUCKET_MS) / 1000;
+      const windowS = (fullBuckets * BUCKET_MS) / 1000;
       let shown = state;
       const quietSinceMs = Math.max(lastFrameMs ?? openedMs, openedMs);
       if (state === 'live' && nowMs - quietSinceMs > STALE_AFTER_MS) shown = 'stale';

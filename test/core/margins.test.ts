@@ -150,7 +150,8 @@ describe('limits, utilization and bank limits', () => {
     });
     expect(rec.n_thrust).toBeNull();
     expect(rec.utilization.thrust).toBeNull();
-    expect(rec.bank_sustained_deg).toBeNull();
+    // Contract: the thrust term enters bank_sustained_deg only when n_thrust is known.
+    expect(rec.bank_sustained_deg).toBe(rec.bank_limit_deg);
     expect(rec.alerts.some((a) => a.limit === 'thrust')).toBe(false);
   });
 

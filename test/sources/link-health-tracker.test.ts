@@ -36,6 +36,18 @@ describe('link health tracker', () => {
     expect(h.snapshot(5000).framesPerS).toBe(0);
   });
 
+  it('reads a steady 10 Hz stream as 10 frames/s whatever the moment of the snapshot', () => {
+    const h = createLinkHealthTracker('test', 0);
+    h.status({ kind: 'open', atMs: 0 });
+    for (let i = 0; i < 50; i++) {
+      const atMs = i * 100 + 37;
+      h.line(50, atMs);
+      h.accepted(i * 0.1, atMs, false);
+      // snapshots between this frame and the next, at several phases within the 100 ms buckets
+      if (i >= 10) for (const phaseMs of [0, 13, 62, 99]) expect(h.snapshot(atMs + phaseMs).framesPerS).toBeCloseTo(10, 9);
+    }
+  });
+
   it('counts gaps over 0.5 s, clock restarts and rejections grouped by reason', () => {
     const h = createLinkHealthTracker('test', 0);
     h.accepted(0, 0, false);
