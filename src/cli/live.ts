@@ -239,7 +239,12 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
               togglePause: () => transport.togglePause(),
               changeSpeed: (factor: number) => {
                 const s = transport.state().speed;
-                transport.setSpeed(Math.min(SPEED_MAX, Math.max(SPEED_MIN, (s === 0 ? 1 : s) * factor)));
+                // From "as fast as possible" (0), faster stays there and slower drops to the fastest paced speed.
+                if (s === 0) {
+                  if (factor < 1) transport.setSpeed(SPEED_MAX);
+                  return;
+                }
+                transport.setSpeed(Math.min(SPEED_MAX, Math.max(SPEED_MIN, s * factor)));
               },
               seekBy: (deltaS: number) => transport.seekBy(deltaS),
             }

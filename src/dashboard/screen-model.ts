@@ -165,7 +165,7 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
   const rec = input.record;
   const lines: Line[] = [];
   for (const limit of LIMITS) {
-    const name = LIMIT_LABEL[limit].padEnd(9);
+    const name = LIMIT_LABEL[limit].padEnd(10);
     const cautionAt = alertThreshold(limit, 'caution', input.thresholds);
     const warningAt = alertThreshold(limit, 'warning', input.thresholds);
     const suffixWidth = 10;
@@ -289,7 +289,11 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
             seg('replay ', 'dim'),
             seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS)}`),
             seg(` ×${r.speed === 0 ? 'max' : formatSpeedFactor(r.speed)} `),
-            r.paused ? seg('PAUSED', 'caution') : seg('playing', 'ok'),
+            r.paused
+              ? seg('PAUSED', 'caution')
+              : link?.state === 'ended'
+                ? seg('at the end (← seeks back)', 'dim')
+                : seg('playing', 'ok'),
           ],
           width,
         ),

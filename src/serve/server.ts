@@ -4,8 +4,8 @@
  * a record directory, its own recording file. A message over the size cap is refused with close code 1009 for that
  * client only; a slow reader is dropped before its answers fill memory.
  */
+import { makeDirectory } from '../recording/make-directory.js';
 import { createHash, timingSafeEqual } from 'node:crypto';
-import { mkdirSync } from 'node:fs';
 import type { IncomingMessage } from 'node:http';
 import { join } from 'node:path';
 import { WebSocket, WebSocketServer } from 'ws';
@@ -87,7 +87,7 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
   const clock = options.clock ?? Date.now;
   const maxClients = options.maxClients ?? DEFAULT_MAX_CLIENTS;
   const expected = options.token !== undefined ? digest(options.token) : null;
-  if (options.recordDir !== undefined) mkdirSync(options.recordDir, { recursive: true });
+  if (options.recordDir !== undefined) makeDirectory(options.recordDir);
 
   const summary: ServeSummary = { connections: 0, lines: 0, answered: 0, errors: 0, refused: 0, recordings: [] };
   const open = new Map<WebSocket, { id: number; recorder?: Recorder; stats: () => ServeSessionStats; closed: Promise<void> }>();

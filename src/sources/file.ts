@@ -54,6 +54,14 @@ export function createFileSource(options: FileSourceOptions): FileSource {
   let seekTargetS: number | undefined;
   let wake: (() => void) | undefined;
   let loopDone: Promise<void> = Promise.resolve();
+  /** The play loop is running (false once the file has ended without --loop, until a seek restarts it). */
+  let playing = false;
+  const startPlaying = (): void => {
+    playing = true;
+    loopDone = play().finally(() => {
+      playing = false;
+    });
+  };
   // Pacing anchor: flight time `anchorS` was due at wall time `anchorMs`.
   let anchorS = 0;
   let anchorMs = 0;
@@ -183,7 +191,7 @@ export function createFileSource(options: FileSourceOptions): FileSource {
     start(h) {
       handlers = h;
       h.onStatus({ kind: 'open', atMs: clock(), detail: options.path });
-      loopDone = play();
+      startPlaying();
     },
     async stop() {
       stopped = true;
@@ -217,6 +225,8 @@ export function createFileSource(options: FileSourceOptions): FileSource {
       positionS = target;
       reanchor();
       poke();
+      // After the end of the file a seek plays again from the target.
+      if (!playing && !stopped && handlers) startPlaying();
     },
     state(): ReplayState {
       return { positionS, lengthS, speed, paused };

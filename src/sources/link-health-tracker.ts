@@ -75,6 +75,7 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
           break;
         case 'seek':
           lastTS = undefined;
+          if (state === 'ended') state = 'live'; // a replay sought back after its end plays again
           break;
       }
     },

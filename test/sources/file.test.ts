@@ -39,6 +39,20 @@ describe('file source', () => {
     await p.source.stop();
   });
 
+  it('plays again from the target when sought back after the end of the file', async () => {
+    const path = flight('after-end.ndjson', frameLines(1000, 0, 0.01)); // 9.99 s
+    const p = play(path, 0);
+    await expect.poll(p.ended, { timeout: 5000 }).toBe(true);
+    expect(p.lines).toHaveLength(1000);
+    p.source.seekBy(-5);
+    await expect.poll(() => p.statuses.filter((s) => s.kind === 'ended').length, { timeout: 5000 }).toBe(2);
+    const replayed = p.lines.slice(1000).map(seqOf);
+    expect(replayed[0]).toBeGreaterThanOrEqual(499);
+    expect(replayed[0]).toBeLessThanOrEqual(501);
+    expect(replayed.at(-1)).toBe(999);
+    await p.source.stop();
+  });
+
   it('measures the flight length across a clock restart without counting the jump back', async () => {
     const path = flight('restart.ndjson', [...frameLines(11, 100, 0.1), ...frameLines(11, 0, 0.1)]);
     // 1.0 s before the restart; the 5th frame of the new run (t = 0.4) starts the new segment, then 0.6 s more.

@@ -19,7 +19,7 @@ export const spec: CommandSpec = {
   notes: [
     'FILE is a turnmargin recording (watch --record), NDJSON (one frame per line) or CSV with a header of frame\n' +
       'keys (# comment lines allowed); a mapping file reads logs with other column names and units.',
-    'Dashboard keys: space pause, + and − speed, ← → seek 10 s, q quit.',
+    'Dashboard keys: q quit, space pause, + and − speed, ← → seek 10 s, m mute the bell, u speed units, c clear the trail, ? all keys.',
   ],
 };
 

@@ -1,5 +1,6 @@
 /** `turnmargin serve`: answer an autopilot on the bench with margin records over a websocket. */
-import { mkdirSync, readFileSync } from 'node:fs';
+import { readFileSync } from 'node:fs';
+import { makeDirectory } from '../../recording/make-directory.js';
 import { startServeServer, DEFAULT_MAX_CLIENTS, type ServeServerOptions } from '../../serve/server.js';
 import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import type { MarginOptions } from '../../core/margins.js';
@@ -77,14 +78,16 @@ export async function run(args: ParsedArgs): Promise<number> {
       throw new UsageError(`--listen ${host} is not a loopback address; give --allow-remote to listen on the network`);
     }
     process.stderr.write(
-      `turnmargin: warning: listening on ${host}: anyone who can reach this machine on port ${port || '(chosen)'} can connect` +
-        `${token === undefined ? ' (no --token given)' : ''}\n`,
+      `turnmargin: warning: listening on ${host}, reachable from the network: ` +
+        (token === undefined
+          ? 'anyone who can reach this machine can connect (no --token given)\n'
+          : 'only clients presenting the token are accepted, but the traffic is not encrypted\n'),
     );
   }
   const recordDir = stringOption(args, 'record');
   if (recordDir !== undefined) {
     try {
-      mkdirSync(recordDir, { recursive: true });
+      makeDirectory(recordDir);
     } catch (err) {
       const code = (err as NodeJS.ErrnoException).code;
       const why = code === 'EEXIST' || code === 'ENOTDIR' ? 'not a directory' : code === 'EACCES' ? 'permission denied' : (err as Error).message;
