@@ -4,17 +4,10 @@
  * replayed. No generated line holds an LF (one generated line = one physical line) and none is blank.
  */
 
-/** Small fast seeded PRNG (mulberry32, common practice for reproducible test data). */
-export function seededRandom(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+import { createUniform } from '../../src/sim/noise.js';
+
+/** Seeded uniform generator on [0, 1): the simulator's (mulberry32, common practice for reproducible data). */
+export const seededRandom = createUniform;
 
 export interface FuzzLine {
   bytes: Buffer;
