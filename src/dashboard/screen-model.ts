@@ -269,6 +269,9 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
         width,
       ),
     );
+    if (link.stateDetail && (link.state === 'lost' || link.state === 'ended')) {
+      lines.push(fitLine([seg('why ', 'dim'), seg(link.stateDetail, link.state === 'lost' ? 'caution' : 'dim')], width));
+    }
     if (link.recordingError) {
       lines.push(fitLine([seg('REC ERROR ', 'warning'), seg(link.recordingError, 'warning')], width));
     } else if (link.recordingFile) {
@@ -292,7 +295,7 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
             r.paused
               ? seg('PAUSED', 'caution')
               : link?.state === 'ended'
-                ? seg('at the end (← seeks back)', 'dim')
+                ? seg('at end', 'dim')
                 : seg('playing', 'ok'),
           ],
           width,

@@ -32,7 +32,11 @@ export const MAX_BANK_DEG = 80;
 /** Largest commanded load factor, g. */
 export const MAX_LOAD_FACTOR = 10;
 
-const duration = between(0, MAX_SEGMENT_S).refine((v) => v > 0, { error: `must be a number above 0 and at most ${MAX_SEGMENT_S}` });
+const durationText = `must be a number above 0 and at most ${MAX_SEGMENT_S}`;
+const duration = z
+  .number({ error: durationText })
+  .gt(0, { error: durationText })
+  .lte(MAX_SEGMENT_S, { error: durationText });
 const bank = between(-MAX_BANK_DEG, MAX_BANK_DEG);
 const verticalSpeed = between(-20, 20);
 

@@ -39,6 +39,7 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
   let lastTS: number | undefined;
   let lastFrameMs: number | undefined;
   let openedMs = startMs;
+  let stateDetail: string | null = null;
   // Rate buckets: index = floor(ms / BUCKET_MS).
   const bucketIndex = new Array<number>(WINDOW_BUCKETS).fill(-1);
   const bucketFrames = new Array<number>(WINDOW_BUCKETS).fill(0);
@@ -62,12 +63,15 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
           opens += 1;
           state = 'live';
           openedMs = s.atMs;
+          stateDetail = null;
           break;
         case 'lost':
           state = 'lost';
+          stateDetail = s.detail ?? null;
           break;
         case 'ended':
           state = 'ended';
+          stateDetail = s.detail ?? null;
           break;
         case 'connecting':
           // While retrying after a loss the link stays "lost" for the operator.
@@ -127,6 +131,7 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
         clockRestarts,
         sinceLastFrameS: lastFrameMs === undefined ? null : Math.max(0, (nowMs - lastFrameMs) / 1000),
         reconnects: Math.max(0, opens - 1),
+        stateDetail: shown === 'lost' || shown === 'ended' ? stateDetail : null,
         recordingFile: recording?.file ?? null,
         recordingBytes: recording?.bytes ?? 0,
         recordingError: recording?.error ?? null,

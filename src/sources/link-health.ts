@@ -20,6 +20,8 @@ export interface LinkHealth {
   /** Seconds since the last accepted frame (receive clock), null before the first. */
   sinceLastFrameS: number | null;
   reconnects: number;
+  /** Why the link is lost or ended (e.g. "connection refused"), from the source; null otherwise. */
+  stateDetail: string | null;
   recordingFile: string | null;
   recordingBytes: number;
   /** Last recording write error, if any (the monitor keeps running). */

@@ -93,10 +93,11 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
       await server.kill();
     }
     expect(run.code).toBe(0);
-    expect(run.stderr).toMatch(/link summary — websocket ws:\/\/127\.0\.0\.1:\d+\/: live/);
+    // live, or stale when a loaded machine delivered the whole stream over a second before the signal
+    expect(run.stderr).toMatch(/link summary — websocket ws:\/\/127\.0\.0\.1:\d+\/: (live|stale)/);
     const accepted = jsonLines(run.stdout);
     const rejectedCount = run.stderr.split('\n').filter((l) => l.startsWith('turnmargin: rejected')).length;
-    expect(accepted.length).toBeGreaterThan(400);
+    expect(accepted.length).toBeGreaterThanOrEqual(400); // the poll above saw at least 400 complete lines
     expect(accepted.length).toBeLessThan(3100);
     expect(rejectedCount).toBe(3);
 

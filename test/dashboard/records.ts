@@ -34,6 +34,7 @@ export function link(overrides: Partial<LinkHealth> = {}): LinkHealth {
     clockRestarts: 0,
     sinceLastFrameS: 0.05,
     reconnects: 0,
+    stateDetail: null,
     recordingFile: null,
     recordingBytes: 0,
     recordingError: null,

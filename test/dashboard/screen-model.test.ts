@@ -163,6 +163,26 @@ describe('link, replay and event log', () => {
     expect(model.link.title).toBe('Link: file flight.ndjson');
   });
 
+  it('says why the link was lost', () => {
+    const model = buildScreenModel(
+      screenInput({ record: turn45, link: link({ state: 'lost', stateDetail: 'connect ECONNREFUSED 127.0.0.1:8765' }) }),
+      LAYOUT_120x40,
+    );
+    const lines = text(model.link.lines);
+    expect(lines).toContain('LOST');
+    expect(lines).toContain('why connect ECONNREFUSED 127.0.0.1:8765');
+  });
+
+  it('says a replay at its end is at the end, not playing', () => {
+    const model = buildScreenModel(
+      screenInput({ record: turn45, isReplay: true, link: link({ state: 'ended' }), replay: { positionS: 92, lengthS: 92, speed: 1, paused: false } }),
+      LAYOUT_80x24,
+    );
+    const lines = text(model.link.lines);
+    expect(lines).toContain('×1 at end');
+    expect(lines).not.toContain('playing');
+  });
+
   it('shows a recording error as a warning', () => {
     const model = buildScreenModel(screenInput({ record: turn45, link: link({ recordingFile: 'x.rec', recordingError: 'disk full' }) }), LAYOUT_80x24);
     const line = model.link.lines[1]!;

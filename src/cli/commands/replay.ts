@@ -39,6 +39,9 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (mappingPath !== undefined) loadMappingFile(mappingPath); // report a bad mapping before starting
   const setup = loadMonitorSetup(args);
   const wantsUi = !setup.noUi && process.stdout.isTTY === true;
+  if (args.values['loop'] === true && !wantsUi) {
+    process.stderr.write('turnmargin: note: --loop applies to the dashboard only; without it the file is played once\n');
+  }
   const source = createFileSource({
     path,
     speed,
