@@ -264,7 +264,7 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
           seg(' rej ', 'dim'),
           seg(String(link.rejected), link.rejected > 0 ? 'caution' : 'plain'),
           seg(' last ', 'dim'),
-          seg(formatAge(link.sinceLastFrameS ?? input.ageS), stale ? 'stale' : 'plain'),
+          seg(formatAge(input.ageS ?? link.sinceLastFrameS), stale ? 'stale' : 'plain'),
         ],
         width,
       ),
