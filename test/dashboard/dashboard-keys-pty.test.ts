@@ -58,8 +58,8 @@ describe('the dashboard keys and terminal handling', () => {
     const screen = (running = runInPty(process.execPath, ['test/dashboard/throwing-entry.mjs'], { cols: 80, rows: 24, cwd: ROOT }));
     const { exitCode } = await screen.exited;
     expect(exitCode).toBe(2);
-    expect(screen.bufferType()).toBe('normal');
-    expect(await screen.text()).toContain('turnmargin: unexpected error: Error: planted failure');
+    await expect.poll(async () => (await screen.text(), screen.bufferType()), POLL).toBe('normal');
+    await expect.poll(() => screen.text(), POLL).toContain('turnmargin: unexpected error: Error: planted failure');
     // The error comes after the switch back to the normal screen.
     const raw = screen.raw();
     expect(raw.lastIndexOf('\x1b[?1049l')).toBeLessThan(raw.indexOf('planted failure'));

@@ -34,6 +34,6 @@ describe('turnmargin demo', () => {
     expect(await screen.text()).toContain('space pause');
     screen.write('q');
     expect((await screen.exited).exitCode).toBe(0);
-    expect(screen.bufferType()).toBe('normal');
+    await expect.poll(async () => (await screen.text(), screen.bufferType()), POLL).toBe('normal');
   });
 });

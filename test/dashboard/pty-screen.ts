@@ -105,9 +105,10 @@ export async function quitAndCheckRestored(screen: PtyScreen, key: 'q' | 'ctrl-c
   screen.write(key === 'q' ? 'q' : '\x03');
   const { exitCode } = await screen.exited;
   expect(exitCode).toBe(0);
-  // Back on the normal screen, where the link summary is printed after the dashboard has gone.
-  expect(screen.bufferType()).toBe('normal');
-  expect(await screen.text()).toMatch(/link summary — file .*dashboard-flight\.ndjson/);
+  // Back on the normal screen, where the link summary is printed after the dashboard has gone. The last bytes
+  // from the pty may reach the emulator after the exit event on a loaded machine, hence the polls.
+  await expect.poll(async () => (await screen.text(), screen.bufferType()), POLL).toBe('normal');
+  await expect.poll(() => screen.text(), POLL).toMatch(/link summary — file .*dashboard-flight\.ndjson/);
   expect(screen.raw()).toContain('\x1b[?1049l'); // left the alternate screen
   expect(screen.raw()).toMatch(/\x1b\[\?25h/); // cursor shown again
 }
