@@ -20,6 +20,12 @@ export type FrameVerdict = { ok: true; frame: Frame; raw?: Record<string, unknow
 
 /** Plausibility bounds: values outside are taken as corrupt data, not as flight conditions. */
 export const FRAME_BOUNDS = {
+  // |t_s| up to about 31 years: room for any clock epoch a sender counts in seconds, while a value such as 1e308
+  // (which would make every later frame "time not increasing") is refused.
+  timeMaxAbsS: 1e9,
+  // Subsonic: the airspeed relations the tool uses (incompressible-flow corrections) hold well below Mach 1, and a
+  // small UAV never comes near 300 m/s.
+  airspeedMaxMps: 300,
   altMinM: -500,
   altMaxM: 20_000,
   bankMaxAbsDeg: 180,
@@ -51,7 +57,7 @@ function show(value: unknown): string {
 
 /** What each key must be, in the words of the rejection reason. */
 const RULE_TEXT: Readonly<Record<string, string>> = {
-  t_s: 'a finite number',
+  t_s: `a number from -${FRAME_BOUNDS.timeMaxAbsS} to ${FRAME_BOUNDS.timeMaxAbsS} s`,
   ias_mps: 'a finite number ≥ 0',
   cas_mps: 'a finite number ≥ 0',
   tas_mps: 'a finite number ≥ 0',
@@ -62,13 +68,16 @@ const RULE_TEXT: Readonly<Record<string, string>> = {
   mass_kg: `a number above 0 and up to ${FRAME_BOUNDS.massMaxKg} kg`,
 };
 
-const speed = z.number().min(0).nullish();
+/** An airspeed above the bound gets this rule in its reason (a wrong type or a negative one gets RULE_TEXT's). */
+const AIRSPEED_RANGE_TEXT = `a number from 0 to ${FRAME_BOUNDS.airspeedMaxMps} m/s`;
+
+const speed = z.number().min(0).max(FRAME_BOUNDS.airspeedMaxMps).nullish();
 /**
  * The frame keys (zod numbers are finite: NaN and ±Infinity fail). Optional keys may be null (many senders write
  * null for a missing sensor); other keys pass through untouched.
  */
 export const FrameSchema = z.looseObject({
-  t_s: z.number(),
+  t_s: z.number().min(-FRAME_BOUNDS.timeMaxAbsS).max(FRAME_BOUNDS.timeMaxAbsS),
   ias_mps: speed,
   cas_mps: speed,
   tas_mps: speed,
@@ -122,6 +131,8 @@ let acceptedSpeedSlot = SLOT_TAS;
  */
 function slotsAccepted(): boolean {
   if (!finiteAt(SLOT_T) || !finiteAt(SLOT_ALT)) return false;
+  const tS = slotNumbers[SLOT_T]!;
+  if (!(tS >= -FRAME_BOUNDS.timeMaxAbsS && tS <= FRAME_BOUNDS.timeMaxAbsS)) return false;
   const altM = slotNumbers[SLOT_ALT]!;
   if (!(altM >= FRAME_BOUNDS.altMinM && altM <= FRAME_BOUNDS.altMaxM)) return false;
   const hasIas = slotKinds[SLOT_IAS] !== KIND_NULLISH;
@@ -129,7 +140,8 @@ function slotsAccepted(): boolean {
   const hasTas = slotKinds[SLOT_TAS] !== KIND_NULLISH;
   if ((hasIas ? 1 : 0) + (hasCas ? 1 : 0) + (hasTas ? 1 : 0) !== 1) return false;
   const speedSlot = hasTas ? SLOT_TAS : hasCas ? SLOT_CAS : SLOT_IAS;
-  if (!finiteAt(speedSlot) || !(slotNumbers[speedSlot]! >= 0)) return false;
+  const speedMps = slotNumbers[speedSlot]!;
+  if (!finiteAt(speedSlot) || !(speedMps >= 0 && speedMps <= FRAME_BOUNDS.airspeedMaxMps)) return false;
   if (slotKinds[SLOT_BANK] === KIND_NULLISH && slotKinds[SLOT_NZ] === KIND_NULLISH) return false;
   if (
     !optionalInRange(SLOT_BANK, -FRAME_BOUNDS.bankMaxAbsDeg, FRAME_BOUNDS.bankMaxAbsDeg) ||
@@ -206,6 +218,9 @@ export function validateWithSchema(input: unknown): LineVerdict {
     const key = String(result.error.issues[0]?.path[0] ?? '');
     const value = raw[key];
     if (value === undefined) return { ok: false, reason: `${key} is required` };
+    if (Number.isFinite(value) && (value as number) > FRAME_BOUNDS.airspeedMaxMps && AIRSPEED_KEYS.some(([k]) => k === key)) {
+      return { ok: false, reason: `${key} must be ${AIRSPEED_RANGE_TEXT} (got ${show(value)})` };
+    }
     return { ok: false, reason: `${key} must be ${RULE_TEXT[key] ?? 'valid'} (got ${show(value)})` };
   }
   const f = result.data;

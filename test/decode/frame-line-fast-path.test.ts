@@ -25,6 +25,8 @@ const EDGE_NUMBERS = [
   FRAME_BOUNDS.nzMaxAbs, -FRAME_BOUNDS.nzMaxAbs, FRAME_BOUNDS.nzMaxAbs + 1e-9, -FRAME_BOUNDS.nzMaxAbs - 1e-9,
   FRAME_BOUNDS.oatMinC, FRAME_BOUNDS.oatMaxC, FRAME_BOUNDS.oatMinC - 1e-9, FRAME_BOUNDS.oatMaxC + 1e-9,
   FRAME_BOUNDS.massMaxKg, FRAME_BOUNDS.massMaxKg + 1e-9,
+  FRAME_BOUNDS.timeMaxAbsS, -FRAME_BOUNDS.timeMaxAbsS, FRAME_BOUNDS.timeMaxAbsS + 1e-6, -FRAME_BOUNDS.timeMaxAbsS - 1e-6, 1e308, -1e308,
+  FRAME_BOUNDS.airspeedMaxMps, FRAME_BOUNDS.airspeedMaxMps + 1e-9, 500, 1000,
 ];
 
 const anyValue: fc.Arbitrary<unknown> = fc.oneof(
@@ -88,6 +90,21 @@ describe('frame validation fast path', () => {
       { t_s: 1, tas_mps: 20, alt_m: 0, bank_deg: [30] },
       { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, oat_c: 71 },
       { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, oat_c: '15' },
+      { t_s: 1e308, tas_mps: 20, alt_m: 100, bank_deg: 10 },
+      { t_s: 1e9, tas_mps: 20, alt_m: 100, bank_deg: 10 },
+      { t_s: -1e9, tas_mps: 20, alt_m: 100, bank_deg: 10 },
+      { t_s: 1e9 + 1e-6, tas_mps: 20, alt_m: 100, bank_deg: 10 },
+      { t_s: -1e9 - 1e-6, tas_mps: 20, alt_m: 100, bank_deg: 10 },
+      { t_s: 1, ias_mps: 300, alt_m: 0, nz: 1 },
+      { t_s: 1, cas_mps: 300, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: 300, alt_m: 0, nz: 1 },
+      { t_s: 1, ias_mps: 300 + 1e-9, alt_m: 0, nz: 1 },
+      { t_s: 1, cas_mps: 300 + 1e-9, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: 300 + 1e-9, alt_m: 0, nz: 1 },
+      { t_s: 1, ias_mps: 1000, alt_m: 100, bank_deg: 10 },
+      { t_s: 1, cas_mps: 500, alt_m: 15_000, bank_deg: 10 },
+      { t_s: 1, tas_mps: 20, ias_mps: 1000, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: Infinity, alt_m: 0, nz: 1 },
       JSON.parse('{"__proto__":{"t_s":1},"tas_mps":20,"alt_m":0,"nz":1}'),
       {},
       [],
@@ -227,6 +244,50 @@ describe('reading a frame straight from the bytes of an ASCII line', () => {
       }),
       { numRuns: 5000 },
     );
+  });
+
+  it('gives the same verdict on the time and airspeed bounds, just inside and just outside, on every path', () => {
+    const lines = [
+      '{"t_s":1e308,"tas_mps":20,"alt_m":100,"bank_deg":10}',
+      '{"t_s":1000000000,"tas_mps":20,"alt_m":100,"bank_deg":10}',
+      '{"t_s":-1000000000,"tas_mps":20,"alt_m":100,"bank_deg":10}',
+      '{"t_s":1e9,"tas_mps":20,"alt_m":100,"bank_deg":10}',
+      '{"t_s":1000000000.000001,"tas_mps":20,"alt_m":100,"bank_deg":10}',
+      '{"t_s":-1000000000.000001,"tas_mps":20,"alt_m":100,"bank_deg":10}',
+      '{"t_s":-1.0000000001e9,"tas_mps":20,"alt_m":100,"bank_deg":10}',
+      ...['ias_mps', 'cas_mps', 'tas_mps'].flatMap((key) => [
+        `{"t_s":1,"${key}":300,"alt_m":0,"nz":1}`,
+        `{"t_s":1,"${key}":3e2,"alt_m":0,"nz":1}`,
+        `{"t_s":1,"${key}":300.000000001,"alt_m":0,"nz":1}`,
+        `{"t_s":1,"${key}":299.999999999,"alt_m":0,"nz":1}`,
+        `{"t_s":1,"${key}":1000,"alt_m":15000,"bank_deg":10}`,
+      ]),
+    ];
+    const verdicts = lines.map((text) => {
+      const bytes = Buffer.from(text, 'latin1');
+      const viaBytes = withoutRaw(judgeAsciiFrameBytes(bytes, 0, bytes.length, text));
+      expect(withoutRaw(parseAsciiFrameLine(text))).toEqual(viaBytes);
+      expect(withoutRaw(parseFrameLine(text))).toEqual(viaBytes);
+      expect(withoutRaw(validateWithSchema(JSON.parse(text)))).toEqual(viaBytes);
+      expect(withoutRaw(validateFrameObject(JSON.parse(text)))).toEqual(viaBytes);
+      return viaBytes.ok ? 'ok' : viaBytes.reason;
+    });
+    expect(verdicts).toEqual([
+      't_s must be a number from -1000000000 to 1000000000 s (got 1e+308)',
+      'ok',
+      'ok',
+      'ok',
+      't_s must be a number from -1000000000 to 1000000000 s (got 1000000000.000001)',
+      't_s must be a number from -1000000000 to 1000000000 s (got -1000000000.000001)',
+      't_s must be a number from -1000000000 to 1000000000 s (got -1000000000.1)',
+      ...['ias_mps', 'cas_mps', 'tas_mps'].flatMap((key) => [
+        'ok',
+        'ok',
+        `${key} must be a number from 0 to 300 m/s (got 300.000000001)`,
+        'ok',
+        `${key} must be a number from 0 to 300 m/s (got 1000)`,
+      ]),
+    ]);
   });
 
   it('reads a line in the middle of a larger buffer', () => {

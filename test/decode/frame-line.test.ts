@@ -46,7 +46,14 @@ describe('parseFrameLine', () => {
     ['a wrong type', '{"t_s":1,"tas_mps":"fast","alt_m":0,"nz":1}', 'tas_mps must be a finite number ≥ 0 (got "fast")'],
     ['a negative airspeed', '{"t_s":1,"tas_mps":-3,"alt_m":0,"nz":1}', 'tas_mps must be a finite number ≥ 0 (got -3)'],
     ['a missing t_s', '{"tas_mps":3,"alt_m":0,"nz":1}', 't_s is required'],
-    ['a string t_s', '{"t_s":"12","tas_mps":3,"alt_m":0,"nz":1}', 't_s must be a finite number (got "12")'],
+    ['a string t_s', '{"t_s":"12","tas_mps":3,"alt_m":0,"nz":1}', 't_s must be a number from -1000000000 to 1000000000 s (got "12")'],
+    // A sender clock gone wild would otherwise make every later frame "time not increasing".
+    ['a t_s of 1e308', '{"t_s":1e308,"tas_mps":20,"alt_m":100,"bank_deg":10}', 't_s must be a number from -1000000000 to 1000000000 s (got 1e+308)'],
+    ['a t_s below -1e9 s', '{"t_s":-1000000000.5,"tas_mps":20,"alt_m":100,"bank_deg":10}', 't_s must be a number from -1000000000 to 1000000000 s (got -1000000000.5)'],
+    // Beyond the subsonic range of the airspeed relations (CAS 500 m/s at 15 km would be TAS ≈ 787 m/s).
+    ['an IAS of 1000 m/s', '{"t_s":1,"ias_mps":1000,"alt_m":100,"bank_deg":10}', 'ias_mps must be a number from 0 to 300 m/s (got 1000)'],
+    ['a CAS of 500 m/s', '{"t_s":1,"cas_mps":500,"alt_m":15000,"bank_deg":10}', 'cas_mps must be a number from 0 to 300 m/s (got 500)'],
+    ['a TAS just above 300 m/s', '{"t_s":1,"tas_mps":300.001,"alt_m":0,"nz":1}', 'tas_mps must be a number from 0 to 300 m/s (got 300.001)'],
     ['no airspeed', '{"t_s":1,"alt_m":0,"nz":1}', 'an airspeed is required (one of ias_mps, cas_mps, tas_mps)'],
     ['two airspeed keys', '{"t_s":1,"ias_mps":20,"tas_mps":21,"alt_m":0,"nz":1}', 'exactly one airspeed key is allowed (got ias_mps and tas_mps)'],
     ['a missing altitude', '{"t_s":1,"tas_mps":20,"nz":1}', 'alt_m is required'],
@@ -70,5 +77,8 @@ describe('parseFrameLine', () => {
   it('accepts the edges of the plausible ranges', () => {
     expect(parseFrameLine('{"t_s":1,"tas_mps":0,"alt_m":-500,"bank_deg":-180}').ok).toBe(true);
     expect(parseFrameLine('{"t_s":1,"tas_mps":0,"alt_m":20000,"nz":20}').ok).toBe(true);
+    expect(parseFrameLine('{"t_s":1000000000,"ias_mps":300,"alt_m":0,"nz":1}').ok).toBe(true);
+    expect(parseFrameLine('{"t_s":-1000000000,"cas_mps":300,"alt_m":0,"nz":1}').ok).toBe(true);
+    expect(parseFrameLine('{"t_s":-1e9,"tas_mps":300,"alt_m":0,"nz":1}').ok).toBe(true);
   });
 });
