@@ -5,6 +5,8 @@
  */
 import type { Aircraft } from '../core/aircraft.js';
 import { numberOption, requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
+import { EXIT_UNUSABLE } from './errors.js';
+import { describeOutputError, isClosedPipe } from './output-errors.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import { createEventTracker, type LimitEvent } from '../core/events.js';
 import type { MarginRecord } from '../core/margin-record.js';
@@ -271,9 +273,11 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
   }
 
   // Handlers go on once the dashboard (if any) is up, and come off in the finally below.
+  let outputFailure: string | null = null;
   const onOutputError = (err: NodeJS.ErrnoException): void => {
-    // The reader went away (`| head`): stop cleanly rather than crash.
-    if (err.code === 'EPIPE') outputBroken = true;
+    // The reader went away (`| head`): stop cleanly rather than crash. Any other failure (disk full) is reported.
+    outputBroken = true;
+    if (!isClosedPipe(err)) outputFailure = describeOutputError(err);
     finish();
   };
   stdout.on('error', onOutputError);
@@ -301,6 +305,10 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
   }
   // After the dashboard has restored the terminal, the summary goes to stderr in both modes.
   stderr.write(formatLinkSummary(pipeline.health()));
+  if (outputFailure !== null) {
+    stderr.write(`turnmargin: cannot write the margin records to standard output (${outputFailure}); stopped\n`);
+    return EXIT_UNUSABLE;
+  }
   return 0;
 }
 

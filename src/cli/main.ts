@@ -6,6 +6,7 @@
  */
 import { formatHelp, formatOptionList, parseCommandArgs, type CommandSpec, type ParsedArgs } from './args.js';
 import { EXIT_UNUSABLE, InputError, UsageError } from './errors.js';
+import { describeOutputError, isClosedPipe } from './output-errors.js';
 
 /** What every command module exports. */
 export interface CommandModule {
@@ -105,9 +106,28 @@ export async function main(argv: string[]): Promise<number> {
   }
 }
 
+/**
+ * Standard output that fails: a closed reader (`| head`) ends the program quietly with 0; anything else (a full
+ * disk) is one line on stderr and exit 2 — never a stack trace, never the 1 that means "check failed". A command
+ * that handles its own output errors (the live monitor flushes its recording first) adds a listener of its own,
+ * and this one then stands back.
+ */
+function guardStandardOutput(): void {
+  const onError = (err: NodeJS.ErrnoException): void => {
+    if (process.stdout.listenerCount('error') > 1) return;
+    if (isClosedPipe(err)) process.exit(0);
+    process.stderr.write(`turnmargin: cannot write to standard output (${describeOutputError(err)})\n`);
+    process.exit(EXIT_UNUSABLE);
+  };
+  process.stdout.on('error', onError);
+  // A closed stderr (`2>&1 | head`) leaves nowhere to report anything: carry on without it rather than crash.
+  process.stderr.on('error', () => undefined);
+}
+
 // Run only when executed as the program (not when imported by tests).
 const invokedAs = process.argv[1] ?? '';
 if (invokedAs.endsWith('main.js') || invokedAs.endsWith('turnmargin')) {
+  guardStandardOutput();
   main(process.argv.slice(2)).then(
     (code) => {
       process.exitCode = code;

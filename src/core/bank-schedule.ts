@@ -34,9 +34,14 @@ export function computeBankSchedule(aircraft: Aircraft, thresholds: AlertThresho
   );
   let speeds = request.speedsMps;
   if (!speeds) {
-    const stallSpeeds = conditions.map((c) => stallSpeedMps(aircraft, c.rho, c.massKg));
-    const lo = Math.min(...stallSpeeds);
-    const hi = aircraft.vneMps ?? 4 * Math.max(...stallSpeeds);
+    let lo = Infinity;
+    let highestStall = 0;
+    for (const c of conditions) {
+      const vs1 = stallSpeedMps(aircraft, c.rho, c.massKg);
+      lo = Math.min(lo, vs1);
+      highestStall = Math.max(highestStall, vs1);
+    }
+    const hi = aircraft.vneMps ?? 4 * highestStall;
     speeds = Array.from({ length: 31 }, (_, i) => lo + ((hi - lo) * i) / 30);
   }
   const rows: BankScheduleRow[] = [];

@@ -163,6 +163,7 @@ export function computeEnvelope(aircraft: Aircraft, conditions: EnvelopeConditio
     maxSustainedLoadFactor: turnExists ? maxN : null,
     maxSustainedTurnRateDps: maxRate,
     minSustainedRadiusM: minRadius,
-    points: (speeds ?? defaultSpeeds(vs1, top)).map((v) => envelopePointAt(aircraft, v, rho, mass)),
+    // Above vne there is no flyable speed left: the default table then holds Vs1 alone.
+    points: (speeds ?? (top > vs1 ? defaultSpeeds(vs1, top) : [vs1])).map((v) => envelopePointAt(aircraft, v, rho, mass)),
   };
 }

@@ -24,6 +24,8 @@ export function formatPath(path: ReadonlyArray<PropertyKey>): string {
 
 function describeValue(value: unknown): string {
   if (value === undefined) return 'nothing';
+  // JSON.parse turns an overflowing literal such as 1e400 into ±Infinity, which JSON.stringify prints as null.
+  if (typeof value === 'number' && !Number.isFinite(value)) return `${value} (number too large)`;
   const text = JSON.stringify(value);
   if (text === undefined) return String(value);
   return text.length > 60 ? `${text.slice(0, 57)}...` : text;

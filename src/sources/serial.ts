@@ -1,4 +1,6 @@
 /** Serial adapter (radio modem, USB serial): reopens the same path with backoff when the port disappears. */
+import { closeSync, constants, openSync, statSync, type Stats } from 'node:fs';
+import { isatty } from 'node:tty';
 import { SerialPort } from 'serialport';
 import { createLinkSource, type LinkSourceOptions } from './link-source.js';
 import type { TelemetrySource } from './source.js';
@@ -45,4 +47,28 @@ function describeOpenError(path: string, err: Error): string {
   const echo = `cannot open ${path}`;
   if (why.endsWith(echo)) why = why.slice(0, -echo.length).replace(/[,;:\s]+$/, '');
   return `${echo}: ${why || 'unknown error'}`;
+}
+
+/**
+ * Why an existing path can never be a serial port (a directory, a regular file, a device that is not a terminal),
+ * or null when it is a terminal device or does not exist yet (a radio not plugged in is waited for).
+ */
+export function whyNotASerialPort(path: string): string | null {
+  let stats: Stats;
+  try {
+    stats = statSync(path);
+  } catch {
+    return null;
+  }
+  if (stats.isDirectory()) return 'is a directory';
+  if (!stats.isCharacterDevice()) return 'is not a device (a regular file? replay reads files)';
+  let fd: number | undefined;
+  try {
+    fd = openSync(path, constants.O_RDWR | constants.O_NOCTTY | constants.O_NONBLOCK);
+    return isatty(fd) ? null : 'is a device but not a serial port or terminal';
+  } catch {
+    return null; // busy or not permitted now: the source reports the open error and retries
+  } finally {
+    if (fd !== undefined) closeSync(fd);
+  }
 }

@@ -1,7 +1,7 @@
 /** `turnmargin envelope`: the turn envelope at one condition, or a bank-limit schedule over altitudes and masses. */
 import { MAX_ALTITUDE_M, MIN_ALTITUDE_M } from '../../core/atmosphere.js';
 import { computeBankSchedule } from '../../core/bank-schedule.js';
-import { computeEnvelope } from '../../core/envelope.js';
+import { computeEnvelope, type Envelope } from '../../core/envelope.js';
 import { stallSpeedMps } from '../../core/performance.js';
 import { computeAirState, type TemperatureOptions } from '../../core/atmosphere.js';
 import type { Aircraft } from '../../core/aircraft.js';
@@ -54,6 +54,8 @@ export const spec: CommandSpec = {
 
 const ALTITUDE_RULE = { min: MIN_ALTITUDE_M, max: MAX_ALTITUDE_M };
 const MAX_POINTS = 100_000;
+const MAX_CONDITIONS = 10_000;
+const MAX_SCHEDULE_ROWS = 1_000_000;
 
 function temperatureOptions(args: ParsedArgs): TemperatureOptions {
   const isaDev = numberOption(args, 'isa-dev', undefined, { min: -100, max: 100 });
@@ -99,6 +101,24 @@ function limitNotes(aircraft: Aircraft): string[] {
   return notes;
 }
 
+const countOf = (n: number): string => (n === 1 ? '1 speed of the table lies' : `${n} speeds of the table lie`);
+
+function speedNotes(aircraft: Aircraft, envelope: Envelope): string[] {
+  const notes: string[] = [];
+  const vne = aircraft.vneMps;
+  if (vne !== undefined && envelope.stallSpeedMps >= vne) {
+    notes.push(
+      `the stall speed Vs1 ${envelope.stallSpeedMps.toFixed(2)} m/s is at or above vne_mps ${vne} m/s at this altitude and mass: ` +
+        'no speed is both above the stall and below vne',
+    );
+  }
+  const slow = envelope.points.filter((p) => p.speedMps < envelope.stallSpeedMps - 1e-9).length;
+  const fast = vne === undefined ? 0 : envelope.points.filter((p) => p.speedMps > vne + 1e-9).length;
+  if (slow > 0) notes.push(`${countOf(slow)} below the stall speed Vs1 (n_stall < 1 there)`);
+  if (fast > 0) notes.push(`${countOf(fast)} above vne_mps ${vne} m/s`);
+  return notes;
+}
+
 export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
   const aircraftPath = requireOption(args, 'aircraft');
@@ -114,13 +134,24 @@ export async function run(args: ParsedArgs): Promise<number> {
     if (args.values['mass'] !== undefined) throw new UsageError('with --altitudes, give masses as --masses');
     const format = choiceOption(args, 'format', ['csv', 'json', 'table'] as const, 'csv');
     const massList = masses ?? [aircraft.massKg];
+    if (altitudes.length * massList.length > MAX_CONDITIONS) {
+      throw new UsageError(`--altitudes × --masses gives ${altitudes.length * massList.length} conditions; at most ${MAX_CONDITIONS}`);
+    }
     const thresholds = thresholdsPath ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
-    const lowest = () =>
-      Math.min(
-        ...altitudes.flatMap((a) => massList.map((m) => stallSpeedMps(aircraft, computeAirState(a, temperature).densityKgM3, m))),
-      );
+    const lowest = (): number => {
+      let v = Infinity;
+      for (const a of altitudes) {
+        const rho = computeAirState(a, temperature).densityKgM3;
+        for (const m of massList) v = Math.min(v, stallSpeedMps(aircraft, rho, m));
+      }
+      return v;
+    };
     const speeds = speedList(args, aircraft, lowest);
     const request = { altitudesM: altitudes, massesKg: massList, temperature, ...(speeds ? { speedsMps: speeds } : {}) };
+    const rowCount = altitudes.length * massList.length * (speeds?.length ?? 31);
+    if (rowCount > MAX_SCHEDULE_ROWS) {
+      throw new UsageError(`the schedule would have ${rowCount} rows; at most ${MAX_SCHEDULE_ROWS} (fewer altitudes, masses or speeds)`);
+    }
     const rows = computeBankSchedule(aircraft, thresholds, request);
     if (format === 'csv') out(bankScheduleToCsv(rows));
     else if (format === 'json') out(JSON.stringify(bankScheduleToJson(aircraft.name, thresholds, rows), null, 2) + '\n');
@@ -136,7 +167,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   const rho = computeAirState(altitudeM, temperature).densityKgM3;
   const speeds = speedList(args, aircraft, () => stallSpeedMps(aircraft, rho, massKg));
   const envelope = computeEnvelope(aircraft, { altitudeM, temperature, massKg }, speeds ?? undefined);
-  const notes = { notes: limitNotes(aircraft) };
+  const notes = { notes: [...limitNotes(aircraft), ...speedNotes(aircraft, envelope)] };
   if (format === 'json') out(JSON.stringify(envelopeToJson(envelope, notes), null, 2) + '\n');
   else if (format === 'csv') out(envelopeToCsv(envelope));
   else out(envelopeToTable(envelope, notes));

@@ -5,7 +5,7 @@
  */
 import { spawn, type ChildProcess } from 'node:child_process';
 import { createWriteStream, existsSync, statSync, type WriteStream } from 'node:fs';
-import { basename } from 'node:path';
+import { basename, resolve as resolvePath } from 'node:path';
 import { createInterface } from 'node:readline';
 import type { Aircraft } from '../../core/aircraft.js';
 import { createFrameWriter, type SimFrame } from '../../sim/frames.js';
@@ -13,6 +13,7 @@ import { parseFlightPlan, planDurationS, type FlightPlan } from '../../sim/plan.
 import { SimulationError, simulateFlight, type SimSample } from '../../sim/point-mass.js';
 import { formatWsUrl, isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
+import { describeOutputError, isClosedPipe } from '../output-errors.js';
 import { EXIT_OK, EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
 import { loadAircraftFile, readJson } from '../load.js';
 
@@ -368,6 +369,12 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (args.values['baud'] !== undefined && serial === undefined) throw new UsageError('--baud applies to --serial only');
   if (args.values['force'] && out === undefined) throw new UsageError('--force applies to --out only');
   if (args.values['allow-remote'] && wsListen === undefined) throw new UsageError('--allow-remote applies to --ws-listen only');
+  for (const option of ['aircraft', 'plan'] as const) {
+    const input = stringOption(args, option);
+    if (out !== undefined && input !== undefined && resolvePath(input) === resolvePath(out)) {
+      throw new UsageError(`--out ${out} is the --${option} file: writing there would overwrite it`);
+    }
+  }
   if (out !== undefined && existsSync(out) && !args.values['force']) {
     throw new UsageError(`--out ${out} exists; give --force to overwrite it`);
   }
@@ -396,11 +403,13 @@ export async function run(args: ParsedArgs): Promise<number> {
 
   if (!live) {
     if (out === undefined) {
-      // A closed pipe (e.g. `| head`) ends the output quietly.
-      process.stdout.on('error', (err: NodeJS.ErrnoException) => {
-        if (err.code === 'EPIPE') process.exit(EXIT_OK);
-      });
-      await writeAll(frameLines(aircraft, plan, rateHz, seed, false), process.stdout);
+      try {
+        await writeAll(frameLines(aircraft, plan, rateHz, seed, false), process.stdout);
+      } catch (err) {
+        // A closed pipe (e.g. `| head`) ends the output quietly; anything else is reported.
+        if (isClosedPipe(err as NodeJS.ErrnoException)) return EXIT_OK;
+        throw new InputError([`standard output: cannot write (${describeOutputError(err as NodeJS.ErrnoException)})`]);
+      }
       return EXIT_OK;
     }
     const stream: WriteStream = createWriteStream(out, { flags: 'w' });
@@ -408,8 +417,17 @@ export async function run(args: ParsedArgs): Promise<number> {
       stream.once('open', () => resolve());
       stream.once('error', (err) => reject(new InputError([`${out}: cannot write (${err.message})`])));
     });
-    const count = await writeAll(frameLines(aircraft, plan, rateHz, seed, false), stream);
-    await new Promise<void>((resolve) => stream.end(resolve));
+    let count: number;
+    try {
+      count = await writeAll(frameLines(aircraft, plan, rateHz, seed, false), stream);
+      await new Promise<void>((resolve, reject) => {
+        stream.once('error', reject);
+        stream.end(resolve);
+      });
+    } catch (err) {
+      stream.destroy();
+      throw new InputError([`${out}: cannot write (${describeOutputError(err as NodeJS.ErrnoException)})`]);
+    }
     if (!quiet) process.stderr.write(`wrote ${count} frames to ${out}\n`);
     return EXIT_OK;
   }

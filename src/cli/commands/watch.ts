@@ -1,6 +1,7 @@
 /** `turnmargin watch`: live margins from a serial radio or a websocket relay, with recording and link health. */
+import { resolve } from 'node:path';
 import { openRecorder, type Recorder } from '../../recording/recorder.js';
-import { createSerialSource, DEFAULT_BAUD } from '../../sources/serial.js';
+import { createSerialSource, DEFAULT_BAUD, whyNotASerialPort } from '../../sources/serial.js';
 import { createWebSocketSource } from '../../sources/websocket.js';
 import type { TelemetrySource } from '../../sources/source.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
@@ -34,6 +35,8 @@ function sourceFromArgs(args: ParsedArgs): TelemetrySource {
   if (serial === undefined && ws === undefined) throw new UsageError('a telemetry link is required: --serial PATH or --ws URL');
   if (serial !== undefined) {
     if (serial === '') throw new UsageError('--serial PATH must not be empty');
+    const why = whyNotASerialPort(serial);
+    if (why !== null) throw new UsageError(`--serial ${serial} ${why}`);
     const baudRate = numberOption(args, 'baud', DEFAULT_BAUD, { integer: true, min: 50, max: 4_000_000 });
     return createSerialSource({ path: serial, baudRate });
   }
@@ -55,6 +58,13 @@ export async function run(args: ParsedArgs): Promise<number> {
   const recordPath = stringOption(args, 'record');
   if (args.values['force'] && recordPath === undefined) throw new UsageError('--force applies to --record only');
   let recorder: Recorder | undefined;
+  if (recordPath !== undefined) {
+    for (const [option, input] of [['aircraft', stringOption(args, 'aircraft')], ['thresholds', stringOption(args, 'thresholds')]] as const) {
+      if (input !== undefined && resolve(input) === resolve(recordPath)) {
+        throw new UsageError(`--record ${recordPath} is the --${option} file: recording there would overwrite it`);
+      }
+    }
+  }
   if (recordPath !== undefined) recorder = openRecorder({ path: recordPath, force: args.values['force'] === true, sourceLabel: source.label });
   return runMonitor({ ...setup, source, ...(recorder ? { recorder } : {}) });
 }
