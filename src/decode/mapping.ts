@@ -105,3 +105,18 @@ export function applyMapping(row: Record<string, unknown>, mapping: ColumnMappin
   }
   return out;
 }
+
+/** How many header columns a problem lists before "…". */
+const COLUMNS_SHOWN = 12;
+
+/**
+ * The mapped columns missing from a CSV header, one problem each, e.g.
+ * `m.json: keys.bank_deg.column "roll" is not a column of log.csv (columns: time_ms, KIAS, …)`; empty when all are there.
+ */
+export function missingColumnProblems(mapping: ColumnMapping, header: readonly string[], mappingLabel: string, logLabel: string): string[] {
+  const present = new Set(header);
+  const shown = header.slice(0, COLUMNS_SHOWN).join(', ') + (header.length > COLUMNS_SHOWN ? ', …' : '');
+  return mapping.keys
+    .filter(({ column }) => !present.has(column))
+    .map(({ key, column }) => `${mappingLabel}: keys.${key}.column ${JSON.stringify(column)} is not a column of ${logLabel} (columns: ${shown})`);
+}

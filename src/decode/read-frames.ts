@@ -14,7 +14,7 @@ import { csvRow, splitCsvLine } from './csv.js';
 import { createLineJudge, cutReason, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
 import { acceptAsciiFrameBytes, acceptedFrameTime, judgeAsciiFrameBytes, packAcceptedFrame, parseAsciiFrameLine, parseFrameLine, validateFrameObject, type FrameVerdict, type LineVerdict } from './frame-line.js';
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
-import { applyMapping, parseMapping, type ColumnMapping } from './mapping.js';
+import { applyMapping, missingColumnProblems, parseMapping, type ColumnMapping } from './mapping.js';
 
 export interface FileLine extends DecodedLine {
   /** Receive time (ms since the epoch) for lines read from a recording. */
@@ -53,6 +53,16 @@ export function loadMappingFile(path: string): ColumnMapping {
   const result = parseMapping(json, basename(path));
   if (!result.ok) throw new InputError(result.problems);
   return result.mapping;
+}
+
+/**
+ * Throws the InputError that reading `path` through the mapping would throw at its start: a mapping file that cannot
+ * be read or is invalid, a mapped column missing from the CSV header, a file that is not a CSV log with a header.
+ * For commands that read the file later or elsewhere (replay's file source) and should refuse it up front.
+ */
+export async function checkMappingFits(path: string, mappingPath: string): Promise<void> {
+  // The checks run on the header and first line: the first chunk's batch is enough.
+  for await (const _batch of readFrameBatches(path, { mappingPath })) return;
 }
 
 function formatFromExtension(path: string): FileFormat | undefined {
@@ -293,6 +303,11 @@ function createLineReader(path: string, mappingPath: string | undefined, withRaw
   let reconnectPending = false;
   let first = true;
 
+  /** A mapping names CSV columns: given with any other format it would map nothing, so it is refused up front. */
+  const refuseMappingFor = (what: string): never => {
+    throw new InputError([`${basename(mappingPath!)}: a mapping applies to CSV logs with a header line, but ${basename(path)} ${what}`]);
+  };
+
   const objectVerdict = (obj: unknown): LineVerdict =>
     mapping && obj !== null && typeof obj === 'object' && !Array.isArray(obj)
       ? validateFrameObject(applyMapping(obj as Record<string, unknown>, mapping))
@@ -315,6 +330,7 @@ function createLineReader(path: string, mappingPath: string | undefined, withRaw
     if (first && !cut) {
       if (isBlank(text)) return null;
       if (text.startsWith(RECORDING_MAGIC)) {
+        if (mapping) refuseMappingFor('is a turnmargin recording');
         format = 'recording';
         first = false;
         return null;
@@ -323,7 +339,17 @@ function createLineReader(path: string, mappingPath: string | undefined, withRaw
         // A CSV header holds the delimiter; anything else (JSON, or noise before the first frame) reads as NDJSON.
         format = !text.trimStart().startsWith('{') && text.includes(mapping?.delimiter ?? ',') ? 'csv' : 'ndjson';
       }
-      if (!text.startsWith('#')) first = false;
+      if (!text.startsWith('#')) {
+        first = false;
+        if (mapping && text.trimStart().startsWith('{')) refuseMappingFor('is NDJSON (its first line is a JSON object, not a header)');
+        if (mapping && format === 'ndjson') {
+          refuseMappingFor(
+            formatFromExtension(path) === 'ndjson'
+              ? 'is NDJSON (by its name)'
+              : `has no header line with the mapping's delimiter ${JSON.stringify(mapping.delimiter)} (first line: ${JSON.stringify(text.length > 40 ? `${text.slice(0, 37)}...` : text)})`,
+          );
+        }
+      }
     }
 
     let verdict: FrameVerdict;
@@ -355,6 +381,10 @@ function createLineReader(path: string, mappingPath: string | undefined, withRaw
       if (text.startsWith('#')) return null;
       if (header === undefined) {
         header = splitCsvLine(text, mapping?.delimiter ?? ',');
+        if (mapping) {
+          const problems = missingColumnProblems(mapping, header, basename(mappingPath!), basename(path));
+          if (problems.length > 0) throw new InputError(problems);
+        }
         return null;
       }
       const row = csvRow(header, text, mapping?.delimiter ?? ',');

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { applyMapping, parseMapping } from '../../src/decode/mapping.js';
+import { applyMapping, missingColumnProblems, parseMapping } from '../../src/decode/mapping.js';
 import { splitCsvLine, csvRow } from '../../src/decode/csv.js';
 
 function convert(key: string, unit: string, raw: number, extra: { scale?: number; offset?: number } = {}): number {
@@ -45,6 +45,23 @@ describe('mapping units', () => {
     if (!parsed.ok) return;
     expect(applyMapping({ V: 'fast', alt_m: 3, note: 'x' }, parsed.mapping)).toEqual({ tas_mps: 'fast', alt_m: 3, note: 'x' });
     expect(applyMapping({ alt_m: 3 }, parsed.mapping)).toEqual({ alt_m: 3 });
+  });
+
+  it('names each mapped column missing from a CSV header, with the columns there are', () => {
+    const parsed = parseMapping({ keys: { t_s: { column: 'time_ms', unit: 'ms' }, bank_deg: { column: 'missingcol', unit: 'deg' }, nz: { column: 'az', unit: 'g' } } }, 'm.json');
+    if (!parsed.ok) throw new Error(parsed.problems.join('; '));
+    expect(missingColumnProblems(parsed.mapping, ['time_ms', 'KIAS', 'az'], 'm.json', 'log.csv')).toEqual([
+      'm.json: keys.bank_deg.column "missingcol" is not a column of log.csv (columns: time_ms, KIAS, az)',
+    ]);
+    expect(missingColumnProblems(parsed.mapping, ['time_ms', 'missingcol', 'az'], 'm.json', 'log.csv')).toEqual([]);
+    // A wide log lists its first 12 columns only.
+    const wide = Array.from({ length: 30 }, (_, i) => `c${i}`);
+    expect(missingColumnProblems(parsed.mapping, wide, 'm.json', 'wide.csv')).toEqual(
+      ['t_s', 'bank_deg', 'nz'].map((key) => {
+        const column = { t_s: 'time_ms', bank_deg: 'missingcol', nz: 'az' }[key];
+        return `m.json: keys.${key}.column "${column}" is not a column of wide.csv (columns: ${wide.slice(0, 12).join(', ')}, …)`;
+      }),
+    );
   });
 
   it('rejects unknown keys, wrong units and a bad delimiter with one line each', () => {

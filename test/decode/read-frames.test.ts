@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { InputError } from '../../src/cli/errors.js';
-import { readFrameFile, type FileLine } from '../../src/decode/read-frames.js';
+import { checkMappingFits, readFrameFile, readFramePackedBatches, type FileLine } from '../../src/decode/read-frames.js';
 import { encodeHeader, encodeLine, encodeLinkEvent } from '../../src/recording/format.js';
 import { frameLine } from '../helpers/frames.js';
 
@@ -95,6 +95,48 @@ describe('readFrameFile', () => {
     await expect(readAll(join(dir, 'missing.ndjson'))).rejects.toThrow(InputError);
     await expect(readAll(join(dir, 'missing.ndjson'))).rejects.toThrow(/missing\.ndjson: cannot read the telemetry file \(no such file\)/);
     await expect(readAll(dir)).rejects.toThrow(/is a directory/);
+  });
+
+  it('refuses a mapping whose column is not in the CSV header, naming the columns there are', async () => {
+    const mapping = join(dir, 'm.json');
+    writeFileSync(mapping, JSON.stringify({ delimiter: ';', keys: { t_s: { column: 'time_ms', unit: 'ms' }, ias_mps: { column: 'KIAS', unit: 'kt' }, alt_m: { column: 'baro_ft', unit: 'ft' }, bank_deg: { column: 'missingcol', unit: 'deg' } } }));
+    const expected = 'm.json: keys.bank_deg.column "missingcol" is not a column of frames-foreign.csv (columns: time_ms, KIAS, baro_ft, roll_rad, acc_z_mps2, oat_F, note)';
+    const err = await readAll(fixture('frames-foreign.csv'), mapping).catch((e: unknown) => e);
+    expect(err).toBeInstanceOf(InputError);
+    expect((err as InputError).problems).toEqual([expected]);
+    // The up-front check for commands that read the file later, and the reader that packs frames for another
+    // thread (review), say the same.
+    await expect(checkMappingFits(fixture('frames-foreign.csv'), mapping)).rejects.toThrow(expected);
+    await expect(checkMappingFits(fixture('frames-foreign.csv'), fixture('frames-foreign-mapping.json'))).resolves.toBeUndefined();
+    const packed = await (async () => {
+      for await (const _batch of readFramePackedBatches(fixture('frames-foreign.csv'), { mappingPath: mapping })) {
+        /* drain */
+      }
+    })().catch((e: unknown) => e);
+    expect(packed).toBeInstanceOf(InputError);
+    expect((packed as InputError).problems).toEqual([expected]);
+  });
+
+  it('refuses a mapping given with a file that has no CSV header line', async () => {
+    const mapping = join(dir, 'm2.json');
+    writeFileSync(mapping, JSON.stringify({ keys: { tas_mps: { column: 'V', unit: 'kt' } } }));
+    const ndjson = join(dir, 'log.txt');
+    writeFileSync(ndjson, `# comment\n${frameLine({ t_s: 0 })}\n`);
+    await expect(readAll(ndjson, mapping)).rejects.toThrow(
+      'm2.json: a mapping applies to CSV logs with a header line, but log.txt is NDJSON (its first line is a JSON object, not a header)',
+    );
+    const named = join(dir, 'log.ndjson');
+    writeFileSync(named, 'V,alt_m\n');
+    await expect(readAll(named, mapping)).rejects.toThrow('m2.json: a mapping applies to CSV logs with a header line, but log.ndjson is NDJSON (by its name)');
+    const plain = join(dir, 'log.dat');
+    writeFileSync(plain, 'V;alt_m\n1;2\n');
+    await expect(readAll(plain, mapping)).rejects.toThrow(
+      `m2.json: a mapping applies to CSV logs with a header line, but log.dat has no header line with the mapping's delimiter "," (first line: "V;alt_m")`,
+    );
+    const rec = join(dir, 'm.tmrec');
+    writeFileSync(rec, Buffer.concat([encodeHeader('test link', 1_700_000_000_000), encodeLine(1_700_000_000_001, Buffer.from(frameLine({ t_s: 0 })), false)]));
+    await expect(readAll(rec, mapping)).rejects.toThrow('m2.json: a mapping applies to CSV logs with a header line, but m.tmrec is a turnmargin recording');
+    await expect(checkMappingFits(ndjson, mapping)).rejects.toThrow(InputError);
   });
 
   it('names each problem of a bad mapping file', async () => {
