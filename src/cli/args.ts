@@ -62,7 +62,31 @@ export function joinNegativeValues(spec: CommandSpec, argv: readonly string[]): 
   return out;
 }
 
+/** node:util's parse errors in the words of this tool. */
+function describeParseError(err: Error & { code?: string }): string {
+  const option = /Option '(-{1,2}[^ ']+)/.exec(err.message)?.[1] ?? /option '(-{1,2}[^ ']+)'/i.exec(err.message)?.[1];
+  if (err.code === 'ERR_PARSE_ARGS_UNKNOWN_OPTION' && option) return `unknown option ${option}`;
+  if (err.code === 'ERR_PARSE_ARGS_INVALID_OPTION_VALUE' && option) {
+    return /argument missing|ambiguous/.test(err.message) ? `${option} needs a value` : `${option}: ${err.message}`;
+  }
+  return err.message.replace(/\. To specify a positional argument.*$/s, '');
+}
+
+/** An option given twice is most likely a mistake (which one was meant?): say so rather than keep the last. */
+function refuseRepeats(spec: CommandSpec, argv: readonly string[]): void {
+  const seen = new Set<string>();
+  const byShort = new Map(spec.options.filter((o) => o.short).map((o) => [`-${o.short}`, o.name]));
+  for (const arg of argv) {
+    if (arg === '--') break;
+    const name = arg.startsWith('--') ? arg.slice(2).split('=')[0]! : byShort.get(arg);
+    if (name === undefined || !spec.options.some((o) => o.name === name)) continue;
+    if (seen.has(name)) throw new UsageError(`--${name} is given more than once`, spec.name);
+    seen.add(name);
+  }
+}
+
 export function parseCommandArgs(spec: CommandSpec, argv: string[]): ParsedArgs {
+  refuseRepeats(spec, argv);
   const options: Record<string, { type: 'string' | 'boolean'; short?: string }> = {};
   for (const o of [...spec.options, HELP_OPTION]) {
     options[o.name] = o.short ? { type: o.type, short: o.short } : { type: o.type };
@@ -72,8 +96,7 @@ export function parseCommandArgs(spec: CommandSpec, argv: string[]): ParsedArgs 
     const { values, positionals } = parseArgs({ args, options, allowPositionals: true, strict: true });
     return { values: values as Record<string, string | boolean | undefined>, positionals };
   } catch (err) {
-    const msg = (err as Error).message.replace(/\. To specify a positional argument.*$/s, '');
-    throw new UsageError(msg, spec.name);
+    throw new UsageError(describeParseError(err as Error & { code?: string }), spec.name);
   }
 }
 

@@ -81,6 +81,19 @@ describe('clumsy command lines', () => {
     }
   });
 
+  it('says which option is unknown, missing its value or given twice, in plain words', async () => {
+    const cases: Array<[string[], string]> = [
+      [['envelope', '--bogus'], 'unknown option --bogus'],
+      [['envelope', '--aircraft'], '--aircraft needs a value'],
+      [['envelope', '--aircraft', DEMO_AIRFRAME_PATH, '--aircraft', DEMO_AIRFRAME_PATH], '--aircraft is given more than once'],
+    ];
+    for (const [args, message] of cases) {
+      const r = await runCli(args);
+      expect(r.code, args.join(' ')).toBe(2);
+      expect(r.stderr).toContain(message);
+    }
+  });
+
   it('will not record over the airframe file', async () => {
     const airframe = join(dir, 'af.json');
     writeFileSync(airframe, JSON.stringify(exampleAirframeJson()));
