@@ -160,7 +160,8 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
     });
     ws.on('error', (err: Error & { code?: string }) => {
       // ws closes the connection itself (1009 for an oversized message); the other clients are not touched.
-      closeDetail = err.code === 'WS_ERR_UNSUPPORTED_MESSAGE_LENGTH' ? 'message over the size cap refused' : err.message;
+      closeDetail =
+        err.code === 'WS_ERR_UNSUPPORTED_MESSAGE_LENGTH' ? 'message over the size cap refused (close code 1009 sent)' : err.message;
       log(`client ${id}: ${closeDetail}`);
     });
     ws.on('close', (code, reason) => {
