@@ -1,5 +1,5 @@
 /**
- * Column mapping for foreign logs (CSV columns or NDJSON keys → frame keys, with units). Pure: parsing a mapping
+ * Column mapping for foreign CSV logs (columns → frame keys, with units). Pure: parsing a mapping
  * document and applying it to one row.
  *
  * Document (JSON):
