@@ -1,6 +1,6 @@
 /** `turnmargin replay`: play a recorded flight (recording, NDJSON or CSV log) through the monitor, paced by t_s. */
 import { statSync } from 'node:fs';
-import { loadMappingFile } from '../../decode/read-frames.js';
+import { checkMappingFits } from '../../decode/read-frames.js';
 import { createFileSource } from '../../sources/file.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { InputError, UsageError } from '../errors.js';
@@ -12,7 +12,7 @@ export const spec: CommandSpec = {
   usage: 'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
     { name: 'speed', type: 'string', valueName: 'X', unit: '× real time', defaultText: '1', description: 'playback speed: 1 = real time, 2 = twice as fast, 0 = as fast as possible' },
-    { name: 'mapping', type: 'string', valueName: 'FILE', description: 'column mapping (JSON) for a foreign log: which column feeds which frame key, in which unit' },
+    { name: 'mapping', type: 'string', valueName: 'FILE', description: 'column mapping (JSON) for a CSV log with a header line: which column feeds which frame key, in which unit' },
     { name: 'loop', type: 'boolean', defaultText: 'off', description: 'start again at the end (dashboard only)' },
     ...COMMON_MONITOR_OPTIONS,
   ],
@@ -36,7 +36,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   }
   const speed = numberOption(args, 'speed', 1, { min: 0, max: 1000 });
   const mappingPath = stringOption(args, 'mapping');
-  if (mappingPath !== undefined) loadMappingFile(mappingPath); // report a bad mapping before starting
+  if (mappingPath !== undefined) await checkMappingFits(path, mappingPath); // report a bad mapping before starting
   const setup = loadMonitorSetup(args);
   const wantsUi = !setup.noUi && process.stdout.isTTY === true;
   if (args.values['loop'] === true && !wantsUi) {

@@ -23,7 +23,7 @@ export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
   { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model file (JSON); required' },
   { name: 'thresholds', type: 'string', valueName: 'FILE', description: "alert thresholds file (JSON), over the airframe's own", defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust, hysteresis 0.02" },
   { name: 'smooth', type: 'string', valueName: 'S', unit: 's', defaultText: String(DEFAULT_SMOOTH_TAU_S), description: 'time constant of the load-factor low-pass filter; 0 turns smoothing off' },
-  { name: 'mapping', type: 'string', valueName: 'FILE', description: 'column mapping file (JSON) for CSV or foreign logs' },
+  { name: 'mapping', type: 'string', valueName: 'FILE', description: 'column mapping file (JSON) for a CSV log with a header line: which column feeds which frame key, in which unit' },
 ];
 
 export const spec: CommandSpec = {
