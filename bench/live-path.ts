@@ -11,6 +11,31 @@ import { computeLayout } from '../src/dashboard/layout.js';
 import { buildPlotModel } from '../src/dashboard/plot-model.js';
 import { buildScreenModel, type ScreenInput } from '../src/dashboard/screen-model.js';
 import { createMemorySource } from '../src/sources/memory.js';
+import type { LinkHealth } from '../src/sources/link-health.js';
+
+/** The dashboard's input for a live (not replayed) source seen right now, as the benchmarks build it. */
+export function headlessScreenInput(
+  aircraft: Aircraft,
+  sourceLabel: string,
+  record: MarginRecord | null,
+  events: readonly LimitEvent[],
+  link: LinkHealth,
+): ScreenInput {
+  return {
+    aircraftName: aircraft.name,
+    thresholds: aircraft.thresholds,
+    sourceLabel,
+    record,
+    events,
+    link,
+    replay: null,
+    isReplay: false,
+    ageS: 0,
+    units: 'mps',
+    muted: true,
+    error: null,
+  };
+}
 
 export interface LivePath {
   push(chunk: string): void;
@@ -44,20 +69,7 @@ export function createLivePath(aircraft: Aircraft, options: { buildScreenPerFram
     },
   });
   pipeline.start();
-  const screenInput = (): ScreenInput => ({
-    aircraftName: aircraft.name,
-    thresholds: aircraft.thresholds,
-    sourceLabel: 'bench',
-    record: latest,
-    events,
-    link: pipeline.health(),
-    replay: null,
-    isReplay: false,
-    ageS: 0,
-    units: 'mps',
-    muted: true,
-    error: null,
-  });
+  const screenInput = (): ScreenInput => headlessScreenInput(aircraft, 'bench', latest, events, pipeline.health());
   return {
     push(chunk) {
       source.emitData(chunk);

@@ -16,6 +16,7 @@ import { buildScreenModel, type ScreenInput } from '../src/dashboard/screen-mode
 import { createTrail } from '../src/dashboard/trail.js';
 import { openRecorder } from '../src/recording/recorder.js';
 import { createMemorySource } from '../src/sources/memory.js';
+import { headlessScreenInput } from './live-path.js';
 import { syntheticFrameLine } from './synthetic-flight.js';
 
 export interface SoakOptions {
@@ -112,20 +113,7 @@ export async function runLiveSoak(options: SoakOptions): Promise<SoakResult> {
   function redraw(): void {
     const rec = latest;
     if (!rec) return;
-    const input: ScreenInput = {
-      aircraftName: aircraft.name,
-      thresholds: aircraft.thresholds,
-      sourceLabel: source.label,
-      record: rec,
-      events: [...eventLog.values()],
-      link: pipeline.health(),
-      replay: null,
-      isReplay: false,
-      ageS: 0,
-      units: 'mps',
-      muted: true,
-      error: null,
-    };
+    const input: ScreenInput = headlessScreenInput(aircraft, source.label, rec, [...eventLog.values()], pipeline.health());
     buildScreenModel(input, layout);
     const plot = buildPlotModel({
       aircraft,
