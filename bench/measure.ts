@@ -31,7 +31,13 @@ export function runNode(script: string, args: string[], options: { probe?: boole
     child.on('close', (code) => {
       const wallMs = Number(process.hrtime.bigint() - start) / 1e6;
       const m = /@@maxrss_kib=(\d+)/.exec(stderr);
-      resolve({ wallMs, maxRssMb: m ? Number(m[1]) / 1024 : null, code, stdoutBytes, stderr: stderr.replace(/\n?@@maxrss_kib=\d+\n/, '') });
+      resolve({
+        wallMs,
+        maxRssMb: m ? Number(m[1]) / 1024 : null,
+        code,
+        stdoutBytes,
+        stderr: stderr.replace(/\n?@@maxrss_kib=\d+\n/, ''),
+      });
     });
   });
 }
@@ -43,13 +49,20 @@ export function percentile(sorted: readonly number[], p: number): number {
 }
 
 export function median(values: readonly number[]): number {
-  return percentile([...values].sort((a, b) => a - b), 50);
+  return percentile(
+    [...values].sort((a, b) => a - b),
+    50,
+  );
 }
 
 export function formatTable(rows: ReadonlyArray<readonly [string, string, string, string]>): string {
   const header = ['measure', 'result', 'target', 'verdict'] as const;
   const all = [header, ...rows];
   const widths = header.map((_, i) => Math.max(...all.map((r) => r[i]!.length)));
-  const line = (r: readonly string[]) => r.map((c, i) => c.padEnd(widths[i]!)).join('  ').trimEnd();
+  const line = (r: readonly string[]) =>
+    r
+      .map((c, i) => c.padEnd(widths[i]!))
+      .join('  ')
+      .trimEnd();
   return [line(header), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)].join('\n');
 }

@@ -58,7 +58,12 @@ function benchCore(aircraft: Aircraft): void {
     for (let i = 0; i < text.length; i += 4096) decoder.push(text.slice(i, i + 4096));
     decoder.end();
   });
-  results['core'] = { frames: count, margin_ns_per_frame: marginNs, parse_line_ns: parseNs, decode_stream_ns_per_line: decodeNs };
+  results['core'] = {
+    frames: count,
+    margin_ns_per_frame: marginNs,
+    parse_line_ns: parseNs,
+    decode_stream_ns_per_line: decodeNs,
+  };
   rows.push(['per-frame margins (core)', `${marginNs.toFixed(0)} ns/frame`, 'report', '—']);
   rows.push(['frame line validation', `${parseNs.toFixed(0)} ns/line`, 'report', '—']);
   rows.push(['stream decode (split+validate+time)', `${decodeNs.toFixed(0)} ns/line`, 'report', '—']);
@@ -110,15 +115,37 @@ async function benchReview(dir: string): Promise<void> {
       reviewRss = Math.max(reviewRss, r.maxRssMb ?? 0);
     }
     const ratio = median(reviewMs) / median(bareMs);
-    perSize.push({ frames, bytes, bare_ms: median(bareMs), review_ms: median(reviewMs), ratio, review_peak_rss_mb: reviewRss });
-    rows.push([`review ${frames / 1e6} M frames ÷ bare loop`, `${ratio.toFixed(2)}× (${(median(reviewMs) / 1000).toFixed(1)} s vs ${(median(bareMs) / 1000).toFixed(1)} s)`, '≤ 1.5× (stretch 1.2×)', verdict(ratio <= 1.5)]);
-    rows.push([`review ${frames / 1e6} M frames peak RSS`, `${reviewRss.toFixed(0)} MB`, '≤ 150 MB', verdict(reviewRss <= 150)]);
+    perSize.push({
+      frames,
+      bytes,
+      bare_ms: median(bareMs),
+      review_ms: median(reviewMs),
+      ratio,
+      review_peak_rss_mb: reviewRss,
+    });
+    rows.push([
+      `review ${frames / 1e6} M frames ÷ bare loop`,
+      `${ratio.toFixed(2)}× (${(median(reviewMs) / 1000).toFixed(1)} s vs ${(median(bareMs) / 1000).toFixed(1)} s)`,
+      '≤ 1.5× (stretch 1.2×)',
+      verdict(ratio <= 1.5),
+    ]);
+    rows.push([
+      `review ${frames / 1e6} M frames peak RSS`,
+      `${reviewRss.toFixed(0)} MB`,
+      '≤ 150 MB',
+      verdict(reviewRss <= 150),
+    ]);
     rmSync(file, { force: true });
   }
   if (perSize.length === 2) {
     const a = perSize[0]!['review_peak_rss_mb'] as number;
     const b = perSize[1]!['review_peak_rss_mb'] as number;
-    rows.push(['review memory 1 M → 5 M', `${a.toFixed(0)} → ${b.toFixed(0)} MB`, 'flat (≤ +15 %)', verdict(b <= a * 1.15)]);
+    rows.push([
+      'review memory 1 M → 5 M',
+      `${a.toFixed(0)} → ${b.toFixed(0)} MB`,
+      'flat (≤ +15 %)',
+      verdict(b <= a * 1.15),
+    ]);
   }
   results['review'] = perSize;
 }
@@ -163,7 +190,15 @@ async function benchLive(aircraft: Aircraft): Promise<void> {
   await live.stop();
   const renderMedian = median(renderMs);
   rows.push(['dashboard n–V plot model per redraw', `${renderMedian.toFixed(2)} ms`, 'report (≤ 20 redraws/s)', '—']);
-  results['live'] = { rate_hz: rateHz, frames: sent, accepted: live.accepted(), p50_ms: p50, p99_ms: p99, cpu_share: cpuShare, plot_model_ms: renderMedian };
+  results['live'] = {
+    rate_hz: rateHz,
+    frames: sent,
+    accepted: live.accepted(),
+    p50_ms: p50,
+    p99_ms: p99,
+    cpu_share: cpuShare,
+    plot_model_ms: renderMedian,
+  };
   rows.push(['live path @1 kHz: p50 per frame', `${p50.toFixed(3)} ms`, 'report', '—']);
   rows.push(['live path @1 kHz: p99 per frame', `${p99.toFixed(3)} ms`, '≤ 2 ms', verdict(p99 <= 2)]);
   rows.push(['live path @1 kHz: CPU share', `${(cpuShare * 100).toFixed(1)} % of one core`, 'report', '—']);
@@ -184,10 +219,15 @@ async function main(): Promise<void> {
     rmSync(dir, { recursive: true, force: true });
   }
   const table = formatTable(rows);
-  process.stdout.write(`\nturnmargin benchmarks (${new Date().toISOString()}, node ${process.version}${quick ? ', quick' : ''})\n\n${table}\n`);
+  process.stdout.write(
+    `\nturnmargin benchmarks (${new Date().toISOString()}, node ${process.version}${quick ? ', quick' : ''})\n\n${table}\n`,
+  );
   const outDir = join(REPO_ROOT, 'bench-results');
   mkdirSync(outDir, { recursive: true });
-  writeFileSync(join(outDir, 'perf.json'), JSON.stringify({ date: new Date().toISOString(), node: process.version, quick, results, table: rows }, null, 2));
+  writeFileSync(
+    join(outDir, 'perf.json'),
+    JSON.stringify({ date: new Date().toISOString(), node: process.version, quick, results, table: rows }, null, 2),
+  );
   process.stdout.write(`\nwritten: bench-results/perf.json\n`);
 }
 

@@ -51,8 +51,13 @@ interface ClientState {
 }
 
 /** Spawn `turnmargin serve` on a free loopback port; resolves with its URL once it prints it. */
-async function startServe(aircraftPath: string): Promise<{ url: string; stop(): Promise<number | null>; stderr(): string }> {
-  const child = spawn(process.execPath, [CLI, 'serve', '--aircraft', aircraftPath, '--listen', '127.0.0.1:0'], { cwd: REPO_ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
+async function startServe(
+  aircraftPath: string,
+): Promise<{ url: string; stop(): Promise<number | null>; stderr(): string }> {
+  const child = spawn(process.execPath, [CLI, 'serve', '--aircraft', aircraftPath, '--listen', '127.0.0.1:0'], {
+    cwd: REPO_ROOT,
+    stdio: ['ignore', 'pipe', 'pipe'],
+  });
   let stderr = '';
   child.stderr.setEncoding('utf8').on('data', (d: string) => {
     stderr += d;
@@ -129,9 +134,12 @@ export async function runServeLoad(options: ServeLoadOptions): Promise<ServeLoad
   const sendWallS = (performance.now() - start) / 1000;
   // Let the last answers arrive.
   const drainUntil = performance.now() + 10_000;
-  while (clients.some((c) => c.answered < c.sent) && performance.now() < drainUntil) await new Promise((r) => setTimeout(r, 20));
+  while (clients.some((c) => c.answered < c.sent) && performance.now() < drainUntil)
+    await new Promise((r) => setTimeout(r, 20));
   for (const c of clients) c.ws.close(1000);
-  await Promise.all(clients.map((c) => (c.ws.readyState === WebSocket.CLOSED ? undefined : once(c.ws, 'close'))));
+  await Promise.all(
+    clients.map((c) => (c.ws.readyState === WebSocket.CLOSED ? Promise.resolve() : once(c.ws, 'close'))),
+  );
   const serverExitCode = await server.stop();
 
   const sorted = latencies.sort((a, b) => a - b);
@@ -149,7 +157,12 @@ export async function runServeLoad(options: ServeLoadOptions): Promise<ServeLoad
     outOfOrder,
     unanswered,
     sentPerS: framesSent / sendWallS,
-    latencyMs: { p50: percentile(sorted, 50), p90: percentile(sorted, 90), p99: percentile(sorted, 99), max: sorted.at(-1) ?? NaN },
+    latencyMs: {
+      p50: percentile(sorted, 50),
+      p90: percentile(sorted, 90),
+      p99: percentile(sorted, 99),
+      max: sorted.at(-1) ?? NaN,
+    },
     serverExitCode,
     clientErrors,
     inOrder: outOfOrder === 0 && unanswered === 0 && answers === framesSent,

@@ -88,7 +88,10 @@ export async function runLiveSoak(options: SoakOptions): Promise<SoakResult> {
     eventLog.set(`${ev.limit}:${ev.level}:${ev.start_s}`, ev);
     if (eventLog.size > EVENT_LOG_CAP) eventLog.delete(eventLog.keys().next().value!);
   };
-  const recorder = options.recordPath === undefined ? undefined : openRecorder({ path: options.recordPath, force: true, sourceLabel: source.label, clock });
+  const recorder =
+    options.recordPath === undefined
+      ? undefined
+      : openRecorder({ path: options.recordPath, force: true, sourceLabel: source.label, clock });
   const pipeline = createPipeline({
     source,
     aircraft,
@@ -113,7 +116,13 @@ export async function runLiveSoak(options: SoakOptions): Promise<SoakResult> {
   function redraw(): void {
     const rec = latest;
     if (!rec) return;
-    const input: ScreenInput = headlessScreenInput(aircraft, source.label, rec, [...eventLog.values()], pipeline.health());
+    const input: ScreenInput = headlessScreenInput(
+      aircraft,
+      source.label,
+      rec,
+      [...eventLog.values()],
+      pipeline.health(),
+    );
     buildScreenModel(input, layout);
     const plot = buildPlotModel({
       aircraft,
@@ -157,7 +166,13 @@ export async function runLiveSoak(options: SoakOptions): Promise<SoakResult> {
       // Memory held, not memory in flight: the recorder's unflushed half-second goes to disk first.
       recorder?.flush();
       const mem = sampleMemory();
-      const c: SoakCheckpoint = { frames, flightH: frames / rateHz / 3600, ...mem, chunkFramesPerS, wallS: (now - wallStart) / 1000 };
+      const c: SoakCheckpoint = {
+        frames,
+        flightH: frames / rateHz / 3600,
+        ...mem,
+        chunkFramesPerS,
+        wallS: (now - wallStart) / 1000,
+      };
       checkpoints.push(c);
       options.onCheckpoint?.(c);
       chunkFrom = frames;
@@ -167,7 +182,14 @@ export async function runLiveSoak(options: SoakOptions): Promise<SoakResult> {
   source.emitData(pending);
   source.end();
   await pipeline.stop();
-  const result: SoakResult = { checkpoints, accepted, rejected, events: eventCount, redraws, wallS: (performance.now() - wallStart) / 1000 };
+  const result: SoakResult = {
+    checkpoints,
+    accepted,
+    rejected,
+    events: eventCount,
+    redraws,
+    wallS: (performance.now() - wallStart) / 1000,
+  };
   if (recorder) {
     result.recordedBytes = recorder.bytesWritten();
     result.recordingError = recorder.error();

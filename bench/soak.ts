@@ -36,7 +36,14 @@ const SOAK_THRESHOLDS = { stallCaution: 0.7, stallWarning: 0.76, thrustCaution: 
 const verdict = (ok: boolean): string => (ok ? 'met' : 'MISSED');
 const mb = (x: number): string => `${x.toFixed(1)} MB`;
 
-function soakVerdicts(result: SoakResult): { rows: Row[]; heapGrowthMb: number; rssEarlyMb: number; rssLateMb: number; earlyRate: number; lateRate: number } {
+function soakVerdicts(result: SoakResult): {
+  rows: Row[];
+  heapGrowthMb: number;
+  rssEarlyMb: number;
+  rssLateMb: number;
+  earlyRate: number;
+  lateRate: number;
+} {
   const cps = result.checkpoints;
   // The first chunk includes JIT warm-up; compare from the second checkpoint on.
   const base = cps[Math.min(1, cps.length - 1)]!;
@@ -53,20 +60,60 @@ function soakVerdicts(result: SoakResult): { rows: Row[]; heapGrowthMb: number; 
   const rssLateMb = median(late.map((c) => c.rssMb));
   const rssAll = cps.slice(1).map((c) => c.rssMb);
   const rows: Row[] = [
-    [`soak: ${(SOAK_FRAMES / 1e6).toFixed(2)} M frames (${(SOAK_FRAMES / SOAK_RATE_HZ / 3600).toFixed(1)} h at ${SOAK_RATE_HZ} Hz)`, `${result.wallS.toFixed(1)} s wall, ${Math.round(SOAK_FRAMES / result.wallS)} frames/s`, 'as fast as possible', '—'],
-    ['soak: accepted / rejected / events / redraws', `${result.accepted} / ${result.rejected} / ${result.events} / ${result.redraws}`, 'all accepted', verdict(result.accepted === SOAK_FRAMES && result.rejected === 0)],
-    ['soak: heap after gc, 2nd checkpoint → end', `${mb(base.heapUsedMb)} → ${mb(last.heapUsedMb)} (${heapGrowthMb >= 0 ? '+' : ''}${heapGrowthMb.toFixed(1)})`, `flat (< ${HEAP_GROWTH_LIMIT_MB} MB)`, verdict(heapGrowthMb < HEAP_GROWTH_LIMIT_MB)],
-    ['soak: RSS after gc, early vs late quarter (median)', `${mb(rssEarlyMb)} → ${mb(rssLateMb)} (range ${Math.min(...rssAll).toFixed(0)}–${Math.max(...rssAll).toFixed(0)} MB)`, `flat (< +${RSS_GROWTH_LIMIT_MB} MB)`, verdict(rssLateMb - rssEarlyMb < RSS_GROWTH_LIMIT_MB)],
-    ['soak: throughput, early vs late quarter (median)', `${Math.round(earlyRate)} → ${Math.round(lateRate)} frames/s (${((lateRate / earlyRate) * 100).toFixed(0)} %)`, `no slowdown (≥ ${SLOWDOWN_FLOOR * 100} %)`, verdict(lateRate >= SLOWDOWN_FLOOR * earlyRate)],
+    [
+      `soak: ${(SOAK_FRAMES / 1e6).toFixed(2)} M frames (${(SOAK_FRAMES / SOAK_RATE_HZ / 3600).toFixed(1)} h at ${SOAK_RATE_HZ} Hz)`,
+      `${result.wallS.toFixed(1)} s wall, ${Math.round(SOAK_FRAMES / result.wallS)} frames/s`,
+      'as fast as possible',
+      '—',
+    ],
+    [
+      'soak: accepted / rejected / events / redraws',
+      `${result.accepted} / ${result.rejected} / ${result.events} / ${result.redraws}`,
+      'all accepted',
+      verdict(result.accepted === SOAK_FRAMES && result.rejected === 0),
+    ],
+    [
+      'soak: heap after gc, 2nd checkpoint → end',
+      `${mb(base.heapUsedMb)} → ${mb(last.heapUsedMb)} (${heapGrowthMb >= 0 ? '+' : ''}${heapGrowthMb.toFixed(1)})`,
+      `flat (< ${HEAP_GROWTH_LIMIT_MB} MB)`,
+      verdict(heapGrowthMb < HEAP_GROWTH_LIMIT_MB),
+    ],
+    [
+      'soak: RSS after gc, early vs late quarter (median)',
+      `${mb(rssEarlyMb)} → ${mb(rssLateMb)} (range ${Math.min(...rssAll).toFixed(0)}–${Math.max(...rssAll).toFixed(0)} MB)`,
+      `flat (< +${RSS_GROWTH_LIMIT_MB} MB)`,
+      verdict(rssLateMb - rssEarlyMb < RSS_GROWTH_LIMIT_MB),
+    ],
+    [
+      'soak: throughput, early vs late quarter (median)',
+      `${Math.round(earlyRate)} → ${Math.round(lateRate)} frames/s (${((lateRate / earlyRate) * 100).toFixed(0)} %)`,
+      `no slowdown (≥ ${SLOWDOWN_FLOOR * 100} %)`,
+      verdict(lateRate >= SLOWDOWN_FLOOR * earlyRate),
+    ],
   ];
   return { rows, heapGrowthMb, rssEarlyMb, rssLateMb, earlyRate, lateRate };
 }
 
 function serveRows(r: ServeLoadResult): Row[] {
   return [
-    [`serve: ${r.clients} clients × ${r.rateHz} frames/s for ${r.durationS} s`, `${r.framesSent} frames sent (${Math.round(r.sentPerS)}/s), ${r.answers} answered`, 'every frame answered', verdict(r.answers === r.framesSent && r.unanswered === 0)],
-    ['serve: answers in order (t_s per client), errors', `${r.outOfOrder} out of order, ${r.errorAnswers} error answers, ${r.clientErrors.length} socket errors`, 'all in order, none', verdict(r.inOrder && r.errorAnswers === 0 && r.clientErrors.length === 0)],
-    ['serve: latency send → answer p50 / p90 / p99 / max', `${r.latencyMs.p50.toFixed(2)} / ${r.latencyMs.p90.toFixed(2)} / ${r.latencyMs.p99.toFixed(2)} / ${r.latencyMs.max.toFixed(1)} ms`, 'p99 reported', '—'],
+    [
+      `serve: ${r.clients} clients × ${r.rateHz} frames/s for ${r.durationS} s`,
+      `${r.framesSent} frames sent (${Math.round(r.sentPerS)}/s), ${r.answers} answered`,
+      'every frame answered',
+      verdict(r.answers === r.framesSent && r.unanswered === 0),
+    ],
+    [
+      'serve: answers in order (t_s per client), errors',
+      `${r.outOfOrder} out of order, ${r.errorAnswers} error answers, ${r.clientErrors.length} socket errors`,
+      'all in order, none',
+      verdict(r.inOrder && r.errorAnswers === 0 && r.clientErrors.length === 0),
+    ],
+    [
+      'serve: latency send → answer p50 / p90 / p99 / max',
+      `${r.latencyMs.p50.toFixed(2)} / ${r.latencyMs.p90.toFixed(2)} / ${r.latencyMs.p99.toFixed(2)} / ${r.latencyMs.max.toFixed(1)} ms`,
+      'p99 reported',
+      '—',
+    ],
     ['serve: exit on SIGTERM', `code ${r.serverExitCode}`, '0', verdict(r.serverExitCode === 0)],
   ];
 }
@@ -93,7 +140,9 @@ async function main(): Promise<void> {
   const results: Record<string, unknown> = { quick, node: process.version, startedAt: new Date().toISOString() };
 
   if (!process.argv.includes('--no-soak')) {
-    process.stdout.write(`soak: ${SOAK_FRAMES} frames of ${SOAK_RATE_HZ} Hz telemetry through the live path (RSS and heap after a gc every ${CHECKPOINT_EVERY} frames)\n`);
+    process.stdout.write(
+      `soak: ${SOAK_FRAMES} frames of ${SOAK_RATE_HZ} Hz telemetry through the live path (RSS and heap after a gc every ${CHECKPOINT_EVERY} frames)\n`,
+    );
     process.stdout.write('frames      flight h   RSS MB   heap MB   chunk frames/s\n');
     const recordDir = process.argv.includes('--record') ? mkdtempSync(join(tmpdir(), 'turnmargin-soak-')) : undefined;
     const soak = await runLiveSoak({
@@ -108,13 +157,29 @@ async function main(): Promise<void> {
     const v = soakVerdicts(soak);
     rows.push(...v.rows);
     if (soak.recordedBytes !== undefined) {
-      rows.push(['soak: recording (--record)', `${(soak.recordedBytes / 2 ** 20).toFixed(0)} MB written, ${soak.recordingError ?? 'no error'}`, 'every line, no error', verdict(soak.recordingError === null && soak.recordedBytes > 0)]);
+      rows.push([
+        'soak: recording (--record)',
+        `${(soak.recordedBytes / 2 ** 20).toFixed(0)} MB written, ${soak.recordingError ?? 'no error'}`,
+        'every line, no error',
+        verdict(soak.recordingError === null && soak.recordedBytes > 0),
+      ]);
     }
-    results['soak'] = { frames: SOAK_FRAMES, rateHz: SOAK_RATE_HZ, ...soak, heapGrowthMb: v.heapGrowthMb, rssEarlyMb: v.rssEarlyMb, rssLateMb: v.rssLateMb, earlyFramesPerS: v.earlyRate, lateFramesPerS: v.lateRate };
+    results['soak'] = {
+      frames: SOAK_FRAMES,
+      rateHz: SOAK_RATE_HZ,
+      ...soak,
+      heapGrowthMb: v.heapGrowthMb,
+      rssEarlyMb: v.rssEarlyMb,
+      rssLateMb: v.rssLateMb,
+      earlyFramesPerS: v.earlyRate,
+      lateFramesPerS: v.lateRate,
+    };
   }
 
   if (!process.argv.includes('--no-serve')) {
-    process.stdout.write(`\nserve under load: ${LOAD.clients} clients × ${LOAD.rateHz} frames/s for ${LOAD.durationS} s on loopback…\n`);
+    process.stdout.write(
+      `\nserve under load: ${LOAD.clients} clients × ${LOAD.rateHz} frames/s for ${LOAD.durationS} s on loopback…\n`,
+    );
     const load = await runServeLoad({ aircraftPath: AIRFRAME, ...LOAD });
     rows.push(...serveRows(load));
     results['serve'] = load;

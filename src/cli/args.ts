@@ -1,6 +1,6 @@
 /** Declarative command-line options: parsing (node:util parseArgs), number checks and help text. */
 import { parseArgs } from 'node:util';
-import { UsageError } from './errors.js';
+import { UsageError } from '../errors.js';
 
 export interface OptionSpec {
   name: string;
@@ -161,8 +161,18 @@ export function parseNumber(optionName: string, text: string, rule: NumberRule =
 }
 
 export function numberOption(args: ParsedArgs, name: string, fallback: number, rule?: NumberRule): number;
-export function numberOption(args: ParsedArgs, name: string, fallback: undefined, rule?: NumberRule): number | undefined;
-export function numberOption(args: ParsedArgs, name: string, fallback: number | undefined, rule: NumberRule = {}): number | undefined {
+export function numberOption(
+  args: ParsedArgs,
+  name: string,
+  fallback: undefined,
+  rule?: NumberRule,
+): number | undefined;
+export function numberOption(
+  args: ParsedArgs,
+  name: string,
+  fallback: number | undefined,
+  rule: NumberRule = {},
+): number | undefined {
   const raw = args.values[name];
   if (raw === undefined || typeof raw === 'boolean') return fallback;
   return parseNumber(name, raw, rule);

@@ -5,7 +5,7 @@
  */
 import type { Aircraft } from '../core/aircraft.js';
 import { numberOption, requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
-import { EXIT_UNUSABLE } from './errors.js';
+import { EXIT_UNUSABLE } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import { createEventTracker, type LimitEvent } from '../core/events.js';
@@ -17,7 +17,14 @@ import type { FileLine } from '../decode/read-frames.js';
 import type { Recorder } from '../recording/recorder.js';
 import type { LinkHealth } from '../sources/link-health.js';
 import { createLinkHealthTracker, formatLinkSummary } from '../sources/link-health-tracker.js';
-import { systemClock, type Clock, type ReceivedLine, type ReplayTransport, type SourceStatus, type TelemetrySource } from '../sources/source.js';
+import {
+  systemClock,
+  type Clock,
+  type ReceivedLine,
+  type ReplayTransport,
+  type SourceStatus,
+  type TelemetrySource,
+} from '../sources/source.js';
 
 export interface PipelineSinks {
   record(rec: MarginRecord, line: DecodedLine): void;
@@ -71,7 +78,8 @@ export function createPipeline(options: PipelineOptions): Pipeline {
   function onLine(line: ReceivedLine): void {
     recorder?.writeLine(line); // before parsing: the recording holds every line received
     health.line(line.bytes.length, line.receivedAtMs);
-    const decoded: (DecodedLine & Partial<Pick<FileLine, 'afterReconnect'>>) | null = line.decoded ?? decoder.judgeLine(line);
+    const decoded: (DecodedLine & Partial<Pick<FileLine, 'afterReconnect'>>) | null =
+      line.decoded ?? decoder.judgeLine(line);
     if (!decoded) return;
     const verdict = decoded.verdict;
     if (!verdict.ok) {
@@ -203,7 +211,8 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
         },
         status(s) {
           if (s.kind === 'lost') stderr.write(`turnmargin: link lost (${s.detail ?? 'no detail'}); retrying\n`);
-          else if (s.kind === 'open' && s.detail && !options.replay) stderr.write(`turnmargin: link open: ${s.detail}\n`);
+          else if (s.kind === 'open' && s.detail && !options.replay)
+            stderr.write(`turnmargin: link open: ${s.detail}\n`);
         },
       }
     : {
@@ -225,7 +234,9 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
   let lastRecordingError: string | null = null;
   if (dashboardModule) {
     const mod = dashboardModule;
-    const lengthS = options.replay ? ((await Promise.race([options.replay.length, new Promise<null>((r) => setTimeout(() => r(null), 2000))])) ?? 0) : undefined;
+    const lengthS = options.replay
+      ? ((await Promise.race([options.replay.length, new Promise<null>((r) => setTimeout(() => r(null), 2000))])) ?? 0)
+      : undefined;
     const transport = options.replay?.transport;
     dashboard = mod.startDashboard(
       {
@@ -317,9 +328,27 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
 
 export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
   { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
-  { name: 'thresholds', type: 'string', valueName: 'FILE', defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust", description: 'alert thresholds (JSON)' },
-  { name: 'smooth', type: 'string', valueName: 'S', unit: 's', defaultText: '0.15', description: 'time constant of the load-factor low-pass filter (0 = off)' },
-  { name: 'no-ui', type: 'boolean', description: 'no dashboard: one margin record (JSON) per accepted frame on stdout, rejected lines and a link summary on stderr' },
+  {
+    name: 'thresholds',
+    type: 'string',
+    valueName: 'FILE',
+    defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust",
+    description: 'alert thresholds (JSON)',
+  },
+  {
+    name: 'smooth',
+    type: 'string',
+    valueName: 'S',
+    unit: 's',
+    defaultText: '0.15',
+    description: 'time constant of the load-factor low-pass filter (0 = off)',
+  },
+  {
+    name: 'no-ui',
+    type: 'boolean',
+    description:
+      'no dashboard: one margin record (JSON) per accepted frame on stdout, rejected lines and a link summary on stderr',
+  },
 ];
 
 export interface MonitorSetup {
@@ -332,7 +361,8 @@ export interface MonitorSetup {
 export function loadMonitorSetup(args: ParsedArgs): MonitorSetup {
   const aircraft = loadAircraftFile(requireOption(args, 'aircraft'));
   const thresholdsPath = stringOption(args, 'thresholds');
-  const thresholds = thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
+  const thresholds =
+    thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
   const smoothTauS = numberOption(args, 'smooth', undefined, { min: 0, max: 10 });
   const setup: MonitorSetup = { aircraft, thresholds, noUi: args.values['no-ui'] === true };
   if (smoothTauS !== undefined) setup.smoothTauS = smoothTauS;

@@ -4,7 +4,7 @@ import { basename } from 'node:path';
 import { parseAircraft, type Aircraft } from '../core/aircraft.js';
 import { ThresholdsSchema, resolveThresholds, type AlertThresholds } from '../core/thresholds.js';
 import { parseLenient } from '../core/validation.js';
-import { InputError } from './errors.js';
+import { InputError } from '../errors.js';
 
 /** Read and parse a JSON input file; InputError naming the file when it cannot be read or parsed. */
 export function readJson(path: string, what: string): unknown {

@@ -5,7 +5,7 @@
  * fast and never load the dashboard libraries.
  */
 import { formatHelp, formatOptionList, parseCommandArgs, type CommandSpec, type ParsedArgs } from './args.js';
-import { EXIT_UNUSABLE, InputError, UsageError } from './errors.js';
+import { EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
 
 /** What every command module exports. */
@@ -20,19 +20,37 @@ interface CommandEntry {
 }
 
 const COMMANDS: Record<string, CommandEntry> = {
-  envelope: { summary: 'print the turn envelope (limits against airspeed) of an airframe', load: () => import('./commands/envelope.js') },
-  watch: { summary: 'monitor live telemetry from a serial radio or a websocket', load: () => import('./commands/watch.js') },
+  envelope: {
+    summary: 'print the turn envelope (limits against airspeed) of an airframe',
+    load: () => import('./commands/envelope.js'),
+  },
+  watch: {
+    summary: 'monitor live telemetry from a serial radio or a websocket',
+    load: () => import('./commands/watch.js'),
+  },
   replay: { summary: 'play a recorded flight through the monitor', load: () => import('./commands/replay.js') },
   review: { summary: 'report the exceedances of a recorded flight', load: () => import('./commands/review.js') },
-  check: { summary: 'pass/fail a recorded flight against the alert levels (for CI)', load: () => import('./commands/check.js') },
-  serve: { summary: 'answer an autopilot on the bench with margins over a websocket', load: () => import('./commands/serve.js') },
-  simulate: { summary: 'fly a turn plan with a point-mass model and emit telemetry', load: () => import('./commands/simulate.js') },
-  demo: { summary: 'replay the bundled demo flight with the demo airframe (npm start)', load: () => import('./commands/demo.js') },
+  check: {
+    summary: 'pass/fail a recorded flight against the alert levels (for CI)',
+    load: () => import('./commands/check.js'),
+  },
+  serve: {
+    summary: 'answer an autopilot on the bench with margins over a websocket',
+    load: () => import('./commands/serve.js'),
+  },
+  simulate: {
+    summary: 'fly a turn plan with a point-mass model and emit telemetry',
+    load: () => import('./commands/simulate.js'),
+  },
+  demo: {
+    summary: 'replay the bundled demo flight with the demo airframe (npm start)',
+    load: () => import('./commands/demo.js'),
+  },
 };
 
 const CAUTION =
-  'Advisory tool for test planning and monitoring; not flight-critical. The aircraft\'s approved limits,\n' +
-  'the operator\'s procedures and local aviation rules take precedence.';
+  "Advisory tool for test planning and monitoring; not flight-critical. The aircraft's approved limits,\n" +
+  "the operator's procedures and local aviation rules take precedence.";
 
 async function mainHelp(): Promise<string> {
   const width = Math.max(...Object.keys(COMMANDS).map((c) => c.length));
@@ -133,7 +151,9 @@ if (invokedAs.endsWith('main.js') || invokedAs.endsWith('turnmargin')) {
       process.exitCode = code;
     },
     (err: unknown) => {
-      process.stderr.write(`turnmargin: unexpected error: ${err instanceof Error ? (err.stack ?? err.message) : String(err)}\n`);
+      process.stderr.write(
+        `turnmargin: unexpected error: ${err instanceof Error ? (err.stack ?? err.message) : String(err)}\n`,
+      );
       process.exitCode = EXIT_UNUSABLE;
     },
   );

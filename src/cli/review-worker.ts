@@ -37,7 +37,8 @@ if (port) {
       return;
     }
     const { frames, count, rejects } = message;
-    for (let i = 0; i < count; i++) reviewer.accept(unpackFrame(frames, i), packedNewSegment(frames, i) ? NEW_SEGMENT : SAME_SEGMENT);
+    for (let i = 0; i < count; i++)
+      reviewer.accept(unpackFrame(frames, i), packedNewSegment(frames, i) ? NEW_SEGMENT : SAME_SEGMENT);
     for (let i = 0; i < rejects.length; i += 2) reviewer.reject(rejects[i] as number, rejects[i + 1] as string);
     port.postMessage({ ack: true });
   });

@@ -52,7 +52,12 @@ const TableThrust = z.strictObject({
     .check((ctx) => {
       for (let i = 1; i < ctx.value.length; i++) {
         if (ctx.value[i]![0] <= ctx.value[i - 1]![0]) {
-          ctx.issues.push({ code: 'custom', input: ctx.value, path: [i, 0], message: 'must increase (speeds sorted ascending)' });
+          ctx.issues.push({
+            code: 'custom',
+            input: ctx.value,
+            path: [i, 0],
+            message: 'must increase (speeds sorted ascending)',
+          });
         }
       }
     }),
@@ -67,29 +72,37 @@ const Thrust = z.discriminatedUnion('model', [ConstantThrust, PowerThrust, Table
 });
 
 const Polar = z
-  .strictObject({
-    cd0: positive(),
-    k: positive().optional(),
-    aspect_ratio: positive().optional(),
-    oswald: z
-      .number({ error: 'must be a number above 0 and at most 1' })
-      .gt(0, { error: 'must be a number above 0 and at most 1' })
-      .lte(1, { error: 'must be a number above 0 and at most 1' })
-      .optional(),
-  }, { error: 'must be an object {cd0, k} or {cd0, aspect_ratio, oswald}' })
+  .strictObject(
+    {
+      cd0: positive(),
+      k: positive().optional(),
+      aspect_ratio: positive().optional(),
+      oswald: z
+        .number({ error: 'must be a number above 0 and at most 1' })
+        .gt(0, { error: 'must be a number above 0 and at most 1' })
+        .lte(1, { error: 'must be a number above 0 and at most 1' })
+        .optional(),
+    },
+    { error: 'must be an object {cd0, k} or {cd0, aspect_ratio, oswald}' },
+  )
   .check((ctx) => {
     const p = ctx.value;
     const hasK = p.k !== undefined;
     const hasAr = p.aspect_ratio !== undefined || p.oswald !== undefined;
     if (hasK && hasAr) {
-      ctx.issues.push({ code: 'custom', input: p, path: [], message: 'must give either k or aspect_ratio with oswald, not both' });
+      ctx.issues.push({
+        code: 'custom',
+        input: p,
+        path: [],
+        message: 'must give either k or aspect_ratio with oswald, not both',
+      });
     } else if (!hasK && !(p.aspect_ratio !== undefined && p.oswald !== undefined)) {
       ctx.issues.push({ code: 'custom', input: p, path: [], message: 'must give k, or both aspect_ratio and oswald' });
     }
   });
 
-export const AircraftSchema = z
-  .strictObject({
+export const AircraftSchema = z.strictObject(
+  {
     name: z.string({ error: 'must be a text' }).min(1, { error: 'must not be empty' }),
     description: z.string({ error: 'must be a text' }).optional(),
     mass_kg: positive(),
@@ -102,7 +115,10 @@ export const AircraftSchema = z
       .number({ error: 'must be a number above 1' })
       .gt(1, { error: 'must be a number above 1' })
       .optional(),
-    n_limit_neg: z.number({ error: 'must be a negative number' }).lt(0, { error: 'must be a negative number' }).optional(),
+    n_limit_neg: z
+      .number({ error: 'must be a negative number' })
+      .lt(0, { error: 'must be a negative number' })
+      .optional(),
     vne_mps: positive().optional(),
     airspeed_calibration: z
       .array(speedPoint, { error: 'must be a list of [ias_mps, cas_mps] pairs' })
@@ -110,13 +126,20 @@ export const AircraftSchema = z
       .check((ctx) => {
         for (let i = 1; i < ctx.value.length; i++) {
           if (ctx.value[i]![0] <= ctx.value[i - 1]![0]) {
-            ctx.issues.push({ code: 'custom', input: ctx.value, path: [i, 0], message: 'must increase (IAS sorted ascending)' });
+            ctx.issues.push({
+              code: 'custom',
+              input: ctx.value,
+              path: [i, 0],
+              message: 'must increase (IAS sorted ascending)',
+            });
           }
         }
       })
       .optional(),
     alert_thresholds: ThresholdsSchema.optional(),
-  }, { error: 'must be a JSON object' });
+  },
+  { error: 'must be a JSON object' },
+);
 
 export type AircraftJson = z.infer<typeof AircraftSchema>;
 

@@ -57,15 +57,23 @@ function wasOn(previous: readonly ActiveAlert[], limit: LimitName, level: AlertL
  * The alerts on at this frame, given those on at the previous one (most severe first, see ALERT_KINDS).
  * Written out kind by kind, in ALERT_KINDS order: this runs once per frame.
  */
-export function updateAlerts(previous: readonly ActiveAlert[], inputs: AlertInputs, thresholds: AlertThresholds): ActiveAlert[] {
+export function updateAlerts(
+  previous: readonly ActiveAlert[],
+  inputs: AlertInputs,
+  thresholds: AlertThresholds,
+): ActiveAlert[] {
   const on: ActiveAlert[] = [];
   if (!inputs.flying) return on;
   const u = inputs.utilization;
   const h = thresholds.hysteresis;
-  if (isAlertOn(wasOn(previous, 'stall', 'warning'), u.stall, thresholds.stallWarning, h)) on.push({ limit: 'stall', level: 'warning' });
-  if (isAlertOn(wasOn(previous, 'structure', 'warning'), u.structure, thresholds.structureWarning, h)) on.push({ limit: 'structure', level: 'warning' });
-  if (isAlertOn(wasOn(previous, 'stall', 'caution'), u.stall, thresholds.stallCaution, h)) on.push({ limit: 'stall', level: 'caution' });
-  if (isAlertOn(wasOn(previous, 'structure', 'caution'), u.structure, thresholds.structureCaution, h)) on.push({ limit: 'structure', level: 'caution' });
+  if (isAlertOn(wasOn(previous, 'stall', 'warning'), u.stall, thresholds.stallWarning, h))
+    on.push({ limit: 'stall', level: 'warning' });
+  if (isAlertOn(wasOn(previous, 'structure', 'warning'), u.structure, thresholds.structureWarning, h))
+    on.push({ limit: 'structure', level: 'warning' });
+  if (isAlertOn(wasOn(previous, 'stall', 'caution'), u.stall, thresholds.stallCaution, h))
+    on.push({ limit: 'stall', level: 'caution' });
+  if (isAlertOn(wasOn(previous, 'structure', 'caution'), u.structure, thresholds.structureCaution, h))
+    on.push({ limit: 'structure', level: 'caution' });
   // n_thrust = 0: level flight cannot be sustained at all, a thrust caution by itself.
   if (inputs.nThrust === 0 || isAlertOn(wasOn(previous, 'thrust', 'caution'), u.thrust, thresholds.thrustCaution, h)) {
     on.push({ limit: 'thrust', level: 'caution' });

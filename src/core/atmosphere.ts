@@ -34,9 +34,7 @@ export interface AirState {
 
 /** ISA temperature at a geopotential pressure altitude, K. */
 export function isaTemperatureK(altitudeM: number): number {
-  return altitudeM <= TROPOPAUSE_M
-    ? T0_K - LAPSE_RATE_K_PER_M * altitudeM
-    : TROPOPAUSE_TEMPERATURE_K;
+  return altitudeM <= TROPOPAUSE_M ? T0_K - LAPSE_RATE_K_PER_M * altitudeM : TROPOPAUSE_TEMPERATURE_K;
 }
 
 /** ISA static pressure at a geopotential pressure altitude, Pa. */
@@ -44,7 +42,9 @@ export function isaPressurePa(altitudeM: number): number {
   if (altitudeM <= TROPOPAUSE_M) {
     return P0_PA * (isaTemperatureK(altitudeM) / T0_K) ** TROPOSPHERE_EXPONENT;
   }
-  return TROPOPAUSE_PRESSURE_PA * Math.exp((-G0_MPS2 * (altitudeM - TROPOPAUSE_M)) / (R_AIR * TROPOPAUSE_TEMPERATURE_K));
+  return (
+    TROPOPAUSE_PRESSURE_PA * Math.exp((-G0_MPS2 * (altitudeM - TROPOPAUSE_M)) / (R_AIR * TROPOPAUSE_TEMPERATURE_K))
+  );
 }
 
 /** Air state at a pressure altitude; temperature from OAT when given, else ISA + deviation. */

@@ -26,6 +26,8 @@ export function computeBankLimits(
   const nInstant = Math.min(thresholds.stallCaution * nStall, thresholds.structureCaution * nLimitPos);
   return {
     bankLimitDeg: bankForLoadFactorDeg(nInstant),
-    bankSustainedDeg: bankForLoadFactorDeg(nThrust === null ? nInstant : Math.min(nInstant, thresholds.thrustCaution * nThrust)),
+    bankSustainedDeg: bankForLoadFactorDeg(
+      nThrust === null ? nInstant : Math.min(nInstant, thresholds.thrustCaution * nThrust),
+    ),
   };
 }

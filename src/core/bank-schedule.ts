@@ -28,9 +28,17 @@ export interface BankScheduleRequest {
   speedsMps?: readonly number[];
 }
 
-export function computeBankSchedule(aircraft: Aircraft, thresholds: AlertThresholds, request: BankScheduleRequest): BankScheduleRow[] {
+export function computeBankSchedule(
+  aircraft: Aircraft,
+  thresholds: AlertThresholds,
+  request: BankScheduleRequest,
+): BankScheduleRow[] {
   const conditions = request.altitudesM.flatMap((altitudeM) =>
-    request.massesKg.map((massKg) => ({ altitudeM, massKg, rho: computeAirState(altitudeM, request.temperature).densityKgM3 })),
+    request.massesKg.map((massKg) => ({
+      altitudeM,
+      massKg,
+      rho: computeAirState(altitudeM, request.temperature).densityKgM3,
+    })),
   );
   let speeds = request.speedsMps;
   if (!speeds) {

@@ -58,17 +58,28 @@ export interface Envelope {
   points: EnvelopePoint[];
 }
 
-export function envelopePointAt(aircraft: Aircraft, speedMps: number, densityKgM3: number, massKg: number): EnvelopePoint {
+export function envelopePointAt(
+  aircraft: Aircraft,
+  speedMps: number,
+  densityKgM3: number,
+  massKg: number,
+): EnvelopePoint {
   const limits = computeLimits(aircraft, speedMps, densityKgM3, massKg);
   const sustainedTurn: TurnGeometry =
-    limits.sustained === null ? { bankDeg: null, turnRateDps: null, radiusM: null } : levelTurnAt(limits.sustained, speedMps);
+    limits.sustained === null
+      ? { bankDeg: null, turnRateDps: null, radiusM: null }
+      : levelTurnAt(limits.sustained, speedMps);
   return {
     speedMps,
     nStall: limits.nStall,
     nThrust: limits.nThrust,
     nStructural: limits.nStructural,
     sustained: { n: limits.sustained, limitedBy: limits.sustainedLimitedBy, ...sustainedTurn },
-    instantaneous: { n: limits.instantaneous, limitedBy: limits.instantaneousLimitedBy, ...levelTurnAt(limits.instantaneous, speedMps) },
+    instantaneous: {
+      n: limits.instantaneous,
+      limitedBy: limits.instantaneousLimitedBy,
+      ...levelTurnAt(limits.instantaneous, speedMps),
+    },
   };
 }
 
@@ -77,7 +88,13 @@ export function envelopePointAt(aircraft: Aircraft, speedMps: number, densityKgM
  * golden-section) is used because the optimum often sits on a kink where two limits cross.
  * f returns null where it is undefined; those samples are skipped.
  */
-export function maximizeByScan(f: (x: number) => number | null, lo: number, hi: number, coarse = 400, rounds = 10): Optimum | null {
+export function maximizeByScan(
+  f: (x: number) => number | null,
+  lo: number,
+  hi: number,
+  coarse = 400,
+  rounds = 10,
+): Optimum | null {
   if (!(hi > lo)) return null;
   let best: Optimum | null = null;
   let a = lo;
@@ -117,7 +134,11 @@ export function defaultSpeeds(stallSpeed: number, topSpeed: number, steps = 30):
   return speeds;
 }
 
-export function computeEnvelope(aircraft: Aircraft, conditions: EnvelopeConditions, speeds?: readonly number[]): Envelope {
+export function computeEnvelope(
+  aircraft: Aircraft,
+  conditions: EnvelopeConditions,
+  speeds?: readonly number[],
+): Envelope {
   const air = computeAirState(conditions.altitudeM, conditions.temperature);
   const rho = air.densityKgM3;
   const mass = conditions.massKg;
@@ -164,6 +185,8 @@ export function computeEnvelope(aircraft: Aircraft, conditions: EnvelopeConditio
     maxSustainedTurnRateDps: maxRate,
     minSustainedRadiusM: minRadius,
     // Above vne there is no flyable speed left: the default table then holds Vs1 alone.
-    points: (speeds ?? (top > vs1 ? defaultSpeeds(vs1, top) : [vs1])).map((v) => envelopePointAt(aircraft, v, rho, mass)),
+    points: (speeds ?? (top > vs1 ? defaultSpeeds(vs1, top) : [vs1])).map((v) =>
+      envelopePointAt(aircraft, v, rho, mass),
+    ),
   };
 }

@@ -91,7 +91,11 @@ export function computeFrameAir(aircraft: Aircraft, frame: Frame, air: AirState 
       tasMps = casToTasMps(frame.airspeedMps, air.pressurePa, air.temperatureK);
       break;
     case 'ias':
-      tasMps = casToTasMps(iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration), air.pressurePa, air.temperatureK);
+      tasMps = casToTasMps(
+        iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration),
+        air.pressurePa,
+        air.temperatureK,
+      );
       break;
   }
   return {
@@ -147,7 +151,12 @@ export function computeUtilization(n: number, limits: LimitsForUtilization, flyi
 }
 
 /** Stall speed (TAS) at load factor n: Vs1·√n for n > 0; with cl_min for n < 0; null otherwise. */
-export function stallSpeedAtLoadFactorMps(aircraft: Aircraft, densityKgM3: number, massKg: number, n: number): number | null {
+export function stallSpeedAtLoadFactorMps(
+  aircraft: Aircraft,
+  densityKgM3: number,
+  massKg: number,
+  n: number,
+): number | null {
   if (n > 0) return stallSpeedMps(aircraft, densityKgM3, massKg, n);
   if (n < 0 && aircraft.clMin !== undefined) {
     return Math.sqrt((2 * -n * massKg * G0_MPS2) / (densityKgM3 * aircraft.wingAreaM2 * -aircraft.clMin));
@@ -179,7 +188,9 @@ export function computeMarginRecord(
 ): { record: MarginRecord; state: MarginState } {
   const cached = state.air;
   const airState =
-    cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC) ? cached.state : frameAirState(frame);
+    cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC)
+      ? cached.state
+      : frameAirState(frame);
   const air = computeFrameAir(aircraft, frame, airState);
   const { tasMps, densityKgM3, massKg } = air;
 
@@ -246,7 +257,10 @@ export function computeMarginRecord(
     n_stall_neg: limits.nStallNeg,
     n_structural_neg: aircraft.nLimitNeg,
   };
-  const airUsed = cached !== undefined && cached.state === airState ? cached : { altM: frame.altM, oatC: frame.oatC, state: airState };
+  const airUsed =
+    cached !== undefined && cached.state === airState
+      ? cached
+      : { altM: frame.altM, oatC: frame.oatC, state: airState };
   return { record, state: { filter: step.state, alerts, disagreeSinceS: coordination.disagreeSinceS, air: airUsed } };
 }
 

@@ -40,7 +40,12 @@ export function stallLoadFactor(aircraft: Aircraft, tasMps: number, densityKgM3:
 }
 
 /** Negative-g stall load factor q·S·CLmin/W (negative), or null without cl_min. */
-export function negativeStallLoadFactor(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): number | null {
+export function negativeStallLoadFactor(
+  aircraft: Aircraft,
+  tasMps: number,
+  densityKgM3: number,
+  massKg: number,
+): number | null {
   if (aircraft.clMin === undefined) return null;
   return (dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2 * aircraft.clMin) / (massKg * G0_MPS2);
 }
@@ -49,7 +54,12 @@ export function negativeStallLoadFactor(aircraft: Aircraft, tasMps: number, dens
  * Sustained (thrust = drag) load factor n = (qS/W)·√((T − qS·CD0)/(qS·k)); 0 when T ≤ qS·CD0,
  * null when the thrust is unknown.
  */
-export function thrustLoadFactor(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): number | null {
+export function thrustLoadFactor(
+  aircraft: Aircraft,
+  tasMps: number,
+  densityKgM3: number,
+  massKg: number,
+): number | null {
   const thrustN = thrustAvailableN(aircraft.thrust, tasMps, densityKgM3);
   if (thrustN === null) return null;
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
@@ -100,7 +110,12 @@ export interface LoadFactorLimits {
 }
 
 /** The three limits at one TAS, density and mass. Ties go to the first of stall, thrust, structure. */
-export function computeLimits(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): LoadFactorLimits {
+export function computeLimits(
+  aircraft: Aircraft,
+  tasMps: number,
+  densityKgM3: number,
+  massKg: number,
+): LoadFactorLimits {
   const nStall = stallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
   const nThrust = thrustLoadFactor(aircraft, tasMps, densityKgM3, massKg);
   const nStructural = aircraft.nLimitPos;
@@ -130,7 +145,13 @@ export function cornerSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: 
 }
 
 /** Drag at load factor n: CL = n·W/(q·S), D = q·S·(CD0 + k·CL²), N. */
-export function dragAtLoadFactorN(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number, loadFactor: number): number {
+export function dragAtLoadFactorN(
+  aircraft: Aircraft,
+  tasMps: number,
+  densityKgM3: number,
+  massKg: number,
+  loadFactor: number,
+): number {
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
   const cl = (loadFactor * massKg * G0_MPS2) / qS;
   return qS * (aircraft.cd0 + aircraft.k * cl * cl);

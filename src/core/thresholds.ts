@@ -51,7 +51,12 @@ export const ThresholdsSchema = z
     ];
     for (const [key, caution, warning] of pairs) {
       if (caution !== undefined && warning !== undefined && warning < caution) {
-        ctx.issues.push({ code: 'custom', input: warning, path: [key], message: 'must not be below the caution threshold' });
+        ctx.issues.push({
+          code: 'custom',
+          input: warning,
+          path: [key],
+          message: 'must not be below the caution threshold',
+        });
       }
     }
   });
@@ -59,7 +64,10 @@ export const ThresholdsSchema = z
 export type ThresholdsJson = z.infer<typeof ThresholdsSchema>;
 
 /** Merge JSON overrides onto a base set of thresholds. */
-export function resolveThresholds(json: ThresholdsJson | undefined, base: AlertThresholds = DEFAULT_THRESHOLDS): AlertThresholds {
+export function resolveThresholds(
+  json: ThresholdsJson | undefined,
+  base: AlertThresholds = DEFAULT_THRESHOLDS,
+): AlertThresholds {
   return {
     stallCaution: json?.stall_caution ?? base.stallCaution,
     stallWarning: json?.stall_warning ?? base.stallWarning,

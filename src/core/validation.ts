@@ -63,7 +63,11 @@ function withoutKeys(input: unknown, path: ReadonlyArray<PropertyKey>, keys: rea
     return copy;
   }
   const [head, ...rest] = path;
-  (copy as Record<PropertyKey, unknown>)[head!] = withoutKeys((input as Record<PropertyKey, unknown>)[head!], rest, keys);
+  (copy as Record<PropertyKey, unknown>)[head!] = withoutKeys(
+    (input as Record<PropertyKey, unknown>)[head!],
+    rest,
+    keys,
+  );
   return copy;
 }
 

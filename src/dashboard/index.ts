@@ -115,11 +115,27 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
   const keys = blessed.box({ tags: true, wrap: false });
   const caution = blessed.box({ tags: true, wrap: false });
   const tooSmall = blessed.box({ tags: true, wrap: false, hidden: true });
-  const help = blessed.box({ tags: true, border: { type: 'line' }, label: ' All keys ', hidden: true, style: { border: {} } });
-  const plot = contrib.canvas({ border: { type: 'line' }, label: ' n–V plane ', style: { border: {} }, wrap: false } as contrib.Widgets.CanvasOptions);
+  const help = blessed.box({
+    tags: true,
+    border: { type: 'line' },
+    label: ' All keys ',
+    hidden: true,
+    style: { border: {} },
+  });
+  const plot = contrib.canvas({
+    border: { type: 'line' },
+    label: ' n–V plane ',
+    style: { border: {} },
+    wrap: false,
+  } as contrib.Widgets.CanvasOptions);
   // Draw inside the border: blessed-contrib sizes its canvas as if there were none.
-  (plot as unknown as { calcSize(): void }).calcSize = function (this: blessed.Widgets.BoxElement & { canvasSize: { width: number; height: number } }) {
-    this.canvasSize = { width: Math.max(2, (Number(this.width) - 2) * 2), height: Math.max(4, (Number(this.height) - 2) * 4) };
+  (plot as unknown as { calcSize(): void }).calcSize = function (
+    this: blessed.Widgets.BoxElement & { canvasSize: { width: number; height: number } },
+  ) {
+    this.canvasSize = {
+      width: Math.max(2, (Number(this.width) - 2) * 2),
+      height: Math.max(4, (Number(this.height) - 2) * 4),
+    };
   };
   for (const el of [banner, plot, events, margins, readouts, link, keys, caution, tooSmall, help]) screen.append(el);
 
@@ -151,7 +167,12 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     place(keys, layout.keys);
     place(caution, layout.caution);
     place(help, layout.help);
-    place(tooSmall, { left: 0, top: layout.banner.height, width: layout.cols, height: Math.max(1, layout.rows - layout.banner.height) });
+    place(tooSmall, {
+      left: 0,
+      top: layout.banner.height,
+      width: layout.cols,
+      height: Math.max(1, layout.rows - layout.banner.height),
+    });
     for (const el of [plot, events, margins, readouts, link, keys, caution]) {
       if (layout.tooSmall) el.hide();
       else el.show();
@@ -186,7 +207,9 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       conditions: drawn ?? { densityKgM3: 1.225, massKg: options.aircraft.massKg },
       trail: trail.points(),
       nowTS: record?.t_s ?? null,
-      current: record ? { tasMps: record.tas_mps, n: record.n_measured, level: record.flying ? record.level : 'normal' } : null,
+      current: record
+        ? { tasMps: record.tas_mps, n: record.n_measured, level: record.flying ? record.level : 'normal' }
+        : null,
       stale,
       units: input.units,
       cols: surface.width / 2,
@@ -199,12 +222,15 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     }
     if (model.marker) {
       surface.color = paint(model.marker.tone);
-      for (let dx = -1; dx <= 1; dx++) for (let dy = -2; dy <= 2; dy++) surface.set(model.marker.x + dx, model.marker.y + dy);
+      for (let dx = -1; dx <= 1; dx++)
+        for (let dy = -2; dy <= 2; dy++) surface.set(model.marker.x + dx, model.marker.y + dy);
     }
     const cols = surface.width / 2;
     for (const t of model.texts) {
       if (t.row < 0 || t.row >= surface.height / 4 || t.col >= cols) continue;
-      const text = Array.from(t.text).slice(0, cols - Math.max(0, t.col)).join('');
+      const text = Array.from(t.text)
+        .slice(0, cols - Math.max(0, t.col))
+        .join('');
       if (!text) continue;
       surface.fontFg = paint(t.tone);
       surface.writeText(text, Math.max(0, t.col) * 2, t.row * 4);

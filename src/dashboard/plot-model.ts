@@ -129,7 +129,15 @@ export function buildPlotModel(input: PlotInput): PlotModel {
   const inRange = (n: number): boolean => n >= yMin && n <= yMax;
 
   // Axes.
-  model.polylines.push({ name: 'axis', tone: 'dim', points: [[area.left, area.top], [area.left, area.top + area.height - 1], [area.left + area.width - 1, area.top + area.height - 1]] });
+  model.polylines.push({
+    name: 'axis',
+    tone: 'dim',
+    points: [
+      [area.left, area.top],
+      [area.left, area.top + area.height - 1],
+      [area.left + area.width - 1, area.top + area.height - 1],
+    ],
+  });
 
   // Curves over a speed grid of one step per pixel column.
   const stall: Px[] = [];
@@ -153,7 +161,14 @@ export function buildPlotModel(input: PlotInput): PlotModel {
   }
   if (thrustRun.length) thrustRuns.push(thrustRun);
   const yStruct = py(aircraft.nLimitPos);
-  model.polylines.push({ name: 'structure', tone: 'warning', points: [[area.left, yStruct], [area.left + area.width - 1, yStruct]] });
+  model.polylines.push({
+    name: 'structure',
+    tone: 'warning',
+    points: [
+      [area.left, yStruct],
+      [area.left + area.width - 1, yStruct],
+    ],
+  });
   model.polylines.push({ name: 'stall-caution', tone: 'caution', dotEvery: 3, points: stallCaution });
   for (const run of thrustRuns) model.polylines.push({ name: 'thrust', tone: 'caution', points: run });
   model.polylines.push({ name: 'stall', tone: 'warning', points: stall });
@@ -191,11 +206,14 @@ export function buildPlotModel(input: PlotInput): PlotModel {
     const row = Math.max(0, Math.floor(stallTop[1] / 4));
     if (row !== limRow) model.texts.push({ col, row, text: 'stall', tone: 'warning' });
   }
-  const thrustPeak = thrustRuns.flat().reduce<Px | null>((best, p) => (best === null || p[1] < best[1] ? p : best), null);
+  const thrustPeak = thrustRuns
+    .flat()
+    .reduce<Px | null>((best, p) => (best === null || p[1] < best[1] ? p : best), null);
   if (thrustPeak) {
     const row = Math.floor(thrustPeak[1] / 4) + 1;
     const col = Math.floor(thrustPeak[0] / 2) - 3;
-    if (row < input.rows - BOTTOM_CELLS && row !== limRow) model.texts.push({ col, row, text: 'thrust', tone: 'caution' });
+    if (row < input.rows - BOTTOM_CELLS && row !== limRow)
+      model.texts.push({ col, row, text: 'thrust', tone: 'caution' });
   }
 
   // Trail: older part dim, the last few seconds bright; broken where the data have gaps.
@@ -204,7 +222,12 @@ export function buildPlotModel(input: PlotInput): PlotModel {
     let runBright = false;
     let prev: TrailPoint | null = null;
     const flush = (): void => {
-      if (run.length) model.polylines.push({ name: runBright ? 'trail-new' : 'trail-old', tone: runBright ? 'plain' : 'dim', points: run });
+      if (run.length)
+        model.polylines.push({
+          name: runBright ? 'trail-new' : 'trail-old',
+          tone: runBright ? 'plain' : 'dim',
+          points: run,
+        });
       run = [];
     };
     for (const p of input.trail) {
@@ -232,7 +255,12 @@ export function buildPlotModel(input: PlotInput): PlotModel {
     const col = Math.floor(x / 2) + 2;
     const row = Math.floor(y / 4);
     const fits = col + label.length <= input.cols;
-    model.texts.push({ col: fits ? col : Math.max(0, Math.floor(x / 2) - label.length - 1), row, text: fits ? label : `${word} ▶`, tone });
+    model.texts.push({
+      col: fits ? col : Math.max(0, Math.floor(x / 2) - label.length - 1),
+      row,
+      text: fits ? label : `${word} ▶`,
+      tone,
+    });
   }
   return model;
 }

@@ -9,15 +9,7 @@ import type { MarginRecord } from '../core/margin-record.js';
 import type { LimitName } from '../core/performance.js';
 import type { AlertThresholds } from '../core/thresholds.js';
 import type { LinkHealth, LinkState } from '../sources/link-health.js';
-import {
-  LIMITS,
-  closestLimit,
-  describeAlert,
-  levelTone,
-  levelWord,
-  limitLevel,
-  limitWord,
-} from './format-alert.js';
+import { LIMITS, closestLimit, describeAlert, levelTone, levelWord, limitLevel, limitWord } from './format-alert.js';
 import { buildUtilizationBar } from './format-bars.js';
 import { fitLine, lineWidth, seg, type Line, type Tone } from './format-tags.js';
 import {
@@ -172,7 +164,12 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
     const barWidth = Math.max(4, width - 2 - suffixWidth);
     if (rec === null || !rec.flying) {
       lines.push(fitLine([seg(name, 'heading'), seg(rec === null ? '—' : 'not flying', 'dim')], width));
-      lines.push(fitLine([seg('  '), ...buildUtilizationBar({ utilization: null, cautionAt, warningAt, width: barWidth })], width));
+      lines.push(
+        fitLine(
+          [seg('  '), ...buildUtilizationBar({ utilization: null, cautionAt, warningAt, width: barWidth })],
+          width,
+        ),
+      );
       continue;
     }
     const u = rec.utilization[limit];
@@ -189,8 +186,14 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
     const pad = Math.max(1, width - used - word.length);
     lines.push(fitLine([...left, seg(' '.repeat(pad)), seg(word, wordTone)], width));
     let suffix = '';
-    if (limit === 'stall' && rec.stall_speed_margin_pct !== null) suffix = `V ${formatSigned(rec.stall_speed_margin_pct, 0)} %`;
-    const bar = buildUtilizationBar({ utilization: limit === 'thrust' && rec.n_thrust === 0 ? Infinity : u, cautionAt, warningAt, width: barWidth });
+    if (limit === 'stall' && rec.stall_speed_margin_pct !== null)
+      suffix = `V ${formatSigned(rec.stall_speed_margin_pct, 0)} %`;
+    const bar = buildUtilizationBar({
+      utilization: limit === 'thrust' && rec.n_thrust === 0 ? Infinity : u,
+      cautionAt,
+      warningAt,
+      width: barWidth,
+    });
     lines.push(fitLine([seg('  '), ...bar, seg(' '), seg(suffix.padStart(suffixWidth - 1), valueTone)], width));
   }
   return lines;
@@ -217,24 +220,54 @@ export function buildReadoutLines(input: ScreenInput, stale: boolean, width: num
   const t: Tone = stale ? 'stale' : 'plain';
   // The title already says STALE; a full line says it again where there is room for it.
   if (stale && height >= 8) {
-    lines.push(fitLine([seg(`STALE — last frame ${formatAge(input.ageS)} ago, t ${formatClock(rec.t_s)}`, 'stale')], width));
+    lines.push(
+      fitLine([seg(`STALE — last frame ${formatAge(input.ageS)} ago, t ${formatClock(rec.t_s)}`, 'stale')], width),
+    );
   }
   const u = input.units;
   lines.push(pair('TAS  ', formatSpeed(rec.tas_mps, u), 'EAS  ', formatSpeed(rec.eas_mps, u), t, width));
-  lines.push(pair('alt  ', `${formatFixed(rec.alt_m, 0)} m`, 'ρ    ', `${formatFixed(rec.density_kg_m3, 3)} kg/m³`, t, width));
-  lines.push(pair('bank ', deg(rec.bank_deg), 'rate ', rec.turn_rate_dps === null ? '—' : `${formatFixed(rec.turn_rate_dps, 1)} °/s`, t, width));
+  lines.push(
+    pair('alt  ', `${formatFixed(rec.alt_m, 0)} m`, 'ρ    ', `${formatFixed(rec.density_kg_m3, 3)} kg/m³`, t, width),
+  );
+  lines.push(
+    pair(
+      'bank ',
+      deg(rec.bank_deg),
+      'rate ',
+      rec.turn_rate_dps === null ? '—' : `${formatFixed(rec.turn_rate_dps, 1)} °/s`,
+      t,
+      width,
+    ),
+  );
   const nBank = rec.n_from_bank === null ? '—' : formatFixed(rec.n_from_bank, 2);
-  const nLine: Line = [seg('n    ', 'dim'), seg(formatFixed(rec.n_measured, 2), t), seg(' vs 1/cos φ ', 'dim'), seg(nBank, t), seg('  ')];
+  const nLine: Line = [
+    seg('n    ', 'dim'),
+    seg(formatFixed(rec.n_measured, 2), t),
+    seg(' vs 1/cos φ ', 'dim'),
+    seg(nBank, t),
+    seg('  '),
+  ];
   if (rec.n_from_bank !== null) {
     const roomy = width - lineWidth(nLine) >= 13;
     const word = rec.uncoordinated ? (roomy ? 'UNCOORDINATED' : 'UNCOORD') : roomy ? 'coordinated' : 'coord';
     nLine.push(seg(word, stale ? 'stale' : rec.uncoordinated ? 'caution' : 'ok'));
   }
   lines.push(fitLine(nLine, width));
-  lines.push(pair('radius ', rec.radius_m === null ? '—' : `${formatFixed(rec.radius_m, 0)} m`, 'stall V ', formatSpeed(rec.stall_speed_mps, u), t, width));
+  lines.push(
+    pair(
+      'radius ',
+      rec.radius_m === null ? '—' : `${formatFixed(rec.radius_m, 0)} m`,
+      'stall V ',
+      formatSpeed(rec.stall_speed_mps, u),
+      t,
+      width,
+    ),
+  );
   lines.push(pair('bank limit ', deg(rec.bank_limit_deg, 0), 'sustained ', deg(rec.bank_sustained_deg, 0), t, width));
   lines.push(pair('mass ', `${formatFixed(rec.mass_kg, 2)} kg`, 'CL   ', formatFixed(rec.cl, 2), t, width));
-  lines.push(pair('nz   ', formatFixed(rec.nz, 2), 'temp ', `${formatFixed(rec.temperature_k - 273.15, 1)} °C`, t, width));
+  lines.push(
+    pair('nz   ', formatFixed(rec.nz, 2), 'temp ', `${formatFixed(rec.temperature_k - 273.15, 1)} °C`, t, width),
+  );
   return lines.slice(0, Math.max(0, height));
 }
 
@@ -255,7 +288,11 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
     // A paused replay sends no frames on purpose: say so rather than "stale".
     const pausedReplay = input.replay?.paused === true && (link.state === 'stale' || link.state === 'live');
     const stateWord = pausedReplay ? 'PAUSED' : stale && link.state === 'live' ? 'STALE' : link.state.toUpperCase();
-    const stateTone: Tone = pausedReplay ? 'caution' : stale && link.state === 'live' ? 'stale' : LINK_STATE_TONE[link.state];
+    const stateTone: Tone = pausedReplay
+      ? 'caution'
+      : stale && link.state === 'live'
+        ? 'stale'
+        : LINK_STATE_TONE[link.state];
     lines.push(
       fitLine(
         [
@@ -270,13 +307,20 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
       ),
     );
     if (link.stateDetail && (link.state === 'lost' || link.state === 'ended')) {
-      lines.push(fitLine([seg('why ', 'dim'), seg(link.stateDetail, link.state === 'lost' ? 'caution' : 'dim')], width));
+      lines.push(
+        fitLine([seg('why ', 'dim'), seg(link.stateDetail, link.state === 'lost' ? 'caution' : 'dim')], width),
+      );
     }
     if (link.recordingError) {
       lines.push(fitLine([seg('REC ERROR ', 'warning'), seg(link.recordingError, 'warning')], width));
     } else if (link.recordingFile) {
       const size = ` ${formatBytes(link.recordingBytes)}`;
-      lines.push(fitLine([seg('rec ', 'dim'), seg(fitPathTail(link.recordingFile, Math.max(4, width - 4 - size.length))), seg(size)], width));
+      lines.push(
+        fitLine(
+          [seg('rec ', 'dim'), seg(fitPathTail(link.recordingFile, Math.max(4, width - 4 - size.length))), seg(size)],
+          width,
+        ),
+      );
     } else {
       lines.push(fitLine([seg('rec ', 'dim'), seg('not recording', 'dim')], width));
     }
@@ -292,11 +336,7 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
             seg('replay ', 'dim'),
             seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS)}`),
             seg(` ×${r.speed === 0 ? 'max' : formatSpeedFactor(r.speed)} `),
-            r.paused
-              ? seg('PAUSED', 'caution')
-              : link?.state === 'ended'
-                ? seg('at end', 'dim')
-                : seg('playing', 'ok'),
+            r.paused ? seg('PAUSED', 'caution') : link?.state === 'ended' ? seg('at end', 'dim') : seg('playing', 'ok'),
           ],
           width,
         ),
@@ -307,13 +347,33 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
     lines.push(fitLine([seg('source ', 'dim'), seg(link.source)], width));
     lines.push(
       fitLine(
-        [seg('lines ', 'dim'), seg(String(link.lines)), seg('  ok ', 'dim'), seg(String(link.accepted)), seg('  gaps ', 'dim'), seg(String(link.gaps)), seg('  reconn ', 'dim'), seg(String(link.reconnects))],
+        [
+          seg('lines ', 'dim'),
+          seg(String(link.lines)),
+          seg('  ok ', 'dim'),
+          seg(String(link.accepted)),
+          seg('  gaps ', 'dim'),
+          seg(String(link.gaps)),
+          seg('  reconn ', 'dim'),
+          seg(String(link.reconnects)),
+        ],
         width,
       ),
     );
-    lines.push(fitLine([seg('in ', 'dim'), seg(`${formatBytes(link.bytesPerS)}/s`), seg('  clock restarts ', 'dim'), seg(String(link.clockRestarts))], width));
+    lines.push(
+      fitLine(
+        [
+          seg('in ', 'dim'),
+          seg(`${formatBytes(link.bytesPerS)}/s`),
+          seg('  clock restarts ', 'dim'),
+          seg(String(link.clockRestarts)),
+        ],
+        width,
+      ),
+    );
     const reasons = Object.entries(link.rejectedByReason).sort((a, b) => b[1] - a[1]);
-    for (const [reason, count] of reasons) lines.push(fitLine([seg(`  ${String(count).padStart(5)} `, 'caution'), seg(reason, 'dim')], width));
+    for (const [reason, count] of reasons)
+      lines.push(fitLine([seg(`  ${String(count).padStart(5)} `, 'caution'), seg(reason, 'dim')], width));
   }
   return lines.slice(0, Math.max(0, height));
 }
@@ -431,7 +491,10 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
       lines: buildMarginLines(input, stale, marginsInner.width),
     },
     readouts: {
-      title: fitTitle(`${stale ? `Readouts — STALE ${formatAge(input.ageS)}` : 'Readouts'}${rec ? ` · t ${formatClock(rec.t_s)}` : ''}`, layout.readouts.width),
+      title: fitTitle(
+        `${stale ? `Readouts — STALE ${formatAge(input.ageS)}` : 'Readouts'}${rec ? ` · t ${formatClock(rec.t_s)}` : ''}`,
+        layout.readouts.width,
+      ),
       tone: stale ? 'stale' : 'plain',
       lines: buildReadoutLines(input, stale, readoutsInner.width, readoutsInner.height),
     },

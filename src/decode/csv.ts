@@ -37,7 +37,8 @@ export type CsvRow = { ok: true; row: Record<string, unknown> } | { ok: false; r
 
 export function csvRow(header: readonly string[], line: string, delimiter = ','): CsvRow {
   const cells = splitCsvLine(line, delimiter);
-  if (cells.length !== header.length) return { ok: false, reason: `expected ${header.length} columns (got ${cells.length})` };
+  if (cells.length !== header.length)
+    return { ok: false, reason: `expected ${header.length} columns (got ${cells.length})` };
   const row: Record<string, unknown> = {};
   header.forEach((name, i) => {
     const value = cellValue(cells[i]!);

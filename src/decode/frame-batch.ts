@@ -55,7 +55,12 @@ export function packFrameValues(
 /** The frame at slot `index`, with its keys in the order validation builds them. */
 export function unpackFrame(source: Float64Array, index: number): Frame {
   const o = index * FRAME_SLOTS;
-  const frame: Frame = { tS: source[o]!, airspeedKind: KINDS[source[o + 1]!]!, airspeedMps: source[o + 2]!, altM: source[o + 3]! };
+  const frame: Frame = {
+    tS: source[o]!,
+    airspeedKind: KINDS[source[o + 1]!]!,
+    airspeedMps: source[o + 2]!,
+    altM: source[o + 3]!,
+  };
   const bankDeg = source[o + 4]!;
   const nz = source[o + 5]!;
   const oatC = source[o + 6]!;

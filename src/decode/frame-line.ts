@@ -11,9 +11,7 @@ import { z } from 'zod';
 import type { AirspeedKind, Frame } from '../core/frame.js';
 import { packFrameValues } from './frame-batch.js';
 
-export type LineVerdict =
-  | { ok: true; frame: Frame; raw: Record<string, unknown> }
-  | { ok: false; reason: string };
+export type LineVerdict = { ok: true; frame: Frame; raw: Record<string, unknown> } | { ok: false; reason: string };
 
 /** A verdict for readers that need only the frame (review): an accepted frame may come without its raw object. */
 export type FrameVerdict = { ok: true; frame: Frame; raw?: Record<string, unknown> } | { ok: false; reason: string };
@@ -93,7 +91,17 @@ export const FrameSchema = z.looseObject({
  * (absent or null, a number, anything else) and, for a number, its value. Filled from an object
  * (acceptFrameFast) or straight from the bytes of a line (scanFlatFrameBytes); checked by frameFromSlots.
  */
-const FRAME_KEY_NAMES = ['t_s', 'ias_mps', 'cas_mps', 'tas_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg'] as const;
+const FRAME_KEY_NAMES = [
+  't_s',
+  'ias_mps',
+  'cas_mps',
+  'tas_mps',
+  'alt_m',
+  'bank_deg',
+  'nz',
+  'oat_c',
+  'mass_kg',
+] as const;
 const SLOT_T = 0;
 const SLOT_IAS = 1;
 const SLOT_CAS = 2;
@@ -147,7 +155,10 @@ function slotsAccepted(): boolean {
     !optionalInRange(SLOT_BANK, -FRAME_BOUNDS.bankMaxAbsDeg, FRAME_BOUNDS.bankMaxAbsDeg) ||
     !optionalInRange(SLOT_NZ, -FRAME_BOUNDS.nzMaxAbs, FRAME_BOUNDS.nzMaxAbs) ||
     !optionalInRange(SLOT_OAT, FRAME_BOUNDS.oatMinC, FRAME_BOUNDS.oatMaxC) ||
-    !(slotKinds[SLOT_MASS] === KIND_NULLISH || (finiteAt(SLOT_MASS) && slotNumbers[SLOT_MASS]! > 0 && slotNumbers[SLOT_MASS]! <= FRAME_BOUNDS.massMaxKg))
+    !(
+      slotKinds[SLOT_MASS] === KIND_NULLISH ||
+      (finiteAt(SLOT_MASS) && slotNumbers[SLOT_MASS]! > 0 && slotNumbers[SLOT_MASS]! <= FRAME_BOUNDS.massMaxKg)
+    )
   ) {
     return false;
   }
@@ -218,7 +229,11 @@ export function validateWithSchema(input: unknown): LineVerdict {
     const key = String(result.error.issues[0]?.path[0] ?? '');
     const value = raw[key];
     if (value === undefined) return { ok: false, reason: `${key} is required` };
-    if (Number.isFinite(value) && (value as number) > FRAME_BOUNDS.airspeedMaxMps && AIRSPEED_KEYS.some(([k]) => k === key)) {
+    if (
+      Number.isFinite(value) &&
+      (value as number) > FRAME_BOUNDS.airspeedMaxMps &&
+      AIRSPEED_KEYS.some(([k]) => k === key)
+    ) {
       return { ok: false, reason: `${key} must be ${AIRSPEED_RANGE_TEXT} (got ${show(value)})` };
     }
     return { ok: false, reason: `${key} must be ${RULE_TEXT[key] ?? 'valid'} (got ${show(value)})` };
@@ -264,8 +279,12 @@ function judgeLineText(line: string, mayHoldDelOrReplacement: boolean): LineVerd
     parsed = JSON.parse(text);
   } catch {
     if (!mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return noise();
-    if (/(?<![\w"])(NaN|-?Infinity)(?![\w"])/.test(text)) return { ok: false, reason: 'NaN or Infinity is not a finite number' };
-    return { ok: false, reason: text.startsWith('{') && !text.endsWith('}') ? 'invalid JSON (truncated line?)' : 'invalid JSON' };
+    if (/(?<![\w"])(NaN|-?Infinity)(?![\w"])/.test(text))
+      return { ok: false, reason: 'NaN or Infinity is not a finite number' };
+    return {
+      ok: false,
+      reason: text.startsWith('{') && !text.endsWith('}') ? 'invalid JSON (truncated line?)' : 'invalid JSON',
+    };
   }
   return validateFrameObject(parsed);
 }
@@ -292,7 +311,12 @@ export function judgeAsciiFrameBytes(bytes: Uint8Array, start: number, end: numb
  */
 export function acceptAsciiFrameBytes(bytes: Uint8Array, start: number, end: number): boolean {
   const last = bytes[end - 1] === CR ? end - 2 : end - 1;
-  return bytes[start] === OPEN_BRACE && bytes[last] === CLOSE_BRACE && scanFlatFrameBytes(bytes, start, last + 1) && slotsAccepted();
+  return (
+    bytes[start] === OPEN_BRACE &&
+    bytes[last] === CLOSE_BRACE &&
+    scanFlatFrameBytes(bytes, start, last + 1) &&
+    slotsAccepted()
+  );
 }
 
 /** t_s of the frame last accepted by acceptAsciiFrameBytes. */

@@ -17,7 +17,10 @@ import { DEG_PER_RAD, FOOT_M, G0_MPS2, KELVIN_OFFSET, KMH_MPS, KNOT_MPS, MPH_MPS
 import { describeIssues } from '../core/validation.js';
 
 type Convert = (x: number) => number;
-const linear = (factor: number): Convert => (x) => x * factor;
+const linear =
+  (factor: number): Convert =>
+  (x) =>
+    x * factor;
 
 /** Units accepted per frame key, each with its conversion to the key's own unit. */
 const UNITS_BY_KIND = {
@@ -26,7 +29,13 @@ const UNITS_BY_KIND = {
   length: { m: linear(1), ft: linear(FOOT_M) },
   angle: { deg: linear(1), rad: linear(DEG_PER_RAD) },
   load: { g: linear(1), 'm/s²': linear(1 / G0_MPS2), 'm/s2': linear(1 / G0_MPS2) },
-  temperature: { '°C': linear(1), C: linear(1), '°F': (x: number) => ((x - 32) * 5) / 9, F: (x: number) => ((x - 32) * 5) / 9, K: (x: number) => x - KELVIN_OFFSET },
+  temperature: {
+    '°C': linear(1),
+    C: linear(1),
+    '°F': (x: number) => ((x - 32) * 5) / 9,
+    F: (x: number) => ((x - 32) * 5) / 9,
+    K: (x: number) => x - KELVIN_OFFSET,
+  },
   mass: { kg: linear(1), lb: linear(POUND_KG) },
 } as const satisfies Record<string, Record<string, Convert>>;
 
@@ -61,12 +70,22 @@ export const MappingSchema = z
     for (const [key, entry] of Object.entries(ctx.value.keys)) {
       const kind = FRAME_KEY_KINDS[key];
       if (!kind) {
-        ctx.issues.push({ code: 'custom', input: key, path: ['keys', key], message: `is not a frame key (frame keys: ${Object.keys(FRAME_KEY_KINDS).join(', ')})` });
+        ctx.issues.push({
+          code: 'custom',
+          input: key,
+          path: ['keys', key],
+          message: `is not a frame key (frame keys: ${Object.keys(FRAME_KEY_KINDS).join(', ')})`,
+        });
         continue;
       }
       const units = Object.keys(UNITS_BY_KIND[kind]);
       if (!units.includes(entry.unit)) {
-        ctx.issues.push({ code: 'custom', input: entry.unit, path: ['keys', key, 'unit'], message: `must be one of ${units.join(', ')} for ${key}` });
+        ctx.issues.push({
+          code: 'custom',
+          input: entry.unit,
+          path: ['keys', key, 'unit'],
+          message: `must be one of ${units.join(', ')} for ${key}`,
+        });
       }
     }
   });
@@ -113,10 +132,18 @@ const COLUMNS_SHOWN = 12;
  * The mapped columns missing from a CSV header, one problem each, e.g.
  * `m.json: keys.bank_deg.column "roll" is not a column of log.csv (columns: time_ms, KIAS, …)`; empty when all are there.
  */
-export function missingColumnProblems(mapping: ColumnMapping, header: readonly string[], mappingLabel: string, logLabel: string): string[] {
+export function missingColumnProblems(
+  mapping: ColumnMapping,
+  header: readonly string[],
+  mappingLabel: string,
+  logLabel: string,
+): string[] {
   const present = new Set(header);
   const shown = header.slice(0, COLUMNS_SHOWN).join(', ') + (header.length > COLUMNS_SHOWN ? ', …' : '');
   return mapping.keys
     .filter(({ column }) => !present.has(column))
-    .map(({ key, column }) => `${mappingLabel}: keys.${key}.column ${JSON.stringify(column)} is not a column of ${logLabel} (columns: ${shown})`);
+    .map(
+      ({ key, column }) =>
+        `${mappingLabel}: keys.${key}.column ${JSON.stringify(column)} is not a column of ${logLabel} (columns: ${shown})`,
+    );
 }

@@ -7,12 +7,22 @@
 import { isAscii } from 'node:buffer';
 import { createReadStream, readFileSync, statSync } from 'node:fs';
 import { basename, extname } from 'node:path';
-import { InputError } from '../cli/errors.js';
+import { InputError } from '../errors.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
 import { FRAME_SLOTS, packFrame } from './frame-batch.js';
 import { csvRow, splitCsvLine } from './csv.js';
 import { createLineJudge, cutReason, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
-import { acceptAsciiFrameBytes, acceptedFrameTime, judgeAsciiFrameBytes, packAcceptedFrame, parseAsciiFrameLine, parseFrameLine, validateFrameObject, type FrameVerdict, type LineVerdict } from './frame-line.js';
+import {
+  acceptAsciiFrameBytes,
+  acceptedFrameTime,
+  judgeAsciiFrameBytes,
+  packAcceptedFrame,
+  parseAsciiFrameLine,
+  parseFrameLine,
+  validateFrameObject,
+  type FrameVerdict,
+  type LineVerdict,
+} from './frame-line.js';
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
 import { applyMapping, missingColumnProblems, parseMapping, type ColumnMapping } from './mapping.js';
 
@@ -47,7 +57,8 @@ export function loadMappingFile(path: string): ColumnMapping {
   try {
     json = JSON.parse(readFileSync(path, 'utf8').replace(/^\uFEFF/, ''));
   } catch (err) {
-    if (err instanceof SyntaxError) throw new InputError([`${basename(path)}: the mapping file is not valid JSON (${err.message})`]);
+    if (err instanceof SyntaxError)
+      throw new InputError([`${basename(path)}: the mapping file is not valid JSON (${err.message})`]);
     throw new InputError([`${path}: cannot read the mapping file (${describeErrno(err)})`]);
   }
   const result = parseMapping(json, basename(path));
@@ -113,8 +124,12 @@ interface LineSink {
  * LF never belongs to a multi-byte sequence. With a sink, the batches are empty: one per chunk read, after its lines
  * went to the sink.
  */
-async function* physicalBatches(path: string, options: ReadFrameOptions, sink?: LineSink): AsyncGenerator<PhysicalLine[]> {
-  let size = 0;
+async function* physicalBatches(
+  path: string,
+  options: ReadFrameOptions,
+  sink?: LineSink,
+): AsyncGenerator<PhysicalLine[]> {
+  let size: number;
   try {
     const st = statSync(path);
     if (st.isDirectory()) throw Object.assign(new Error('is a directory'), { code: 'EISDIR' });
@@ -134,7 +149,18 @@ async function* physicalBatches(path: string, options: ReadFrameOptions, sink?: 
   };
   const fromSplitter = (lines: RawLine[], out: PhysicalLine[]): void => {
     for (const l of lines) {
-      emit({ physicalNo: physicalNo + 1, block: l.bytes, start: 0, end: l.bytes.length, cut: l.cut, decoded: undefined, ascii: false }, out);
+      emit(
+        {
+          physicalNo: physicalNo + 1,
+          block: l.bytes,
+          start: 0,
+          end: l.bytes.length,
+          cut: l.cut,
+          decoded: undefined,
+          ascii: false,
+        },
+        out,
+      );
     }
   };
   /** Lines of chunk[from, to) one at a time through the splitter; `to` is just after an LF or the chunk's end. */
@@ -166,7 +192,18 @@ async function* physicalBatches(path: string, options: ReadFrameOptions, sink?: 
       physicalNo += 1;
       if (length > 1 || (length === 1 && text.charCodeAt(pos) !== 0x0d)) {
         if (!(ascii && sink?.plain(chunk, from + pos, from + nl, physicalNo))) {
-          emit({ physicalNo, block: chunk, start: from + pos, end: from + nl, cut: false, decoded: text.slice(pos, nl), ascii }, out);
+          emit(
+            {
+              physicalNo,
+              block: chunk,
+              start: from + pos,
+              end: from + nl,
+              cut: false,
+              decoded: text.slice(pos, nl),
+              ascii,
+            },
+            out,
+          );
         }
       }
       if (nl === text.length) return lastLf + 1;
@@ -226,7 +263,10 @@ export async function* readFrameFile(path: string, options: ReadFrameOptions = {
  */
 export function readFrameBatches(path: string, options?: ReadFrameOptions & { raw?: true }): AsyncGenerator<FileLine[]>;
 export function readFrameBatches(path: string, options: ReadFrameOptions & { raw: false }): AsyncGenerator<FrameLine[]>;
-export async function* readFrameBatches(path: string, options: ReadFrameOptions & { raw?: boolean } = {}): AsyncGenerator<FrameLine[]> {
+export async function* readFrameBatches(
+  path: string,
+  options: ReadFrameOptions & { raw?: boolean } = {},
+): AsyncGenerator<FrameLine[]> {
   const reader = createLineReader(path, options.mappingPath, options.raw !== false);
   for await (const batch of physicalBatches(path, options)) {
     const out: FrameLine[] = [];
@@ -251,7 +291,10 @@ export interface PackedFrameBatch {
  * (packFrame, with the new-segment mark of a clock restart or a reconnect) and its rejected lines with their
  * reasons. A plain NDJSON frame line is read from its bytes straight into the batch, without objects.
  */
-export async function* readFramePackedBatches(path: string, options: ReadFrameOptions = {}): AsyncGenerator<PackedFrameBatch> {
+export async function* readFramePackedBatches(
+  path: string,
+  options: ReadFrameOptions = {},
+): AsyncGenerator<PackedFrameBatch> {
   const reader = createLineReader(path, options.mappingPath, false);
   // A new array per batch: the consumer may transfer the one it was given to another thread.
   let capacity = 1024;
@@ -305,7 +348,9 @@ function createLineReader(path: string, mappingPath: string | undefined, withRaw
 
   /** A mapping names CSV columns: given with any other format it would map nothing, so it is refused up front. */
   const refuseMappingFor = (what: string): never => {
-    throw new InputError([`${basename(mappingPath!)}: a mapping applies to CSV logs with a header line, but ${basename(path)} ${what}`]);
+    throw new InputError([
+      `${basename(mappingPath!)}: a mapping applies to CSV logs with a header line, but ${basename(path)} ${what}`,
+    ]);
   };
 
   const objectVerdict = (obj: unknown): LineVerdict =>
@@ -341,7 +386,8 @@ function createLineReader(path: string, mappingPath: string | undefined, withRaw
       }
       if (!text.startsWith('#')) {
         first = false;
-        if (mapping && text.trimStart().startsWith('{')) refuseMappingFor('is NDJSON (its first line is a JSON object, not a header)');
+        if (mapping && text.trimStart().startsWith('{'))
+          refuseMappingFor('is NDJSON (its first line is a JSON object, not a header)');
         if (mapping && format === 'ndjson') {
           refuseMappingFor(
             formatFromExtension(path) === 'ndjson'

@@ -23,7 +23,10 @@ const TAB = 0x09;
 
 export function encodeHeader(sourceLabel: string, startedAtMs: number): Buffer {
   const oneLine = sourceLabel.replace(/[\r\n]+/g, ' ');
-  return Buffer.from(`${RECORDING_MAGIC}\n#source ${oneLine}\n#started ${new Date(startedAtMs).toISOString()}\n`, 'utf8');
+  return Buffer.from(
+    `${RECORDING_MAGIC}\n#source ${oneLine}\n#started ${new Date(startedAtMs).toISOString()}\n`,
+    'utf8',
+  );
 }
 
 export function encodeLine(receivedAtMs: number, bytes: Buffer, cut: boolean): Buffer {

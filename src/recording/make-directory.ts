@@ -15,7 +15,7 @@ export function makeDirectory(path: string): void {
   }
   const parent = dirname(full);
   if (parent !== full) {
-    let parentExists = false;
+    let parentExists: boolean;
     try {
       parentExists = statSync(parent).isDirectory();
     } catch {

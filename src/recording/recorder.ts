@@ -6,7 +6,7 @@
  * handler completes before the process exits.
  */
 import { closeSync, fsyncSync, openSync, writeSync } from 'node:fs';
-import { InputError } from '../cli/errors.js';
+import { InputError } from '../errors.js';
 import type { ReceivedLine, SourceStatus } from '../sources/source.js';
 import { encodeHeader, encodeLine, encodeLinkEvent } from './format.js';
 
@@ -45,8 +45,18 @@ export function openRecorder(options: RecorderOptions): Recorder {
     fd = openSync(options.path, options.force ? 'w' : 'wx');
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
-    if (code === 'EEXIST') throw new InputError([`${options.path}: the recording file exists; choose another name or add --force to overwrite it`]);
-    const why = code === 'ENOENT' ? 'no such directory' : code === 'EACCES' ? 'permission denied' : code === 'EISDIR' ? 'is a directory' : (err as Error).message;
+    if (code === 'EEXIST')
+      throw new InputError([
+        `${options.path}: the recording file exists; choose another name or add --force to overwrite it`,
+      ]);
+    const why =
+      code === 'ENOENT'
+        ? 'no such directory'
+        : code === 'EACCES'
+          ? 'permission denied'
+          : code === 'EISDIR'
+            ? 'is a directory'
+            : (err as Error).message;
     throw new InputError([`${options.path}: cannot create the recording file (${why})`]);
   }
   let pending: Buffer[] = [encodeHeader(options.sourceLabel, clock())];
@@ -93,7 +103,8 @@ export function openRecorder(options: RecorderOptions): Recorder {
     path: options.path,
     writeLine: (line) => push(encodeLine(line.receivedAtMs, line.bytes, line.cut)),
     writeStatus(status) {
-      if (status.kind === 'open' || status.kind === 'lost' || status.kind === 'ended') push(encodeLinkEvent(status.atMs, status.kind, status.detail));
+      if (status.kind === 'open' || status.kind === 'lost' || status.kind === 'ended')
+        push(encodeLinkEvent(status.atMs, status.kind, status.detail));
     },
     flush,
     close() {

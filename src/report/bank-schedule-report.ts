@@ -35,7 +35,11 @@ export function bankScheduleToCsv(rows: readonly BankScheduleRow[]): string {
   return lines.join('\n') + '\n';
 }
 
-export function bankScheduleToJson(aircraftName: string, thresholds: AlertThresholds, rows: readonly BankScheduleRow[]) {
+export function bankScheduleToJson(
+  aircraftName: string,
+  thresholds: AlertThresholds,
+  rows: readonly BankScheduleRow[],
+) {
   const groups = new Map<string, BankScheduleRow[]>();
   for (const r of rows) {
     const key = `${r.altitudeM}|${r.massKg}`;
@@ -67,7 +71,17 @@ export function bankScheduleToJson(aircraftName: string, thresholds: AlertThresh
 }
 
 export function bankScheduleToTable(aircraftName: string, rows: readonly BankScheduleRow[]): string {
-  const header = ['alt m', 'mass kg', 'ρ kg/m³', 'TAS m/s', 'n stall', 'n thrust', 'n struct', 'bank limit °', 'sustained bank °'];
+  const header = [
+    'alt m',
+    'mass kg',
+    'ρ kg/m³',
+    'TAS m/s',
+    'n stall',
+    'n thrust',
+    'n struct',
+    'bank limit °',
+    'sustained bank °',
+  ];
   const body = rows.map((r) => [
     String(r.altitudeM),
     String(r.massKg),
@@ -79,11 +93,17 @@ export function bankScheduleToTable(aircraftName: string, rows: readonly BankSch
     fixed(r.bankLimitDeg, 1),
     fixed(r.bankSustainedDeg, 1),
   ]);
-  return [
-    `Bank-limit schedule — ${aircraftName} (caution thresholds applied; speeds are TAS)`,
-    '',
-    ...alignTable(header, body, header.map(() => true)),
-    '',
-    'Advisory figures, not flight-critical: the aircraft\'s approved limits prevail.',
-  ].join('\n') + '\n';
+  return (
+    [
+      `Bank-limit schedule — ${aircraftName} (caution thresholds applied; speeds are TAS)`,
+      '',
+      ...alignTable(
+        header,
+        body,
+        header.map(() => true),
+      ),
+      '',
+      "Advisory figures, not flight-critical: the aircraft's approved limits prevail.",
+    ].join('\n') + '\n'
+  );
 }

@@ -156,9 +156,15 @@ export function envelopeToTable(env: Envelope, extra: EnvelopeNotes): string {
     fixed(p.instantaneous.radiusM, 1),
   ]);
   out.push('sust = sustained turn (thrust = drag); inst = instantaneous (stall or structure only).');
-  out.push(...alignTable(header, rows, header.map((_, i) => i !== 5 && i !== 10)));
+  out.push(
+    ...alignTable(
+      header,
+      rows,
+      header.map((_, i) => i !== 5 && i !== 10),
+    ),
+  );
   out.push('');
-  out.push('Advisory figures for test planning, not flight-critical: the aircraft\'s approved limits, the operator\'s');
+  out.push("Advisory figures for test planning, not flight-critical: the aircraft's approved limits, the operator's");
   out.push('procedures and local aviation rules take precedence.');
   return out.join('\n') + '\n';
 }

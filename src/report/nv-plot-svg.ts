@@ -39,7 +39,12 @@ const MARKER: Record<Level, { fill: string; stroke: string; label: string; shape
 };
 
 export function escapeXml(text: string): string {
-  return text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;').replace(/'/g, '&apos;');
+  return text
+    .replace(/&/g, '&amp;')
+    .replace(/</g, '&lt;')
+    .replace(/>/g, '&gt;')
+    .replace(/"/g, '&quot;')
+    .replace(/'/g, '&apos;');
 }
 
 /** A round tick step giving about `target` intervals over a span. */
@@ -112,7 +117,8 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
     return d;
   };
   const stallD = polyline(speeds.map((v) => stallLoadFactor(aircraft, v, rho, mass)));
-  const stallNegD = aircraft.clMin !== undefined ? polyline(speeds.map((v) => negativeStallLoadFactor(aircraft, v, rho, mass))) : '';
+  const stallNegD =
+    aircraft.clMin !== undefined ? polyline(speeds.map((v) => negativeStallLoadFactor(aircraft, v, rho, mass))) : '';
   // Below Vs1 no turn is sustained whatever the thrust, so the thrust curve starts there.
   const thrustD = polyline(speeds.map((v) => (v >= vs1 ? thrustLoadFactor(aircraft, v, rho, mass) : null)));
   const structureD = `M${num(sx(0))} ${num(sy(aircraft.nLimitPos))}L${num(sx(xMax))} ${num(sy(aircraft.nLimitPos))}`;
@@ -130,11 +136,15 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
         `Points: ${points.length} of ${input.pointsOf} accepted frames.`,
     )}</desc>`,
   );
-  out.push(`<defs><clipPath id="plot-area"><rect x="${PLOT.left}" y="${PLOT.top}" width="${PLOT.right - PLOT.left}" height="${PLOT.bottom - PLOT.top}"/></clipPath></defs>`);
+  out.push(
+    `<defs><clipPath id="plot-area"><rect x="${PLOT.left}" y="${PLOT.top}" width="${PLOT.right - PLOT.left}" height="${PLOT.bottom - PLOT.top}"/></clipPath></defs>`,
+  );
   out.push(`<rect x="0" y="0" width="${WIDTH}" height="${HEIGHT}" fill="#ffffff"/>`);
 
   // Title block
-  out.push(`<text x="${PLOT.left}" y="30" font-size="19" font-weight="bold">${escapeXml(`Load factor against airspeed — ${aircraft.name}`)}</text>`);
+  out.push(
+    `<text x="${PLOT.left}" y="30" font-size="19" font-weight="bold">${escapeXml(`Load factor against airspeed — ${aircraft.name}`)}</text>`,
+  );
   out.push(
     `<text x="${PLOT.left}" y="52" font-size="12.5" fill="#333333">${escapeXml(
       `${input.source} · limits at median density ${rho.toFixed(4)} kg/m³, mass ${mass.toFixed(2)} kg (Vs1 ${vs1.toFixed(1)} m/s TAS) · ${points.length} of ${input.pointsOf} frames shown`,
@@ -143,20 +153,30 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
 
   // Grid, ticks and labels
   out.push('<g id="grid" stroke="#e3e3e3" stroke-width="1">');
-  for (let v = 0; v <= xMax + 1e-9; v += xStep) out.push(`<line x1="${num(sx(v))}" y1="${PLOT.top}" x2="${num(sx(v))}" y2="${PLOT.bottom}"/>`);
-  for (let n = yMin; n <= yMax + 1e-9; n += yStep) out.push(`<line x1="${PLOT.left}" y1="${num(sy(n))}" x2="${PLOT.right}" y2="${num(sy(n))}"/>`);
+  for (let v = 0; v <= xMax + 1e-9; v += xStep)
+    out.push(`<line x1="${num(sx(v))}" y1="${PLOT.top}" x2="${num(sx(v))}" y2="${PLOT.bottom}"/>`);
+  for (let n = yMin; n <= yMax + 1e-9; n += yStep)
+    out.push(`<line x1="${PLOT.left}" y1="${num(sy(n))}" x2="${PLOT.right}" y2="${num(sy(n))}"/>`);
   out.push('</g>');
-  out.push(`<line x1="${PLOT.left}" y1="${num(sy(0))}" x2="${PLOT.right}" y2="${num(sy(0))}" stroke="#9a9a9a" stroke-width="1"/>`);
-  out.push(`<line x1="${PLOT.left}" y1="${num(sy(1))}" x2="${PLOT.right}" y2="${num(sy(1))}" stroke="#b0b0b0" stroke-width="1" stroke-dasharray="1 3"/>`);
+  out.push(
+    `<line x1="${PLOT.left}" y1="${num(sy(0))}" x2="${PLOT.right}" y2="${num(sy(0))}" stroke="#9a9a9a" stroke-width="1"/>`,
+  );
+  out.push(
+    `<line x1="${PLOT.left}" y1="${num(sy(1))}" x2="${PLOT.right}" y2="${num(sy(1))}" stroke="#b0b0b0" stroke-width="1" stroke-dasharray="1 3"/>`,
+  );
   out.push('<g id="axes" fill="#222222">');
-  out.push(`<rect x="${PLOT.left}" y="${PLOT.top}" width="${PLOT.right - PLOT.left}" height="${PLOT.bottom - PLOT.top}" fill="none" stroke="#444444" stroke-width="1"/>`);
+  out.push(
+    `<rect x="${PLOT.left}" y="${PLOT.top}" width="${PLOT.right - PLOT.left}" height="${PLOT.bottom - PLOT.top}" fill="none" stroke="#444444" stroke-width="1"/>`,
+  );
   for (let v = 0; v <= xMax + 1e-9; v += xStep) {
     out.push(`<text x="${num(sx(v))}" y="${PLOT.bottom + 18}" text-anchor="middle">${num(v)}</text>`);
   }
   for (let n = yMin; n <= yMax + 1e-9; n += yStep) {
     out.push(`<text x="${PLOT.left - 8}" y="${num(sy(n) + 4)}" text-anchor="end">${num(n)}</text>`);
   }
-  out.push(`<text id="x-label" x="${(PLOT.left + PLOT.right) / 2}" y="${PLOT.bottom + 42}" text-anchor="middle" font-size="14">True airspeed, TAS (m/s)</text>`);
+  out.push(
+    `<text id="x-label" x="${(PLOT.left + PLOT.right) / 2}" y="${PLOT.bottom + 42}" text-anchor="middle" font-size="14">True airspeed, TAS (m/s)</text>`,
+  );
   out.push(
     `<text id="y-label" x="22" y="${(PLOT.top + PLOT.bottom) / 2}" text-anchor="middle" font-size="14" transform="rotate(-90 22 ${(PLOT.top + PLOT.bottom) / 2})">Load factor n (g)</text>`,
   );
@@ -170,13 +190,21 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
   if (stallNegD) out.push(`<path id="stall-curve-negative" d="${stallNegD}" ${lineAttrs(STYLE.stallNeg)}/>`);
   if (thrustD) out.push(`<path id="thrust-curve" d="${thrustD}" ${lineAttrs(STYLE.thrust)}/>`);
   if (aircraft.vneMps !== undefined) {
-    out.push(`<line id="vne" x1="${num(sx(aircraft.vneMps))}" y1="${PLOT.top}" x2="${num(sx(aircraft.vneMps))}" y2="${PLOT.bottom}" stroke="#7a1f7a" stroke-width="1.5" stroke-dasharray="6 3 1 3"/>`);
+    out.push(
+      `<line id="vne" x1="${num(sx(aircraft.vneMps))}" y1="${PLOT.top}" x2="${num(sx(aircraft.vneMps))}" y2="${PLOT.bottom}" stroke="#7a1f7a" stroke-width="1.5" stroke-dasharray="6 3 1 3"/>`,
+    );
   }
   out.push('</g>');
-  out.push(`<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitPos) - 6)}" font-size="12">n limit +${num(aircraft.nLimitPos)}</text>`);
-  out.push(`<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitNeg) + 15)}" font-size="12">n limit ${num(aircraft.nLimitNeg)}</text>`);
+  out.push(
+    `<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitPos) - 6)}" font-size="12">n limit +${num(aircraft.nLimitPos)}</text>`,
+  );
+  out.push(
+    `<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitNeg) + 15)}" font-size="12">n limit ${num(aircraft.nLimitNeg)}</text>`,
+  );
   if (aircraft.vneMps !== undefined) {
-    out.push(`<text x="${num(sx(aircraft.vneMps) - 4)}" y="${PLOT.top + 14}" text-anchor="end" font-size="12" fill="#7a1f7a">Vne</text>`);
+    out.push(
+      `<text x="${num(sx(aircraft.vneMps) - 4)}" y="${PLOT.top + 14}" text-anchor="end" font-size="12" fill="#7a1f7a">Vne</text>`,
+    );
   }
 
   // Points: normal first, so alerts draw on top.
@@ -213,10 +241,16 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
     ly += 24;
     const count = points.filter((p) => p.level === level).length;
     legend.push(markerSvg(level, lx + 17, ly - 4, level === 'normal' ? 8 : 11));
-    legend.push(`<text x="${lx + 42}" y="${ly}">${escapeXml(`${MARKER[level].label} (${MARKER[level].shape}) ×${count}`)}</text>`);
+    legend.push(
+      `<text x="${lx + 42}" y="${ly}">${escapeXml(`${MARKER[level].label} (${MARKER[level].shape}) ×${count}`)}</text>`,
+    );
   }
   ly += 30;
-  for (const note of ['Curves at the median density and', 'mass; each point was judged at', 'its own density and mass.']) {
+  for (const note of [
+    'Curves at the median density and',
+    'mass; each point was judged at',
+    'its own density and mass.',
+  ]) {
     legend.push(`<text x="${lx}" y="${ly}" font-size="11" fill="#555555">${escapeXml(note)}</text>`);
     ly += 15;
   }

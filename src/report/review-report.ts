@@ -171,30 +171,55 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
   const c = review.conditions;
   const out: string[] = [];
   out.push(`# Flight review: ${ctx.source}`, '');
-  out.push(`- Airframe: **${a.name}** (${ctx.aircraftFile}) — mass ${fixed(a.massKg, 2)} kg, wing area ${fixed(a.wingAreaM2, 3)} m², CLmax ${fixed(a.clMax, 2)}${a.clMin !== undefined ? `, CLmin ${fixed(a.clMin, 2)}` : ''}`);
+  out.push(
+    `- Airframe: **${a.name}** (${ctx.aircraftFile}) — mass ${fixed(a.massKg, 2)} kg, wing area ${fixed(a.wingAreaM2, 3)} m², CLmax ${fixed(a.clMax, 2)}${a.clMin !== undefined ? `, CLmin ${fixed(a.clMin, 2)}` : ''}`,
+  );
   out.push(
     `- Limit load factors: +${fixed(a.nLimitPos, 2)} (${a.nLimitPosSource}), ${fixed(a.nLimitNeg, 2)} (${a.nLimitNegSource})` +
       (a.vneMps !== undefined ? `; Vne ${fixed(a.vneMps, 1)} m/s` : ''),
   );
   out.push(`- Alert thresholds (utilization = load factor ÷ limit): ${thresholdText(review)}`);
-  out.push(`- Load-factor smoothing: ${review.options.smoothTauS > 0 ? `first-order, τ = ${review.options.smoothTauS} s` : 'off'}`);
+  out.push(
+    `- Load-factor smoothing: ${review.options.smoothTauS > 0 ? `first-order, τ = ${review.options.smoothTauS} s` : 'off'}`,
+  );
   out.push('');
 
   out.push('## Data and conditions', '');
   const condRows: string[][] = [
     ['Lines read', `${review.frames} (${review.accepted} accepted, ${review.rejected} rejected)`],
-    ['Time span', review.firstTS === null ? '—' : `t = ${fixed(review.firstTS, 2)} s to ${fixed(review.lastTS, 2)} s (${fixed(review.durationS, 2)} s of data)`],
+    [
+      'Time span',
+      review.firstTS === null
+        ? '—'
+        : `t = ${fixed(review.firstTS, 2)} s to ${fixed(review.lastTS, 2)} s (${fixed(review.durationS, 2)} s of data)`,
+    ],
     ['Pressure altitude', c.altitudeM ? `${fixed(c.altitudeM.min, 0)} to ${fixed(c.altitudeM.max, 0)} m` : '—'],
     ['TAS', c.tasMps ? `${fixed(c.tasMps.min, 1)} to ${fixed(c.tasMps.max, 1)} m/s` : '—'],
-    [`Load factor n${review.options.smoothTauS > 0 ? ' (smoothed)' : ''}`, c.nMeasured ? `${fixed(c.nMeasured.min, 2)} to ${fixed(c.nMeasured.max, 2)}` : '—'],
-    ['Air temperature', c.temperatureK ? `${fixed(c.temperatureK.min - 273.15, 1)} to ${fixed(c.temperatureK.max - 273.15, 1)} °C` : '—'],
+    [
+      `Load factor n${review.options.smoothTauS > 0 ? ' (smoothed)' : ''}`,
+      c.nMeasured ? `${fixed(c.nMeasured.min, 2)} to ${fixed(c.nMeasured.max, 2)}` : '—',
+    ],
+    [
+      'Air temperature',
+      c.temperatureK ? `${fixed(c.temperatureK.min - 273.15, 1)} to ${fixed(c.temperatureK.max - 273.15, 1)} °C` : '—',
+    ],
     ['Median density', `${fixed(c.medianDensityKgM3, 4)} kg/m³`],
     ['Median mass', `${fixed(c.medianMassKg, 2)} kg`],
   ];
-  if (c.segments > 1) condRows.push(['Data segments', `${c.segments} (sender clock restarts or reconnects; computation restarted at each)`]);
-  if (c.gaps > 0) condRows.push(['Gaps over 1 s', `${c.gaps}, ${fixed(c.gapS, 2)} s in total (not counted in time in level)`]);
-  if (c.notFlyingFrames > 0) condRows.push(['Frames below 0.5·Vs1', `${c.notFlyingFrames} (not flying: no alerts raised)`]);
-  if (c.uncoordinatedS > 0) condRows.push(['Uncoordinated', `${fixed(c.uncoordinatedS, 2)} s (measured n differs from 1/cos(bank) by over 0.15 for over 1 s)`]);
+  if (c.segments > 1)
+    condRows.push([
+      'Data segments',
+      `${c.segments} (sender clock restarts or reconnects; computation restarted at each)`,
+    ]);
+  if (c.gaps > 0)
+    condRows.push(['Gaps over 1 s', `${c.gaps}, ${fixed(c.gapS, 2)} s in total (not counted in time in level)`]);
+  if (c.notFlyingFrames > 0)
+    condRows.push(['Frames below 0.5·Vs1', `${c.notFlyingFrames} (not flying: no alerts raised)`]);
+  if (c.uncoordinatedS > 0)
+    condRows.push([
+      'Uncoordinated',
+      `${fixed(c.uncoordinatedS, 2)} s (measured n differs from 1/cos(bank) by over 0.15 for over 1 s)`,
+    ]);
   out.push(...mdTable(['Item', 'Value'], condRows, [false, false]), '');
 
   out.push('## Events', '', outcomeLine(review), '');
@@ -213,7 +238,18 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
     ]);
     out.push(
       ...mdTable(
-        ['#', 'Limit', 'Level', 'Start (s)', 'End (s)', 'Duration (s)', 'Peak utilization', 'Peak at (s)', 'TAS at peak (m/s)', 'n at peak'],
+        [
+          '#',
+          'Limit',
+          'Level',
+          'Start (s)',
+          'End (s)',
+          'Duration (s)',
+          'Peak utilization',
+          'Peak at (s)',
+          'TAS at peak (m/s)',
+          'n at peak',
+        ],
         rows,
         [true, false, false, true, true, true, true, true, true, true],
       ),
@@ -236,7 +272,11 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
   out.push(
     ...mdTable(
       ['Level', 'Time (s)', 'Share'],
-      (['normal', 'caution', 'warning'] as Level[]).map((l) => [l, fixed(review.timeInLevelS[l], 2), pct(review.timeInLevelS[l], counted)]),
+      (['normal', 'caution', 'warning'] as Level[]).map((l) => [
+        l,
+        fixed(review.timeInLevelS[l], 2),
+        pct(review.timeInLevelS[l], counted),
+      ]),
       [false, true, true],
     ),
     '',
@@ -249,8 +289,18 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
     out.push('None.', '');
   } else {
     out.push(`${review.rejected} line${review.rejected === 1 ? '' : 's'} rejected (not used in the computation):`, '');
-    out.push(...mdTable(['Line', 'Reason'], review.rejects.map((r) => [String(r.line), r.reason]), [true, false]));
-    if (review.rejected > review.rejects.length) out.push('', `… and ${review.rejected - review.rejects.length} more (the first ${review.rejects.length} are listed).`);
+    out.push(
+      ...mdTable(
+        ['Line', 'Reason'],
+        review.rejects.map((r) => [String(r.line), r.reason]),
+        [true, false],
+      ),
+    );
+    if (review.rejected > review.rejects.length)
+      out.push(
+        '',
+        `… and ${review.rejected - review.rejects.length} more (the first ${review.rejects.length} are listed).`,
+      );
     out.push('');
   }
 
@@ -281,7 +331,10 @@ export function checkSummary(review: FlightReview, ctx: ReviewContext, failOn: F
   );
   lines.push(
     'peaks: ' +
-      LIMITS.map((l) => `${l} ${formatUtilization(review.peaks[l].utilization)}${review.peaks[l].t_s !== null ? ` at ${fixed(review.peaks[l].t_s, 2)} s` : ''}`).join(', '),
+      LIMITS.map(
+        (l) =>
+          `${l} ${formatUtilization(review.peaks[l].utilization)}${review.peaks[l].t_s !== null ? ` at ${fixed(review.peaks[l].t_s, 2)} s` : ''}`,
+      ).join(', '),
   );
   const notFlying = review.conditions.notFlyingFrames;
   if (notFlying > 0) {
@@ -303,17 +356,30 @@ export function checkSummary(review: FlightReview, ctx: ReviewContext, failOn: F
   const shown = 10;
   if (review.events.length > 0) {
     lines.push(`events (${review.events.length}):`);
-    const rows = review.events.slice(0, shown).map((e) => [
-      e.level.toUpperCase(),
-      e.limit,
-      fixed(e.start_s, 2),
-      fixed(e.end_s, 2),
-      fixed(e.duration_s, 2),
-      formatUtilization(e.peak_utilization),
-      fixed(e.peak_t_s, 2),
-    ]);
-    lines.push(...alignTable(['level', 'limit', 'start s', 'end s', 'dur s', 'peak', 'at s'], rows, [false, false, true, true, true, true, true]).map((l) => `  ${l}`));
-    if (review.events.length > shown) lines.push(`  … and ${review.events.length - shown} more (turnmargin review for all)`);
+    const rows = review.events
+      .slice(0, shown)
+      .map((e) => [
+        e.level.toUpperCase(),
+        e.limit,
+        fixed(e.start_s, 2),
+        fixed(e.end_s, 2),
+        fixed(e.duration_s, 2),
+        formatUtilization(e.peak_utilization),
+        fixed(e.peak_t_s, 2),
+      ]);
+    lines.push(
+      ...alignTable(['level', 'limit', 'start s', 'end s', 'dur s', 'peak', 'at s'], rows, [
+        false,
+        false,
+        true,
+        true,
+        true,
+        true,
+        true,
+      ]).map((l) => `  ${l}`),
+    );
+    if (review.events.length > shown)
+      lines.push(`  … and ${review.events.length - shown} more (turnmargin review for all)`);
   }
   lines.push(
     failing.length === 0

@@ -90,7 +90,10 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
   if (options.recordDir !== undefined) makeDirectory(options.recordDir);
 
   const summary: ServeSummary = { connections: 0, lines: 0, answered: 0, errors: 0, refused: 0, recordings: [] };
-  const open = new Map<WebSocket, { id: number; recorder?: Recorder; stats: () => ServeSessionStats; closed: Promise<void> }>();
+  const open = new Map<
+    WebSocket,
+    { id: number; recorder?: Recorder; stats: () => ServeSessionStats; closed: Promise<void> }
+  >();
 
   const wss = new WebSocketServer({
     host: options.host,
@@ -103,7 +106,11 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
         if (given === undefined || !timingSafeEqual(digest(given), expected)) {
           summary.refused++;
           log(`refused ${info.req.socket.remoteAddress ?? '?'}: ${given === undefined ? 'no token' : 'wrong token'}`);
-          return done(false, 401, 'Unauthorized: present the token as "Authorization: Bearer <token>" or ?token=<token>');
+          return done(
+            false,
+            401,
+            'Unauthorized: present the token as "Authorization: Bearer <token>" or ?token=<token>',
+          );
         }
       }
       if (open.size >= maxClients) {
@@ -139,7 +146,10 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
         return;
       }
     }
-    const session = createServeSession(options.aircraft, recorder ? { margins: options.margins, recorder, clock } : { margins: options.margins, clock });
+    const session = createServeSession(
+      options.aircraft,
+      recorder ? { margins: options.margins, recorder, clock } : { margins: options.margins, clock },
+    );
     let closeDetail = '';
     let resolveClosed!: () => void;
     const closed = new Promise<void>((resolve) => (resolveClosed = resolve));
@@ -147,7 +157,11 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
     log(`client ${id} connected from ${remote}`);
 
     ws.on('message', (data, isBinary) => {
-      const bytes = Array.isArray(data) ? Buffer.concat(data) : Buffer.isBuffer(data) ? data : Buffer.from(data as ArrayBuffer);
+      const bytes = Array.isArray(data)
+        ? Buffer.concat(data)
+        : Buffer.isBuffer(data)
+          ? data
+          : Buffer.from(data as ArrayBuffer);
       void isBinary; // text and binary messages are read the same way: lines of UTF-8
       for (const answer of session.handleMessage(bytes)) {
         if (ws.readyState !== WebSocket.OPEN) break;
@@ -161,7 +175,9 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
     ws.on('error', (err: Error & { code?: string }) => {
       // ws closes the connection itself (1009 for an oversized message); the other clients are not touched.
       closeDetail =
-        err.code === 'WS_ERR_UNSUPPORTED_MESSAGE_LENGTH' ? 'message over the size cap refused (close code 1009 sent)' : err.message;
+        err.code === 'WS_ERR_UNSUPPORTED_MESSAGE_LENGTH'
+          ? 'message over the size cap refused (close code 1009 sent)'
+          : err.message;
       log(`client ${id}: ${closeDetail}`);
     });
     ws.on('close', (code, reason) => {
@@ -173,7 +189,9 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
       recorder?.writeStatus({ kind: closeDetail ? 'lost' : 'ended', atMs: clock(), detail: `close ${code} ${why}` });
       recorder?.close();
       open.delete(ws);
-      log(`client ${id} closed (${code}${why ? ` ${why}` : ''}): ${stats.answered} frames answered, ${stats.errors} errors`);
+      log(
+        `client ${id} closed (${code}${why ? ` ${why}` : ''}): ${stats.answered} frames answered, ${stats.errors} errors`,
+      );
       resolveClosed();
     });
   });
@@ -192,7 +210,10 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
           return c.closed;
         });
         let timer: NodeJS.Timeout | undefined;
-        await Promise.race([Promise.all(waits), new Promise<void>((resolve) => (timer = setTimeout(resolve, SHUTDOWN_GRACE_MS)))]);
+        await Promise.race([
+          Promise.all(waits),
+          new Promise<void>((resolve) => (timer = setTimeout(resolve, SHUTDOWN_GRACE_MS))),
+        ]);
         clearTimeout(timer);
         for (const [ws, c] of open) {
           ws.terminate();

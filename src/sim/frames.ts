@@ -26,7 +26,9 @@ export function tasToCasMps(tasMps: number, pressurePa: number, temperatureK: nu
  * The calibration table read backwards (CAS → IAS), or null when its CAS column does not increase (then the
  * table has no single inverse and IAS frames cannot be written).
  */
-export function invertCalibration(table: ReadonlyArray<readonly [number, number]> | undefined): Array<[number, number]> | null {
+export function invertCalibration(
+  table: ReadonlyArray<readonly [number, number]> | undefined,
+): Array<[number, number]> | null {
   if (!table || table.length === 0) return [];
   for (let i = 1; i < table.length; i++) if (table[i]![1] <= table[i - 1]![1]) return null;
   return table.map(([ias, cas]) => [cas, ias]);
@@ -46,11 +48,17 @@ export interface FrameWriterOptions {
  * A stateful writer (it draws noise in order): sample → frame. Keys: t_s, the plan's airspeed key, alt_m, bank_deg,
  * nz, oat_c (when the plan sets an ISA deviation), mass_kg (when the plan sets a mass), heading_deg, segment.
  */
-export function createFrameWriter(aircraft: Aircraft, plan: FlightPlan, options: FrameWriterOptions): (s: SimSample) => SimFrame {
+export function createFrameWriter(
+  aircraft: Aircraft,
+  plan: FlightPlan,
+  options: FrameWriterOptions,
+): (s: SimSample) => SimFrame {
   const gaussian = createGaussian(options.seed);
   const casToIas = plan.airspeedKey === 'ias_mps' ? invertCalibration(aircraft.airspeedCalibration) : [];
   if (casToIas === null) {
-    throw new RangeError('the airframe\'s airspeed_calibration CAS column does not increase, so IAS cannot be derived from it');
+    throw new RangeError(
+      "the airframe's airspeed_calibration CAS column does not increase, so IAS cannot be derived from it",
+    );
   }
   return (s) => {
     // Draw both noises on every frame, so the sequence does not depend on the noise levels being zero.

@@ -21,7 +21,8 @@ import { MAX_ALTITUDE_M, MIN_ALTITUDE_M } from '../core/atmosphere.js';
 const positive = (what = 'a positive number') =>
   z.number({ error: `must be ${what}` }).gt(0, { error: `must be ${what}` });
 const between = (lo: number, hi: number) =>
-  z.number({ error: `must be a number from ${lo} to ${hi}` })
+  z
+    .number({ error: `must be a number from ${lo} to ${hi}` })
     .gte(lo, { error: `must be a number from ${lo} to ${hi}` })
     .lte(hi, { error: `must be a number from ${lo} to ${hi}` });
 
@@ -42,7 +43,11 @@ const verticalSpeed = between(-20, 20);
 
 const common = {
   duration_s: duration,
-  label: z.string({ error: 'must be a text' }).min(1, { error: 'must not be empty' }).max(64, { error: 'must be at most 64 characters' }).optional(),
+  label: z
+    .string({ error: 'must be a text' })
+    .min(1, { error: 'must not be empty' })
+    .max(64, { error: 'must be at most 64 characters' })
+    .optional(),
   throttle: between(0, 1).optional(),
   tas_mps: positive().optional(),
 };
@@ -83,14 +88,29 @@ const Segment = z
   .check((ctx) => {
     const s = ctx.value;
     if ('throttle' in s && s.throttle !== undefined && 'tas_mps' in s && s.tas_mps !== undefined) {
-      ctx.issues.push({ code: 'custom', input: s, path: ['throttle'], message: 'must not be given together with tas_mps (choose a fixed throttle or a speed to hold)' });
+      ctx.issues.push({
+        code: 'custom',
+        input: s,
+        path: ['throttle'],
+        message: 'must not be given together with tas_mps (choose a fixed throttle or a speed to hold)',
+      });
     }
     if (s.type === 'turn') {
       if ((s.bank_deg === undefined) === (s.load_factor === undefined)) {
-        ctx.issues.push({ code: 'custom', input: s, path: [], message: 'a turn needs exactly one of bank_deg and load_factor' });
+        ctx.issues.push({
+          code: 'custom',
+          input: s,
+          path: [],
+          message: 'a turn needs exactly one of bank_deg and load_factor',
+        });
       }
       if (s.direction !== undefined && s.bank_deg !== undefined) {
-        ctx.issues.push({ code: 'custom', input: s, path: ['direction'], message: 'applies to load_factor turns only (give a negative bank_deg to turn left)' });
+        ctx.issues.push({
+          code: 'custom',
+          input: s,
+          path: ['direction'],
+          message: 'applies to load_factor turns only (give a negative bank_deg to turn left)',
+        });
       }
     }
   });
@@ -112,15 +132,22 @@ export const FlightPlanSchema = z.strictObject(
     mass_kg: positive().optional(),
     /** Air temperature off ISA, K; when given every frame carries the resulting oat_c. */
     isa_deviation_c: between(-60, 60).optional(),
-    airspeed_key: z.enum(['tas_mps', 'cas_mps', 'ias_mps'], { error: 'must be "tas_mps", "cas_mps" or "ias_mps"' }).optional(),
+    airspeed_key: z
+      .enum(['tas_mps', 'cas_mps', 'ias_mps'], { error: 'must be "tas_mps", "cas_mps" or "ias_mps"' })
+      .optional(),
     roll_rate_dps: between(1, 360).optional(),
     noise: z
-      .strictObject({
-        nz_sd: between(0, 2).optional(),
-        airspeed_sd_mps: between(0, 10).optional(),
-      }, { error: 'must be an object {nz_sd, airspeed_sd_mps}' })
+      .strictObject(
+        {
+          nz_sd: between(0, 2).optional(),
+          airspeed_sd_mps: between(0, 10).optional(),
+        },
+        { error: 'must be an object {nz_sd, airspeed_sd_mps}' },
+      )
       .optional(),
-    segments: z.array(Segment, { error: 'must be a list of segments' }).min(1, { error: 'must hold at least one segment' }),
+    segments: z
+      .array(Segment, { error: 'must be a list of segments' })
+      .min(1, { error: 'must hold at least one segment' }),
   },
   { error: 'must be a JSON object' },
 );
@@ -130,9 +157,7 @@ export type SegmentJson = FlightPlanJson['segments'][number];
 
 /** Speed command for a segment: hold a speed with the autothrottle, or a fixed fraction of the thrust available. */
 export type SpeedCommand =
-  | { kind: 'hold-entry' }
-  | { kind: 'hold'; tasMps: number }
-  | { kind: 'throttle'; fraction: number };
+  { kind: 'hold-entry' } | { kind: 'hold'; tasMps: number } | { kind: 'throttle'; fraction: number };
 
 /** Attitude command: a bank angle (load factor follows from the vertical path), or a load factor. */
 export type TurnCommand =
@@ -188,9 +213,10 @@ function toSegment(s: SegmentJson, index: number): PlanSegment {
       turn = { kind: 'pull-up', loadFactor: s.load_factor };
       break;
     case 'turn':
-      turn = s.bank_deg !== undefined
-        ? { kind: 'bank', bankDeg: s.bank_deg }
-        : { kind: 'load-factor', loadFactor: s.load_factor!, sign: s.direction === 'left' ? -1 : 1 };
+      turn =
+        s.bank_deg !== undefined
+          ? { kind: 'bank', bankDeg: s.bank_deg }
+          : { kind: 'load-factor', loadFactor: s.load_factor!, sign: s.direction === 'left' ? -1 : 1 };
       break;
   }
   const verticalSpeedMps = s.type === 'straight' || s.type === 'turn' ? (s.vertical_speed_mps ?? 0) : 0;

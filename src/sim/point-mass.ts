@@ -45,7 +45,11 @@ export const MIN_TAS_MPS = 0.5;
 /** Why the simulation could not go on (the aircraft left the model's domain); the message says where and why. */
 export class SimulationError extends Error {
   readonly code = 'simulation';
-  constructor(message: string, readonly tS: number, readonly segmentLabel: string) {
+  constructor(
+    message: string,
+    readonly tS: number,
+    readonly segmentLabel: string,
+  ) {
     super(message);
     this.name = 'SimulationError';
   }
@@ -130,7 +134,11 @@ function computeForces(
   const altRefM = entry.altM + seg.verticalSpeedMps * (tS - entry.tS);
   const vsCmd = seg.verticalSpeedMps + ALTITUDE_GAIN_PER_S * (altRefM - s.altM);
   const pathCmd = Math.asin(clamp(vsCmd / s.tasMps, -Math.sin(MAX_GUIDANCE_PATH_RAD), Math.sin(MAX_GUIDANCE_PATH_RAD)));
-  const correction = clamp((s.tasMps / G0_MPS2) * PATH_GAIN_PER_S * (pathCmd - s.pathRad), -MAX_PATH_CORRECTION_G, MAX_PATH_CORRECTION_G);
+  const correction = clamp(
+    (s.tasMps / G0_MPS2) * PATH_GAIN_PER_S * (pathCmd - s.pathRad),
+    -MAX_PATH_CORRECTION_G,
+    MAX_PATH_CORRECTION_G,
+  );
   const verticalN = Math.cos(s.pathRad) + correction;
 
   let bankCmdRad: number;
@@ -222,7 +230,11 @@ function segmentStarts(plan: FlightPlan): number[] {
  * Fly the plan; yields one sample at the start and then every 1/rate s up to the end of the plan.
  * Throws SimulationError when the aircraft leaves the model's domain (too slow, too steep, out of the atmosphere).
  */
-export function* simulateFlight(aircraft: Aircraft, plan: FlightPlan, options: SimulateOptions): Generator<SimSample, void, undefined> {
+export function* simulateFlight(
+  aircraft: Aircraft,
+  plan: FlightPlan,
+  options: SimulateOptions,
+): Generator<SimSample, void, undefined> {
   const massKg = plan.massKg ?? aircraft.massKg;
   const rollRate = degToRad(plan.rollRateDps);
   const starts = segmentStarts(plan);
@@ -240,7 +252,8 @@ export function* simulateFlight(aircraft: Aircraft, plan: FlightPlan, options: S
   let segIndex = 0;
   let entry: SegmentEntry = { tS, altM: state.altM, tasMps: state.tasMps };
 
-  const forcesAt = (t: number, s: State) => computeForces(aircraft, plan, plan.segments[segIndex]!, entry, t, s, massKg);
+  const forcesAt = (t: number, s: State) =>
+    computeForces(aircraft, plan, plan.segments[segIndex]!, entry, t, s, massKg);
   const sample = (): SimSample => {
     const f = forcesAt(tS, state);
     return {
@@ -264,12 +277,18 @@ export function* simulateFlight(aircraft: Aircraft, plan: FlightPlan, options: S
   };
   const fail = (why: string): never => {
     const label = plan.segments[segIndex]!.label;
-    throw new SimulationError(`${why} at t = ${tS.toFixed(2)} s in segment "${label}"; the point-mass model cannot go on`, tS, label);
+    throw new SimulationError(
+      `${why} at t = ${tS.toFixed(2)} s in segment "${label}"; the point-mass model cannot go on`,
+      tS,
+      label,
+    );
   };
   const checkDomain = () => {
     if (!(state.tasMps >= MIN_TAS_MPS)) fail(`the airspeed fell below ${MIN_TAS_MPS} m/s`);
-    if (Math.abs(radToDeg(state.pathRad)) > MAX_PATH_DEG) fail(`the flight path passed ±${MAX_PATH_DEG}° (a loop or a vertical dive)`);
-    if (!(state.altM >= MIN_ALTITUDE_M && state.altM <= MAX_ALTITUDE_M)) fail(`the altitude left ${MIN_ALTITUDE_M}…${MAX_ALTITUDE_M} m`);
+    if (Math.abs(radToDeg(state.pathRad)) > MAX_PATH_DEG)
+      fail(`the flight path passed ±${MAX_PATH_DEG}° (a loop or a vertical dive)`);
+    if (!(state.altM >= MIN_ALTITUDE_M && state.altM <= MAX_ALTITUDE_M))
+      fail(`the altitude left ${MIN_ALTITUDE_M}…${MAX_ALTITUDE_M} m`);
   };
   const rk4 = (h: number) => {
     const t0 = tS;

@@ -4,7 +4,14 @@
  * Flight time ("position") advances by the t_s steps between accepted frames; a clock restart adds no time.
  */
 import { readFrameFile, type FileLine } from '../decode/read-frames.js';
-import { systemClock, type Clock, type ReplayState, type ReplayTransport, type SourceHandlers, type TelemetrySource } from './source.js';
+import {
+  systemClock,
+  type Clock,
+  type ReplayState,
+  type ReplayTransport,
+  type SourceHandlers,
+  type TelemetrySource,
+} from './source.js';
 
 export interface FileSourceOptions {
   path: string;
@@ -166,7 +173,8 @@ export function createFileSource(options: FileSourceOptions): FileSource {
           }
         }
       } catch (err) {
-        if (!stopped) handlers?.onStatus({ kind: 'ended', atMs: clock(), detail: `read error: ${(err as Error).message}` });
+        if (!stopped)
+          handlers?.onStatus({ kind: 'ended', atMs: clock(), detail: `read error: ${(err as Error).message}` });
         return;
       }
       if (stopped) return;

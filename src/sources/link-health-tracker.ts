@@ -150,6 +150,9 @@ export function formatLinkSummary(h: LinkHealth): string {
   ];
   const reasons = Object.entries(h.rejectedByReason).sort((a, b) => b[1] - a[1]);
   for (const [reason, count] of reasons) lines.push(`  rejected ${count}× ${reason}`);
-  if (h.recordingFile) lines.push(`  recording ${h.recordingFile}: ${h.recordingBytes} bytes${h.recordingError ? ` — ${h.recordingError}` : ''}`);
+  if (h.recordingFile)
+    lines.push(
+      `  recording ${h.recordingFile}: ${h.recordingBytes} bytes${h.recordingError ? ` — ${h.recordingError}` : ''}`,
+    );
   return lines.join('\n') + '\n';
 }

@@ -70,12 +70,15 @@ export function createLinkSource(label: string, connect: Connect, options: LinkS
         if (done || stopped) return;
         attempt = 0;
         reportedLost = false;
-        handlers?.onStatus(detail === undefined ? { kind: 'open', atMs: clock() } : { kind: 'open', atMs: clock(), detail });
+        handlers?.onStatus(
+          detail === undefined ? { kind: 'open', atMs: clock() } : { kind: 'open', atMs: clock(), detail },
+        );
       },
       data(chunk, messageEnd) {
         if (done || stopped) return;
         deliver(splitter.push(chunk));
-        if (messageEnd && splitter.pendingBytes() > 0 && isCompleteObject(splitter.peekPending())) deliver(splitter.end());
+        if (messageEnd && splitter.pendingBytes() > 0 && isCompleteObject(splitter.peekPending()))
+          deliver(splitter.end());
       },
       dropped(detail) {
         if (done) return;

@@ -23,7 +23,10 @@ export function createWebSocketSource(options: WebSocketSourceOptions): Telemetr
     `websocket ${options.url}`,
     (events) => {
       let lastError: string | undefined;
-      const ws = new WebSocket(options.url, { maxPayload: options.maxPayloadBytes ?? WS_MAX_PAYLOAD_BYTES, handshakeTimeout: 5000 });
+      const ws = new WebSocket(options.url, {
+        maxPayload: options.maxPayloadBytes ?? WS_MAX_PAYLOAD_BYTES,
+        handshakeTimeout: 5000,
+      });
       // Always listen for 'error' (ECONNREFUSED, oversized message…): it is followed by 'close'.
       ws.on('error', (err: Error) => {
         lastError = describeWsError(err);

@@ -39,7 +39,16 @@ describe('turnmargin check (built CLI)', () => {
     writeFileSync(th, JSON.stringify({ stall_warning: 0.99, structure_warning: 0.99 }));
     const warningOnly = await runCli(['check', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--thresholds', th]);
     expect(warningOnly.code).toBe(0);
-    const cautionToo = await runCli(['check', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--thresholds', th, '--fail-on', 'caution']);
+    const cautionToo = await runCli([
+      'check',
+      FLIGHT,
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--thresholds',
+      th,
+      '--fail-on',
+      'caution',
+    ]);
     expect(cautionToo.code).toBe(1);
     expect(cautionToo.stdout).toMatch(/FAIL: \d+ events reached caution or warning/);
   });

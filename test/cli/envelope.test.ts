@@ -11,9 +11,25 @@ describe('turnmargin envelope (built CLI)', () => {
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
     expect(Object.keys(out)).toEqual(
-      expect.arrayContaining(['aircraft', 'conditions', 'stall_speed_mps', 'corner_speed_mps', 'max_sustained', 'max_sustained_turn_rate', 'min_sustained_radius', 'points']),
+      expect.arrayContaining([
+        'aircraft',
+        'conditions',
+        'stall_speed_mps',
+        'corner_speed_mps',
+        'max_sustained',
+        'max_sustained_turn_rate',
+        'min_sustained_radius',
+        'points',
+      ]),
     );
-    expect(Object.keys(out.conditions).sort()).toEqual(['altitude_m', 'density_kg_m3', 'mass_kg', 'pressure_pa', 'temperature_k', 'weight_n']);
+    expect(Object.keys(out.conditions).sort()).toEqual([
+      'altitude_m',
+      'density_kg_m3',
+      'mass_kg',
+      'pressure_pa',
+      'temperature_k',
+      'weight_n',
+    ]);
     expect(out.aircraft).toBe('Example airframe');
     // Values of the contract's worked example (sea level ISA, 12 m/s).
     expect(out.conditions.weight_n).toBeCloseTo(31.381, 3);
@@ -24,7 +40,14 @@ describe('turnmargin envelope (built CLI)', () => {
     expect(out.max_sustained_turn_rate.turn_rate_dps).toBeCloseTo(104.8, 0);
     expect(out.min_sustained_radius.radius_m).toBeCloseTo(8.386, 2);
     const p = out.points[0];
-    expect(Object.keys(p).sort()).toEqual(['instantaneous', 'n_stall', 'n_structural', 'n_thrust', 'speed_mps', 'sustained']);
+    expect(Object.keys(p).sort()).toEqual([
+      'instantaneous',
+      'n_stall',
+      'n_structural',
+      'n_thrust',
+      'speed_mps',
+      'sustained',
+    ]);
     expect(Object.keys(p.sustained).sort()).toEqual(['bank_deg', 'limited_by', 'n', 'radius_m', 'turn_rate_dps']);
     expect(p.n_stall).toBeCloseTo(1.855, 3);
     expect(p.n_thrust).toBeCloseTo(2.957, 3);
@@ -33,7 +56,19 @@ describe('turnmargin envelope (built CLI)', () => {
   });
 
   it('prints a CSV with flat column names carrying units', async () => {
-    const r = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--from', '10', '--to', '20', '--step', '2', '--format', 'csv']);
+    const r = await runCli([
+      'envelope',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--from',
+      '10',
+      '--to',
+      '20',
+      '--step',
+      '2',
+      '--format',
+      'csv',
+    ]);
     expect(r.code).toBe(0);
     const lines = r.stdout.trim().split('\n');
     expect(lines[0]).toBe(
@@ -69,7 +104,7 @@ describe('turnmargin envelope (built CLI)', () => {
   it('exits 2 with the key named for a bad airframe file', async () => {
     const dir = mkdtempSync(join(tmpdir(), 'tm-env-'));
     const file = join(dir, 'airframe.json');
-    const json = exampleAirframeJson() as Record<string, any>;
+    const json = exampleAirframeJson() as Record<string, unknown> & { thrust: Record<string, unknown> };
     writeFileSync(file, JSON.stringify({ ...json, mass_kg: -2, thrust: { ...json.thrust, power_w: 'lots' } }));
     const r = await runCli(['envelope', '--aircraft', file]);
     expect(r.code).toBe(2);
@@ -97,10 +132,24 @@ describe('turnmargin envelope (built CLI)', () => {
   });
 
   it('prints a bank-limit schedule for each altitude and mass', async () => {
-    const r = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--altitudes', '0,1000', '--masses', '3,3.5', '--speeds', '12,15', '--format', 'csv']);
+    const r = await runCli([
+      'envelope',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--altitudes',
+      '0,1000',
+      '--masses',
+      '3,3.5',
+      '--speeds',
+      '12,15',
+      '--format',
+      'csv',
+    ]);
     expect(r.code).toBe(0);
     const lines = r.stdout.trim().split('\n');
-    expect(lines[0]).toBe('altitude_m,mass_kg,density_kg_m3,speed_mps,n_stall,n_thrust,n_structural,bank_limit_deg,bank_sustained_deg');
+    expect(lines[0]).toBe(
+      'altitude_m,mass_kg,density_kg_m3,speed_mps,n_stall,n_thrust,n_structural,bank_limit_deg,bank_sustained_deg',
+    );
     expect(lines).toHaveLength(1 + 2 * 2 * 2);
     // At 0 m, 3 kg, 12 m/s: n = min(0.8·n_stall, 0.8·3.8) with n_stall = q·S·CLmax/W; bank = acos(1/n)
     // (FAA-H-8083-25 bank/load-factor relation; thresholds are this tool's defaults).
@@ -112,19 +161,54 @@ describe('turnmargin envelope (built CLI)', () => {
   });
 
   it('takes negative option values: a cold day below sea level', async () => {
-    const r = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--altitude', '-200', '--oat', '-5', '--speeds', '12', '--format', 'json']);
+    const r = await runCli([
+      'envelope',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--altitude',
+      '-200',
+      '--oat',
+      '-5',
+      '--speeds',
+      '12',
+      '--format',
+      'json',
+    ]);
     expect(r.code, r.stderr).toBe(0);
     const out = JSON.parse(r.stdout);
     expect(out.conditions.altitude_m).toBe(-200);
     expect(out.conditions.temperature_k).toBeCloseTo(268.15, 6);
-    const cold = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--isa-dev', '-10', '--altitudes', '-200,0', '--format', 'csv']);
+    const cold = await runCli([
+      'envelope',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--isa-dev',
+      '-10',
+      '--altitudes',
+      '-200,0',
+      '--format',
+      'csv',
+    ]);
     expect(cold.code, cold.stderr).toBe(0);
   });
 
   it('lists every option with its unit and default in --help', async () => {
     const r = await runCli(['envelope', '--help']);
     expect(r.code).toBe(0);
-    for (const opt of ['--aircraft', '--altitude', '--isa-dev', '--oat', '--mass', '--speeds', '--from', '--to', '--step', '--format', '--altitudes', '--masses']) {
+    for (const opt of [
+      '--aircraft',
+      '--altitude',
+      '--isa-dev',
+      '--oat',
+      '--mass',
+      '--speeds',
+      '--from',
+      '--to',
+      '--step',
+      '--format',
+      '--altitudes',
+      '--masses',
+    ]) {
       expect(r.stdout).toContain(opt);
     }
     expect(r.stdout).toMatch(/--altitude M\s+.*unit: m.*default: 0/);

@@ -14,7 +14,11 @@ const DEMO_FLIGHT = join(REPO_ROOT, 'replays/demo-flight.ndjson');
 function runWithStdoutFd(args: string[], stdoutPath: string): Promise<{ code: number | null; stderr: string }> {
   const fd = openSync(stdoutPath, 'w');
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [CLI_PATH, ...args], { cwd: REPO_ROOT, stdio: ['ignore', fd, 'pipe'], env: { ...process.env, NO_COLOR: '1' } });
+    const child = spawn(process.execPath, [CLI_PATH, ...args], {
+      cwd: REPO_ROOT,
+      stdio: ['ignore', fd, 'pipe'],
+      env: { ...process.env, NO_COLOR: '1' },
+    });
     let stderr = '';
     child.stderr!.setEncoding('utf8').on('data', (d: string) => (stderr += d));
     child.on('error', reject);
@@ -56,7 +60,19 @@ describe('output that cannot be written', () => {
 
   it('a reader that goes away (| head) ends the program quietly with exit 0', async () => {
     for (const args of [
-      ['envelope', '--aircraft', DEMO_AIRFRAME_PATH, '--from', '10', '--to', '30', '--step', '0.001', '--format', 'csv'],
+      [
+        'envelope',
+        '--aircraft',
+        DEMO_AIRFRAME_PATH,
+        '--from',
+        '10',
+        '--to',
+        '30',
+        '--step',
+        '0.001',
+        '--format',
+        'csv',
+      ],
       ['replay', DEMO_FLIGHT, '--aircraft', DEMO_AIRFRAME_PATH, '--speed', '0', '--no-ui'],
     ]) {
       const r = await runWithEarlyClosedStdout(args);
@@ -75,7 +91,9 @@ describe('clumsy command lines', () => {
       [file, 'is not a device'],
       ['/dev/null', 'not a serial port'],
     ] as const) {
-      const r = await runCli(['watch', '--serial', path, '--aircraft', DEMO_AIRFRAME_PATH, '--no-ui'], { timeoutMs: 10_000 });
+      const r = await runCli(['watch', '--serial', path, '--aircraft', DEMO_AIRFRAME_PATH, '--no-ui'], {
+        timeoutMs: 10_000,
+      });
       expect(r.code, path).toBe(2);
       expect(r.stderr).toContain(why);
     }
@@ -85,7 +103,10 @@ describe('clumsy command lines', () => {
     const cases: Array<[string[], string]> = [
       [['envelope', '--bogus'], 'unknown option --bogus'],
       [['envelope', '--aircraft'], '--aircraft needs a value'],
-      [['envelope', '--aircraft', DEMO_AIRFRAME_PATH, '--aircraft', DEMO_AIRFRAME_PATH], '--aircraft is given more than once'],
+      [
+        ['envelope', '--aircraft', DEMO_AIRFRAME_PATH, '--aircraft', DEMO_AIRFRAME_PATH],
+        '--aircraft is given more than once',
+      ],
     ];
     for (const [args, message] of cases) {
       const r = await runCli(args);
@@ -97,7 +118,17 @@ describe('clumsy command lines', () => {
   it('will not record over the airframe file', async () => {
     const airframe = join(dir, 'af.json');
     writeFileSync(airframe, JSON.stringify(exampleAirframeJson()));
-    const r = await runCli(['watch', '--ws', 'ws://127.0.0.1:1', '--aircraft', airframe, '--record', airframe, '--force', '--no-ui']);
+    const r = await runCli([
+      'watch',
+      '--ws',
+      'ws://127.0.0.1:1',
+      '--aircraft',
+      airframe,
+      '--record',
+      airframe,
+      '--force',
+      '--no-ui',
+    ]);
     expect(r.code).toBe(2);
     expect(r.stderr).toContain('is the --aircraft file');
     expect(JSON.parse(readFileSync(airframe, 'utf8')).name).toBe('Example airframe');
@@ -106,7 +137,15 @@ describe('clumsy command lines', () => {
   it('caps a bank-limit schedule too large to print, with a message', async () => {
     const altitudes = Array.from({ length: 2000 }, (_, i) => i).join(',');
     const masses = Array.from({ length: 200 }, (_, i) => (3 + i * 0.01).toFixed(2)).join(',');
-    const r = await runCli(['envelope', '--aircraft', DEMO_AIRFRAME_PATH, '--altitudes', altitudes, '--masses', masses]);
+    const r = await runCli([
+      'envelope',
+      '--aircraft',
+      DEMO_AIRFRAME_PATH,
+      '--altitudes',
+      altitudes,
+      '--masses',
+      masses,
+    ]);
     expect(r.code).toBe(2);
     expect(r.stderr).toContain('400000 conditions; at most 10000');
   });

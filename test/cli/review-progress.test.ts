@@ -13,14 +13,28 @@ beforeAll(() => {
   bigFile = join(dir, 'long-flight.ndjson');
   const lines: string[] = [];
   for (let i = 0; i < 60_000; i++) {
-    lines.push(JSON.stringify({ t_s: i / 100, tas_mps: 14, alt_m: 100, bank_deg: 20, nz: 1.06, note: 'invented long test flight' }));
+    lines.push(
+      JSON.stringify({
+        t_s: i / 100,
+        tas_mps: 14,
+        alt_m: 100,
+        bank_deg: 20,
+        nz: 1.06,
+        note: 'invented long test flight',
+      }),
+    );
   }
   writeFileSync(bigFile, lines.join('\n') + '\n');
 });
 
 function runInPty(args: string[]): Promise<{ output: string; code: number }> {
   return new Promise((resolve) => {
-    const child = pty.spawn(process.execPath, [CLI_PATH, ...args], { cols: 100, rows: 30, cwd: REPO_ROOT, env: { ...process.env, NO_COLOR: '1' } });
+    const child = pty.spawn(process.execPath, [CLI_PATH, ...args], {
+      cols: 100,
+      rows: 30,
+      cwd: REPO_ROOT,
+      env: { ...process.env, NO_COLOR: '1' },
+    });
     let output = '';
     child.onData((d) => (output += d));
     child.onExit(({ exitCode }) => resolve({ output, code: exitCode }));

@@ -43,11 +43,31 @@ function tmp(): string {
 
 describe('turnmargin review (built CLI) on the invented fixture flight', () => {
   it('reports the exact counts, events, peaks and time in level as JSON', async () => {
-    const r = await runCli(['review', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0', '--format', 'json']);
+    const r = await runCli([
+      'review',
+      FLIGHT,
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--smooth',
+      '0',
+      '--format',
+      'json',
+    ]);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
-    for (const key of ['source', 'airframe', 'frames', 'accepted', 'rejected', 'rejects', 'duration_s', 'events', 'peaks', 'time_in_level']) {
+    for (const key of [
+      'source',
+      'airframe',
+      'frames',
+      'accepted',
+      'rejected',
+      'rejects',
+      'duration_s',
+      'events',
+      'peaks',
+      'time_in_level',
+    ]) {
       expect(out, key).toHaveProperty(key);
     }
     expect(out.airframe).toBe('Example airframe');
@@ -64,10 +84,20 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     ]);
     expect(out.duration_s).toBeCloseTo(30, 9);
 
-    expect(out.events.map((e: Record<string, unknown>) => [e['limit'], e['level'], e['start_s'], e['end_s']])).toEqual(EXPECTED_EVENTS);
-    expect(Object.keys(out.events[0]).sort()).toEqual(
-      ['duration_s', 'end_s', 'level', 'limit', 'n_at_peak', 'peak_t_s', 'peak_utilization', 'speed_at_peak_mps', 'start_s'],
+    expect(out.events.map((e: Record<string, unknown>) => [e['limit'], e['level'], e['start_s'], e['end_s']])).toEqual(
+      EXPECTED_EVENTS,
     );
+    expect(Object.keys(out.events[0]).sort()).toEqual([
+      'duration_s',
+      'end_s',
+      'level',
+      'limit',
+      'n_at_peak',
+      'peak_t_s',
+      'peak_utilization',
+      'speed_at_peak_mps',
+      'start_s',
+    ]);
     const stallCaution = out.events[0];
     expect(stallCaution.duration_s).toBeCloseTo(6, 9);
     expect(stallCaution.peak_utilization).toBeCloseTo(1.75 / 1.85499, 3); // 0.9434
@@ -91,12 +121,10 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
     for (const [limit, level, start, end] of EXPECTED_EVENTS) {
-      const match = out.events.find(
-        (e: Record<string, number | string>) => {
-          const delayS = (e['start_s'] as number) - (start as number);
-          return e['limit'] === limit && e['level'] === level && delayS >= 0 && delayS <= 0.7;
-        },
-      );
+      const match = out.events.find((e: Record<string, number | string>) => {
+        const delayS = (e['start_s'] as number) - (start as number);
+        return e['limit'] === limit && e['level'] === level && delayS >= 0 && delayS <= 0.7;
+      });
       expect(match, `${limit} ${level} ${start}`).toBeDefined();
       expect(Math.abs(match.end_s - (end as number))).toBeLessThanOrEqual(0.3);
     }
@@ -106,7 +134,15 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     const r = await runCli(['review', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0']);
     expect(r.code).toBe(0);
     const md = r.stdout;
-    for (const heading of ['# Flight review', '## Data and conditions', '## Events', '## Peak utilization per limit', '## Time in each level', '## Rejected lines', '## Caution']) {
+    for (const heading of [
+      '# Flight review',
+      '## Data and conditions',
+      '## Events',
+      '## Peak utilization per limit',
+      '## Time in each level',
+      '## Rejected lines',
+      '## Caution',
+    ]) {
       expect(md).toContain(heading);
     }
     expect(md).toContain('**Example airframe**');
@@ -116,7 +152,9 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     // the last stall caution is still on when the data end; the one closed at 18.00 is not marked
     expect(md).toMatch(/\| 8 \| stall \| CAUTION \| 29\.50 \| 30\.00 \(end of data\) \|/);
     expect(md).toMatch(/\| 3 \| stall \| CAUTION \| 16\.00 \| 18\.00 \|/);
-    expect(md).toContain("The aircraft's approved limits, the operator's procedures and local aviation rules take precedence.");
+    expect(md).toContain(
+      "The aircraft's approved limits, the operator's procedures and local aviation rules take precedence.",
+    );
     expect(md).toContain('Frames below 0.5·Vs1 | 10');
   });
 
@@ -133,20 +171,58 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     const dir = tmp();
     const perFrame = join(dir, 'frames.ndjson');
     const plot = join(dir, 'plot.svg');
-    const r = await runCli(['review', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0', '--per-frame', perFrame, '--plot', plot, '--format', 'json']);
+    const r = await runCli([
+      'review',
+      FLIGHT,
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--smooth',
+      '0',
+      '--per-frame',
+      perFrame,
+      '--plot',
+      plot,
+      '--format',
+      'json',
+    ]);
     expect(r.code).toBe(0);
-    const records = readFileSync(perFrame, 'utf8').trim().split('\n').map((l) => JSON.parse(l));
+    const records = readFileSync(perFrame, 'utf8')
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l));
     expect(records).toHaveLength(301);
-    for (const key of ['t_s', 'tas_mps', 'eas_mps', 'density_kg_m3', 'n_measured', 'n_stall', 'n_thrust', 'n_structural', 'utilization', 'bank_limit_deg', 'bank_sustained_deg', 'level', 'alerts']) {
+    for (const key of [
+      't_s',
+      'tas_mps',
+      'eas_mps',
+      'density_kg_m3',
+      'n_measured',
+      'n_stall',
+      'n_thrust',
+      'n_structural',
+      'utilization',
+      'bank_limit_deg',
+      'bank_sustained_deg',
+      'level',
+      'alerts',
+    ]) {
       expect(records[0], key).toHaveProperty(key);
     }
     const at11 = records.find((x) => x.t_s === 11)!;
     expect(at11.level).toBe('warning');
-    expect(at11.alerts).toEqual([{ limit: 'stall', level: 'warning' }, { limit: 'stall', level: 'caution' }]);
+    expect(at11.alerts).toEqual([
+      { limit: 'stall', level: 'warning' },
+      { limit: 'stall', level: 'caution' },
+    ]);
     const svg = readFileSync(plot, 'utf8');
     const els = checkXml(svg);
-    for (const id of ['stall-curve', 'thrust-curve', 'structural-limit']) expect(els.some((e) => e.attributes['id'] === id), id).toBe(true);
-    const count = (level: string) => Number(els.find((e) => e.attributes['class'] === `points-${level}`)!.attributes['data-count']);
+    for (const id of ['stall-curve', 'thrust-curve', 'structural-limit'])
+      expect(
+        els.some((e) => e.attributes['id'] === id),
+        id,
+      ).toBe(true);
+    const count = (level: string) =>
+      Number(els.find((e) => e.attributes['class'] === `points-${level}`)!.attributes['data-count']);
     // time in level at 10 frames/s: 25 warning frames (11.0–12.9, 20.5–20.9), caution 90 + the last frame 30.0
     expect(count('warning')).toBe(25);
     expect(count('caution')).toBe(91);
@@ -177,7 +253,10 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     // from 0.5 to 0.8 s. One line of radio noise in between.
     const dir = tmp();
     const rec = join(dir, 'flight.tmrec');
-    const parts: Buffer[] = [encodeHeader('serial /dev/ttyTEST @ 57600', 1_700_000_000_000), encodeLinkEvent(1_700_000_000_000, 'open')];
+    const parts: Buffer[] = [
+      encodeHeader('serial /dev/ttyTEST @ 57600', 1_700_000_000_000),
+      encodeLinkEvent(1_700_000_000_000, 'open'),
+    ];
     let ms = 1_700_000_000_000;
     const frame = (t: number, nz: number) => {
       ms += 100;
@@ -227,7 +306,18 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
         },
       }),
     );
-    const r = await runCli(['review', log, '--mapping', mapping, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0', '--format', 'json']);
+    const r = await runCli([
+      'review',
+      log,
+      '--mapping',
+      mapping,
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--smooth',
+      '0',
+      '--format',
+      'json',
+    ]);
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
@@ -244,11 +334,24 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     const dir = tmp();
     const th = join(dir, 'thresholds.json');
     writeFileSync(th, JSON.stringify({ stall_warning: 0.95 }));
-    const r = await runCli(['review', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0', '--thresholds', th, '--format', 'json']);
+    const r = await runCli([
+      'review',
+      FLIGHT,
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--smooth',
+      '0',
+      '--thresholds',
+      th,
+      '--format',
+      'json',
+    ]);
     expect(r.code).toBe(0);
     const out = JSON.parse(r.stdout);
     // the stall peak is 0.943 < 0.95: no stall warning any more
-    expect(out.events.filter((e: Record<string, unknown>) => e['limit'] === 'stall' && e['level'] === 'warning')).toHaveLength(0);
+    expect(
+      out.events.filter((e: Record<string, unknown>) => e['limit'] === 'stall' && e['level'] === 'warning'),
+    ).toHaveLength(0);
   });
 
   it('exits 2 with a clear message for a missing file, no accepted frame or a bad option', async () => {
@@ -276,7 +379,8 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
   it('lists every option with its unit and default in --help', async () => {
     const r = await runCli(['review', '--help']);
     expect(r.code).toBe(0);
-    for (const opt of ['--aircraft', '--format', '--per-frame', '--plot', '--thresholds', '--smooth', '--mapping']) expect(r.stdout).toContain(opt);
+    for (const opt of ['--aircraft', '--format', '--per-frame', '--plot', '--thresholds', '--smooth', '--mapping'])
+      expect(r.stdout).toContain(opt);
     expect(r.stdout).toContain('unit: s; default: 0.15');
   });
 });

@@ -13,10 +13,14 @@ afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
 /** Start `serve` and wait for its "listening on" line. */
 async function startServe(extra: string[]) {
-  const child = spawn(process.execPath, [CLI_PATH, 'serve', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--listen', '127.0.0.1:0', ...extra], {
-    cwd: REPO_ROOT,
-    env: { ...process.env, NO_COLOR: '1' },
-  });
+  const child = spawn(
+    process.execPath,
+    [CLI_PATH, 'serve', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--listen', '127.0.0.1:0', ...extra],
+    {
+      cwd: REPO_ROOT,
+      env: { ...process.env, NO_COLOR: '1' },
+    },
+  );
   let stderr = '';
   child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
   const exit = new Promise<number | null>((resolve) => child.on('close', (code) => resolve(code)));
@@ -26,7 +30,11 @@ async function startServe(extra: string[]) {
   return { child, first, exit, stderr: () => stderr };
 }
 
-function ask(url: string, message: string, headers: Record<string, string> = {}): Promise<{ answer: Record<string, unknown>; ws: WebSocket }> {
+function ask(
+  url: string,
+  message: string,
+  headers: Record<string, string> = {},
+): Promise<{ answer: Record<string, unknown>; ws: WebSocket }> {
   return new Promise((resolve, reject) => {
     const ws = new WebSocket(url, { headers });
     ws.once('unexpected-response', (_req, res) => reject(new Error(`HTTP ${res.statusCode}`)));

@@ -12,7 +12,6 @@ import { DEMO_AIRFRAME_PATH, EXAMPLE_AIRFRAME_PATH } from '../helpers/airframes.
 const dir = mkdtempSync(join(tmpdir(), 'simulate-cli-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
 
-
 function writePlan(name: string, plan: unknown): string {
   const path = join(dir, name);
   writeFileSync(path, JSON.stringify(plan));
@@ -28,8 +27,16 @@ const shortPlan = writePlan('short.json', {
 });
 
 /** Spawn the CLI and hand out its stdout lines as they come. */
-function spawnCli(args: string[]): { child: ChildProcessWithoutNullStreams; nextLine: () => Promise<string>; stderr: () => string; exit: Promise<number | null> } {
-  const child = spawn(process.execPath, [CLI_PATH, ...args], { cwd: REPO_ROOT, env: { ...process.env, NO_COLOR: '1' } });
+function spawnCli(args: string[]): {
+  child: ChildProcessWithoutNullStreams;
+  nextLine: () => Promise<string>;
+  stderr: () => string;
+  exit: Promise<number | null>;
+} {
+  const child = spawn(process.execPath, [CLI_PATH, ...args], {
+    cwd: REPO_ROOT,
+    env: { ...process.env, NO_COLOR: '1' },
+  });
   const lines: string[] = [];
   const waiters: Array<(l: string) => void> = [];
   createInterface({ input: child.stdout }).on('line', (l) => {
@@ -55,8 +62,24 @@ describe('turnmargin simulate', () => {
     const a = join(dir, 'a.ndjson');
     const b = join(dir, 'b.ndjson');
     const c = join(dir, 'c.ndjson');
-    for (const [out, seed] of [[a, '7'], [b, '7'], [c, '8']] as const) {
-      const r = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--seed', seed, '--rate', '20', '--out', out]);
+    for (const [out, seed] of [
+      [a, '7'],
+      [b, '7'],
+      [c, '8'],
+    ] as const) {
+      const r = await runCli([
+        'simulate',
+        '--aircraft',
+        EXAMPLE_AIRFRAME_PATH,
+        '--plan',
+        shortPlan,
+        '--seed',
+        seed,
+        '--rate',
+        '20',
+        '--out',
+        out,
+      ]);
       expect(r.code, r.stderr).toBe(0);
     }
     const textA = readFileSync(a, 'utf8');
@@ -70,16 +93,37 @@ describe('turnmargin simulate', () => {
   for (const name of ['demo-flight', 'turn-card']) {
     it(`regenerates exactly the committed ${name}.ndjson from its plan (replays/README.md)`, async () => {
       const planPath = join(REPO_ROOT, `replays/plans/${name}.json`);
-      const r = await runCli(['simulate', '--aircraft', DEMO_AIRFRAME_PATH, '--plan', planPath, '--rate', '10', '--seed', '1', '--quiet']);
+      const r = await runCli([
+        'simulate',
+        '--aircraft',
+        DEMO_AIRFRAME_PATH,
+        '--plan',
+        planPath,
+        '--rate',
+        '10',
+        '--seed',
+        '1',
+        '--quiet',
+      ]);
       expect(r.code, r.stderr).toBe(0);
       expect(r.stdout).toBe(readFileSync(join(REPO_ROOT, `replays/${name}.ndjson`), 'utf8'));
     });
   }
 
   it('gives a turn card with IAS frames in which review finds the stall caution and warning of the slow turn', async () => {
-    const r = await runCli(['review', join(REPO_ROOT, 'replays/turn-card.ndjson'), '--aircraft', DEMO_AIRFRAME_PATH, '--format', 'json']);
+    const r = await runCli([
+      'review',
+      join(REPO_ROOT, 'replays/turn-card.ndjson'),
+      '--aircraft',
+      DEMO_AIRFRAME_PATH,
+      '--format',
+      'json',
+    ]);
     expect(r.code, r.stderr).toBe(0);
-    const review = JSON.parse(r.stdout) as { rejected: number; events: Array<{ limit: string; level: string; start_s: number; end_s: number }> };
+    const review = JSON.parse(r.stdout) as {
+      rejected: number;
+      events: Array<{ limit: string; level: string; start_s: number; end_s: number }>;
+    };
     expect(review.rejected).toBe(0);
     // The slow 1.5 g turn flies from 65.6 to 71.6 s (after a 0.6 s pull-up, so the boundaries are off the 0.1 s grid).
     for (const level of ['caution', 'warning']) {
@@ -91,9 +135,20 @@ describe('turnmargin simulate', () => {
   });
 
   it('gives a demo flight in which review finds the planted thrust, structure and stall cautions', async () => {
-    const r = await runCli(['review', join(REPO_ROOT, 'replays/demo-flight.ndjson'), '--aircraft', DEMO_AIRFRAME_PATH, '--format', 'json']);
+    const r = await runCli([
+      'review',
+      join(REPO_ROOT, 'replays/demo-flight.ndjson'),
+      '--aircraft',
+      DEMO_AIRFRAME_PATH,
+      '--format',
+      'json',
+    ]);
     expect(r.code, r.stderr).toBe(0);
-    const review = JSON.parse(r.stdout) as { accepted: number; rejected: number; events: Array<{ limit: string; level: string; start_s: number; end_s: number }> };
+    const review = JSON.parse(r.stdout) as {
+      accepted: number;
+      rejected: number;
+      events: Array<{ limit: string; level: string; start_s: number; end_s: number }>;
+    };
     expect(review.rejected).toBe(0);
     const find = (limit: string, level: string) => review.events.filter((e) => e.limit === limit && e.level === level);
     // The plan's segments: the 70° left turn flies from 30 to 36 s, the slow-down and slow flight from 54 to 74 s.
@@ -125,10 +180,14 @@ describe('turnmargin simulate', () => {
       ],
     });
     const out = join(dir, 'pull.ndjson');
-    expect((await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', plan, '--out', out, '--quiet'])).code).toBe(0);
+    expect(
+      (await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', plan, '--out', out, '--quiet'])).code,
+    ).toBe(0);
     const r = await runCli(['review', out, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--format', 'json']);
     expect(r.code, r.stderr).toBe(0);
-    const events = (JSON.parse(r.stdout) as { events: Array<{ limit: string; level: string; start_s: number; n_at_peak: number }> }).events;
+    const events = (
+      JSON.parse(r.stdout) as { events: Array<{ limit: string; level: string; start_s: number; n_at_peak: number }> }
+    ).events;
     const structure = events.filter((e) => e.limit === 'structure' && e.level === 'caution');
     expect(structure).toHaveLength(1);
     expect(structure[0]!.start_s).toBeGreaterThan(3);
@@ -144,22 +203,53 @@ describe('turnmargin simulate', () => {
     expect(r.code).toBe(2);
     expect(r.stderr).toMatch(/exists; give --force/);
     expect(readFileSync(out, 'utf8')).toBe('keep me\n');
-    const forced = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--out', out, '--force', '--quiet']);
+    const forced = await runCli([
+      'simulate',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--plan',
+      shortPlan,
+      '--out',
+      out,
+      '--force',
+      '--quiet',
+    ]);
     expect(forced.code).toBe(0);
     expect(readFileSync(out, 'utf8')).not.toBe('keep me\n');
   });
 
   it('refuses two outputs at once, and a --serial path that is not a device', async () => {
-    const two = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--out', join(dir, 'x.ndjson'), '--pty']);
+    const two = await runCli([
+      'simulate',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--plan',
+      shortPlan,
+      '--out',
+      join(dir, 'x.ndjson'),
+      '--pty',
+    ]);
     expect(two.code).toBe(2);
     expect(two.stderr).toMatch(/give one output at most \(got --out and --pty\)/);
-    const notDevice = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--serial', shortPlan, '--quiet']);
+    const notDevice = await runCli([
+      'simulate',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--plan',
+      shortPlan,
+      '--serial',
+      shortPlan,
+      '--quiet',
+    ]);
     expect(notDevice.code).toBe(2);
     expect(notDevice.stderr).toMatch(/not a serial device or pseudo-terminal/);
   });
 
   it('names the bad key of a plan and exits 2', async () => {
-    const bad = writePlan('bad.json', { start: { alt_m: 100, tas_mps: 18 }, segments: [{ type: 'turn', bank_deg: 120, duration_s: 5 }] });
+    const bad = writePlan('bad.json', {
+      start: { alt_m: 100, tas_mps: 18 },
+      segments: [{ type: 'turn', bank_deg: 120, duration_s: 5 }],
+    });
     const r = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', bad]);
     expect(r.code).toBe(2);
     expect(r.stderr).toContain('bad.json: segments[0].bank_deg must be a number from -80 to 80 (got 120)');
@@ -167,7 +257,10 @@ describe('turnmargin simulate', () => {
   });
 
   it('reports a plan the model cannot fly before writing anything', async () => {
-    const loop = writePlan('loop.json', { start: { alt_m: 100, tas_mps: 20 }, segments: [{ type: 'pull_up', load_factor: 4, duration_s: 10, label: 'loop' }] });
+    const loop = writePlan('loop.json', {
+      start: { alt_m: 100, tas_mps: 20 },
+      segments: [{ type: 'pull_up', load_factor: 4, duration_s: 10, label: 'loop' }],
+    });
     const out = join(dir, 'loop.ndjson');
     const r = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', loop, '--out', out]);
     expect(r.code).toBe(2);
@@ -185,8 +278,22 @@ describe('turnmargin simulate', () => {
 
   it('streams the whole flight to a websocket client, the same frames as the file', async () => {
     const file = join(dir, 'ws-ref.ndjson');
-    expect((await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--out', file, '--quiet'])).code).toBe(0);
-    const sim = spawnCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--ws-listen', '127.0.0.1:0', '--speed', '20', '--quiet']);
+    expect(
+      (await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--out', file, '--quiet']))
+        .code,
+    ).toBe(0);
+    const sim = spawnCli([
+      'simulate',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--plan',
+      shortPlan,
+      '--ws-listen',
+      '127.0.0.1:0',
+      '--speed',
+      '20',
+      '--quiet',
+    ]);
     const first = await sim.nextLine();
     const url = /^listening on (ws:\/\/127\.0\.0\.1:\d+)$/.exec(first)?.[1];
     expect(url, first).toBeDefined();
@@ -201,19 +308,25 @@ describe('turnmargin simulate', () => {
 
   it('streams live frames to an existing serial line (--serial PATH): the far end receives the whole flight', async () => {
     const file = join(dir, 'serial-ref.ndjson');
-    expect((await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--out', file, '--quiet'])).code).toBe(0);
+    expect(
+      (await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--out', file, '--quiet']))
+        .code,
+    ).toBe(0);
     const expected = readFileSync(file, 'utf8').trim().split('\n');
     // The far end of the line: a python3 pseudo-terminal pair whose master side is copied to stdout.
-    const far = spawn('python3', ['-c', [
-      'import os, pty, sys, tty',
-      'm, s = pty.openpty()',
-      'tty.setraw(s)',
-      'print(os.ttyname(s), flush=True)',
-      'while True:',
-      '    d = os.read(m, 65536)',
-      '    sys.stdout.buffer.write(d)',
-      '    sys.stdout.flush()',
-    ].join('\n')]);
+    const far = spawn('python3', [
+      '-c',
+      [
+        'import os, pty, sys, tty',
+        'm, s = pty.openpty()',
+        'tty.setraw(s)',
+        'print(os.ttyname(s), flush=True)',
+        'while True:',
+        '    d = os.read(m, 65536)',
+        '    sys.stdout.buffer.write(d)',
+        '    sys.stdout.flush()',
+      ].join('\n'),
+    ]);
     try {
       const received: string[] = [];
       let resolveAll!: () => void;
@@ -230,7 +343,18 @@ describe('turnmargin simulate', () => {
         received.push(l.replace(/\r$/, ''));
         if (received.length === expected.length) resolveAll();
       });
-      const r = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--serial', await pathKnown, '--speed', '20', '--quiet']);
+      const r = await runCli([
+        'simulate',
+        '--aircraft',
+        EXAMPLE_AIRFRAME_PATH,
+        '--plan',
+        shortPlan,
+        '--serial',
+        await pathKnown,
+        '--speed',
+        '20',
+        '--quiet',
+      ]);
       expect(r.code, r.stderr).toBe(0);
       await all;
       expect(received).toEqual(expected);
@@ -240,7 +364,18 @@ describe('turnmargin simulate', () => {
   });
 
   it('streams live frames on a pseudo-terminal a serial reader can open', async () => {
-    const sim = spawnCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, '--pty', '--rate', '50', '--loop', '--quiet']);
+    const sim = spawnCli([
+      'simulate',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--plan',
+      shortPlan,
+      '--pty',
+      '--rate',
+      '50',
+      '--loop',
+      '--quiet',
+    ]);
     const first = await sim.nextLine();
     const path = /^pseudo-terminal (\S+)$/.exec(first)?.[1];
     expect(path, first + sim.stderr()).toBeDefined();

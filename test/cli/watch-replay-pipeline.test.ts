@@ -22,7 +22,9 @@ function setup(recordName?: string) {
   const records: MarginRecord[] = [];
   const rejected: string[] = [];
   const log: string[] = [];
-  const recorder = recordName ? openRecorder({ path: join(dir, recordName), sourceLabel: source.label, clock }) : undefined;
+  const recorder = recordName
+    ? openRecorder({ path: join(dir, recordName), sourceLabel: source.label, clock })
+    : undefined;
   const pipeline = createPipeline({
     source,
     aircraft,

@@ -20,7 +20,10 @@ interface Run {
 }
 
 function startCli(args: string[]) {
-  const child = spawn(process.execPath, [CLI, ...args], { stdio: ['ignore', 'pipe', 'pipe'], env: { ...process.env, NO_COLOR: '1' } });
+  const child = spawn(process.execPath, [CLI, ...args], {
+    stdio: ['ignore', 'pipe', 'pipe'],
+    env: { ...process.env, NO_COLOR: '1' },
+  });
   let stdout = '';
   let stderr = '';
   child.stdout.on('data', (d: Buffer) => (stdout += d.toString()));
@@ -30,17 +33,40 @@ function startCli(args: string[]) {
 }
 
 const runCli = (args: string[]): Promise<Run> => startCli(args).done;
-const jsonLines = (text: string): Array<Record<string, unknown>> => text.split('\n').filter(Boolean).map((l) => JSON.parse(l) as Record<string, unknown>);
+const jsonLines = (text: string): Array<Record<string, unknown>> =>
+  text
+    .split('\n')
+    .filter(Boolean)
+    .map((l) => JSON.parse(l) as Record<string, unknown>);
 
 describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', () => {
   it('replay --no-ui prints one margin record per accepted frame and each rejected line with its line number', async () => {
     const path = join(dir, 'flight.ndjson');
-    writeFileSync(path, [frameLine({ t_s: 0 }), 'oops', '', frameLine({ t_s: 0.1, tas_mps: 'fast' }), frameLine({ t_s: 0.2, bank_deg: 60 })].join('\n') + '\n');
+    writeFileSync(
+      path,
+      [
+        frameLine({ t_s: 0 }),
+        'oops',
+        '',
+        frameLine({ t_s: 0.1, tas_mps: 'fast' }),
+        frameLine({ t_s: 0.2, bank_deg: 60 }),
+      ].join('\n') + '\n',
+    );
     const r = await runCli(['replay', path, '--aircraft', AIRFRAME, '--speed', '0', '--no-ui']);
     expect(r.code).toBe(0);
     const records = jsonLines(r.stdout);
     expect(records.map((rec) => rec['t_s'])).toEqual([0, 0.2]);
-    for (const key of ['t_s', 'tas_mps', 'density_kg_m3', 'n_stall', 'n_thrust', 'n_structural', 'utilization', 'level', 'alerts']) {
+    for (const key of [
+      't_s',
+      'tas_mps',
+      'density_kg_m3',
+      'n_stall',
+      'n_thrust',
+      'n_structural',
+      'utilization',
+      'level',
+      'alerts',
+    ]) {
       expect(records[0]).toHaveProperty(key);
     }
     expect(r.stderr).toContain('rejected line 2: invalid JSON: "oops"');
@@ -68,7 +94,16 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     expect(missing.stderr).toMatch(/nope\.ndjson: cannot read the flight file \(no such file\)/);
     const existing = join(dir, 'existing.tmrec');
     writeFileSync(existing, 'keep me');
-    const clobber = await runCli(['watch', '--ws', 'ws://127.0.0.1:9', '--aircraft', AIRFRAME, '--record', existing, '--no-ui']);
+    const clobber = await runCli([
+      'watch',
+      '--ws',
+      'ws://127.0.0.1:9',
+      '--aircraft',
+      AIRFRAME,
+      '--record',
+      existing,
+      '--no-ui',
+    ]);
     expect(clobber.code).toBe(2);
     expect(clobber.stderr).toContain('the recording file exists; choose another name or add --force');
     expect(readFileSync(existing, 'utf8')).toBe('keep me');
@@ -77,7 +112,16 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
   it('SIGTERM mid-stream: the recording holds every line received, and replaying it gives the same accepted frames', async () => {
     const server = await startFrameServer(0);
     const recordPath = join(dir, 'live.tmrec');
-    const watch = startCli(['watch', '--ws', `ws://127.0.0.1:${server.port}`, '--aircraft', AIRFRAME, '--record', recordPath, '--no-ui']);
+    const watch = startCli([
+      'watch',
+      '--ws',
+      `ws://127.0.0.1:${server.port}`,
+      '--aircraft',
+      AIRFRAME,
+      '--record',
+      recordPath,
+      '--no-ui',
+    ]);
     let run: Run;
     try {
       await server.waitFor(/^connected/, 20_000);
@@ -101,7 +145,11 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     expect(accepted.length).toBeLessThan(3100);
     expect(rejectedCount).toBe(3);
 
-    const records = readFileSync(recordPath).subarray(0, -1).toString('latin1').split('\n').map((r) => decodeEntry(Buffer.from(r, 'latin1')));
+    const records = readFileSync(recordPath)
+      .subarray(0, -1)
+      .toString('latin1')
+      .split('\n')
+      .map((r) => decodeEntry(Buffer.from(r, 'latin1')));
     const recorded = records.filter((e) => e.kind === 'line');
     expect(recorded).toHaveLength(accepted.length + rejectedCount);
     expect(recorded.some((e) => e.kind === 'line' && e.bytes.equals(Buffer.from([0x00, 0x01])))).toBe(true);
@@ -109,7 +157,12 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     const replay = await runCli(['replay', recordPath, '--aircraft', AIRFRAME, '--speed', '0', '--no-ui']);
     expect(replay.code).toBe(0);
     expect(replay.stdout).toBe(run.stdout);
-    expect(replay.stderr.split('\n').filter((l) => l.startsWith('turnmargin: rejected')).map((l) => l.replace(/^.*?: .*?: /, ''))).toHaveLength(3);
+    expect(
+      replay.stderr
+        .split('\n')
+        .filter((l) => l.startsWith('turnmargin: rejected'))
+        .map((l) => l.replace(/^.*?: .*?: /, '')),
+    ).toHaveLength(3);
   });
 
   it('SIGINT during a real-time replay ends cleanly with the summary and exit 0', async () => {
@@ -127,12 +180,24 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
   it('reports a recording write error (disk full) and keeps monitoring', async () => {
     if (!existsSync('/dev/full')) return; // Linux device whose writes fail with ENOSPC
     const server = await startFrameServer(0);
-    const watch = startCli(['watch', '--ws', `ws://127.0.0.1:${server.port}`, '--aircraft', AIRFRAME, '--record', '/dev/full', '--force', '--no-ui']);
+    const watch = startCli([
+      'watch',
+      '--ws',
+      `ws://127.0.0.1:${server.port}`,
+      '--aircraft',
+      AIRFRAME,
+      '--record',
+      '/dev/full',
+      '--force',
+      '--no-ui',
+    ]);
     let run: Run;
     try {
       await server.waitFor(/^connected/, 20_000);
       server.send('send 0 50');
-      await expect.poll(() => watch.err(), { timeout: 10_000 }).toContain('recording write failed: disk full; the monitor keeps running');
+      await expect
+        .poll(() => watch.err(), { timeout: 10_000 })
+        .toContain('recording write failed: disk full; the monitor keeps running');
       server.send('send 50 50');
       await expect.poll(() => jsonLines(watch.out()).length, { timeout: 10_000 }).toBe(100);
       watch.child.kill('SIGINT');
@@ -148,7 +213,16 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
   it('SIGKILL loses at most the last second: lines received more than a second before the kill are in the recording', async () => {
     const server = await startFrameServer(0);
     const recordPath = join(dir, 'killed.tmrec');
-    const watch = startCli(['watch', '--ws', `ws://127.0.0.1:${server.port}`, '--aircraft', AIRFRAME, '--record', recordPath, '--no-ui']);
+    const watch = startCli([
+      'watch',
+      '--ws',
+      `ws://127.0.0.1:${server.port}`,
+      '--aircraft',
+      AIRFRAME,
+      '--record',
+      recordPath,
+      '--no-ui',
+    ]);
     try {
       await server.waitFor(/^connected/, 20_000);
       server.send('send 0 200');
@@ -161,7 +235,10 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     } finally {
       await server.kill();
     }
-    const lines = readFileSync(recordPath).toString('utf8').split('\n').filter((l) => /^\d+\t/.test(l));
+    const lines = readFileSync(recordPath)
+      .toString('utf8')
+      .split('\n')
+      .filter((l) => /^\d+\t/.test(l));
     expect(lines).toHaveLength(200);
   });
 });

@@ -16,7 +16,10 @@ describe('the airframe file', () => {
 
   it('derives k = 1/(π·e·AR) from aspect ratio and Oswald factor', () => {
     // Induced drag factor of the parabolic polar (Anderson, Aircraft Performance and Design, ch. 2).
-    const result = parseAircraft({ ...exampleAirframeJson(), polar: { cd0: 0.03, aspect_ratio: 8, oswald: 0.8 } }, 'a.json');
+    const result = parseAircraft(
+      { ...exampleAirframeJson(), polar: { cd0: 0.03, aspect_ratio: 8, oswald: 0.8 } },
+      'a.json',
+    );
     expect(result.ok && result.value.k).toBeCloseTo(1 / (Math.PI * 0.8 * 8), 12);
   });
 
@@ -29,12 +32,37 @@ describe('the airframe file', () => {
   const mistakes: Array<[string, Record<string, unknown>, RegExp]> = [
     ['a missing mass', { mass_kg: undefined }, /^airframe\.json: mass_kg is required/],
     ['a negative wing area', { wing_area_m2: -1 }, /wing_area_m2 must be a positive number \(got -1\)/],
-    ['an unknown thrust model', { thrust: { model: 'jet' } }, /thrust\.model must be "constant", "power" or "table" \(got "jet"\)/],
-    ['a polar with neither k nor aspect ratio', { polar: { cd0: 0.03 } }, /polar must give k, or both aspect_ratio and oswald/],
+    [
+      'an unknown thrust model',
+      { thrust: { model: 'jet' } },
+      /thrust\.model must be "constant", "power" or "table" \(got "jet"\)/,
+    ],
+    [
+      'a polar with neither k nor aspect ratio',
+      { polar: { cd0: 0.03 } },
+      /polar must give k, or both aspect_ratio and oswald/,
+    ],
     ['a positive cl_min', { cl_min: 0.5 }, /cl_min must be a negative number \(got 0.5\)/],
-    ['an unsorted calibration table', { airspeed_calibration: [[20, 20], [10, 10]] }, /airspeed_calibration\[1\]\[0\] must increase/],
-    ['a thrust table with one point', { thrust: { model: 'table', points: [[10, 5]] } }, /thrust\.points must hold at least two/],
-    ['a propeller efficiency above 1', { thrust: { model: 'power', power_w: 100, prop_efficiency: 1.5, static_thrust_n: 5 } }, /thrust\.prop_efficiency must be a number above 0 and at most 1 \(got 1.5\)/],
+    [
+      'an unsorted calibration table',
+      {
+        airspeed_calibration: [
+          [20, 20],
+          [10, 10],
+        ],
+      },
+      /airspeed_calibration\[1\]\[0\] must increase/,
+    ],
+    [
+      'a thrust table with one point',
+      { thrust: { model: 'table', points: [[10, 5]] } },
+      /thrust\.points must hold at least two/,
+    ],
+    [
+      'a propeller efficiency above 1',
+      { thrust: { model: 'power', power_w: 100, prop_efficiency: 1.5, static_thrust_n: 5 } },
+      /thrust\.prop_efficiency must be a number above 0 and at most 1 \(got 1.5\)/,
+    ],
     ['a text where a number belongs', { cl_max: '1.2' }, /cl_max must be a positive number \(got "1.2"\)/],
   ];
   for (const [what, change, pattern] of mistakes) {

@@ -73,12 +73,20 @@ describe('the alert set of a frame', () => {
   });
 
   it('raises the thrust caution when n_thrust is 0 even without a utilization', () => {
-    const alerts = updateAlerts([], { utilization: { stall: 0.3, structure: 0.2, thrust: null }, nThrust: 0, flying: true }, DEFAULT_THRESHOLDS);
+    const alerts = updateAlerts(
+      [],
+      { utilization: { stall: 0.3, structure: 0.2, thrust: null }, nThrust: 0, flying: true },
+      DEFAULT_THRESHOLDS,
+    );
     expect(alerts).toEqual([{ limit: 'thrust', level: 'caution' }]);
   });
 
   it('raises nothing when not flying', () => {
-    const alerts = updateAlerts([{ limit: 'stall', level: 'caution' }], { ...util(0.95), flying: false }, DEFAULT_THRESHOLDS);
+    const alerts = updateAlerts(
+      [{ limit: 'stall', level: 'caution' }],
+      { ...util(0.95), flying: false },
+      DEFAULT_THRESHOLDS,
+    );
     expect(alerts).toEqual([]);
   });
 

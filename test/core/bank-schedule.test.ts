@@ -11,7 +11,12 @@ const bankDeg = (n: number) => (n > 1 ? (Math.acos(1 / n) * 180) / Math.PI : 0);
 describe('the bank-limit schedule', () => {
   it('applies the caution thresholds to each limit at every altitude, mass and speed', () => {
     const ac = exampleAirframe();
-    const rows = computeBankSchedule(ac, DEFAULT_THRESHOLDS, { altitudesM: [0, 2000], massesKg: [3, 3.5], temperature: {}, speedsMps: [11, 16, 24] });
+    const rows = computeBankSchedule(ac, DEFAULT_THRESHOLDS, {
+      altitudesM: [0, 2000],
+      massesKg: [3, 3.5],
+      temperature: {},
+      speedsMps: [11, 16, 24],
+    });
     expect(rows).toHaveLength(2 * 2 * 3);
     for (const r of rows) {
       const rho = computeAirState(r.altitudeM).densityKgM3;
@@ -28,8 +33,21 @@ describe('the bank-limit schedule', () => {
   });
 
   it('leaves the thrust term out where a thrust table does not cover the speed', () => {
-    const ac = exampleAirframe({ thrust: { model: 'table', points: [[8, 12], [15, 10]] } });
-    const [inside, outside] = computeBankSchedule(ac, DEFAULT_THRESHOLDS, { altitudesM: [0], massesKg: [3.2], temperature: {}, speedsMps: [14, 20] });
+    const ac = exampleAirframe({
+      thrust: {
+        model: 'table',
+        points: [
+          [8, 12],
+          [15, 10],
+        ],
+      },
+    });
+    const [inside, outside] = computeBankSchedule(ac, DEFAULT_THRESHOLDS, {
+      altitudesM: [0],
+      massesKg: [3.2],
+      temperature: {},
+      speedsMps: [14, 20],
+    });
     expect(inside!.nThrust).not.toBeNull();
     expect(outside!.nThrust).toBeNull();
     expect(outside!.bankSustainedDeg).toBe(outside!.bankLimitDeg);

@@ -36,8 +36,16 @@ describe('the turn envelope', () => {
   it('finds the optima to 0.5 % of a brute-force search, also at altitude and for other airframes', () => {
     const cases = [
       { ac: exampleAirframe(), rho: 1.225, cond: SEA_LEVEL },
-      { ac: exampleAirframe({ thrust: { model: 'constant', thrust_n: 9 } }), rho: 0, cond: { altitudeM: 3000, temperature: {}, massKg: 3.6 } },
-      { ac: exampleAirframe({ n_limit_pos: 2.2, vne_mps: undefined }), rho: 0, cond: { altitudeM: 1000, temperature: { isaDeviationK: 15 }, massKg: 3.2 } },
+      {
+        ac: exampleAirframe({ thrust: { model: 'constant', thrust_n: 9 } }),
+        rho: 0,
+        cond: { altitudeM: 3000, temperature: {}, massKg: 3.6 },
+      },
+      {
+        ac: exampleAirframe({ n_limit_pos: 2.2, vne_mps: undefined }),
+        rho: 0,
+        cond: { altitudeM: 1000, temperature: { isaDeviationK: 15 }, massKg: 3.2 },
+      },
     ];
     for (const { ac, cond } of cases) {
       const env = computeEnvelope(ac, cond);
@@ -45,10 +53,14 @@ describe('the turn envelope', () => {
       const sustained = (v: number) => computeLimits(ac, v, rho, cond.massKg).sustained;
       const n = bruteForce(sustained, env.searchFromMps, env.searchToMps);
       const rate = bruteForce((v) => levelTurnAt(sustained(v)!, v).turnRateDps, env.searchFromMps, env.searchToMps);
-      const radius = bruteForce((v) => {
-        const r = levelTurnAt(sustained(v)!, v).radiusM;
-        return r === null ? null : -r;
-      }, env.searchFromMps, env.searchToMps);
+      const radius = bruteForce(
+        (v) => {
+          const r = levelTurnAt(sustained(v)!, v).radiusM;
+          return r === null ? null : -r;
+        },
+        env.searchFromMps,
+        env.searchToMps,
+      );
       expect(Math.abs(env.maxSustainedLoadFactor!.value / n.value - 1)).toBeLessThan(0.005);
       expect(Math.abs(env.maxSustainedTurnRateDps!.value / rate.value - 1)).toBeLessThan(0.005);
       expect(Math.abs(env.minSustainedRadiusM!.value / -radius.value - 1)).toBeLessThan(0.005);
@@ -57,7 +69,15 @@ describe('the turn envelope', () => {
 
   it('keeps the three optima together when the sustained turn exists only in a narrow speed band', () => {
     // Thrust known only from 5 to 8.83 m/s, just above Vs1 = 8.811 m/s: the turn exists on a 0.02 m/s band.
-    const ac = exampleAirframe({ thrust: { model: 'table', points: [[5, 14], [8.83, 14]] } });
+    const ac = exampleAirframe({
+      thrust: {
+        model: 'table',
+        points: [
+          [5, 14],
+          [8.83, 14],
+        ],
+      },
+    });
     const env = computeEnvelope(ac, SEA_LEVEL);
     expect(env.maxSustainedLoadFactor!.value).toBeGreaterThan(1);
     expect(env.maxSustainedTurnRateDps).not.toBeNull();
@@ -65,7 +85,7 @@ describe('the turn envelope', () => {
     // At the top of the band n = n_stall = q·S·CLmax/W (Anderson ch. 6); rate and radius from the level-turn relations.
     const n = env.maxSustainedLoadFactor!.value;
     const v = env.maxSustainedTurnRateDps!.speedMps;
-    expect(env.maxSustainedTurnRateDps!.value).toBeCloseTo((G0_MPS2 * Math.sqrt(n * n - 1)) / v * (180 / Math.PI), 6);
+    expect(env.maxSustainedTurnRateDps!.value).toBeCloseTo(((G0_MPS2 * Math.sqrt(n * n - 1)) / v) * (180 / Math.PI), 6);
   });
 
   it('gives bank 0, rate 0 and no radius at Vs1 (n = 1), not rounding noise', () => {
@@ -98,7 +118,7 @@ describe('the turn envelope', () => {
     expect(env.points.map((p) => p.instantaneous.limitedBy)).toEqual(['stall', 'stall', 'structure', 'structure']);
     const p = env.points[2]!;
     expect(p.instantaneous.n).toBe(3.8);
-    expect(p.instantaneous.turnRateDps).toBeCloseTo((G0_MPS2 * Math.sqrt(3.8 ** 2 - 1)) / 20 * (180 / Math.PI), 9);
+    expect(p.instantaneous.turnRateDps).toBeCloseTo(((G0_MPS2 * Math.sqrt(3.8 ** 2 - 1)) / 20) * (180 / Math.PI), 9);
   });
 });
 

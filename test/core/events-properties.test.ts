@@ -9,7 +9,10 @@ import { exampleAirframe } from '../helpers/airframes.js';
 // lies inside its caution), over random load-factor histories at 12 m/s, sea level (n_stall 1.855, n_limit 3.8).
 const aircraft = exampleAirframe();
 
-function run(nzs: number[]): { recs: MarginRecord[]; events: ReturnType<ReturnType<typeof createEventTracker>['finish']> } {
+function run(nzs: number[]): {
+  recs: MarginRecord[];
+  events: ReturnType<ReturnType<typeof createEventTracker>['finish']>;
+} {
   const margins = createMarginTracker(aircraft, { smoothTauS: 0 });
   const tracker = createEventTracker();
   const recs = nzs.map((nz, i) => margins.push({ tS: i * 0.1, airspeedKind: 'tas', airspeedMps: 12, altM: 0, nz }));
@@ -25,7 +28,9 @@ describe('event properties over random load-factor histories', () => {
       fc.property(histories, (nzs) => {
         const { events } = run(nzs);
         for (const w of events.filter((e) => e.level === 'warning')) {
-          const inside = events.some((c) => c.level === 'caution' && c.limit === w.limit && c.start_s <= w.start_s && c.end_s >= w.end_s);
+          const inside = events.some(
+            (c) => c.level === 'caution' && c.limit === w.limit && c.start_s <= w.start_s && c.end_s >= w.end_s,
+          );
           expect(inside).toBe(true);
         }
       }),

@@ -56,7 +56,7 @@ describe('limit events', () => {
       ['stall', 'caution'],
       ['stall', 'warning'],
     ]);
-    const [caution, warning] = events as [typeof events[0], typeof events[0]];
+    const [caution, warning] = events as [(typeof events)[0], (typeof events)[0]];
     expect(caution.start_s).toBeCloseTo(0.1, 9);
     expect(caution.end_s).toBeCloseTo(0.7, 9);
     expect(warning.start_s).toBeCloseTo(0.2, 9);
@@ -111,7 +111,9 @@ describe('limit events', () => {
   });
 
   it('counts a thrust caution from n_thrust = 0 as an unbounded peak', () => {
-    const tracker = createMarginTracker(exampleAirframe({ thrust: { model: 'constant', thrust_n: 2 } }), { smoothTauS: 0 });
+    const tracker = createMarginTracker(exampleAirframe({ thrust: { model: 'constant', thrust_n: 2 } }), {
+      smoothTauS: 0,
+    });
     const events = createEventTracker();
     events.push(tracker.push({ tS: 0, airspeedKind: 'tas', airspeedMps: 20, altM: 0, bankDeg: 0 }));
     events.push(tracker.push({ tS: 0.1, airspeedKind: 'tas', airspeedMps: 20, altM: 0, bankDeg: 0 }));

@@ -45,7 +45,9 @@ describe('air state and speeds of a frame', () => {
 
   it('converts CAS to TAS with the compressible relations (CAS 100 kt at 10 000 ft ISA is 116.22 kt)', () => {
     // REFERENCES: computed from the standard subsonic relations, 116.22 kt
-    const rec = single(frame(0, { airspeedKind: 'cas', airspeedMps: 100 * KNOT_MPS, altM: 10000 * FOOT_M, bankDeg: 0 }));
+    const rec = single(
+      frame(0, { airspeedKind: 'cas', airspeedMps: 100 * KNOT_MPS, altM: 10000 * FOOT_M, bankDeg: 0 }),
+    );
     expect(rec.tas_mps / KNOT_MPS).toBeCloseTo(116.22, 1);
   });
 
@@ -146,7 +148,13 @@ describe('limits, utilization and bank limits', () => {
 
   it('leaves thrust null and raises no thrust alert where a thrust table does not cover the speed', () => {
     const rec = single(frame(0, { airspeedMps: 20, bankDeg: 60 }), {
-      thrust: { model: 'table', points: [[5, 10], [15, 6]] },
+      thrust: {
+        model: 'table',
+        points: [
+          [5, 10],
+          [15, 6],
+        ],
+      },
     });
     expect(rec.n_thrust).toBeNull();
     expect(rec.utilization.thrust).toBeNull();
@@ -180,7 +188,9 @@ describe('limits, utilization and bank limits', () => {
     // 45° at 12 m/s: stall utilization 0.762 ≥ 0.7 with the airframe's thresholds …
     expect(createMarginTracker(a, { smoothTauS: 0 }).push(frame(0, { bankDeg: 45 })).level).toBe('caution');
     // … but not with the defaults passed explicitly
-    expect(createMarginTracker(a, { smoothTauS: 0, thresholds: DEFAULT_THRESHOLDS }).push(frame(0, { bankDeg: 45 })).level).toBe('normal');
+    expect(
+      createMarginTracker(a, { smoothTauS: 0, thresholds: DEFAULT_THRESHOLDS }).push(frame(0, { bankDeg: 45 })).level,
+    ).toBe('normal');
   });
 });
 

@@ -30,7 +30,13 @@ describe('per-frame shortcuts', () => {
         let fresh = initialMarginState();
         for (const p of parts) {
           tS += p.dtS;
-          const f: Frame = { tS, airspeedKind: p.kind as Frame['airspeedKind'], airspeedMps: p.airspeedMps, altM: p.altM, nz: p.nz };
+          const f: Frame = {
+            tS,
+            airspeedKind: p.kind as Frame['airspeedKind'],
+            airspeedMps: p.airspeedMps,
+            altM: p.altM,
+            nz: p.nz,
+          };
           if (p.oatC !== undefined) f.oatC = p.oatC;
           if (p.bankDeg !== undefined) f.bankDeg = p.bankDeg;
           const a = computeMarginRecord(aircraft, options, withReuse, f);

@@ -135,7 +135,15 @@ describe('the sustained (thrust-limited) turn', () => {
   });
 
   it('is unknown outside a thrust table and never extrapolated', () => {
-    const ac = exampleAirframe({ thrust: { model: 'table', points: [[10, 12], [20, 8]] } });
+    const ac = exampleAirframe({
+      thrust: {
+        model: 'table',
+        points: [
+          [10, 12],
+          [20, 8],
+        ],
+      },
+    });
     expect(thrustLoadFactor(ac, 9.9, 1.225, 3.2)).toBeNull();
     expect(thrustLoadFactor(ac, 20.1, 1.225, 3.2)).toBeNull();
     expect(thrustAvailableN(ac.thrust, 15, 1.225)).toBeCloseTo(10, 9);

@@ -10,7 +10,11 @@ afterEach(() => running?.kill());
 
 describe('a 1 kHz stream', () => {
   it('keeps the screen on the newest record and the keys working while records pour in', async () => {
-    const screen = (running = runInPty(process.execPath, ['test/dashboard/flood-entry.mjs'], { cols: 80, rows: 24, cwd: ROOT }));
+    const screen = (running = runInPty(process.execPath, ['test/dashboard/flood-entry.mjs'], {
+      cols: 80,
+      rows: 24,
+      cwd: ROOT,
+    }));
     await expect.poll(() => screen.text(), POLL).toMatch(/TAS {2}1\d\.\d m\/s/);
     screen.write('u'); // while the stream runs
     await expect.poll(() => screen.text(), POLL).toContain('TAS kt');

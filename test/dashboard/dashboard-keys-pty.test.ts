@@ -3,7 +3,17 @@
  * terminal emulator (see replayFixture in pty-screen.ts for the flight).
  */
 import { afterEach, describe, expect, it } from 'vitest';
-import { POLL, bellCount, ROOT, brailleCount, colourCodes, quitAndCheckRestored, replayFixture, runInPty, type PtyScreen } from './pty-screen.js';
+import {
+  POLL,
+  bellCount,
+  ROOT,
+  brailleCount,
+  colourCodes,
+  quitAndCheckRestored,
+  replayFixture,
+  runInPty,
+  type PtyScreen,
+} from './pty-screen.js';
 
 let running: PtyScreen | undefined;
 afterEach(() => running?.kill());
@@ -55,7 +65,11 @@ describe('the dashboard keys and terminal handling', () => {
   });
 
   it('restores the terminal after an exception and prints the error after it', async () => {
-    const screen = (running = runInPty(process.execPath, ['test/dashboard/throwing-entry.mjs'], { cols: 80, rows: 24, cwd: ROOT }));
+    const screen = (running = runInPty(process.execPath, ['test/dashboard/throwing-entry.mjs'], {
+      cols: 80,
+      rows: 24,
+      cwd: ROOT,
+    }));
     const { exitCode } = await screen.exited;
     expect(exitCode).toBe(2);
     await expect.poll(async () => (await screen.text(), screen.bufferType()), POLL).toBe('normal');

@@ -3,7 +3,15 @@
  * a headless terminal emulator (see replayFixture in pty-screen.ts for the flight).
  */
 import { afterEach, describe, expect, it } from 'vitest';
-import { POLL, bellCount, brailleCount, colourCodes, quitAndCheckRestored, replayFixture, type PtyScreen } from './pty-screen.js';
+import {
+  POLL,
+  bellCount,
+  brailleCount,
+  colourCodes,
+  quitAndCheckRestored,
+  replayFixture,
+  type PtyScreen,
+} from './pty-screen.js';
 
 let running: PtyScreen | undefined;
 afterEach(() => running?.kill());

@@ -15,11 +15,18 @@ describe('turnmargin demo', () => {
   });
 
   it('without a terminal says so and prints one pass of the demo flight as margin records', () => {
-    const out = spawnSync(process.execPath, ['dist/src/cli/main.js', 'demo'], { cwd: ROOT, encoding: 'utf8', timeout: 20_000 });
+    const out = spawnSync(process.execPath, ['dist/src/cli/main.js', 'demo'], {
+      cwd: ROOT,
+      encoding: 'utf8',
+      timeout: 20_000,
+    });
     expect(out.status).toBe(0);
     expect(out.stderr).toMatch(/stdout is not a terminal, so no dashboard/);
     expect(out.stderr).toMatch(/npm start/);
-    const records = out.stdout.trim().split('\n').map((l) => JSON.parse(l) as { t_s: number; level: string });
+    const records = out.stdout
+      .trim()
+      .split('\n')
+      .map((l) => JSON.parse(l) as { t_s: number; level: string });
     const frames = readFileSync(join(ROOT, 'replays/demo-flight.ndjson'), 'utf8').trim().split('\n').length;
     expect(records.length).toBe(frames); // every demo frame is valid and appears once (no loop without a terminal)
     // The demo holds at least one caution on purpose (replays/README.md).
@@ -27,7 +34,11 @@ describe('turnmargin demo', () => {
   });
 
   it('in a terminal shows the dashboard on the invented demo airframe, with the replay keys, and quits with q', async () => {
-    const screen = (running = runInPty(process.execPath, ['dist/src/cli/main.js', 'demo', '--speed', '8'], { cols: 100, rows: 30, cwd: ROOT }));
+    const screen = (running = runInPty(process.execPath, ['dist/src/cli/main.js', 'demo', '--speed', '8'], {
+      cols: 100,
+      rows: 30,
+      cwd: ROOT,
+    }));
     await expect.poll(() => screen.text(), POLL).toMatch(/Demo survey UAV \(invented\)/);
     await expect.poll(async () => brailleCount(await screen.text()), POLL).toBeGreaterThan(100);
     await expect.poll(() => screen.text(), POLL).toMatch(/replay \d+:\d\d\.\d\/\d+:\d\d\.\d ×8/);

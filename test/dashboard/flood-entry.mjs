@@ -6,7 +6,10 @@ import { parseAircraft } from '../../dist/src/core/aircraft.js';
 import { createMarginTracker } from '../../dist/src/core/margins.js';
 import { startDashboard } from '../../dist/src/dashboard/index.js';
 
-const parsed = parseAircraft(JSON.parse(readFileSync(new URL('../fixtures/example-airframe.json', import.meta.url), 'utf8')), 'example');
+const parsed = parseAircraft(
+  JSON.parse(readFileSync(new URL('../fixtures/example-airframe.json', import.meta.url), 'utf8')),
+  'example',
+);
 if (!parsed.ok) throw new Error(parsed.problems.join('\n'));
 const aircraft = parsed.value;
 const tracker = createMarginTracker(aircraft);
@@ -31,7 +34,9 @@ timer = setInterval(() => {
   const due = Math.min(TOTAL, Math.floor(Date.now() - started));
   for (; sent < due; sent++) {
     const tS = sent / 1000;
-    dashboard.pushRecord(tracker.push({ tS, airspeedKind: 'tas', airspeedMps: 15 + (10 * sent) / (TOTAL - 1), altM: 100, bankDeg: 30 }));
+    dashboard.pushRecord(
+      tracker.push({ tS, airspeedKind: 'tas', airspeedMps: 15 + (10 * sent) / (TOTAL - 1), altM: 100, bankDeg: 30 }),
+    );
   }
   if (sent >= TOTAL) clearInterval(timer);
 }, 5);

@@ -88,7 +88,13 @@ describe('numbers', () => {
 });
 
 describe('styled lines and NO_COLOR', () => {
-  const line = [seg('WARNING', 'warning'), seg(' stall '), seg('CAUTION', 'caution'), seg(' STALE', 'stale'), seg(' banner', 'banner-warning')];
+  const line = [
+    seg('WARNING', 'warning'),
+    seg(' stall '),
+    seg('CAUTION', 'caution'),
+    seg(' STALE', 'stale'),
+    seg(' banner', 'banner-warning'),
+  ];
 
   it('colours warning red and caution yellow when colour is allowed', () => {
     const text = renderLine(line, { color: true });
@@ -130,7 +136,12 @@ describe('utilization bars', () => {
     expect(barMarkIndex(0.8, 20)).toBe(12);
     expect(barMarkIndex(0.9, 20)).toBe(14);
     expect(text(bar)).toBe(
-      BAR_FILLED.repeat(8) + BAR_EMPTY.repeat(4) + BAR_MARK_CAUTION + BAR_EMPTY + BAR_MARK_WARNING + BAR_EMPTY.repeat(5),
+      BAR_FILLED.repeat(8) +
+        BAR_EMPTY.repeat(4) +
+        BAR_MARK_CAUTION +
+        BAR_EMPTY +
+        BAR_MARK_WARNING +
+        BAR_EMPTY.repeat(5),
     );
   });
 

@@ -77,7 +77,9 @@ describe('n–V plane', () => {
     for (const p of runs.flatMap((r) => r.points)) {
       const d = toData(m, p);
       // Pixels are rounded: compare with the core's value over ±½ pixel of speed, ±1 pixel of n.
-      const around = [-0.5, 0, 0.5].map((dx) => thrustLoadFactor(AIRCRAFT, d.v + dx / pxPerMps, SEA_LEVEL.densityKgM3, SEA_LEVEL.massKg)!);
+      const around = [-0.5, 0, 0.5].map((dx) =>
+        thrustLoadFactor(AIRCRAFT, d.v + dx / pxPerMps, SEA_LEVEL.densityKgM3, SEA_LEVEL.massKg)!,
+      );
       expect(d.n).toBeGreaterThanOrEqual(Math.min(...around) - 1 / pxPerG);
       expect(d.n).toBeLessThanOrEqual(Math.max(...around) + 1 / pxPerG);
     }
@@ -175,13 +177,25 @@ describe('niceStep and raster', () => {
   });
 
   it('rasterizes a polyline without gaps or repeated joints, and dots it', () => {
-    const px = rasterizePolyline([[0, 0], [4, 2], [4, 5]]);
+    const px = rasterizePolyline([
+      [0, 0],
+      [4, 2],
+      [4, 5],
+    ]);
     expect(px[0]).toEqual([0, 0]);
     expect(px[px.length - 1]).toEqual([4, 5]);
     for (let i = 1; i < px.length; i++) {
       expect(Math.max(Math.abs(px[i]![0] - px[i - 1]![0]), Math.abs(px[i]![1] - px[i - 1]![1]))).toBe(1);
     }
-    expect(rasterizePolyline([[0, 0], [9, 0]], 3).map((p) => p[0])).toEqual([0, 3, 6, 9]);
+    expect(
+      rasterizePolyline(
+        [
+          [0, 0],
+          [9, 0],
+        ],
+        3,
+      ).map((p) => p[0]),
+    ).toEqual([0, 3, 6, 9]);
   });
 });
 
@@ -189,7 +203,12 @@ describe('layout', () => {
   const overlaps = (a: Rect, b: Rect) =>
     a.left < b.left + b.width && b.left < a.left + a.width && a.top < b.top + b.height && b.top < a.top + a.height;
 
-  for (const [cols, rows] of [[MIN_COLS, MIN_ROWS], [100, 30], [120, 40], [200, 60]] as const) {
+  for (const [cols, rows] of [
+    [MIN_COLS, MIN_ROWS],
+    [100, 30],
+    [120, 40],
+    [200, 60],
+  ] as const) {
     it(`tiles the screen without overlap at ${cols}×${rows}`, () => {
       const l = computeLayout(cols, rows);
       expect(l.tooSmall).toBe(false);

@@ -21,14 +21,24 @@ export interface PtyScreen {
   kill(): void;
 }
 
-export function runInPty(file: string, args: string[], opts: { cols: number; rows: number; env?: Record<string, string>; cwd?: string }): PtyScreen {
+export function runInPty(
+  file: string,
+  args: string[],
+  opts: { cols: number; rows: number; env?: Record<string, string>; cwd?: string },
+): PtyScreen {
   const term = new Terminal({ cols: opts.cols, rows: opts.rows, allowProposedApi: true });
   const env: Record<string, string> = {};
   for (const [k, v] of Object.entries(process.env)) if (v !== undefined) env[k] = v;
   delete env['NO_COLOR'];
   delete env['FORCE_COLOR'];
   Object.assign(env, { LANG: 'C.UTF-8', LC_ALL: 'C.UTF-8' }, opts.env ?? {});
-  const child = pty.spawn(file, args, { name: 'xterm-256color', cols: opts.cols, rows: opts.rows, env, cwd: opts.cwd ?? process.cwd() });
+  const child = pty.spawn(file, args, {
+    name: 'xterm-256color',
+    cols: opts.cols,
+    rows: opts.rows,
+    env,
+    cwd: opts.cwd ?? process.cwd(),
+  });
   let raw = '';
   child.onData((d) => {
     raw += d;
@@ -76,9 +86,19 @@ export function brailleCount(text: string): number {
 export function colourCodes(raw: string): string[] {
   const found: string[] = [];
   for (const m of raw.matchAll(/\x1b\[([0-9;]*)m/g)) {
-    const params = m[1]!.split(';').filter((p) => p !== '').map(Number);
+    const params = m[1]!
+      .split(';')
+      .filter((p) => p !== '')
+      .map(Number);
     for (const p of params) {
-      if ((p >= 30 && p <= 37) || (p >= 40 && p <= 47) || (p >= 90 && p <= 97) || (p >= 100 && p <= 107) || p === 38 || p === 48) {
+      if (
+        (p >= 30 && p <= 37) ||
+        (p >= 40 && p <= 47) ||
+        (p >= 90 && p <= 97) ||
+        (p >= 100 && p <= 107) ||
+        p === 38 ||
+        p === 48
+      ) {
         found.push(m[0]);
         break;
       }
@@ -96,7 +116,15 @@ export const POLL = { timeout: 10_000, interval: 50 };
  * at 8 s — stall utilization ≈ 0.93, past the 0.90 warning threshold. When the file ends the source stops.
  */
 export function replayFixture(cols: number, rows: number, env: Record<string, string> = {}): PtyScreen {
-  const args = ['dist/src/cli/main.js', 'replay', 'test/fixtures/dashboard-flight.ndjson', '--aircraft', 'test/fixtures/example-airframe.json', '--speed', '4'];
+  const args = [
+    'dist/src/cli/main.js',
+    'replay',
+    'test/fixtures/dashboard-flight.ndjson',
+    '--aircraft',
+    'test/fixtures/example-airframe.json',
+    '--speed',
+    '4',
+  ];
   return runInPty(process.execPath, args, { cols, rows, env, cwd: ROOT });
 }
 

@@ -12,7 +12,10 @@ import { exampleAirframe } from '../helpers/airframes.js';
 export const AIRCRAFT: Aircraft = exampleAirframe();
 
 /** The record after holding one condition for 2 s at 20 frames/s (so the load-factor filter has settled). */
-export function steadyRecord(frame: Omit<Frame, 'tS' | 'airspeedKind' | 'airspeedMps'> & { tasMps: number }, aircraft = AIRCRAFT): MarginRecord {
+export function steadyRecord(
+  frame: Omit<Frame, 'tS' | 'airspeedKind' | 'airspeedMps'> & { tasMps: number },
+  aircraft = AIRCRAFT,
+): MarginRecord {
   const tracker = createMarginTracker(aircraft);
   let rec: MarginRecord | undefined;
   const { tasMps, ...rest } = frame;

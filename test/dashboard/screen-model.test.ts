@@ -56,7 +56,9 @@ describe('readouts', () => {
 
   it('flag an uncoordinated turn in words', () => {
     const rec = { ...turn45, uncoordinated: true };
-    expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_120x40).readouts.lines)).toContain('UNCOORDINATED');
+    expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_120x40).readouts.lines)).toContain(
+      'UNCOORDINATED',
+    );
     expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_80x24).readouts.lines)).toContain('UNCOORD');
   });
 });
@@ -108,12 +110,19 @@ describe('alert banner and margins', () => {
     const ground = steadyRecord({ tasMps: 2, altM: 0, bankDeg: 0 });
     expect(ground.flying).toBe(false);
     expect(text(buildScreenModel(screenInput({ record: ground }), LAYOUT_80x24).banner)).toContain('NOT FLYING');
-    expect(text(buildScreenModel(screenInput({ record: null, ageS: null }), LAYOUT_80x24).banner)).toContain('WAITING FOR DATA');
+    expect(text(buildScreenModel(screenInput({ record: null, ageS: null }), LAYOUT_80x24).banner)).toContain(
+      'WAITING FOR DATA',
+    );
   });
 
   it('shows that the bell is muted and the replay paused', () => {
     const model = buildScreenModel(
-      screenInput({ record: turn45, muted: true, isReplay: true, replay: { positionS: 3, lengthS: 9, speed: 1, paused: true } }),
+      screenInput({
+        record: turn45,
+        muted: true,
+        isReplay: true,
+        replay: { positionS: 3, lengthS: 9, speed: 1, paused: true },
+      }),
       LAYOUT_80x24,
     );
     expect(text(model.banner)).toContain('[PAUSED · bell muted]');
@@ -132,7 +141,13 @@ describe('stale data', () => {
   });
 
   it('is not stale while a replay is paused on purpose, and the link says PAUSED', () => {
-    const input = screenInput({ record: turn45, ageS: 30, isReplay: true, link: link({ state: 'stale' }), replay: { positionS: 3, lengthS: 9, speed: 1, paused: true } });
+    const input = screenInput({
+      record: turn45,
+      ageS: 30,
+      isReplay: true,
+      link: link({ state: 'stale' }),
+      replay: { positionS: 3, lengthS: 9, speed: 1, paused: true },
+    });
     expect(isStale(input)).toBe(false);
     expect(lineText(buildScreenModel(input, LAYOUT_80x24).link.lines[0]!)).toMatch(/^PAUSED /);
   });
@@ -146,14 +161,22 @@ describe('stale data', () => {
     expect(text(model.readouts.lines)).toContain('STALE — last frame 3.4 s ago');
     const words = model.margins.lines.filter((_, i) => i % 2 === 0).map((l) => lineText(l).trim().split(' ').pop());
     expect(words).toEqual(['STALE', 'STALE', 'STALE']);
-    expect(model.readouts.lines.flat().filter((s) => /\d/.test(s.text) && s.tone !== 'dim').every((s) => s.tone === 'stale')).toBe(true);
+    expect(
+      model.readouts.lines
+        .flat()
+        .filter((s) => /\d/.test(s.text) && s.tone !== 'dim')
+        .every((s) => s.tone === 'stale'),
+    ).toBe(true);
   });
 });
 
 describe('link, replay and event log', () => {
   it('shows state, frames/s, rejected lines, age of the last frame and the recording', () => {
     const model = buildScreenModel(
-      screenInput({ record: turn45, link: link({ recordingFile: '/data/flights/today.rec', recordingBytes: 1_234_567 }) }),
+      screenInput({
+        record: turn45,
+        link: link({ recordingFile: '/data/flights/today.rec', recordingBytes: 1_234_567 }),
+      }),
       LAYOUT_120x40,
     );
     const lines = text(model.link.lines);
@@ -165,7 +188,10 @@ describe('link, replay and event log', () => {
 
   it('says why the link was lost', () => {
     const model = buildScreenModel(
-      screenInput({ record: turn45, link: link({ state: 'lost', stateDetail: 'connect ECONNREFUSED 127.0.0.1:8765' }) }),
+      screenInput({
+        record: turn45,
+        link: link({ state: 'lost', stateDetail: 'connect ECONNREFUSED 127.0.0.1:8765' }),
+      }),
       LAYOUT_120x40,
     );
     const lines = text(model.link.lines);
@@ -175,7 +201,12 @@ describe('link, replay and event log', () => {
 
   it('says a replay at its end is at the end, not playing', () => {
     const model = buildScreenModel(
-      screenInput({ record: turn45, isReplay: true, link: link({ state: 'ended' }), replay: { positionS: 92, lengthS: 92, speed: 1, paused: false } }),
+      screenInput({
+        record: turn45,
+        isReplay: true,
+        link: link({ state: 'ended' }),
+        replay: { positionS: 92, lengthS: 92, speed: 1, paused: false },
+      }),
       LAYOUT_80x24,
     );
     const lines = text(model.link.lines);
@@ -184,7 +215,10 @@ describe('link, replay and event log', () => {
   });
 
   it('shows a recording error as a warning', () => {
-    const model = buildScreenModel(screenInput({ record: turn45, link: link({ recordingFile: 'x.rec', recordingError: 'disk full' }) }), LAYOUT_80x24);
+    const model = buildScreenModel(
+      screenInput({ record: turn45, link: link({ recordingFile: 'x.rec', recordingError: 'disk full' }) }),
+      LAYOUT_80x24,
+    );
     const line = model.link.lines[1]!;
     expect(lineText(line)).toContain('REC ERROR disk full');
     expect(line[0]!.tone).toBe('warning');
@@ -192,7 +226,11 @@ describe('link, replay and event log', () => {
 
   it('shows replay position, length, speed and pause', () => {
     const model = buildScreenModel(
-      screenInput({ record: turn45, isReplay: true, replay: { positionS: 12, lengthS: 92, speed: 0.5, paused: false } }),
+      screenInput({
+        record: turn45,
+        isReplay: true,
+        replay: { positionS: 12, lengthS: 92, speed: 0.5, paused: false },
+      }),
       LAYOUT_80x24,
     );
     expect(text(model.link.lines)).toContain('replay 0:12.0/1:32.0 ×0.5 playing');
@@ -214,7 +252,10 @@ describe('link, replay and event log', () => {
   });
 
   it('shows an error from the caller at the top of the log', () => {
-    const model = buildScreenModel(screenInput({ record: turn45, error: 'recording stopped: disk full' }), LAYOUT_80x24);
+    const model = buildScreenModel(
+      screenInput({ record: turn45, error: 'recording stopped: disk full' }),
+      LAYOUT_80x24,
+    );
     expect(lineText(model.events.lines[0]!)).toContain('ERROR recording stopped: disk full');
   });
 });
@@ -233,7 +274,9 @@ describe('keys and layout fit', () => {
   });
 
   it('shows the advisory caution line', () => {
-    expect(lineText(buildScreenModel(screenInput(), LAYOUT_80x24).caution)).toMatch(/^Advisory only.*approved limits prevail\./);
+    expect(lineText(buildScreenModel(screenInput(), LAYOUT_80x24).caution)).toMatch(
+      /^Advisory only.*approved limits prevail\./,
+    );
   });
 
   for (const layout of [LAYOUT_80x24, LAYOUT_120x40]) {
@@ -259,7 +302,11 @@ describe('keys and layout fit', () => {
       check(model.help, innerSize(layout.help).width, innerSize(layout.help).height);
       check(model.banner, layout.cols, layout.banner.height);
       check([model.keys, model.caution], layout.cols, 2);
-      for (const [title, rect] of [[model.margins.title, layout.margins], [model.link.title, layout.link], [model.plotTitle, layout.plot]] as const) {
+      for (const [title, rect] of [
+        [model.margins.title, layout.margins],
+        [model.link.title, layout.link],
+        [model.plotTitle, layout.plot],
+      ] as const) {
         expect(Array.from(title).length).toBeLessThanOrEqual(rect.width - 4);
       }
     });

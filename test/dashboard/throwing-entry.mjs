@@ -5,10 +5,16 @@ import { parseAircraft } from '../../dist/src/core/aircraft.js';
 import { createMarginTracker } from '../../dist/src/core/margins.js';
 import { startDashboard } from '../../dist/src/dashboard/index.js';
 
-const parsed = parseAircraft(JSON.parse(readFileSync(new URL('../fixtures/example-airframe.json', import.meta.url), 'utf8')), 'example');
+const parsed = parseAircraft(
+  JSON.parse(readFileSync(new URL('../fixtures/example-airframe.json', import.meta.url), 'utf8')),
+  'example',
+);
 if (!parsed.ok) throw new Error(parsed.problems.join('\n'));
 const aircraft = parsed.value;
-const dashboard = startDashboard({ aircraft, thresholds: aircraft.thresholds, sourceLabel: 'test entry' }, { quit: () => process.exit(0) });
+const dashboard = startDashboard(
+  { aircraft, thresholds: aircraft.thresholds, sourceLabel: 'test entry' },
+  { quit: () => process.exit(0) },
+);
 const tracker = createMarginTracker(aircraft);
 dashboard.pushRecord(tracker.push({ tS: 0, airspeedKind: 'tas', airspeedMps: 20, altM: 100, bankDeg: 30 }));
 setTimeout(() => {

@@ -19,30 +19,69 @@ const FRAME_KEYS = ['t_s', 'ias_mps', 'cas_mps', 'tas_mps', 'alt_m', 'bank_deg',
 
 /** Numbers at and just beyond every bound, and the awkward ones (−0, NaN, ±Infinity, the smallest positive). */
 const EDGE_NUMBERS = [
-  0, -0, 1, -1, 15, Number.MIN_VALUE, -Number.MIN_VALUE, NaN, Infinity, -Infinity, Number.MAX_VALUE,
-  FRAME_BOUNDS.altMinM, FRAME_BOUNDS.altMinM - 1e-9, FRAME_BOUNDS.altMaxM, FRAME_BOUNDS.altMaxM + 1e-9,
-  FRAME_BOUNDS.bankMaxAbsDeg, -FRAME_BOUNDS.bankMaxAbsDeg, FRAME_BOUNDS.bankMaxAbsDeg + 1e-9, -FRAME_BOUNDS.bankMaxAbsDeg - 1e-9,
-  FRAME_BOUNDS.nzMaxAbs, -FRAME_BOUNDS.nzMaxAbs, FRAME_BOUNDS.nzMaxAbs + 1e-9, -FRAME_BOUNDS.nzMaxAbs - 1e-9,
-  FRAME_BOUNDS.oatMinC, FRAME_BOUNDS.oatMaxC, FRAME_BOUNDS.oatMinC - 1e-9, FRAME_BOUNDS.oatMaxC + 1e-9,
-  FRAME_BOUNDS.massMaxKg, FRAME_BOUNDS.massMaxKg + 1e-9,
-  FRAME_BOUNDS.timeMaxAbsS, -FRAME_BOUNDS.timeMaxAbsS, FRAME_BOUNDS.timeMaxAbsS + 1e-6, -FRAME_BOUNDS.timeMaxAbsS - 1e-6, 1e308, -1e308,
-  FRAME_BOUNDS.airspeedMaxMps, FRAME_BOUNDS.airspeedMaxMps + 1e-9, 500, 1000,
+  0,
+  -0,
+  1,
+  -1,
+  15,
+  Number.MIN_VALUE,
+  -Number.MIN_VALUE,
+  NaN,
+  Infinity,
+  -Infinity,
+  Number.MAX_VALUE,
+  FRAME_BOUNDS.altMinM,
+  FRAME_BOUNDS.altMinM - 1e-9,
+  FRAME_BOUNDS.altMaxM,
+  FRAME_BOUNDS.altMaxM + 1e-9,
+  FRAME_BOUNDS.bankMaxAbsDeg,
+  -FRAME_BOUNDS.bankMaxAbsDeg,
+  FRAME_BOUNDS.bankMaxAbsDeg + 1e-9,
+  -FRAME_BOUNDS.bankMaxAbsDeg - 1e-9,
+  FRAME_BOUNDS.nzMaxAbs,
+  -FRAME_BOUNDS.nzMaxAbs,
+  FRAME_BOUNDS.nzMaxAbs + 1e-9,
+  -FRAME_BOUNDS.nzMaxAbs - 1e-9,
+  FRAME_BOUNDS.oatMinC,
+  FRAME_BOUNDS.oatMaxC,
+  FRAME_BOUNDS.oatMinC - 1e-9,
+  FRAME_BOUNDS.oatMaxC + 1e-9,
+  FRAME_BOUNDS.massMaxKg,
+  FRAME_BOUNDS.massMaxKg + 1e-9,
+  FRAME_BOUNDS.timeMaxAbsS,
+  -FRAME_BOUNDS.timeMaxAbsS,
+  FRAME_BOUNDS.timeMaxAbsS + 1e-6,
+  -FRAME_BOUNDS.timeMaxAbsS - 1e-6,
+  1e308,
+  -1e308,
+  FRAME_BOUNDS.airspeedMaxMps,
+  FRAME_BOUNDS.airspeedMaxMps + 1e-9,
+  500,
+  1000,
 ];
 
 const anyValue: fc.Arbitrary<unknown> = fc.oneof(
   { weight: 6, arbitrary: fc.constantFrom(...EDGE_NUMBERS) },
   { weight: 4, arbitrary: fc.double() },
   { weight: 2, arbitrary: fc.constantFrom(null, undefined) },
-  { weight: 1, arbitrary: fc.oneof(fc.string(), fc.boolean(), fc.constant([1]), fc.constant({ v: 1 }), fc.constant('12')) },
+  {
+    weight: 1,
+    arbitrary: fc.oneof(fc.string(), fc.boolean(), fc.constant([1]), fc.constant({ v: 1 }), fc.constant('12')),
+  },
 );
 
 /** Objects built from the frame keys (each present or not) plus an occasional foreign key. */
 const frameLikeObject: fc.Arbitrary<Record<string, unknown>> = fc
   .record(
-    Object.fromEntries(FRAME_KEYS.map((k) => [k, anyValue])) as Record<(typeof FRAME_KEYS)[number], fc.Arbitrary<unknown>>,
+    Object.fromEntries(FRAME_KEYS.map((k) => [k, anyValue])) as Record<
+      (typeof FRAME_KEYS)[number],
+      fc.Arbitrary<unknown>
+    >,
     { requiredKeys: [] },
   )
-  .chain((obj) => fc.option(fc.tuple(fc.string(), anyValue)).map((extra) => (extra ? { ...obj, [extra[0]]: extra[1] } : obj)));
+  .chain((obj) =>
+    fc.option(fc.tuple(fc.string(), anyValue)).map((extra) => (extra ? { ...obj, [extra[0]]: extra[1] } : obj)),
+  );
 
 /** Mostly valid frames with one key disturbed, so that the accepting branches are exercised too. */
 const nearlyValidFrame: fc.Arbitrary<Record<string, unknown>> = fc
@@ -119,7 +158,16 @@ describe('frame validation fast path', () => {
 
   it('accepts a plain valid frame without the schema and maps it like the schema path', () => {
     const raw = { t_s: 3, cas_mps: 17, alt_m: 90, bank_deg: 25, nz: 1.1, oat_c: 9, mass_kg: 2.8, rssi: -60 };
-    expect(acceptFrameFast(raw)).toEqual({ tS: 3, airspeedKind: 'cas', airspeedMps: 17, altM: 90, bankDeg: 25, nz: 1.1, oatC: 9, massKg: 2.8 });
+    expect(acceptFrameFast(raw)).toEqual({
+      tS: 3,
+      airspeedKind: 'cas',
+      airspeedMps: 17,
+      altM: 90,
+      bankDeg: 25,
+      nz: 1.1,
+      oatC: 9,
+      massKg: 2.8,
+    });
     expect(acceptFrameFast({ ...raw, nz: 21 })).toBeNull();
   });
 
@@ -148,10 +196,21 @@ describe('frame validation fast path', () => {
     const line = fc.oneof(
       nearlyValidFrame.map((o) => JSON.stringify(o)),
       fc
-        .tuple(nearlyValidFrame.map((o) => JSON.stringify(o)), fc.nat(), control)
+        .tuple(
+          nearlyValidFrame.map((o) => JSON.stringify(o)),
+          fc.nat(),
+          control,
+        )
         .map(([text, at, ch]) => text.slice(0, at % (text.length + 1)) + ch + text.slice(at % (text.length + 1))),
       fc.string().filter((s) => !/[\u007F\uFFFD]/.test(s)),
-      fc.constantFrom('\uFEFF{"t_s":1,"tas_mps":2,"alt_m":0,"nz":1}\r', '  {"t_s":1', '{"t_s":NaN}', '', ' \t ', '\u000B{"t_s":1}\u000C'),
+      fc.constantFrom(
+        '\uFEFF{"t_s":1,"tas_mps":2,"alt_m":0,"nz":1}\r',
+        '  {"t_s":1',
+        '{"t_s":NaN}',
+        '',
+        ' \t ',
+        '\u000B{"t_s":1}\u000C',
+      ),
     );
     fc.assert(
       fc.property(line, (text) => {
@@ -170,40 +229,117 @@ function withoutRaw(v: FrameVerdict): FrameVerdict {
 /** Number texts: valid JSON numbers of every shape, and near misses JSON.parse refuses. */
 const numberText = fc.oneof(
   fc.double({ noNaN: true, noDefaultInfinity: true }).map((x) => JSON.stringify(x)),
-  fc.tuple(fc.boolean(), fc.bigInt({ min: 0n, max: 10n ** 20n }), fc.nat({ max: 12 }), fc.option(fc.integer({ min: -30, max: 30 }))).map(
-    ([negative, digits, point, exp]) => {
+  fc
+    .tuple(
+      fc.boolean(),
+      fc.bigInt({ min: 0n, max: 10n ** 20n }),
+      fc.nat({ max: 12 }),
+      fc.option(fc.integer({ min: -30, max: 30 })),
+    )
+    .map(([negative, digits, point, exp]) => {
       const d = digits.toString();
       const cut = Math.min(point, d.length - 1);
       const body = cut > 0 ? `${d.slice(0, d.length - cut)}.${d.slice(d.length - cut)}` : d;
       return `${negative ? '-' : ''}${body}${exp === null ? '' : `e${exp}`}`;
-    },
-  ),
+    }),
   fc.constantFrom(
-    '-0', '0', '0.0', '-0.0', '1e400', '-1e400', '1e-400', '01', '1.', '.5', '+1', '-', '1e', '1e+', '1E+2', '0e0', '-0e-0',
-    '9007199254740993', '123456789012345.6', '0.1234567890123456789', '5e-324', '1.7976931348623157e308', '1e22', '1e23',
-    '1e-22', '1e-23', '2.675', '1.005', '0.30000000000000004', '1.5e0003', '1.5e00001', '1e0000000000000000000001', '00',
+    '-0',
+    '0',
+    '0.0',
+    '-0.0',
+    '1e400',
+    '-1e400',
+    '1e-400',
+    '01',
+    '1.',
+    '.5',
+    '+1',
+    '-',
+    '1e',
+    '1e+',
+    '1E+2',
+    '0e0',
+    '-0e-0',
+    '9007199254740993',
+    '123456789012345.6',
+    '0.1234567890123456789',
+    '5e-324',
+    '1.7976931348623157e308',
+    '1e22',
+    '1e23',
+    '1e-22',
+    '1e-23',
+    '2.675',
+    '1.005',
+    '0.30000000000000004',
+    '1.5e0003',
+    '1.5e00001',
+    '1e0000000000000000000001',
+    '00',
   ),
 );
 
 const jsonSpace = fc.constantFrom('', '', ' ', '\t', '  ', '\n');
 const valueText = fc.oneof(
   { weight: 6, arbitrary: numberText },
-  { weight: 1, arbitrary: fc.constantFrom('null', 'true', 'false', '"x"', '"a\\"b"', '[1]', '{"a":1}', 'nul', 'NaN', 'Infinity', '"\u0001"') },
+  {
+    weight: 1,
+    arbitrary: fc.constantFrom(
+      'null',
+      'true',
+      'false',
+      '"x"',
+      '"a\\"b"',
+      '[1]',
+      '{"a":1}',
+      'nul',
+      'NaN',
+      'Infinity',
+      '"\u0001"',
+    ),
+  },
 );
 const keyText = fc.constantFrom(
-  't_s', 'tas_mps', 'cas_mps', 'ias_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg',
-  'note', '__proto__', 'constructor', 'toString', 'Nz', 't_s ', 'mass_kgx', 'alt_', 't\\u005fs', 'oat_m', 'tas_kgs',
+  't_s',
+  'tas_mps',
+  'cas_mps',
+  'ias_mps',
+  'alt_m',
+  'bank_deg',
+  'nz',
+  'oat_c',
+  'mass_kg',
+  'note',
+  '__proto__',
+  'constructor',
+  'toString',
+  'Nz',
+  't_s ',
+  'mass_kgx',
+  'alt_',
+  't\\u005fs',
+  'oat_m',
+  'tas_kgs',
 );
 
 /** Flat objects of frame keys in any order with any spacing, sometimes broken. */
 const objectText = fc
   .tuple(
     fc.array(fc.tuple(keyText, jsonSpace, jsonSpace, valueText), { minLength: 0, maxLength: 9 }),
-    fc.tuple(fc.constantFrom(12.5, 0, -3), fc.constantFrom('tas_mps', 'cas_mps', 'ias_mps'), fc.double({ min: 0, max: 40, noNaN: true })),
+    fc.tuple(
+      fc.constantFrom(12.5, 0, -3),
+      fc.constantFrom('tas_mps', 'cas_mps', 'ias_mps'),
+      fc.double({ min: 0, max: 40, noNaN: true }),
+    ),
     fc.constantFrom('none', 'none', 'none', 'drop-brace', 'trailing-x', 'double-comma', 'leading-space'),
   )
   .map(([pairs, [tS, speedKey, speed], damage]) => {
-    const base: Array<[string, string, string, string]> = [['t_s', '', '', String(tS)], [speedKey, '', ' ', JSON.stringify(speed)], ['alt_m', '', '', '120'], ['nz', '', '', '1.2']];
+    const base: Array<[string, string, string, string]> = [
+      ['t_s', '', '', String(tS)],
+      [speedKey, '', ' ', JSON.stringify(speed)],
+      ['alt_m', '', '', '120'],
+      ['nz', '', '', '1.2'],
+    ];
     const all = [...base, ...pairs].map(([k, s1, s2, v]) => `"${k}"${s1}:${s2}${v}`);
     let text = `{${all.join(',')}}`;
     if (damage === 'drop-brace') text = text.slice(0, -1);

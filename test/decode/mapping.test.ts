@@ -43,12 +43,25 @@ describe('mapping units', () => {
     const parsed = parseMapping({ keys: { tas_mps: { column: 'V', unit: 'kt' } } }, 'm.json');
     expect(parsed.ok).toBe(true);
     if (!parsed.ok) return;
-    expect(applyMapping({ V: 'fast', alt_m: 3, note: 'x' }, parsed.mapping)).toEqual({ tas_mps: 'fast', alt_m: 3, note: 'x' });
+    expect(applyMapping({ V: 'fast', alt_m: 3, note: 'x' }, parsed.mapping)).toEqual({
+      tas_mps: 'fast',
+      alt_m: 3,
+      note: 'x',
+    });
     expect(applyMapping({ alt_m: 3 }, parsed.mapping)).toEqual({ alt_m: 3 });
   });
 
   it('names each mapped column missing from a CSV header, with the columns there are', () => {
-    const parsed = parseMapping({ keys: { t_s: { column: 'time_ms', unit: 'ms' }, bank_deg: { column: 'missingcol', unit: 'deg' }, nz: { column: 'az', unit: 'g' } } }, 'm.json');
+    const parsed = parseMapping(
+      {
+        keys: {
+          t_s: { column: 'time_ms', unit: 'ms' },
+          bank_deg: { column: 'missingcol', unit: 'deg' },
+          nz: { column: 'az', unit: 'g' },
+        },
+      },
+      'm.json',
+    );
     if (!parsed.ok) throw new Error(parsed.problems.join('; '));
     expect(missingColumnProblems(parsed.mapping, ['time_ms', 'KIAS', 'az'], 'm.json', 'log.csv')).toEqual([
       'm.json: keys.bank_deg.column "missingcol" is not a column of log.csv (columns: time_ms, KIAS, az)',
@@ -65,7 +78,13 @@ describe('mapping units', () => {
   });
 
   it('rejects unknown keys, wrong units and a bad delimiter with one line each', () => {
-    const r = parseMapping({ delimiter: '|', keys: { alt_m: { column: 'h', unit: 'kt' }, bank_deg: { column: 'r', unit: 'deg', scale: 'x' } } }, 'm.json');
+    const r = parseMapping(
+      {
+        delimiter: '|',
+        keys: { alt_m: { column: 'h', unit: 'kt' }, bank_deg: { column: 'r', unit: 'deg', scale: 'x' } },
+      },
+      'm.json',
+    );
     expect(r.ok).toBe(false);
     if (r.ok) return;
     expect(r.problems).toEqual([

@@ -69,23 +69,39 @@ const piece = fc.oneof(
   { weight: 8, arbitrary: fc.integer({ min: 1, max: 900 }).map((n) => ({ kind: 'frames', n })) },
   {
     weight: 4,
-    arbitrary: fc.constantFrom(
-      'oops',
-      '',
-      '   ',
-      '\r',
-      '{"t_s":1,"tas_mps":NaN,"alt_m":0,"nz":1}',
-      '{"t_s":2,"tas_mps":20',
-      '\u0001\u0002 noise',
-      '[1,2]',
-    ).map((text) => ({ kind: 'text', text })),
+    arbitrary: fc
+      .constantFrom(
+        'oops',
+        '',
+        '   ',
+        '\r',
+        '{"t_s":1,"tas_mps":NaN,"alt_m":0,"nz":1}',
+        '{"t_s":2,"tas_mps":20',
+        '\u0001\u0002 noise',
+        '[1,2]',
+      )
+      .map((text) => ({ kind: 'text', text })),
   },
   { weight: 2, arbitrary: fc.constantFrom('é→°', '\uFEFF', 'ü').map((mark) => ({ kind: 'unicode', mark })) },
-  { weight: 2, arbitrary: fc.constantFrom(Buffer.from([0xff]), Buffer.from([0xe2, 0x82]), Buffer.from([0xc3])).map((bad) => ({ kind: 'invalid', bad })) },
-  { weight: 1, arbitrary: fc.constantFrom(FILE_CAP - 1, FILE_CAP, FILE_CAP + 1, 70_000, 140_000).map((length) => ({ kind: 'long', length })) },
+  {
+    weight: 2,
+    arbitrary: fc
+      .constantFrom(Buffer.from([0xff]), Buffer.from([0xe2, 0x82]), Buffer.from([0xc3]))
+      .map((bad) => ({ kind: 'invalid', bad })),
+  },
+  {
+    weight: 1,
+    arbitrary: fc
+      .constantFrom(FILE_CAP - 1, FILE_CAP, FILE_CAP + 1, 70_000, 140_000)
+      .map((length) => ({ kind: 'long', length })),
+  },
 );
 
-function buildFile(pieces: ReadonlyArray<{ kind: string; [k: string]: unknown }>, crlf: boolean, finalNewline: boolean): Buffer {
+function buildFile(
+  pieces: ReadonlyArray<{ kind: string; [k: string]: unknown }>,
+  crlf: boolean,
+  finalNewline: boolean,
+): Buffer {
   const parts: Buffer[] = [];
   const end = crlf ? '\r\n' : '\n';
   let t = 0;
@@ -93,8 +109,12 @@ function buildFile(pieces: ReadonlyArray<{ kind: string; [k: string]: unknown }>
   for (const p of pieces) {
     if (p.kind === 'frames') parts.push(Buffer.from(Array.from({ length: p['n'] as number }, next).join(end) + end));
     else if (p.kind === 'text') parts.push(Buffer.from((p['text'] as string) + end));
-    else if (p.kind === 'unicode') parts.push(Buffer.from(next().replace('{', `{"note":"${p['mark'] as string}",`) + end));
-    else if (p.kind === 'invalid') parts.push(Buffer.concat([Buffer.from(next().slice(0, -1) + ',"x":"'), p['bad'] as Buffer, Buffer.from('"}' + end)]));
+    else if (p.kind === 'unicode')
+      parts.push(Buffer.from(next().replace('{', `{"note":"${p['mark'] as string}",`) + end));
+    else if (p.kind === 'invalid')
+      parts.push(
+        Buffer.concat([Buffer.from(next().slice(0, -1) + ',"x":"'), p['bad'] as Buffer, Buffer.from('"}' + end)]),
+      );
     else parts.push(Buffer.from('{"t_s":1,"pad":"' + 'x'.repeat((p['length'] as number) - 18) + '"}' + end));
   }
   const bytes = Buffer.concat(parts);
@@ -104,10 +124,15 @@ function buildFile(pieces: ReadonlyArray<{ kind: string; [k: string]: unknown }>
 describe('readFrameFile reading by chunks', () => {
   it('gives the lines of judging each physical line alone, whatever crosses a chunk boundary (property)', async () => {
     await fc.assert(
-      fc.asyncProperty(fc.array(piece, { minLength: 1, maxLength: 12 }), fc.boolean(), fc.boolean(), async (pieces, crlf, finalNewline) => {
-        const bytes = buildFile(pieces, crlf, finalNewline);
-        expect(await readAll(writeTemp(bytes))).toEqual(judgeEachLine(bytes));
-      }),
+      fc.asyncProperty(
+        fc.array(piece, { minLength: 1, maxLength: 12 }),
+        fc.boolean(),
+        fc.boolean(),
+        async (pieces, crlf, finalNewline) => {
+          const bytes = buildFile(pieces, crlf, finalNewline);
+          expect(await readAll(writeTemp(bytes))).toEqual(judgeEachLine(bytes));
+        },
+      ),
       { numRuns: 40 },
     );
   });
@@ -133,7 +158,11 @@ describe('readFrameFile reading by chunks', () => {
   it('reads the exact bytes of each record of a recording holding multi-byte text and invalid bytes', async () => {
     const t0 = 1_700_000_000_000;
     const sent = Array.from({ length: 4000 }, (_, i) =>
-      i % 7 === 3 ? Buffer.from(frameLine({ t_s: i, note: 'é→°' })) : i % 11 === 5 ? Buffer.from([0x7b, 0xff, 0x7d]) : Buffer.from(frameLine({ t_s: i })),
+      i % 7 === 3
+        ? Buffer.from(frameLine({ t_s: i, note: 'é→°' }))
+        : i % 11 === 5
+          ? Buffer.from([0x7b, 0xff, 0x7d])
+          : Buffer.from(frameLine({ t_s: i })),
     );
     const path = join(dir, 'unicode.tmrec');
     writeFileSync(path, Buffer.concat([encodeHeader('test', t0), ...sent.map((b, i) => encodeLine(t0 + i, b, false))]));
@@ -143,7 +172,15 @@ describe('readFrameFile reading by chunks', () => {
   });
 
   it('yields the same lines in batches, in file order', async () => {
-    const bytes = buildFile([{ kind: 'frames', n: 3000 }, { kind: 'text', text: 'oops' }, { kind: 'frames', n: 10 }], false, true);
+    const bytes = buildFile(
+      [
+        { kind: 'frames', n: 3000 },
+        { kind: 'text', text: 'oops' },
+        { kind: 'frames', n: 10 },
+      ],
+      false,
+      true,
+    );
     const path = writeTemp(bytes);
     const batched: Judged[] = [];
     let batches = 0;
@@ -157,7 +194,9 @@ describe('readFrameFile reading by chunks', () => {
 });
 
 /** Accepted frames (with the restart mark) and rejected lines, as readFrameFile gives them. */
-async function framesAndRejects(path: string): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, string]> }> {
+async function framesAndRejects(
+  path: string,
+): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, string]> }> {
   const frames: Array<[Frame, boolean]> = [];
   const rejects: Array<[number, string]> = [];
   for await (const l of readFrameFile(path)) {
@@ -167,13 +206,17 @@ async function framesAndRejects(path: string): Promise<{ frames: Array<[Frame, b
   return { frames, rejects };
 }
 
-async function packedFramesAndRejects(path: string): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, string]> }> {
+async function packedFramesAndRejects(
+  path: string,
+): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, string]> }> {
   const frames: Array<[Frame, boolean]> = [];
   const rejects: Array<[number, string]> = [];
   for await (const batch of readFramePackedBatches(path)) {
     expect(batch.frames.length).toBeGreaterThanOrEqual(batch.count * FRAME_SLOTS);
-    for (let i = 0; i < batch.count; i++) frames.push([unpackFrame(batch.frames, i), packedNewSegment(batch.frames, i)]);
-    for (let i = 0; i < batch.rejects.length; i += 2) rejects.push([batch.rejects[i] as number, batch.rejects[i + 1] as string]);
+    for (let i = 0; i < batch.count; i++)
+      frames.push([unpackFrame(batch.frames, i), packedNewSegment(batch.frames, i)]);
+    for (let i = 0; i < batch.rejects.length; i += 2)
+      rejects.push([batch.rejects[i] as number, batch.rejects[i + 1] as string]);
     // As the review does: the batch's array goes to another thread, leaving it detached here.
     structuredClone(batch.frames.buffer, { transfer: [batch.frames.buffer] });
   }
@@ -200,13 +243,18 @@ describe('packed batches for the review worker', () => {
 
   it('carry the frames and rejections of readFrameFile, in order, whatever the file holds (property)', async () => {
     await fc.assert(
-      fc.asyncProperty(fc.array(piece, { minLength: 1, maxLength: 12 }), fc.boolean(), fc.boolean(), async (pieces, crlf, finalNewline) => {
-        const path = writeTemp(buildFile(pieces, crlf, finalNewline));
-        const packed = await packedFramesAndRejects(path);
-        const expected = await framesAndRejects(path);
-        expect(packed).toEqual(expected);
-        packed.frames.forEach(([f], i) => expect(Object.is(f.altM, expected.frames[i]![0].altM)).toBe(true));
-      }),
+      fc.asyncProperty(
+        fc.array(piece, { minLength: 1, maxLength: 12 }),
+        fc.boolean(),
+        fc.boolean(),
+        async (pieces, crlf, finalNewline) => {
+          const path = writeTemp(buildFile(pieces, crlf, finalNewline));
+          const packed = await packedFramesAndRejects(path);
+          const expected = await framesAndRejects(path);
+          expect(packed).toEqual(expected);
+          packed.frames.forEach(([f], i) => expect(Object.is(f.altM, expected.frames[i]![0].altM)).toBe(true));
+        },
+      ),
       { numRuns: 30 },
     );
   });
@@ -214,7 +262,15 @@ describe('packed batches for the review worker', () => {
   it('carry clock restarts, reconnects of a recording and CSV rows like readFrameFile', async () => {
     const clock = Array.from({ length: 40 }, (_, i) => frameLine({ t_s: i < 20 ? 100 + i : i - 20 }));
     const ndjson = join(dir, 'restart.ndjson');
-    writeFileSync(ndjson, ['radio boot', ...clock, '{"t_s":5,"tas_mps":20,"alt_m":0,"nz":1}', '{"t_s" : 50, "tas_mps" : 20, "alt_m" : 0, "nz" : 1}'].join('\n'));
+    writeFileSync(
+      ndjson,
+      [
+        'radio boot',
+        ...clock,
+        '{"t_s":5,"tas_mps":20,"alt_m":0,"nz":1}',
+        '{"t_s" : 50, "tas_mps" : 20, "alt_m" : 0, "nz" : 1}',
+      ].join('\n'),
+    );
     const t0 = 1_700_000_000_000;
     const recording = join(dir, 'reconnect.tmrec');
     writeFileSync(

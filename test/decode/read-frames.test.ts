@@ -2,8 +2,13 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { InputError } from '../../src/cli/errors.js';
-import { checkMappingFits, readFrameFile, readFramePackedBatches, type FileLine } from '../../src/decode/read-frames.js';
+import { InputError } from '../../src/errors.js';
+import {
+  checkMappingFits,
+  readFrameFile,
+  readFramePackedBatches,
+  type FileLine,
+} from '../../src/decode/read-frames.js';
 import { encodeHeader, encodeLine, encodeLinkEvent } from '../../src/recording/format.js';
 import { frameLine } from '../helpers/frames.js';
 
@@ -24,7 +29,10 @@ function brief(lines: FileLine[]): string[] {
 describe('readFrameFile', () => {
   it('reads NDJSON with physical line numbers, skipping blank lines', async () => {
     const path = join(dir, 'a.ndjson');
-    writeFileSync(path, [frameLine({ t_s: 0 }), '', 'oops', '   ', frameLine({ t_s: 1 }), frameLine({ t_s: 0.5 })].join('\n'));
+    writeFileSync(
+      path,
+      [frameLine({ t_s: 0 }), '', 'oops', '   ', frameLine({ t_s: 1 }), frameLine({ t_s: 0.5 })].join('\n'),
+    );
     expect(brief(await readAll(path))).toEqual(['1:ok 0', '3:invalid JSON', '5:ok 1', '6:time not increasing']);
   });
 
@@ -50,7 +58,14 @@ describe('readFrameFile', () => {
       '9:ok 0.4',
     ]);
     const second = lines[1]!.verdict;
-    expect(second.ok && second.frame).toEqual({ tS: 0.1, airspeedKind: 'tas', airspeedMps: 20, altM: 100, bankDeg: 10, oatC: 15 });
+    expect(second.ok && second.frame).toEqual({
+      tS: 0.1,
+      airspeedKind: 'tas',
+      airspeedMps: 20,
+      altM: 100,
+      bankDeg: 10,
+      oatC: 15,
+    });
   });
 
   it('reads a foreign log through a mapping file, converting units', async () => {
@@ -85,7 +100,12 @@ describe('readFrameFile', () => {
       ]),
     );
     const lines = await readAll(path);
-    expect(brief(lines)).toEqual(['5:ok 50', '6:binary noise (control or invalid bytes)', '9:ok 1', '10:line longer than 65536 bytes (cut)']);
+    expect(brief(lines)).toEqual([
+      '5:ok 50',
+      '6:binary noise (control or invalid bytes)',
+      '9:ok 1',
+      '10:line longer than 65536 bytes (cut)',
+    ]);
     expect(lines.map((l) => l.receivedAtMs! - t0)).toEqual([1, 2, 401, 402]);
     expect(lines[2]!.afterReconnect).toBe(true);
     expect(lines[0]!.text).toBe(frameLine({ t_s: 50 }));
@@ -93,21 +113,37 @@ describe('readFrameFile', () => {
 
   it('throws an InputError naming the file when it cannot be read', async () => {
     await expect(readAll(join(dir, 'missing.ndjson'))).rejects.toThrow(InputError);
-    await expect(readAll(join(dir, 'missing.ndjson'))).rejects.toThrow(/missing\.ndjson: cannot read the telemetry file \(no such file\)/);
+    await expect(readAll(join(dir, 'missing.ndjson'))).rejects.toThrow(
+      /missing\.ndjson: cannot read the telemetry file \(no such file\)/,
+    );
     await expect(readAll(dir)).rejects.toThrow(/is a directory/);
   });
 
   it('refuses a mapping whose column is not in the CSV header, naming the columns there are', async () => {
     const mapping = join(dir, 'm.json');
-    writeFileSync(mapping, JSON.stringify({ delimiter: ';', keys: { t_s: { column: 'time_ms', unit: 'ms' }, ias_mps: { column: 'KIAS', unit: 'kt' }, alt_m: { column: 'baro_ft', unit: 'ft' }, bank_deg: { column: 'missingcol', unit: 'deg' } } }));
-    const expected = 'm.json: keys.bank_deg.column "missingcol" is not a column of frames-foreign.csv (columns: time_ms, KIAS, baro_ft, roll_rad, acc_z_mps2, oat_F, note)';
+    writeFileSync(
+      mapping,
+      JSON.stringify({
+        delimiter: ';',
+        keys: {
+          t_s: { column: 'time_ms', unit: 'ms' },
+          ias_mps: { column: 'KIAS', unit: 'kt' },
+          alt_m: { column: 'baro_ft', unit: 'ft' },
+          bank_deg: { column: 'missingcol', unit: 'deg' },
+        },
+      }),
+    );
+    const expected =
+      'm.json: keys.bank_deg.column "missingcol" is not a column of frames-foreign.csv (columns: time_ms, KIAS, baro_ft, roll_rad, acc_z_mps2, oat_F, note)';
     const err = await readAll(fixture('frames-foreign.csv'), mapping).catch((e: unknown) => e);
     expect(err).toBeInstanceOf(InputError);
     expect((err as InputError).problems).toEqual([expected]);
     // The up-front check for commands that read the file later, and the reader that packs frames for another
     // thread (review), say the same.
     await expect(checkMappingFits(fixture('frames-foreign.csv'), mapping)).rejects.toThrow(expected);
-    await expect(checkMappingFits(fixture('frames-foreign.csv'), fixture('frames-foreign-mapping.json'))).resolves.toBeUndefined();
+    await expect(
+      checkMappingFits(fixture('frames-foreign.csv'), fixture('frames-foreign-mapping.json')),
+    ).resolves.toBeUndefined();
     const packed = await (async () => {
       for await (const _batch of readFramePackedBatches(fixture('frames-foreign.csv'), { mappingPath: mapping })) {
         /* drain */
@@ -127,21 +163,34 @@ describe('readFrameFile', () => {
     );
     const named = join(dir, 'log.ndjson');
     writeFileSync(named, 'V,alt_m\n');
-    await expect(readAll(named, mapping)).rejects.toThrow('m2.json: a mapping applies to CSV logs with a header line, but log.ndjson is NDJSON (by its name)');
+    await expect(readAll(named, mapping)).rejects.toThrow(
+      'm2.json: a mapping applies to CSV logs with a header line, but log.ndjson is NDJSON (by its name)',
+    );
     const plain = join(dir, 'log.dat');
     writeFileSync(plain, 'V;alt_m\n1;2\n');
     await expect(readAll(plain, mapping)).rejects.toThrow(
       `m2.json: a mapping applies to CSV logs with a header line, but log.dat has no header line with the mapping's delimiter "," (first line: "V;alt_m")`,
     );
     const rec = join(dir, 'm.tmrec');
-    writeFileSync(rec, Buffer.concat([encodeHeader('test link', 1_700_000_000_000), encodeLine(1_700_000_000_001, Buffer.from(frameLine({ t_s: 0 })), false)]));
-    await expect(readAll(rec, mapping)).rejects.toThrow('m2.json: a mapping applies to CSV logs with a header line, but m.tmrec is a turnmargin recording');
+    writeFileSync(
+      rec,
+      Buffer.concat([
+        encodeHeader('test link', 1_700_000_000_000),
+        encodeLine(1_700_000_000_001, Buffer.from(frameLine({ t_s: 0 })), false),
+      ]),
+    );
+    await expect(readAll(rec, mapping)).rejects.toThrow(
+      'm2.json: a mapping applies to CSV logs with a header line, but m.tmrec is a turnmargin recording',
+    );
     await expect(checkMappingFits(ndjson, mapping)).rejects.toThrow(InputError);
   });
 
   it('names each problem of a bad mapping file', async () => {
     const mapping = join(dir, 'bad-mapping.json');
-    writeFileSync(mapping, JSON.stringify({ keys: { tas_mps: { column: 'V', unit: 'ft' }, speed: { column: 'x', unit: 'm/s' } } }));
+    writeFileSync(
+      mapping,
+      JSON.stringify({ keys: { tas_mps: { column: 'V', unit: 'ft' }, speed: { column: 'x', unit: 'm/s' } } }),
+    );
     const err = await readAll(fixture('frames-foreign.csv'), mapping).catch((e: unknown) => e);
     expect(err).toBeInstanceOf(InputError);
     expect((err as InputError).problems).toEqual([
@@ -154,7 +203,12 @@ describe('readFrameFile', () => {
     const path = join(dir, 'big.ndjson');
     const block = Array.from({ length: 1000 }, (_, i) => frameLine({ t_s: i / 1000 })).join('\n') + '\n';
     // 200 blocks with times increasing block by block.
-    writeFileSync(path, Array.from({ length: 200 }, (_, b) => block.replace(/"t_s":([0-9.e-]+)/g, (_m, t: string) => `"t_s":${b + Number(t)}`)).join(''));
+    writeFileSync(
+      path,
+      Array.from({ length: 200 }, (_, b) =>
+        block.replace(/"t_s":([0-9.e-]+)/g, (_m, t: string) => `"t_s":${b + Number(t)}`),
+      ).join(''),
+    );
     let count = 0;
     let accepted = 0;
     const before = process.memoryUsage().heapUsed;

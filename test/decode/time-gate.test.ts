@@ -20,12 +20,30 @@ describe('time gate', () => {
 
   it('takes 5 consecutive increasing frames behind the last time as a clock restart, accepted from the 5th on', () => {
     expect(RESTART_RUN).toBe(5);
-    expect(run([100, 100.1, 0, 0.1, 0.2, 0.3, 0.4, 0.5])).toEqual(['ok', 'ok', 'rej', 'rej', 'rej', 'rej', 'new', 'ok']);
+    expect(run([100, 100.1, 0, 0.1, 0.2, 0.3, 0.4, 0.5])).toEqual([
+      'ok',
+      'ok',
+      'rej',
+      'rej',
+      'rej',
+      'rej',
+      'new',
+      'ok',
+    ]);
   });
 
   it('does not count a run that stops increasing', () => {
     expect(run([100, 0, 0.1, 0.05, 0.1, 0.2, 0.3])).toEqual(['ok', 'rej', 'rej', 'rej', 'rej', 'rej', 'rej']);
-    expect(run([100, 0, 0.1, 0.05, 0.1, 0.2, 0.3, 0.4])).toEqual(['ok', 'rej', 'rej', 'rej', 'rej', 'rej', 'rej', 'new']);
+    expect(run([100, 0, 0.1, 0.05, 0.1, 0.2, 0.3, 0.4])).toEqual([
+      'ok',
+      'rej',
+      'rej',
+      'rej',
+      'rej',
+      'rej',
+      'rej',
+      'new',
+    ]);
   });
 
   it('breaks a restart run when an in-order frame arrives in between', () => {

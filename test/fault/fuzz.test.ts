@@ -43,7 +43,11 @@ function decodeInRandomSplits(all: FuzzLine[], seed: number): DecodedLine[] {
 /** Run the built CLI, keeping only what the test needs of a long stderr. */
 function runCliCounting(args: string[]): Promise<{ code: number | null; stdout: string; rejectedLines: string[] }> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [CLI_PATH, ...args], { cwd: REPO_ROOT, stdio: ['ignore', 'pipe', 'pipe'], env: { ...process.env, NO_COLOR: '1' } });
+    const child = spawn(process.execPath, [CLI_PATH, ...args], {
+      cwd: REPO_ROOT,
+      stdio: ['ignore', 'pipe', 'pipe'],
+      env: { ...process.env, NO_COLOR: '1' },
+    });
     let stdout = '';
     let stderr = '';
     child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout += d));
@@ -70,7 +74,22 @@ describe('fuzz: 100 000 random and mutated lines', () => {
     for (const l of lines) kinds.set(l.kind, (kinds.get(l.kind) ?? 0) + 1);
     expect(kinds.get('valid')).toBeGreaterThan(30_000);
     expect(kinds.get('random')).toBeGreaterThan(10_000);
-    for (const m of ['byte-flip', 'truncate', 'drop-char', 'key-swap', 'value-swap', 'huge-number', 'not-finite', 'out-of-range', 'nul', 'invalid-utf8', 'very-long', 'wrong-type', 'not-an-object', 'crlf-bom']) {
+    for (const m of [
+      'byte-flip',
+      'truncate',
+      'drop-char',
+      'key-swap',
+      'value-swap',
+      'huge-number',
+      'not-finite',
+      'out-of-range',
+      'nul',
+      'invalid-utf8',
+      'very-long',
+      'wrong-type',
+      'not-an-object',
+      'crlf-bom',
+    ]) {
       expect(kinds.get(`mutated:${m}`), m).toBeGreaterThan(2000);
     }
     expect(lines.filter((l) => l.bytes.length > 64 * 1024).length).toBeGreaterThan(250);
@@ -99,7 +118,8 @@ describe('fuzz: 100 000 random and mutated lines', () => {
         continue;
       }
       const reason = d.verdict.reason;
-      const expected = alone === null ? 'line longer than 65536 bytes (cut)' : alone.ok ? 'time not increasing' : alone.reason;
+      const expected =
+        alone === null ? 'line longer than 65536 bytes (cut)' : alone.ok ? 'time not increasing' : alone.reason;
       if (!KNOWN_REASON.test(reason)) wrong.push(`${where}: unknown reason ${JSON.stringify(reason)}`);
       if (reason !== expected) wrong.push(`${where}: ${JSON.stringify(reason)} instead of ${JSON.stringify(expected)}`);
       const kind = reason.replace(/ \(got .*\)$/s, '').replace(/^[\w]+ must be .*/s, 'a key out of its rule');
@@ -107,7 +127,15 @@ describe('fuzz: 100 000 random and mutated lines', () => {
     }
     expect(wrong.slice(0, 10)).toEqual([]);
     // Many different faults were actually reached, not one reason for everything.
-    for (const r of ['invalid JSON', 'binary noise (control or invalid bytes)', 'NaN or Infinity is not a finite number', 'a key out of its rule', 'time not increasing', 'line longer than 65536 bytes (cut)', 'bank_deg or nz is required']) {
+    for (const r of [
+      'invalid JSON',
+      'binary noise (control or invalid bytes)',
+      'NaN or Infinity is not a finite number',
+      'a key out of its rule',
+      'time not increasing',
+      'line longer than 65536 bytes (cut)',
+      'bank_deg or nz is required',
+    ]) {
       expect(reasons.get(r), r).toBeGreaterThan(50);
     }
     expect([...reasons.keys()].some((r) => r.startsWith('exactly one airspeed key'))).toBe(true);
@@ -123,10 +151,13 @@ describe('fuzz: 100 000 random and mutated lines', () => {
       if (!d.verdict.ok) continue;
       const f = d.verdict.frame;
       const where = `line ${d.lineNo}`;
-      if (![f.tS, f.airspeedMps, f.altM, f.bankDeg ?? 0, f.nz ?? 0, f.oatC ?? 0, f.massKg ?? 1].every(Number.isFinite)) wrong.push(`${where}: not finite`);
+      if (![f.tS, f.airspeedMps, f.altM, f.bankDeg ?? 0, f.nz ?? 0, f.oatC ?? 0, f.massKg ?? 1].every(Number.isFinite))
+        wrong.push(`${where}: not finite`);
       if (f.airspeedMps < 0) wrong.push(`${where}: negative airspeed`);
-      if (Math.abs(f.bankDeg ?? 0) > FRAME_BOUNDS.bankMaxAbsDeg || Math.abs(f.nz ?? 0) > FRAME_BOUNDS.nzMaxAbs) wrong.push(`${where}: bank or nz out of bounds`);
-      if (f.altM < FRAME_BOUNDS.altMinM || f.altM > FRAME_BOUNDS.altMaxM) wrong.push(`${where}: altitude out of bounds`);
+      if (Math.abs(f.bankDeg ?? 0) > FRAME_BOUNDS.bankMaxAbsDeg || Math.abs(f.nz ?? 0) > FRAME_BOUNDS.nzMaxAbs)
+        wrong.push(`${where}: bank or nz out of bounds`);
+      if (f.altM < FRAME_BOUNDS.altMinM || f.altM > FRAME_BOUNDS.altMaxM)
+        wrong.push(`${where}: altitude out of bounds`);
       if (d.newSegment) tracker.reset();
       else if (!(f.tS > lastTS)) wrong.push(`${where}: time not increasing yet accepted`);
       lastTS = f.tS;
@@ -140,18 +171,35 @@ describe('fuzz: 100 000 random and mutated lines', () => {
   it('review reads the same file without crashing: lines read = accepted + rejected, the same counts and reasons as the decoder', async () => {
     const r = await runCliCounting(['review', filePath, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--format', 'json']);
     expect(r.code).toBe(0);
-    const report = JSON.parse(r.stdout) as { frames: number; accepted: number; rejected: number; rejects: Array<{ line: number; reason: string }> };
+    const report = JSON.parse(r.stdout) as {
+      frames: number;
+      accepted: number;
+      rejected: number;
+      rejects: Array<{ line: number; reason: string }>;
+    };
     const bad = decoded.filter((d) => !d.verdict.ok);
     expect(report.frames).toBe(LINE_COUNT);
     expect(report.accepted + report.rejected).toBe(report.frames);
     expect(report.rejected).toBe(bad.length);
     // The report lists the first rejected lines with their reason: the same lines, the same reasons.
     expect(report.rejects.length).toBeGreaterThan(0);
-    expect(report.rejects).toEqual(bad.slice(0, report.rejects.length).map((d) => ({ line: d.lineNo, reason: d.verdict.ok ? '' : d.verdict.reason })));
+    expect(report.rejects).toEqual(
+      bad
+        .slice(0, report.rejects.length)
+        .map((d) => ({ line: d.lineNo, reason: d.verdict.ok ? '' : d.verdict.reason })),
+    );
   });
 
   it('replay --no-ui names every rejected line with its number and reason, and prints a record per accepted line', async () => {
-    const r = await runCliCounting(['replay', filePath, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--speed', '0', '--no-ui']);
+    const r = await runCliCounting([
+      'replay',
+      filePath,
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--speed',
+      '0',
+      '--no-ui',
+    ]);
     expect(r.code).toBe(0);
     const bad = decoded.filter((d) => !d.verdict.ok);
     expect(r.rejectedLines).toHaveLength(bad.length);

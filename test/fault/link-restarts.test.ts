@@ -48,7 +48,8 @@ function monitor(source: TelemetrySource, name: string): Monitored {
     aircraft: exampleAirframe(),
     recorder: openRecorder({ path: recordPath, sourceLabel: source.label }),
     sinks: {
-      record: (_rec, line) => frames.push({ seq: line.verdict.ok ? (line.verdict.raw['seq'] as number) : -1, connection: opens() - 1 }),
+      record: (_rec, line) =>
+        frames.push({ seq: line.verdict.ok ? (line.verdict.raw['seq'] as number) : -1, connection: opens() - 1 }),
       rejected: (_line, _where, reason) => rejected.push(reason),
       status: (s) => {
         statuses.push(s);
@@ -56,7 +57,16 @@ function monitor(source: TelemetrySource, name: string): Monitored {
       },
     },
   });
-  return { pipeline, frames, rejected, statuses, states, opens, losts: () => statuses.filter((s) => s.kind === 'lost').length, recordPath };
+  return {
+    pipeline,
+    frames,
+    rejected,
+    statuses,
+    states,
+    opens,
+    losts: () => statuses.filter((s) => s.kind === 'lost').length,
+    recordPath,
+  };
 }
 
 /** Consecutive repeats folded: the sequence of states an operator sees. */
@@ -64,10 +74,18 @@ function transitions(states: readonly LinkState[]): LinkState[] {
   return states.filter((s, i) => i === 0 || states[i - 1] !== s);
 }
 
-const expectedTransitions = (): LinkState[] => ['connecting', 'live', ...Array.from({ length: RESTARTS }, () => ['lost', 'live'] as LinkState[]).flat()];
+const expectedTransitions = (): LinkState[] => [
+  'connecting',
+  'live',
+  ...Array.from({ length: RESTARTS }, () => ['lost', 'live'] as LinkState[]).flat(),
+];
 
 function recordedLinkStates(path: string): string[] {
-  const entries = readFileSync(path).subarray(0, -1).toString('latin1').split('\n').map((r) => decodeEntry(Buffer.from(r, 'latin1')));
+  const entries = readFileSync(path)
+    .subarray(0, -1)
+    .toString('latin1')
+    .split('\n')
+    .map((r) => decodeEntry(Buffer.from(r, 'latin1')));
   return entries.flatMap((e) => (e.kind === 'link' ? [e.state] : []));
 }
 
@@ -86,7 +104,9 @@ describe('link faults during a stream', () => {
       for (let k = 0; k <= RESTARTS; k++) {
         await expect.poll(m.opens, { timeout: 5000 }).toBe(k + 1);
         // Mid-stream: the relay keeps sending until it crashes.
-        await expect.poll(() => m.frames.filter((f) => f.connection === k).length, { timeout: 10_000 }).toBeGreaterThanOrEqual(150);
+        await expect
+          .poll(() => m.frames.filter((f) => f.connection === k).length, { timeout: 10_000 })
+          .toBeGreaterThanOrEqual(150);
         if (k === RESTARTS) break;
         await relay.crash();
         await expect.poll(m.losts, { timeout: 5000 }).toBe(k + 1);
@@ -115,11 +135,21 @@ describe('link faults during a stream', () => {
     }
     expect(relay.connections()).toBe(RESTARTS + 1);
     expect(transitions(m.states)).toEqual(expectedTransitions());
-    expect(m.statuses.filter((s) => s.kind === 'lost').every((s) => /connection closed \(1006\)|connection refused/.test(s.detail ?? ''))).toBe(true);
+    expect(
+      m.statuses
+        .filter((s) => s.kind === 'lost')
+        .every((s) => /connection closed \(1006\)|connection refused/.test(s.detail ?? '')),
+    ).toBe(true);
     expect(m.pipeline.health().reconnects).toBe(RESTARTS);
     expect(m.rejected.length).toBeGreaterThan(0);
-    expect(m.rejected.every((r) => r === 'binary noise (control or invalid bytes)' || r.startsWith('invalid JSON'))).toBe(true);
-    expect(recordedLinkStates(m.recordPath)).toEqual(['open', ...Array.from({ length: RESTARTS }, () => ['lost', 'open']).flat(), 'ended']);
+    expect(
+      m.rejected.every((r) => r === 'binary noise (control or invalid bytes)' || r.startsWith('invalid JSON')),
+    ).toBe(true);
+    expect(recordedLinkStates(m.recordPath)).toEqual([
+      'open',
+      ...Array.from({ length: RESTARTS }, () => ['lost', 'open']).flat(),
+      'ended',
+    ]);
   });
 
   it('serial radio unplugged mid-stream and plugged back at the same path 5 times: each connection carries an unbroken run from its first frame; states connecting → live → (lost → live) ×5', async () => {
@@ -134,7 +164,9 @@ describe('link faults during a stream', () => {
       for (let k = 0; k <= RESTARTS; k++) {
         await expect.poll(m.opens, { timeout: 5000 }).toBe(k + 1);
         expect(await link.command(`stream ${nextSeq} 500`)).toBe('streaming');
-        await expect.poll(() => m.frames.filter((f) => f.connection === k).length, { timeout: 10_000 }).toBeGreaterThanOrEqual(150);
+        await expect
+          .poll(() => m.frames.filter((f) => f.connection === k).length, { timeout: 10_000 })
+          .toBeGreaterThanOrEqual(150);
         if (k === RESTARTS) {
           // The last connection stays: once the sender stops, everything it wrote must arrive.
           const last = Number((await link.command('pause')).split(' ')[1]);
@@ -168,7 +200,13 @@ describe('link faults during a stream', () => {
     expect(transitions(m.states)).toEqual(expectedTransitions());
     expect(m.pipeline.health().reconnects).toBe(RESTARTS);
     expect(m.rejected.filter((r) => r === 'binary noise (control or invalid bytes)').length).toBeGreaterThan(0);
-    expect(m.rejected.every((r) => r === 'binary noise (control or invalid bytes)' || r.startsWith('invalid JSON'))).toBe(true);
-    expect(recordedLinkStates(m.recordPath)).toEqual(['open', ...Array.from({ length: RESTARTS }, () => ['lost', 'open']).flat(), 'ended']);
+    expect(
+      m.rejected.every((r) => r === 'binary noise (control or invalid bytes)' || r.startsWith('invalid JSON')),
+    ).toBe(true);
+    expect(recordedLinkStates(m.recordPath)).toEqual([
+      'open',
+      ...Array.from({ length: RESTARTS }, () => ['lost', 'open']).flat(),
+      'ended',
+    ]);
   });
 });

@@ -32,7 +32,11 @@ function readRecording(path: string): RecordingEntry[] {
   const text = readFileSync(path);
   const end = text.lastIndexOf(0x0a);
   if (end < 0) return [];
-  return text.subarray(0, end).toString('latin1').split('\n').map((r) => decodeEntry(Buffer.from(r, 'latin1')));
+  return text
+    .subarray(0, end)
+    .toString('latin1')
+    .split('\n')
+    .map((r) => decodeEntry(Buffer.from(r, 'latin1')));
 }
 
 function recordedLines(entries: RecordingEntry[]): Array<Extract<RecordingEntry, { kind: 'line' }>> {
@@ -46,10 +50,24 @@ async function streamingWatch(name: string): Promise<{ relay: PacedRelay; watch:
   const relay = createPacedRelay({ rateHz: RATE_HZ, noiseEvery: NOISE_EVERY });
   const port = await relay.listen(0);
   const recordPath = join(dir, `${name}.tmrec`);
-  const watch = startCliProcess(['watch', '--ws', `ws://127.0.0.1:${port}`, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--record', recordPath, '--no-ui']);
-  cleanup.push(() => relay.close(), () => watch.child.kill('SIGKILL'));
+  const watch = startCliProcess([
+    'watch',
+    '--ws',
+    `ws://127.0.0.1:${port}`,
+    '--aircraft',
+    EXAMPLE_AIRFRAME_PATH,
+    '--record',
+    recordPath,
+    '--no-ui',
+  ]);
+  cleanup.push(
+    () => relay.close(),
+    () => watch.child.kill('SIGKILL'),
+  );
   // About 2 s of stream at 500 frames/s before the signal.
-  await expect.poll(() => watch.stdoutLinesBy(Date.now()), { timeout: 15_000, interval: 20 }).toBeGreaterThanOrEqual(1000);
+  await expect
+    .poll(() => watch.stdoutLinesBy(Date.now()), { timeout: 15_000, interval: 20 })
+    .toBeGreaterThanOrEqual(1000);
   return { relay, watch, recordPath };
 }
 
@@ -89,8 +107,15 @@ describe('recording under faults', () => {
     const seqs = frames.map((l) => seqOf(l.bytes));
     expect(seqs).toEqual(Array.from({ length: seqs.length }, (_, i) => i));
     // Every accepted frame the monitor printed and every line it rejected is in the recording, and nothing else.
-    const printed = watch.stdout().split('\n').filter(Boolean).map((l) => JSON.parse(l) as { t_s: number });
-    const rejected = watch.stderr().split('\n').filter((l) => l.startsWith('turnmargin: rejected'));
+    const printed = watch
+      .stdout()
+      .split('\n')
+      .filter(Boolean)
+      .map((l) => JSON.parse(l) as { t_s: number });
+    const rejected = watch
+      .stderr()
+      .split('\n')
+      .filter((l) => l.startsWith('turnmargin: rejected'));
     expect(frames).toHaveLength(printed.length);
     expect(lines).toHaveLength(printed.length + rejected.length);
     expect(printed.map((r) => r.t_s)).toEqual(seqs.map((s) => Number((s / RATE_HZ).toFixed(6))));
@@ -100,28 +125,44 @@ describe('recording under faults', () => {
     expect(watch.stderr()).toMatch(new RegExp(`accepted ${printed.length}, rejected ${rejected.length}`));
   });
 
-  it.skipIf(!existsSync('/dev/full'))('a full disk (recording on /dev/full) is shown on the dashboard while the monitor keeps running, and q still exits cleanly', async () => {
-    const relay = createPacedRelay({ rateHz: 50 });
-    const port = await relay.listen(0);
-    const args = [CLI_PATH, 'watch', '--ws', `ws://127.0.0.1:${port}`, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--record', '/dev/full', '--force'];
-    const screen: PtyScreen = runInPty(process.execPath, args, { cols: 120, rows: 40, cwd: REPO_ROOT });
-    cleanup.push(() => relay.close(), () => screen.kill());
-    const poll = { timeout: 10_000, interval: 50 };
+  it.skipIf(!existsSync('/dev/full'))(
+    'a full disk (recording on /dev/full) is shown on the dashboard while the monitor keeps running, and q still exits cleanly',
+    async () => {
+      const relay = createPacedRelay({ rateHz: 50 });
+      const port = await relay.listen(0);
+      const args = [
+        CLI_PATH,
+        'watch',
+        '--ws',
+        `ws://127.0.0.1:${port}`,
+        '--aircraft',
+        EXAMPLE_AIRFRAME_PATH,
+        '--record',
+        '/dev/full',
+        '--force',
+      ];
+      const screen: PtyScreen = runInPty(process.execPath, args, { cols: 120, rows: 40, cwd: REPO_ROOT });
+      cleanup.push(
+        () => relay.close(),
+        () => screen.kill(),
+      );
+      const poll = { timeout: 10_000, interval: 50 };
 
-    // In the link panel, and as the error line at the top of the event log.
-    await expect.poll(() => screen.text(), poll).toMatch(/REC ERROR recording write failed: disk full/);
-    await expect.poll(() => screen.text(), poll).toMatch(/│ERROR recording write failed: disk full/);
-    // Still monitoring: the received-line count keeps growing, the link stays live, the point is not stale.
-    const linesShown = async (): Promise<number> => Number(/lines (\d+)/.exec(await screen.text())?.[1] ?? -1);
-    const before = await linesShown();
-    expect(before).toBeGreaterThan(0);
-    await expect.poll(linesShown, poll).toBeGreaterThan(before + 50);
-    const text = await screen.text();
-    expect(text).toMatch(/LIVE/);
-    expect(text).not.toMatch(/STALE/);
+      // In the link panel, and as the error line at the top of the event log.
+      await expect.poll(() => screen.text(), poll).toMatch(/REC ERROR recording write failed: disk full/);
+      await expect.poll(() => screen.text(), poll).toMatch(/│ERROR recording write failed: disk full/);
+      // Still monitoring: the received-line count keeps growing, the link stays live, the point is not stale.
+      const linesShown = async (): Promise<number> => Number(/lines (\d+)/.exec(await screen.text())?.[1] ?? -1);
+      const before = await linesShown();
+      expect(before).toBeGreaterThan(0);
+      await expect.poll(linesShown, poll).toBeGreaterThan(before + 50);
+      const text = await screen.text();
+      expect(text).toMatch(/LIVE/);
+      expect(text).not.toMatch(/STALE/);
 
-    screen.write('q');
-    expect((await screen.exited).exitCode).toBe(0);
-    expect(await screen.text()).toMatch(/recording \/dev\/full: \d+ bytes — recording write failed: disk full/);
-  });
+      screen.write('q');
+      expect((await screen.exited).exitCode).toBe(0);
+      expect(await screen.text()).toMatch(/recording \/dev\/full: \d+ bytes — recording write failed: disk full/);
+    },
+  );
 });

@@ -13,7 +13,11 @@ export interface CliProcess {
 }
 
 export function startCliProcess(args: string[], env: NodeJS.ProcessEnv = {}): CliProcess {
-  const child = spawn(process.execPath, [CLI_PATH, ...args], { cwd: REPO_ROOT, stdio: 'pipe', env: { ...process.env, NO_COLOR: '1', ...env } });
+  const child = spawn(process.execPath, [CLI_PATH, ...args], {
+    cwd: REPO_ROOT,
+    stdio: 'pipe',
+    env: { ...process.env, NO_COLOR: '1', ...env },
+  });
   let stdout = '';
   let stderr = '';
   // (arrival time, complete lines so far) after each chunk.
@@ -25,7 +29,9 @@ export function startCliProcess(args: string[], env: NodeJS.ProcessEnv = {}): Cl
     arrivals.push([Date.now(), lines]);
   });
   child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
-  const done = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) => child.on('close', (code, signal) => resolve({ code, signal })));
+  const done = new Promise<{ code: number | null; signal: NodeJS.Signals | null }>((resolve) =>
+    child.on('close', (code, signal) => resolve({ code, signal })),
+  );
   return {
     child,
     done,

@@ -13,5 +13,7 @@ export function frameLine(fields: FrameFields): string {
 
 /** `count` frames from t = startS every stepS, seq in `seq` so each line is unique. */
 export function frameLines(count: number, startS = 0, stepS = 0.01, firstSeq = 0): string[] {
-  return Array.from({ length: count }, (_, i) => frameLine({ t_s: Number((startS + i * stepS).toFixed(6)), seq: firstSeq + i }));
+  return Array.from({ length: count }, (_, i) =>
+    frameLine({ t_s: Number((startS + i * stepS).toFixed(6)), seq: firstSeq + i }),
+  );
 }

@@ -21,7 +21,11 @@ const NOT_FINITE = ['NaN', 'Infinity', '-Infinity', '"NaN"', 'nan', 'null', 'tru
 
 function validFrameText(tS: number, rand: () => number): string {
   const speedKey = ['tas_mps', 'cas_mps', 'ias_mps'][Math.floor(rand() * 3)]!;
-  const fields: Record<string, number> = { t_s: Number(tS.toFixed(3)), [speedKey]: Number((14 + rand() * 12).toFixed(2)), alt_m: Number((50 + rand() * 300).toFixed(1)) };
+  const fields: Record<string, number> = {
+    t_s: Number(tS.toFixed(3)),
+    [speedKey]: Number((14 + rand() * 12).toFixed(2)),
+    alt_m: Number((50 + rand() * 300).toFixed(1)),
+  };
   const r = rand();
   if (r < 0.4) fields['bank_deg'] = Number((rand() * 120 - 60).toFixed(2));
   else if (r < 0.7) fields['nz'] = Number((0.5 + rand() * 2.5).toFixed(3));
@@ -45,55 +49,101 @@ function replaceValue(text: string, key: string, value: string): string {
 }
 
 const MUTATIONS: ReadonlyArray<readonly [string, Mutation]> = [
-  ['byte-flip', (t, r) => {
-    const b = utf8(t);
-    const flips = 1 + Math.floor(r() * 3);
-    for (let i = 0; i < flips; i++) b[Math.floor(r() * b.length)] = Math.floor(r() * 256);
-    return b;
-  }],
+  [
+    'byte-flip',
+    (t, r) => {
+      const b = utf8(t);
+      const flips = 1 + Math.floor(r() * 3);
+      for (let i = 0; i < flips; i++) b[Math.floor(r() * b.length)] = Math.floor(r() * 256);
+      return b;
+    },
+  ],
   ['truncate', (t, r) => utf8(t.slice(0, 1 + Math.floor(r() * (t.length - 1))))],
-  ['drop-char', (t, r) => {
-    const i = Math.floor(r() * t.length);
-    return utf8(t.slice(0, i) + t.slice(i + 1));
-  }],
-  ['key-swap', (t, r) => {
-    // Rename one key to another (duplicates, two airspeeds, a missing required key).
-    const from = pick(KEYS, r);
-    const to = pick([...KEYS, 'speed', 'T_S', ''], r);
-    return utf8(t.replace(`"${from}"`, `"${to}"`));
-  }],
-  ['value-swap', (t, r) => {
-    // Two values exchanged: altitude as time, bank as speed…
-    const obj = JSON.parse(t) as Record<string, unknown>;
-    const keys = Object.keys(obj);
-    const a = pick(keys, r);
-    const b = pick(keys, r);
-    [obj[a], obj[b]] = [obj[b], obj[a]];
-    return utf8(JSON.stringify(obj));
-  }],
+  [
+    'drop-char',
+    (t, r) => {
+      const i = Math.floor(r() * t.length);
+      return utf8(t.slice(0, i) + t.slice(i + 1));
+    },
+  ],
+  [
+    'key-swap',
+    (t, r) => {
+      // Rename one key to another (duplicates, two airspeeds, a missing required key).
+      const from = pick(KEYS, r);
+      const to = pick([...KEYS, 'speed', 'T_S', ''], r);
+      return utf8(t.replace(`"${from}"`, `"${to}"`));
+    },
+  ],
+  [
+    'value-swap',
+    (t, r) => {
+      // Two values exchanged: altitude as time, bank as speed…
+      const obj = JSON.parse(t) as Record<string, unknown>;
+      const keys = Object.keys(obj);
+      const a = pick(keys, r);
+      const b = pick(keys, r);
+      [obj[a], obj[b]] = [obj[b], obj[a]];
+      return utf8(JSON.stringify(obj));
+    },
+  ],
   ['huge-number', (t, r) => utf8(replaceValue(t, pick(KEYS, r), pick(HUGE, r)))],
-  ['not-finite', (t, r) => utf8(replaceValue(t, pick(['t_s', 'tas_mps', 'cas_mps', 'ias_mps', 'alt_m', 'bank_deg', 'nz'], r), pick(NOT_FINITE, r)))],
-  ['out-of-range', (t, r) => {
-    const [key, value] = pick(
-      [['bank_deg', '181'], ['bank_deg', '-720'], ['nz', '25'], ['alt_m', '-600'], ['alt_m', '20001'], ['tas_mps', '-3'], ['oat_c', '500'], ['mass_kg', '0']] as const,
-      r,
-    );
-    return utf8(t.includes(`"${key}"`) ? replaceValue(t, key, value) : t.replace('{', `{"${key}":${value},`));
-  }],
-  ['nul', (t, r) => {
-    const i = Math.floor(r() * t.length);
-    return Buffer.concat([utf8(t.slice(0, i)), Buffer.from([0]), utf8(t.slice(i))]);
-  }],
-  ['invalid-utf8', (t, r) => {
-    const bad = pick([[0xff], [0xc3], [0xe2, 0x82], [0xed, 0xa0, 0x80], [0xf8, 0x88, 0x80, 0x80, 0x80], [0xc0, 0xaf]], r);
-    const i = Math.floor(r() * t.length);
-    return Buffer.concat([utf8(t.slice(0, i)), Buffer.from(bad), utf8(t.slice(i))]);
-  }],
-  ['very-long', (t, r) => {
-    // Either over the 64 KiB cap (cut) or long but under it (an extra key: accepted if the rest is valid).
-    const size = r() < 0.1 ? 66_000 + Math.floor(r() * 8_000) : 1000 + Math.floor(r() * 5_000);
-    return utf8(t.replace('{', `{"pad":"${'x'.repeat(size)}",`));
-  }],
+  [
+    'not-finite',
+    (t, r) =>
+      utf8(
+        replaceValue(
+          t,
+          pick(['t_s', 'tas_mps', 'cas_mps', 'ias_mps', 'alt_m', 'bank_deg', 'nz'], r),
+          pick(NOT_FINITE, r),
+        ),
+      ),
+  ],
+  [
+    'out-of-range',
+    (t, r) => {
+      const [key, value] = pick(
+        [
+          ['bank_deg', '181'],
+          ['bank_deg', '-720'],
+          ['nz', '25'],
+          ['alt_m', '-600'],
+          ['alt_m', '20001'],
+          ['tas_mps', '-3'],
+          ['oat_c', '500'],
+          ['mass_kg', '0'],
+        ] as const,
+        r,
+      );
+      return utf8(t.includes(`"${key}"`) ? replaceValue(t, key, value) : t.replace('{', `{"${key}":${value},`));
+    },
+  ],
+  [
+    'nul',
+    (t, r) => {
+      const i = Math.floor(r() * t.length);
+      return Buffer.concat([utf8(t.slice(0, i)), Buffer.from([0]), utf8(t.slice(i))]);
+    },
+  ],
+  [
+    'invalid-utf8',
+    (t, r) => {
+      const bad = pick(
+        [[0xff], [0xc3], [0xe2, 0x82], [0xed, 0xa0, 0x80], [0xf8, 0x88, 0x80, 0x80, 0x80], [0xc0, 0xaf]],
+        r,
+      );
+      const i = Math.floor(r() * t.length);
+      return Buffer.concat([utf8(t.slice(0, i)), Buffer.from(bad), utf8(t.slice(i))]);
+    },
+  ],
+  [
+    'very-long',
+    (t, r) => {
+      // Either over the 64 KiB cap (cut) or long but under it (an extra key: accepted if the rest is valid).
+      const size = r() < 0.1 ? 66_000 + Math.floor(r() * 8_000) : 1000 + Math.floor(r() * 5_000);
+      return utf8(t.replace('{', `{"pad":"${'x'.repeat(size)}",`));
+    },
+  ],
   ['wrong-type', (t, r) => utf8(replaceValue(t, pick(KEYS, r), pick(['"fast"', '[1,2]', '{"v":1}', 'false'], r)))],
   ['not-an-object', (t, r) => utf8(pick([`[${t}]`, JSON.stringify(t), '42', 'null', `${t}${t}`, `${t},`], r))],
   ['crlf-bom', (t, r) => utf8(pick([`${t}\r`, `\uFEFF${t}`, `\uFEFF${t}\r`, `  ${t}\t`], r))],
@@ -111,7 +161,10 @@ function randomLine(rand: () => number): Buffer {
 /** An LF would split the line; a blank line is skipped rather than judged. Keep one non-blank physical line. */
 function oneLine(bytes: Buffer): Buffer {
   for (let i = 0; i < bytes.length; i++) if (bytes[i] === 0x0a) bytes[i] = 0x3f;
-  const text = bytes.toString('utf8').replace(/^\uFEFF/, '').replace(/\r$/, '');
+  const text = bytes
+    .toString('utf8')
+    .replace(/^\uFEFF/, '')
+    .replace(/\r$/, '');
   return text.trim() === '' ? Buffer.concat([bytes, Buffer.from('?')]) : bytes;
 }
 

@@ -10,7 +10,9 @@ export interface PtyLink {
 }
 
 export function startPtyLink(): PtyLink {
-  const child: ChildProcessWithoutNullStreams = spawn('python3', [join(import.meta.dirname, 'pty-link.py')], { stdio: 'pipe' });
+  const child: ChildProcessWithoutNullStreams = spawn('python3', [join(import.meta.dirname, 'pty-link.py')], {
+    stdio: 'pipe',
+  });
   const answers: string[] = [];
   const waiters: Array<(line: string) => void> = [];
   let stderr = '';
@@ -26,7 +28,10 @@ export function startPtyLink(): PtyLink {
       const ready = answers.shift();
       if (ready !== undefined) return Promise.resolve(ready);
       return new Promise((resolve, reject) => {
-        const timer = setTimeout(() => reject(new Error(`pty helper: no answer to "${line}" (stderr: ${stderr})`)), timeoutMs);
+        const timer = setTimeout(
+          () => reject(new Error(`pty helper: no answer to "${line}" (stderr: ${stderr})`)),
+          timeoutMs,
+        );
         waiters.push((answer) => {
           clearTimeout(timer);
           resolve(answer);

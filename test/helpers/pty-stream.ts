@@ -18,7 +18,10 @@ export function startPtyStream(): PtyStream {
   return {
     command(line, timeoutMs = 10_000) {
       return new Promise((resolve, reject) => {
-        const timer = setTimeout(() => reject(new Error(`pty stream helper: no answer to "${line}" (stderr: ${stderr})`)), timeoutMs);
+        const timer = setTimeout(
+          () => reject(new Error(`pty stream helper: no answer to "${line}" (stderr: ${stderr})`)),
+          timeoutMs,
+        );
         waiters.push((answer) => {
           clearTimeout(timer);
           resolve(answer);

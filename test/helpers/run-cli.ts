@@ -11,7 +11,10 @@ export interface CliResult {
   stderr: string;
 }
 
-export function runCli(args: string[], options: { input?: string; timeoutMs?: number; env?: NodeJS.ProcessEnv } = {}): Promise<CliResult> {
+export function runCli(
+  args: string[],
+  options: { input?: string; timeoutMs?: number; env?: NodeJS.ProcessEnv } = {},
+): Promise<CliResult> {
   return new Promise((resolve, reject) => {
     const child = spawn(process.execPath, [CLI_PATH, ...args], {
       cwd: REPO_ROOT,

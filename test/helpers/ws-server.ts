@@ -12,7 +12,9 @@ export interface FrameServer {
 }
 
 export async function startFrameServer(port = 0): Promise<FrameServer> {
-  const child = spawn(process.execPath, [join(import.meta.dirname, 'ws-frame-server.mjs'), String(port)], { stdio: 'pipe' });
+  const child = spawn(process.execPath, [join(import.meta.dirname, 'ws-frame-server.mjs'), String(port)], {
+    stdio: 'pipe',
+  });
   const seen: string[] = [];
   const waiters: Array<{ pattern: RegExp; resolve: (l: string) => void }> = [];
   let stderr = '';
@@ -26,7 +28,10 @@ export async function startFrameServer(port = 0): Promise<FrameServer> {
     const j = seen.findIndex((l) => pattern.test(l));
     if (j >= 0) return Promise.resolve(seen.splice(j, 1)[0]!);
     return new Promise((resolve, reject) => {
-      const timer = setTimeout(() => reject(new Error(`ws server: no line matching ${pattern} (stderr: ${stderr})`)), timeoutMs);
+      const timer = setTimeout(
+        () => reject(new Error(`ws server: no line matching ${pattern} (stderr: ${stderr})`)),
+        timeoutMs,
+      );
       waiters.push({
         pattern,
         resolve: (l) => {

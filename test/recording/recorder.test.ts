@@ -2,7 +2,7 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'no
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { InputError } from '../../src/cli/errors.js';
+import { InputError } from '../../src/errors.js';
 import { readFrameFile } from '../../src/decode/read-frames.js';
 import { decodeEntry, RECORDING_MAGIC } from '../../src/recording/format.js';
 import { openRecorder } from '../../src/recording/recorder.js';
@@ -24,7 +24,11 @@ describe('recorder', () => {
     rec.close();
     const file = readFileSync(path);
     const records = file.toString('latin1').split('\n');
-    expect(records.slice(0, 3)).toEqual([RECORDING_MAGIC, '#source serial /dev/ttyX @ 57600', '#started 2026-01-01T00:00:00.000Z']);
+    expect(records.slice(0, 3)).toEqual([
+      RECORDING_MAGIC,
+      '#source serial /dev/ttyX @ 57600',
+      '#started 2026-01-01T00:00:00.000Z',
+    ]);
     expect(records[3]).toBe(`#link ${T0} open`);
     expect(records[4]).toBe(`${T0 + 5}\t${frameLine({ t_s: 1 })}`);
     const noiseEntry = decodeEntry(Buffer.from(records[5]!, 'latin1'));
@@ -45,7 +49,9 @@ describe('recorder', () => {
   });
 
   it('names a directory that does not exist', () => {
-    expect(() => openRecorder({ path: join(dir, 'no', 'such', 'x.tmrec'), sourceLabel: 'x' })).toThrow(/cannot create the recording file \(no such directory\)/);
+    expect(() => openRecorder({ path: join(dir, 'no', 'such', 'x.tmrec'), sourceLabel: 'x' })).toThrow(
+      /cannot create the recording file \(no such directory\)/,
+    );
   });
 
   it('flushes on its timer without being closed', async () => {

@@ -54,7 +54,13 @@ describe('n–V plot SVG', () => {
 
   it('holds the stall curve, the thrust-limited curve and the structural lines', () => {
     const els = checkXml(render());
-    for (const id of ['stall-curve', 'thrust-curve', 'structural-limit', 'structural-limit-negative', 'stall-curve-negative']) {
+    for (const id of [
+      'stall-curve',
+      'thrust-curve',
+      'structural-limit',
+      'structural-limit-negative',
+      'stall-curve-negative',
+    ]) {
       const path = byId(els, id);
       expect(path, id).toBeDefined();
       expect(vertices(path!.attributes['d']!).length, id).toBeGreaterThanOrEqual(2);
@@ -109,7 +115,14 @@ describe('n–V plot SVG', () => {
     const texts = els.filter((e) => e.name === 'text').map((e) => e.text);
     expect(texts.some((t) => t.startsWith('Load factor against airspeed — Example airframe'))).toBe(true);
     expect(texts.some((t) => t.includes('median density 1.2250 kg/m³'))).toBe(true);
-    for (const word of ['Stall (CLmax)', 'Thrust (sustained turn)', 'Structure', 'normal (circle) ×2', 'caution (triangle) ×2', 'warning (square) ×1']) {
+    for (const word of [
+      'Stall (CLmax)',
+      'Thrust (sustained turn)',
+      'Structure',
+      'normal (circle) ×2',
+      'caution (triangle) ×2',
+      'warning (square) ×1',
+    ]) {
       expect(texts, word).toContain(word);
     }
     expect(texts.some((t) => t.startsWith('Advisory only'))).toBe(true);

@@ -20,7 +20,13 @@ afterEach(async () => {
 });
 
 async function start(extra: Partial<ServeServerOptions> = {}): Promise<ServeServer> {
-  const server = await startServeServer({ aircraft: exampleAirframe(), host: '127.0.0.1', port: 0, margins: {}, ...extra });
+  const server = await startServeServer({
+    aircraft: exampleAirframe(),
+    host: '127.0.0.1',
+    port: 0,
+    margins: {},
+    ...extra,
+  });
   servers.push(server);
   return server;
 }
@@ -41,7 +47,9 @@ class Client {
       this.ws.once('error', reject);
     });
     this.opened.catch(() => undefined);
-    this.closed = new Promise((resolve) => this.ws.once('close', (code, reason) => resolve({ code, reason: reason.toString() })));
+    this.closed = new Promise((resolve) =>
+      this.ws.once('close', (code, reason) => resolve({ code, reason: reason.toString() })),
+    );
     this.ws.on('message', (data) => {
       this.answers.push(JSON.parse(String(data)) as Record<string, unknown>);
       for (const w of this.waiters.splice(0)) w();
@@ -81,7 +89,21 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     const answers = await client.until(4);
     expect(answers).toEqual(coreAnswers(lines));
     // The exact keys of the margin record are all there.
-    for (const key of ['t_s', 'tas_mps', 'eas_mps', 'density_kg_m3', 'n_measured', 'n_stall', 'n_thrust', 'n_structural', 'utilization', 'bank_limit_deg', 'bank_sustained_deg', 'level', 'alerts']) {
+    for (const key of [
+      't_s',
+      'tas_mps',
+      'eas_mps',
+      'density_kg_m3',
+      'n_measured',
+      'n_stall',
+      'n_thrust',
+      'n_structural',
+      'utilization',
+      'bank_limit_deg',
+      'bank_sustained_deg',
+      'level',
+      'alerts',
+    ]) {
       expect(answers[0]).toHaveProperty(key);
     }
     expect(Object.keys(answers[0]!['utilization'] as object).sort()).toEqual(['stall', 'structure', 'thrust']);
@@ -165,7 +187,8 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     const server = await start();
     const clients = Array.from({ length: 10 }, () => new Client(server.url));
     await Promise.all(clients.map((c) => c.opened));
-    const linesOf = (k: number) => Array.from({ length: 20 }, (_, i) => frameLine(i * 0.05, { nz: 1 + 0.1 * k + 0.01 * i, tas_mps: 15 + k }));
+    const linesOf = (k: number) =>
+      Array.from({ length: 20 }, (_, i) => frameLine(i * 0.05, { nz: 1 + 0.1 * k + 0.01 * i, tas_mps: 15 + k }));
     // All clients send at once, one frame per message.
     clients.forEach((c, k) => linesOf(k).forEach((l) => c.ws.send(l)));
     await Promise.all(clients.map((c) => c.until(20)));
@@ -207,7 +230,11 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     for (const line of linesA) expect(text).toContain(`\t${line}\n`);
     const readBack = [];
     for await (const line of readFrameFile(first)) readBack.push(line);
-    expect(readBack.map((l) => (l.verdict.ok ? l.verdict.frame.tS : l.verdict.reason))).toEqual([0, 'invalid JSON', 0.1]);
+    expect(readBack.map((l) => (l.verdict.ok ? l.verdict.frame.tS : l.verdict.reason))).toEqual([
+      0,
+      'invalid JSON',
+      0.1,
+    ]);
   });
 
   it('closes every client with 1001 on shutdown and reports what it served', async () => {
@@ -227,6 +254,9 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     await client.opened;
     client.ws.send('');
     client.ws.send('\n\n');
-    expect(await client.until(2)).toEqual([{ error: 'empty message (no frame in it)' }, { error: 'empty message (no frame in it)' }]);
+    expect(await client.until(2)).toEqual([
+      { error: 'empty message (no frame in it)' },
+      { error: 'empty message (no frame in it)' },
+    ]);
   });
 });

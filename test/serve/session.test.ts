@@ -13,13 +13,15 @@ describe('a serve session (one connection, no socket)', () => {
     expect(session.stats()).toEqual({ lines: 2, answered: 2, errors: 0 });
   });
 
-  it('restarts smoothing when the sender\'s clock restarts (5 frames behind), like the monitor', () => {
+  it("restarts smoothing when the sender's clock restarts (5 frames behind), like the monitor", () => {
     const session = createServeSession(exampleAirframe(), { margins: { smoothTauS: 0.15 } });
     const answers: ServeAnswer[] = [];
     for (let i = 0; i < 5; i++) answers.push(...session.handleMessage(line(100 + 0.1 * i, 1.0)));
     for (let i = 0; i < 5; i++) answers.push(...session.handleMessage(line(0.1 * i, 2.5)));
     // The first four frames behind are refused; the fifth is a new segment, whose filter starts at the raw value.
-    expect(answers.slice(5, 9).map((a) => ('error' in a ? a.error : 'record'))).toEqual(Array(4).fill('time not increasing'));
+    expect(answers.slice(5, 9).map((a) => ('error' in a ? a.error : 'record'))).toEqual(
+      Array(4).fill('time not increasing'),
+    );
     const restarted = answers[9]!;
     expect('error' in restarted).toBe(false);
     if (!('error' in restarted)) expect(restarted.n_measured).toBe(2.5);
@@ -27,7 +29,11 @@ describe('a serve session (one connection, no socket)', () => {
 
   it('hands every received line to the recorder before judging it, bad ones too', () => {
     const recorded: ReceivedLine[] = [];
-    const session = createServeSession(exampleAirframe(), { margins: {}, recorder: { writeLine: (l) => recorded.push(l) }, clock: () => 1234 });
+    const session = createServeSession(exampleAirframe(), {
+      margins: {},
+      recorder: { writeLine: (l) => recorded.push(l) },
+      clock: () => 1234,
+    });
     session.handleMessage(Buffer.from(`${line(0, 1)}\nnot json\n`));
     expect(recorded.map((r) => [r.bytes.toString('utf8'), r.receivedAtMs, r.cut])).toEqual([
       [line(0, 1), 1234, false],

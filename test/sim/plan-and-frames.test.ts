@@ -54,7 +54,13 @@ describe('flight plan validation', () => {
   });
 
   it('fills the defaults and labels unlabelled segments by position and type', () => {
-    const p = plan({ start: { alt_m: 50, tas_mps: 16 }, segments: [{ type: 'straight', duration_s: 2 }, { type: 'turn', load_factor: 1.5, duration_s: 3, label: 'n 1.5' }] });
+    const p = plan({
+      start: { alt_m: 50, tas_mps: 16 },
+      segments: [
+        { type: 'straight', duration_s: 2 },
+        { type: 'turn', load_factor: 1.5, duration_s: 3, label: 'n 1.5' },
+      ],
+    });
     expect(p.segments.map((s) => s.label)).toEqual(['1:straight', 'n 1.5']);
     expect(p.segments[1]!.turn).toEqual({ kind: 'load-factor', loadFactor: 1.5, sign: 1 });
     expect(p.segments[0]!.speed).toEqual({ kind: 'hold-entry' });
@@ -82,13 +88,21 @@ describe('airspeed conversions for the frames', () => {
   });
 
   it('reads the calibration table backwards for IAS frames, or refuses a table whose CAS does not increase', () => {
-    const table: Array<[number, number]> = [[8, 8.6], [30, 30.4]];
+    const table: Array<[number, number]> = [
+      [8, 8.6],
+      [30, 30.4],
+    ];
     const inverse = invertCalibration(table)!;
     for (const ias of [9, 15, 29]) {
       const cas = iasToCasMps(ias, table);
       expect(iasToCasMps(cas, inverse)).toBeCloseTo(ias, 9);
     }
-    expect(invertCalibration([[8, 9], [10, 8.5]])).toBeNull();
+    expect(
+      invertCalibration([
+        [8, 9],
+        [10, 8.5],
+      ]),
+    ).toBeNull();
   });
 });
 
@@ -114,7 +128,7 @@ describe('noise and frames', () => {
     expect(Math.abs(sd - 1)).toBeLessThan(0.02);
   });
 
-  it('writes the frame keys with the plan\'s airspeed key, noise only where asked, and the segment label', () => {
+  it("writes the frame keys with the plan's airspeed key, noise only where asked, and the segment label", () => {
     const p = plan({
       start: { alt_m: 200, tas_mps: 18 },
       airspeed_key: 'cas_mps',
@@ -126,7 +140,17 @@ describe('noise and frames', () => {
     const aircraft = exampleAirframe();
     const write = createFrameWriter(aircraft, p, { seed: 1 });
     const [first] = [...simulateFlight(aircraft, p, { rateHz: 10 })].map(write);
-    expect(Object.keys(first!)).toEqual(['t_s', 'cas_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg', 'heading_deg', 'segment']);
+    expect(Object.keys(first!)).toEqual([
+      't_s',
+      'cas_mps',
+      'alt_m',
+      'bank_deg',
+      'nz',
+      'oat_c',
+      'mass_kg',
+      'heading_deg',
+      'segment',
+    ]);
     // ISA at 200 m is 286.85 K = 13.70 °C (15 °C − 0.0065 K/m · 200 m, USSA 1976 lapse rate); +10 K → 23.70 °C.
     expect(first!['oat_c']).toBeCloseTo(23.7, 2);
     expect(first!['nz']).toBe(1);
@@ -138,7 +162,8 @@ describe('noise and frames', () => {
   it('gives identical frames for the same seed and different noise for another seed', () => {
     const p = plan({ start: { alt_m: 100, tas_mps: 18 }, segments: [{ type: 'turn', bank_deg: 40, duration_s: 3 }] });
     const aircraft = exampleAirframe();
-    const run = (seed: number) => [...simulateFlight(aircraft, p, { rateHz: 20 })].map(createFrameWriter(aircraft, p, { seed }));
+    const run = (seed: number) =>
+      [...simulateFlight(aircraft, p, { rateHz: 20 })].map(createFrameWriter(aircraft, p, { seed }));
     expect(run(5)).toEqual(run(5));
     expect(run(5)).not.toEqual(run(6));
   });

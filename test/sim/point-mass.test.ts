@@ -53,9 +53,17 @@ describe('a steady level turn', () => {
   }
 
   it('turns left with a negative bank and at the held load factor of a load-factor turn', () => {
-    const left = fly({ ...quiet, start: { alt_m: 100, tas_mps: 18, heading_deg: 90 }, segments: [{ type: 'turn', bank_deg: -45, duration_s: 10 }] });
+    const left = fly({
+      ...quiet,
+      start: { alt_m: 100, tas_mps: 18, heading_deg: 90 },
+      segments: [{ type: 'turn', bank_deg: -45, duration_s: 10 }],
+    });
     expect(headingRateDps(left[left.length - 11]!, left[left.length - 1]!)).toBeLessThan(0);
-    const byN = fly({ ...quiet, start: { alt_m: 100, tas_mps: 18 }, segments: [{ type: 'turn', load_factor: 2, direction: 'left', duration_s: 20 }] });
+    const byN = fly({
+      ...quiet,
+      start: { alt_m: 100, tas_mps: 18 },
+      segments: [{ type: 'turn', load_factor: 2, direction: 'left', duration_s: 20 }],
+    });
     const last = byN[byN.length - 1]!;
     expect(last.loadFactor).toBeCloseTo(2, 4);
     // A level turn at n = 2 is flown at acos(1/2) = 60° of bank (same relation, Anderson ch. 6).
@@ -80,9 +88,17 @@ describe('speed under constant thrust', () => {
     return (T - qS * (cd0 + k * cl * cl)) / m;
   }
 
-  it('accelerates as (T − D)/m integrated by hand (Newton\'s second law)', () => {
+  it("accelerates as (T − D)/m integrated by hand (Newton's second law)", () => {
     const samples = [
-      ...simulateFlight(exampleAirframe(constantThrust), plan({ ...quiet, start: { alt_m: 0, tas_mps: 14 }, segments: [{ type: 'straight', throttle: 1, duration_s: 5 }] }), { rateHz: 10 }),
+      ...simulateFlight(
+        exampleAirframe(constantThrust),
+        plan({
+          ...quiet,
+          start: { alt_m: 0, tas_mps: 14 },
+          segments: [{ type: 'straight', throttle: 1, duration_s: 5 }],
+        }),
+        { rateHz: 10 },
+      ),
     ];
     // The hand integration: forward Euler with 0.1 ms steps (a different method from the simulator's RK4).
     let V = 14;
@@ -111,7 +127,15 @@ describe('speed under constant thrust', () => {
     const b = (2 * k * W * W) / (RHO0_KG_M3 * S);
     const vMax = Math.sqrt((T + Math.sqrt(T * T - 4 * a * b)) / (2 * a));
     const samples = [
-      ...simulateFlight(exampleAirframe(constantThrust), plan({ ...quiet, start: { alt_m: 0, tas_mps: 15 }, segments: [{ type: 'straight', throttle: 1, duration_s: 120 }] }), { rateHz: 1 }),
+      ...simulateFlight(
+        exampleAirframe(constantThrust),
+        plan({
+          ...quiet,
+          start: { alt_m: 0, tas_mps: 15 },
+          segments: [{ type: 'straight', throttle: 1, duration_s: 120 }],
+        }),
+        { rateHz: 1 },
+      ),
     ];
     expect(samples[samples.length - 1]!.tasMps).toBeCloseTo(vMax, 2);
     expect(vMax).toBeGreaterThan(25); // about 27.9 m/s for these figures
@@ -135,20 +159,38 @@ describe('speed under constant thrust', () => {
 
 describe('vertical manoeuvres', () => {
   it('climbs at the commanded vertical speed in a climbing turn and descends in a descending turn', () => {
-    const climb = fly({ ...quiet, start: { alt_m: 100, tas_mps: 18 }, segments: [{ type: 'turn', bank_deg: 20, vertical_speed_mps: 1, duration_s: 20 }] });
+    const climb = fly({
+      ...quiet,
+      start: { alt_m: 100, tas_mps: 18 },
+      segments: [{ type: 'turn', bank_deg: 20, vertical_speed_mps: 1, duration_s: 20 }],
+    });
     const a = climb[climb.length - 11]!;
     const b = climb[climb.length - 1]!;
     expect((b.altM - a.altM) / (b.tS - a.tS)).toBeCloseTo(1, 2);
     // In a steady climbing turn n = cos γ / cos φ (the vertical balance L·cos φ = W·cos γ).
     expect(b.loadFactor).toBeCloseTo(Math.cos((b.flightPathDeg * Math.PI) / 180) / Math.cos((20 * Math.PI) / 180), 3);
-    const descent = fly({ ...quiet, start: { alt_m: 100, tas_mps: 18 }, segments: [{ type: 'turn', bank_deg: -20, vertical_speed_mps: -2, duration_s: 20 }] });
+    const descent = fly({
+      ...quiet,
+      start: { alt_m: 100, tas_mps: 18 },
+      segments: [{ type: 'turn', bank_deg: -20, vertical_speed_mps: -2, duration_s: 20 }],
+    });
     const c = descent[descent.length - 11]!;
     const d = descent[descent.length - 1]!;
     expect((d.altM - c.altM) / (d.tS - c.tS)).toBeCloseTo(-2, 2);
   });
 
   it('holds the load factor of a pull-up and curves the path upward as dγ/dt = g(n − cos γ)/V', () => {
-    const samples = fly({ ...quiet, start: { alt_m: 100, tas_mps: 20 }, segments: [{ type: 'straight', duration_s: 1 }, { type: 'pull_up', load_factor: 2, duration_s: 0.3 }] }, 100);
+    const samples = fly(
+      {
+        ...quiet,
+        start: { alt_m: 100, tas_mps: 20 },
+        segments: [
+          { type: 'straight', duration_s: 1 },
+          { type: 'pull_up', load_factor: 2, duration_s: 0.3 },
+        ],
+      },
+      100,
+    );
     const pull = samples.filter((s) => s.tS > 1 + 1e-9);
     for (const s of pull) expect(s.loadFactor).toBe(2);
     // Over the first 10 ms γ ≈ g·(2 − 1)/20 · 0.01 rad (small-angle start from level flight).
@@ -160,7 +202,11 @@ describe('vertical manoeuvres', () => {
 describe('limits of the model', () => {
   it('caps the lift at CLmax: a load factor beyond the stall limit is not flown', () => {
     // At 12 m/s, sea level: n_stall = q·S·CLmax/W = 0.5·1.225·144·0.55·1.2/31.38 = 1.855.
-    const samples = fly({ ...quiet, start: { alt_m: 100, tas_mps: 12 }, segments: [{ type: 'turn', load_factor: 2.5, duration_s: 2 }] });
+    const samples = fly({
+      ...quiet,
+      start: { alt_m: 100, tas_mps: 12 },
+      segments: [{ type: 'turn', load_factor: 2.5, duration_s: 2 }],
+    });
     const capped = samples.filter((s) => s.liftLimited);
     expect(capped.length).toBeGreaterThan(0);
     for (const s of capped) {
@@ -171,24 +217,56 @@ describe('limits of the model', () => {
   });
 
   it('stops with a SimulationError naming the segment when the path goes past the vertical', () => {
-    const p = plan({ ...quiet, start: { alt_m: 100, tas_mps: 20 }, segments: [{ type: 'pull_up', load_factor: 4, duration_s: 10, label: 'big pull' }] });
+    const p = plan({
+      ...quiet,
+      start: { alt_m: 100, tas_mps: 20 },
+      segments: [{ type: 'pull_up', load_factor: 4, duration_s: 10, label: 'big pull' }],
+    });
     expect(() => [...simulateFlight(exampleAirframe(), p, { rateHz: 10 })]).toThrow(SimulationError);
     expect(() => [...simulateFlight(exampleAirframe(), p, { rateHz: 10 })]).toThrow(/segment "big pull"/);
   });
 
   it('flies a table thrust model and holds its end values outside the table instead of losing the thrust', () => {
     // A table from 10 to 20 m/s; the flight starts at 22 m/s at full throttle, beyond the table.
-    const table = exampleAirframe({ thrust: { model: 'table', points: [[10, 9], [20, 5]] } });
-    const p = plan({ ...quiet, start: { alt_m: 0, tas_mps: 22 }, segments: [{ type: 'straight', throttle: 1, duration_s: 0.5 }] });
+    const table = exampleAirframe({
+      thrust: {
+        model: 'table',
+        points: [
+          [10, 9],
+          [20, 5],
+        ],
+      },
+    });
+    const p = plan({
+      ...quiet,
+      start: { alt_m: 0, tas_mps: 22 },
+      segments: [{ type: 'straight', throttle: 1, duration_s: 0.5 }],
+    });
     const first = [...simulateFlight(table, p, { rateHz: 10 })][0]!;
     expect(first.thrustN).toBeCloseTo(5, 5); // the 20 m/s end value (σ = 1 at sea level)
-    const inside = plan({ ...quiet, start: { alt_m: 0, tas_mps: 15 }, segments: [{ type: 'straight', throttle: 1, duration_s: 0.1 }] });
+    const inside = plan({
+      ...quiet,
+      start: { alt_m: 0, tas_mps: 15 },
+      segments: [{ type: 'straight', throttle: 1, duration_s: 0.1 }],
+    });
     expect([...simulateFlight(table, inside, { rateHz: 10 })][0]!.thrustN).toBeCloseTo(7, 5); // linear: (9 + 5)/2
   });
 
   it('emits a frame at the start and every 1/rate s to the end of the plan, with exact times', () => {
-    const samples = fly({ ...quiet, start: { alt_m: 0, tas_mps: 18, t_s: 100 }, segments: [{ type: 'straight', duration_s: 1.5 }, { type: 'turn', bank_deg: 10, duration_s: 1 }] }, 4);
-    expect(samples.map((s) => s.tS)).toEqual([100, 100.25, 100.5, 100.75, 101, 101.25, 101.5, 101.75, 102, 102.25, 102.5]);
+    const samples = fly(
+      {
+        ...quiet,
+        start: { alt_m: 0, tas_mps: 18, t_s: 100 },
+        segments: [
+          { type: 'straight', duration_s: 1.5 },
+          { type: 'turn', bank_deg: 10, duration_s: 1 },
+        ],
+      },
+      4,
+    );
+    expect(samples.map((s) => s.tS)).toEqual([
+      100, 100.25, 100.5, 100.75, 101, 101.25, 101.5, 101.75, 102, 102.25, 102.5,
+    ]);
     expect(samples.map((s) => s.segmentIndex)).toEqual([0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 1]);
   });
 });

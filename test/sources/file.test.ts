@@ -24,7 +24,8 @@ function play(path: string, speed: number) {
   return { source, lines, statuses, ended };
 }
 
-const seqOf = (l: ReceivedLine): number | undefined => (l.decoded?.verdict.ok ? (l.decoded.verdict.raw['seq'] as number) : undefined);
+const seqOf = (l: ReceivedLine): number | undefined =>
+  l.decoded?.verdict.ok ? (l.decoded.verdict.raw['seq'] as number) : undefined;
 
 describe('file source', () => {
   it('plays every line, judged, in file order at speed 0 and then ends', async () => {

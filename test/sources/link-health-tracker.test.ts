@@ -44,7 +44,8 @@ describe('link health tracker', () => {
       h.line(50, atMs);
       h.accepted(i * 0.1, atMs, false);
       // snapshots between this frame and the next, at several phases within the 100 ms buckets
-      if (i >= 10) for (const phaseMs of [0, 13, 62, 99]) expect(h.snapshot(atMs + phaseMs).framesPerS).toBeCloseTo(10, 9);
+      if (i >= 10)
+        for (const phaseMs of [0, 13, 62, 99]) expect(h.snapshot(atMs + phaseMs).framesPerS).toBeCloseTo(10, 9);
     }
   });
 
@@ -67,7 +68,9 @@ describe('link health tracker', () => {
   });
 
   it('groups reasons without the offending value', () => {
-    expect(reasonKind('alt_m must be a number from -500 to 20000 m (got 25000)')).toBe('alt_m must be a number from -500 to 20000 m');
+    expect(reasonKind('alt_m must be a number from -500 to 20000 m (got 25000)')).toBe(
+      'alt_m must be a number from -500 to 20000 m',
+    );
     expect(reasonKind('line longer than 65536 bytes (cut)')).toBe('line longer than 65536 bytes (cut)');
   });
 });

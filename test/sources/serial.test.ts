@@ -63,13 +63,25 @@ describe('serial source on a real pseudo-terminal', () => {
     expect(health.accepted).toBe(1200);
     expect(health.rejected).toBe(4);
 
-    const records = readFileSync(recordPath).subarray(0, -1).toString('latin1').split('\n').map((r) => decodeEntry(Buffer.from(r, 'latin1')));
+    const records = readFileSync(recordPath)
+      .subarray(0, -1)
+      .toString('latin1')
+      .split('\n')
+      .map((r) => decodeEntry(Buffer.from(r, 'latin1')));
     const lines = records.filter((r) => r.kind === 'line');
     expect(lines).toHaveLength(1204);
     const noise = lines.filter((r) => r.kind === 'line' && r.bytes.includes(Buffer.from('NOISE')));
     expect(noise).toHaveLength(4);
-    expect(noise[0]!.kind === 'line' && noise[0]!.bytes.equals(Buffer.from([0x00, 0xff, 0xfe, ...Buffer.from('NOISE'), 0x01]))).toBe(true);
-    expect(records.filter((r) => r.kind === 'link').map((r) => r.kind === 'link' && r.state)).toEqual(['open', 'lost', 'open', 'ended']);
+    expect(
+      noise[0]!.kind === 'line' &&
+        noise[0]!.bytes.equals(Buffer.from([0x00, 0xff, 0xfe, ...Buffer.from('NOISE'), 0x01])),
+    ).toBe(true);
+    expect(records.filter((r) => r.kind === 'link').map((r) => r.kind === 'link' && r.state)).toEqual([
+      'open',
+      'lost',
+      'open',
+      'ended',
+    ]);
   });
 
   it('reports a port that does not exist as lost and keeps retrying without crashing', async () => {

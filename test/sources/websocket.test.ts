@@ -64,7 +64,9 @@ describe('websocket source against a real ws server on 127.0.0.1', () => {
       await expect.poll(c.opens, { timeout: 5000 }).toBe(1);
       await server.waitFor(/^connected/);
       server.send('big');
-      await expect.poll(() => c.statuses.find((s) => s.kind === 'lost')?.detail, { timeout: 5000 }).toBe('message larger than 1 MiB refused');
+      await expect
+        .poll(() => c.statuses.find((s) => s.kind === 'lost')?.detail, { timeout: 5000 })
+        .toBe('message larger than 1 MiB refused');
       await expect.poll(c.opens, { timeout: 5000 }).toBe(2);
       await server.waitFor(/^connected/);
       server.send('send 0 20');

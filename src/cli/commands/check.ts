@@ -4,16 +4,23 @@
  */
 import { checkSummary, failingEvents, type FailLevel } from '../../report/review-report.js';
 import { choiceOption, type CommandSpec, type ParsedArgs } from '../args.js';
-import { EXIT_CHECK_FAILED, EXIT_OK } from '../errors.js';
+import { EXIT_CHECK_FAILED, EXIT_OK } from '../../errors.js';
 import { FLIGHT_INPUT_OPTIONS, parseFlightInput, reviewFlight } from './review.js';
 
 export const spec: CommandSpec = {
   name: 'check',
   summary: 'pass/fail a recorded flight against the alert levels (for CI)',
-  usage: 'turnmargin check FILE --aircraft FILE [--fail-on caution|warning] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+  usage:
+    'turnmargin check FILE --aircraft FILE [--fail-on caution|warning] [--thresholds FILE] [--smooth S] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
-    { name: 'fail-on', type: 'string', valueName: 'LEVEL', defaultText: 'warning', description: 'fail when an event reaches this level: caution or warning' },
+    {
+      name: 'fail-on',
+      type: 'string',
+      valueName: 'LEVEL',
+      defaultText: 'warning',
+      description: 'fail when an event reaches this level: caution or warning',
+    },
   ],
   notes: [
     'Prints a one-screen summary. Exit 0: no event reached the level; 1: at least one did; 2: unusable input ' +
@@ -27,6 +34,8 @@ export async function run(args: ParsedArgs): Promise<number> {
   const failOn = choiceOption<FailLevel>(args, 'fail-on', ['caution', 'warning'], 'warning');
   const input = parseFlightInput(args, 'check');
   const review = await reviewFlight(input);
-  process.stdout.write(checkSummary(review, { source: input.file, aircraft: input.aircraft, aircraftFile: input.aircraftFile }, failOn));
+  process.stdout.write(
+    checkSummary(review, { source: input.file, aircraft: input.aircraft, aircraftFile: input.aircraftFile }, failOn),
+  );
   return failingEvents(review, failOn).length > 0 ? EXIT_CHECK_FAILED : EXIT_OK;
 }

@@ -8,7 +8,7 @@ import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createFileSource } from '../../sources/file.js';
 import { numberOption, type CommandSpec, type ParsedArgs } from '../args.js';
-import { InputError } from '../errors.js';
+import { InputError } from '../../errors.js';
 import { runMonitor } from '../live.js';
 import { loadAircraftFile } from '../load.js';
 
@@ -17,8 +17,18 @@ export const spec: CommandSpec = {
   summary: 'replay the bundled demo flight with the demo airframe on the dashboard, looping (npm start)',
   usage: 'turnmargin demo [--speed X] [--no-ui]',
   options: [
-    { name: 'speed', type: 'string', valueName: 'X', defaultText: '1 (real time)', description: 'replay speed; + and − change it on the dashboard' },
-    { name: 'no-ui', type: 'boolean', description: 'print the margin records of one pass as JSON lines instead of the dashboard' },
+    {
+      name: 'speed',
+      type: 'string',
+      valueName: 'X',
+      defaultText: '1 (real time)',
+      description: 'replay speed; + and − change it on the dashboard',
+    },
+    {
+      name: 'no-ui',
+      type: 'boolean',
+      description: 'print the margin records of one pass as JSON lines instead of the dashboard',
+    },
   ],
   notes: [
     'The demo airframe and flight (replays/) are an invented scenario: no real aircraft is described.',
@@ -45,7 +55,9 @@ export function findReplaysDir(startDir = dirname(fileURLToPath(import.meta.url)
 export async function run(args: ParsedArgs): Promise<number> {
   const replays = findReplaysDir();
   if (replays === null || !existsSync(join(replays, DEMO_FLIGHT))) {
-    throw new InputError([`demo: the bundled demo files (replays/${DEMO_AIRFRAME}, replays/${DEMO_FLIGHT}) are missing from this installation`]);
+    throw new InputError([
+      `demo: the bundled demo files (replays/${DEMO_AIRFRAME}, replays/${DEMO_FLIGHT}) are missing from this installation`,
+    ]);
   }
   const aircraft = loadAircraftFile(join(replays, DEMO_AIRFRAME));
   const speed = numberOption(args, 'speed', 1, { min: 0, max: 256 });

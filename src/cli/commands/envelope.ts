@@ -16,7 +16,7 @@ import {
   type CommandSpec,
   type ParsedArgs,
 } from '../args.js';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
 
 export const spec: CommandSpec = {
@@ -28,18 +28,91 @@ export const spec: CommandSpec = {
     '       turnmargin envelope --aircraft FILE --altitudes A1,A2,… [--masses M1,M2,…] [--thresholds FILE] [--format csv|json|table]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON)' },
-    { name: 'altitude', type: 'string', valueName: 'M', unit: 'm, pressure altitude', defaultText: '0', description: 'altitude of the envelope' },
-    { name: 'isa-dev', type: 'string', valueName: 'C', unit: '°C (= K)', defaultText: '0', description: 'temperature deviation from ISA' },
-    { name: 'oat', type: 'string', valueName: 'C', unit: '°C', description: 'outside air temperature (instead of --isa-dev)' },
-    { name: 'mass', type: 'string', valueName: 'KG', unit: 'kg', defaultText: "the file's mass_kg", description: 'aircraft mass' },
+    {
+      name: 'altitude',
+      type: 'string',
+      valueName: 'M',
+      unit: 'm, pressure altitude',
+      defaultText: '0',
+      description: 'altitude of the envelope',
+    },
+    {
+      name: 'isa-dev',
+      type: 'string',
+      valueName: 'C',
+      unit: '°C (= K)',
+      defaultText: '0',
+      description: 'temperature deviation from ISA',
+    },
+    {
+      name: 'oat',
+      type: 'string',
+      valueName: 'C',
+      unit: '°C',
+      description: 'outside air temperature (instead of --isa-dev)',
+    },
+    {
+      name: 'mass',
+      type: 'string',
+      valueName: 'KG',
+      unit: 'kg',
+      defaultText: "the file's mass_kg",
+      description: 'aircraft mass',
+    },
     { name: 'speeds', type: 'string', valueName: 'V1,V2,…', unit: 'm/s TAS', description: 'speeds to tabulate' },
-    { name: 'from', type: 'string', valueName: 'V', unit: 'm/s TAS', defaultText: 'Vs1', description: 'first speed of a regular grid' },
-    { name: 'to', type: 'string', valueName: 'V', unit: 'm/s TAS', defaultText: 'vne_mps, else 4·Vs1', description: 'last speed of a regular grid' },
-    { name: 'step', type: 'string', valueName: 'V', unit: 'm/s', defaultText: '(to − from)/30', description: 'speed step of a regular grid' },
-    { name: 'format', type: 'string', valueName: 'FMT', defaultText: 'table', description: 'output format: table, json or csv' },
-    { name: 'altitudes', type: 'string', valueName: 'A1,A2,…', unit: 'm', description: 'bank-limit schedule: pressure altitudes' },
-    { name: 'masses', type: 'string', valueName: 'M1,M2,…', unit: 'kg', defaultText: "the file's mass_kg", description: 'bank-limit schedule: masses' },
-    { name: 'thresholds', type: 'string', valueName: 'FILE', defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust", description: 'alert thresholds (JSON) for the schedule' },
+    {
+      name: 'from',
+      type: 'string',
+      valueName: 'V',
+      unit: 'm/s TAS',
+      defaultText: 'Vs1',
+      description: 'first speed of a regular grid',
+    },
+    {
+      name: 'to',
+      type: 'string',
+      valueName: 'V',
+      unit: 'm/s TAS',
+      defaultText: 'vne_mps, else 4·Vs1',
+      description: 'last speed of a regular grid',
+    },
+    {
+      name: 'step',
+      type: 'string',
+      valueName: 'V',
+      unit: 'm/s',
+      defaultText: '(to − from)/30',
+      description: 'speed step of a regular grid',
+    },
+    {
+      name: 'format',
+      type: 'string',
+      valueName: 'FMT',
+      defaultText: 'table',
+      description: 'output format: table, json or csv',
+    },
+    {
+      name: 'altitudes',
+      type: 'string',
+      valueName: 'A1,A2,…',
+      unit: 'm',
+      description: 'bank-limit schedule: pressure altitudes',
+    },
+    {
+      name: 'masses',
+      type: 'string',
+      valueName: 'M1,M2,…',
+      unit: 'kg',
+      defaultText: "the file's mass_kg",
+      description: 'bank-limit schedule: masses',
+    },
+    {
+      name: 'thresholds',
+      type: 'string',
+      valueName: 'FILE',
+      defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust",
+      description: 'alert thresholds (JSON) for the schedule',
+    },
   ],
   notes: [
     'Speeds are true airspeeds. The sustained limit is where thrust available equals drag in the turn; the\n' +
@@ -47,7 +120,7 @@ export const spec: CommandSpec = {
       'the 14 CFR 23.337(a) normal-category default is used and the output says so.',
     'With --altitudes the command prints, for each altitude and mass, bank_limit_deg and bank_sustained_deg\n' +
       'against TAS with the caution thresholds applied: a bank-limit schedule for an autopilot.',
-    'Advisory figures for test planning, not flight-critical: the aircraft\'s approved limits, the operator\'s\n' +
+    "Advisory figures for test planning, not flight-critical: the aircraft's approved limits, the operator's\n" +
       'procedures and local aviation rules take precedence.',
   ],
 };
@@ -93,7 +166,9 @@ function limitNotes(aircraft: Aircraft): string[] {
     );
   }
   if (aircraft.nLimitNegSource !== 'file') {
-    notes.push(`n_limit_neg not given: ${aircraft.nLimitNeg.toFixed(3)} from the ${aircraft.nLimitNegSource} (−0.4 × n_limit_pos)`);
+    notes.push(
+      `n_limit_neg not given: ${aircraft.nLimitNeg.toFixed(3)} from the ${aircraft.nLimitNegSource} (−0.4 × n_limit_pos)`,
+    );
   }
   if (aircraft.thrust.model === 'table') {
     notes.push('thrust from a table: outside its speed range the thrust limit is unknown (not extrapolated)');
@@ -135,7 +210,9 @@ export async function run(args: ParsedArgs): Promise<number> {
     const format = choiceOption(args, 'format', ['csv', 'json', 'table'] as const, 'csv');
     const massList = masses ?? [aircraft.massKg];
     if (altitudes.length * massList.length > MAX_CONDITIONS) {
-      throw new UsageError(`--altitudes × --masses gives ${altitudes.length * massList.length} conditions; at most ${MAX_CONDITIONS}`);
+      throw new UsageError(
+        `--altitudes × --masses gives ${altitudes.length * massList.length} conditions; at most ${MAX_CONDITIONS}`,
+      );
     }
     const thresholds = thresholdsPath ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
     const lowest = (): number => {
@@ -147,14 +224,22 @@ export async function run(args: ParsedArgs): Promise<number> {
       return v;
     };
     const speeds = speedList(args, aircraft, lowest);
-    const request = { altitudesM: altitudes, massesKg: massList, temperature, ...(speeds ? { speedsMps: speeds } : {}) };
+    const request = {
+      altitudesM: altitudes,
+      massesKg: massList,
+      temperature,
+      ...(speeds ? { speedsMps: speeds } : {}),
+    };
     const rowCount = altitudes.length * massList.length * (speeds?.length ?? 31);
     if (rowCount > MAX_SCHEDULE_ROWS) {
-      throw new UsageError(`the schedule would have ${rowCount} rows; at most ${MAX_SCHEDULE_ROWS} (fewer altitudes, masses or speeds)`);
+      throw new UsageError(
+        `the schedule would have ${rowCount} rows; at most ${MAX_SCHEDULE_ROWS} (fewer altitudes, masses or speeds)`,
+      );
     }
     const rows = computeBankSchedule(aircraft, thresholds, request);
     if (format === 'csv') out(bankScheduleToCsv(rows));
-    else if (format === 'json') out(JSON.stringify(bankScheduleToJson(aircraft.name, thresholds, rows), null, 2) + '\n');
+    else if (format === 'json')
+      out(JSON.stringify(bankScheduleToJson(aircraft.name, thresholds, rows), null, 2) + '\n');
     else out(bankScheduleToTable(aircraft.name, rows));
     return 0;
   }
@@ -173,4 +258,3 @@ export async function run(args: ParsedArgs): Promise<number> {
   else out(envelopeToTable(envelope, notes));
   return 0;
 }
-

@@ -3,16 +3,30 @@ import { statSync } from 'node:fs';
 import { checkMappingFits } from '../../decode/read-frames.js';
 import { createFileSource } from '../../sources/file.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
-import { InputError, UsageError } from '../errors.js';
+import { InputError, UsageError } from '../../errors.js';
 import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js';
 
 export const spec: CommandSpec = {
   name: 'replay',
   summary: 'play a recorded flight through the monitor',
-  usage: 'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--no-ui]',
+  usage:
+    'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
-    { name: 'speed', type: 'string', valueName: 'X', unit: '× real time', defaultText: '1', description: 'playback speed: 1 = real time, 2 = twice as fast, 0 = as fast as possible' },
-    { name: 'mapping', type: 'string', valueName: 'FILE', description: 'column mapping (JSON) for a CSV log with a header line: which column feeds which frame key, in which unit' },
+    {
+      name: 'speed',
+      type: 'string',
+      valueName: 'X',
+      unit: '× real time',
+      defaultText: '1',
+      description: 'playback speed: 1 = real time, 2 = twice as fast, 0 = as fast as possible',
+    },
+    {
+      name: 'mapping',
+      type: 'string',
+      valueName: 'FILE',
+      description:
+        'column mapping (JSON) for a CSV log with a header line: which column feeds which frame key, in which unit',
+    },
     { name: 'loop', type: 'boolean', defaultText: 'off', description: 'start again at the end (dashboard only)' },
     ...COMMON_MONITOR_OPTIONS,
   ],
@@ -32,7 +46,9 @@ export async function run(args: ParsedArgs): Promise<number> {
   } catch (err) {
     if (err instanceof InputError) throw err;
     const code = (err as NodeJS.ErrnoException).code;
-    throw new InputError([`${path}: cannot read the flight file (${code === 'ENOENT' ? 'no such file' : (err as Error).message})`]);
+    throw new InputError([
+      `${path}: cannot read the flight file (${code === 'ENOENT' ? 'no such file' : (err as Error).message})`,
+    ]);
   }
   const speed = numberOption(args, 'speed', 1, { min: 0, max: 1000 });
   const mappingPath = stringOption(args, 'mapping');
@@ -40,7 +56,9 @@ export async function run(args: ParsedArgs): Promise<number> {
   const setup = loadMonitorSetup(args);
   const wantsUi = !setup.noUi && process.stdout.isTTY === true;
   if (args.values['loop'] === true && !wantsUi) {
-    process.stderr.write('turnmargin: note: --loop applies to the dashboard only; without it the file is played once\n');
+    process.stderr.write(
+      'turnmargin: note: --loop applies to the dashboard only; without it the file is played once\n',
+    );
   }
   const source = createFileSource({
     path,

@@ -13,28 +13,72 @@ import type { MarginRecord } from '../../core/margin-record.js';
 import { readFrameBatches, readFramePackedBatches, type ReadFrameOptions } from '../../decode/read-frames.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from '../../report/review-report.js';
-import { choiceOption, numberOption, requireOption, stringOption, type CommandSpec, type OptionSpec, type ParsedArgs } from '../args.js';
-import { EXIT_OK, InputError, UsageError } from '../errors.js';
+import {
+  choiceOption,
+  numberOption,
+  requireOption,
+  stringOption,
+  type CommandSpec,
+  type OptionSpec,
+  type ParsedArgs,
+} from '../args.js';
+import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
 import type { FrameBatchMessage, ReviewWorkerData } from '../review-worker.js';
 
 /** Options shared by review and check. */
 export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
   { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model file (JSON); required' },
-  { name: 'thresholds', type: 'string', valueName: 'FILE', description: "alert thresholds file (JSON), over the airframe's own", defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust, hysteresis 0.02" },
-  { name: 'smooth', type: 'string', valueName: 'S', unit: 's', defaultText: String(DEFAULT_SMOOTH_TAU_S), description: 'time constant of the load-factor low-pass filter; 0 turns smoothing off' },
-  { name: 'mapping', type: 'string', valueName: 'FILE', description: 'column mapping file (JSON) for a CSV log with a header line: which column feeds which frame key, in which unit' },
+  {
+    name: 'thresholds',
+    type: 'string',
+    valueName: 'FILE',
+    description: "alert thresholds file (JSON), over the airframe's own",
+    defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust, hysteresis 0.02",
+  },
+  {
+    name: 'smooth',
+    type: 'string',
+    valueName: 'S',
+    unit: 's',
+    defaultText: String(DEFAULT_SMOOTH_TAU_S),
+    description: 'time constant of the load-factor low-pass filter; 0 turns smoothing off',
+  },
+  {
+    name: 'mapping',
+    type: 'string',
+    valueName: 'FILE',
+    description:
+      'column mapping file (JSON) for a CSV log with a header line: which column feeds which frame key, in which unit',
+  },
 ];
 
 export const spec: CommandSpec = {
   name: 'review',
   summary: 'report the limit events, peaks and time in each alert level of a recorded flight',
-  usage: 'turnmargin review FILE --aircraft FILE [--format md|json|csv] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+  usage:
+    'turnmargin review FILE --aircraft FILE [--format md|json|csv] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
-    { name: 'format', type: 'string', valueName: 'FORMAT', defaultText: 'md', description: 'report format: md (for a flight-test record), json, or csv (one row per event)' },
-    { name: 'per-frame', type: 'string', valueName: 'OUT.ndjson', description: 'also write one margin record (JSON) per accepted frame to this file' },
-    { name: 'plot', type: 'string', valueName: 'OUT.svg', description: "also draw the n–V plot with the flight's points to this SVG file" },
+    {
+      name: 'format',
+      type: 'string',
+      valueName: 'FORMAT',
+      defaultText: 'md',
+      description: 'report format: md (for a flight-test record), json, or csv (one row per event)',
+    },
+    {
+      name: 'per-frame',
+      type: 'string',
+      valueName: 'OUT.ndjson',
+      description: 'also write one margin record (JSON) per accepted frame to this file',
+    },
+    {
+      name: 'plot',
+      type: 'string',
+      valueName: 'OUT.svg',
+      description: "also draw the n–V plot with the flight's points to this SVG file",
+    },
   ],
   notes: [
     'FILE is NDJSON (one frame per line), CSV with a header (or a --mapping file), or a turnmargin recording. ' +
@@ -56,13 +100,18 @@ export interface FlightInput {
 /** Parse the options review and check share: FILE, --aircraft, --thresholds, --smooth, --mapping. */
 export function parseFlightInput(args: ParsedArgs, command: string): FlightInput {
   if (args.positionals.length === 0) throw new UsageError('the telemetry FILE to read is missing', command);
-  if (args.positionals.length > 1) throw new UsageError(`one telemetry FILE expected (got ${args.positionals.length}: ${args.positionals.join(' ')})`, command);
+  if (args.positionals.length > 1)
+    throw new UsageError(
+      `one telemetry FILE expected (got ${args.positionals.length}: ${args.positionals.join(' ')})`,
+      command,
+    );
   const file = args.positionals[0]!;
   const aircraftFile = requireOption(args, 'aircraft');
   const smoothTauS = numberOption(args, 'smooth', DEFAULT_SMOOTH_TAU_S, { min: 0, max: 10 });
   const aircraft = loadAircraftFile(aircraftFile);
   const thresholdsPath = stringOption(args, 'thresholds');
-  const thresholds = thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
+  const thresholds =
+    thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
   const input: FlightInput = { file, aircraftFile, aircraft, margins: { thresholds, smoothTauS } };
   const mappingPath = stringOption(args, 'mapping');
   if (mappingPath !== undefined) input.mappingPath = mappingPath;
@@ -82,7 +131,9 @@ function createProgress(file: string): { update(bytes: number, total: number): v
       lastMs = now;
       shown = true;
       const pct = total > 0 ? Math.min(100, (bytes / total) * 100) : 0;
-      process.stderr.write(`\rreading ${basename(file)}: ${pct.toFixed(0).padStart(3)} % (${(bytes / 1048576).toFixed(1)} of ${(total / 1048576).toFixed(1)} MiB)`);
+      process.stderr.write(
+        `\rreading ${basename(file)}: ${pct.toFixed(0).padStart(3)} % (${(bytes / 1048576).toFixed(1)} of ${(total / 1048576).toFixed(1)} MiB)`,
+      );
     },
     done() {
       if (shown) process.stderr.write('\r\x1b[2K');
@@ -160,12 +211,18 @@ function reviewWorkerUrl(file: string): URL | undefined {
   return existsSync(url) ? url : undefined;
 }
 
-async function reviewInThread(input: FlightInput, readOptions: ReadFrameOptions, onRecord?: (rec: MarginRecord) => void): Promise<FlightReview> {
+async function reviewInThread(
+  input: FlightInput,
+  readOptions: ReadFrameOptions,
+  onRecord?: (rec: MarginRecord) => void,
+): Promise<FlightReview> {
   const reviewer = createFlightReviewer(input.aircraft, input.margins);
   for await (const batch of readFrameBatches(input.file, { ...readOptions, raw: false })) {
     for (const line of batch) {
       if (line.verdict.ok) {
-        const rec = reviewer.accept(line.verdict.frame, { newSegment: line.newSegment === true || line.afterReconnect === true });
+        const rec = reviewer.accept(line.verdict.frame, {
+          newSegment: line.newSegment === true || line.afterReconnect === true,
+        });
         onRecord?.(rec);
       } else {
         reviewer.reject(line.lineNo, line.verdict.reason);
@@ -212,7 +269,8 @@ async function reviewInWorker(script: URL, input: FlightInput, readOptions: Read
       const message: FrameBatchMessage = batch;
       worker.postMessage(message, [batch.frames.buffer]);
       inFlight += 1;
-      while (inFlight >= MAX_BATCHES_IN_FLIGHT && failure === undefined) await new Promise<void>((resolve) => (wake = resolve));
+      while (inFlight >= MAX_BATCHES_IN_FLIGHT && failure === undefined)
+        await new Promise<void>((resolve) => (wake = resolve));
       if (failure) throw failure;
     }
     worker.postMessage({ end: true });
@@ -233,7 +291,9 @@ export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRe
   let review: FlightReview;
   try {
     const worker = onRecord === undefined ? reviewWorkerUrl(input.file) : undefined;
-    review = worker ? await reviewInWorker(worker, input, readOptions) : await reviewInThread(input, readOptions, onRecord);
+    review = worker
+      ? await reviewInWorker(worker, input, readOptions)
+      : await reviewInThread(input, readOptions, onRecord);
   } finally {
     progress.done();
   }
@@ -255,7 +315,10 @@ export async function run(args: ParsedArgs): Promise<number> {
   const format = choiceOption(args, 'format', ['md', 'json', 'csv'] as const, 'md');
   const perFramePath = stringOption(args, 'per-frame');
   const plotPath = stringOption(args, 'plot');
-  for (const [name, path] of [['per-frame', perFramePath], ['plot', plotPath]] as const) {
+  for (const [name, path] of [
+    ['per-frame', perFramePath],
+    ['plot', plotPath],
+  ] as const) {
     if (path !== undefined && (path === input.file || path === input.aircraftFile)) {
       throw new UsageError(`--${name} ${path} would overwrite an input file`, 'review');
     }
@@ -285,7 +348,11 @@ export async function run(args: ParsedArgs): Promise<number> {
   }
 
   const text =
-    format === 'json' ? JSON.stringify(reviewToJson(review, ctx), null, 2) + '\n' : format === 'csv' ? reviewToCsv(review) : reviewToMarkdown(review, ctx);
+    format === 'json'
+      ? JSON.stringify(reviewToJson(review, ctx), null, 2) + '\n'
+      : format === 'csv'
+        ? reviewToCsv(review)
+        : reviewToMarkdown(review, ctx);
   process.stdout.write(text);
   return EXIT_OK;
 }

@@ -5,7 +5,7 @@ import { startServeServer, DEFAULT_MAX_CLIENTS, type ServeServerOptions } from '
 import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import type { MarginOptions } from '../../core/margins.js';
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
-import { EXIT_OK, InputError, UsageError } from '../errors.js';
+import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
 
 export const DEFAULT_LISTEN = '127.0.0.1:8765';
@@ -18,14 +18,58 @@ export const spec: CommandSpec = {
     '                        [--token T | --token-file FILE] [--record DIR] [--smooth S] [--max-clients N]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
-    { name: 'listen', type: 'string', valueName: 'HOST:PORT', defaultText: DEFAULT_LISTEN, description: 'address to listen on (port 0: a free port, printed at start)' },
-    { name: 'allow-remote', type: 'boolean', description: 'allow a non-loopback --listen address (reachable from the network; prints a warning)' },
-    { name: 'thresholds', type: 'string', valueName: 'FILE', defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust", description: 'alert thresholds (JSON)' },
-    { name: 'token', type: 'string', valueName: 'T', description: 'clients must present this token ("Authorization: Bearer T" header or ?token=T in the URL)' },
-    { name: 'token-file', type: 'string', valueName: 'FILE', description: 'read the token from the first line of a file (keeps it out of the process list)' },
-    { name: 'record', type: 'string', valueName: 'DIR', description: 'keep every line each client sends, one recording file per connection (replay/review read them)' },
-    { name: 'smooth', type: 'string', valueName: 'S', unit: 's', defaultText: '0.15', description: 'time constant of the load-factor low-pass filter (0 = off), per connection' },
-    { name: 'max-clients', type: 'string', valueName: 'N', defaultText: String(DEFAULT_MAX_CLIENTS), description: 'most clients at once (more are refused with HTTP 503)' },
+    {
+      name: 'listen',
+      type: 'string',
+      valueName: 'HOST:PORT',
+      defaultText: DEFAULT_LISTEN,
+      description: 'address to listen on (port 0: a free port, printed at start)',
+    },
+    {
+      name: 'allow-remote',
+      type: 'boolean',
+      description: 'allow a non-loopback --listen address (reachable from the network; prints a warning)',
+    },
+    {
+      name: 'thresholds',
+      type: 'string',
+      valueName: 'FILE',
+      defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust",
+      description: 'alert thresholds (JSON)',
+    },
+    {
+      name: 'token',
+      type: 'string',
+      valueName: 'T',
+      description: 'clients must present this token ("Authorization: Bearer T" header or ?token=T in the URL)',
+    },
+    {
+      name: 'token-file',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'read the token from the first line of a file (keeps it out of the process list)',
+    },
+    {
+      name: 'record',
+      type: 'string',
+      valueName: 'DIR',
+      description: 'keep every line each client sends, one recording file per connection (replay/review read them)',
+    },
+    {
+      name: 'smooth',
+      type: 'string',
+      valueName: 'S',
+      unit: 's',
+      defaultText: '0.15',
+      description: 'time constant of the load-factor low-pass filter (0 = off), per connection',
+    },
+    {
+      name: 'max-clients',
+      type: 'string',
+      valueName: 'N',
+      defaultText: String(DEFAULT_MAX_CLIENTS),
+      description: 'most clients at once (more are refused with HTTP 503)',
+    },
   ],
   notes: [
     'Protocol: send text messages, each holding one frame (the telemetry keys: t_s, tas_mps | cas_mps | ias_mps,\n' +
@@ -52,7 +96,9 @@ function readToken(args: ParsedArgs): string | undefined {
     try {
       token = (readFileSync(file, 'utf8').split(/\r?\n/)[0] ?? '').trim();
     } catch (err) {
-      throw new InputError([`--token-file ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message})`]);
+      throw new InputError([
+        `--token-file ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message})`,
+      ]);
     }
     if (token === '') throw new InputError([`--token-file ${file}: the first line is empty`]);
   }
@@ -64,7 +110,8 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
   const aircraft = loadAircraftFile(requireOption(args, 'aircraft'));
   const thresholdsPath = stringOption(args, 'thresholds');
-  const thresholds = thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
+  const thresholds =
+    thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
   const smoothTauS = numberOption(args, 'smooth', undefined, { min: 0, max: 10 });
   const maxClients = numberOption(args, 'max-clients', DEFAULT_MAX_CLIENTS, { integer: true, min: 1, max: 10_000 });
   const listenText = stringOption(args, 'listen') ?? DEFAULT_LISTEN;
@@ -90,7 +137,12 @@ export async function run(args: ParsedArgs): Promise<number> {
       makeDirectory(recordDir);
     } catch (err) {
       const code = (err as NodeJS.ErrnoException).code;
-      const why = code === 'EEXIST' || code === 'ENOTDIR' ? 'not a directory' : code === 'EACCES' ? 'permission denied' : (err as Error).message;
+      const why =
+        code === 'EEXIST' || code === 'ENOTDIR'
+          ? 'not a directory'
+          : code === 'EACCES'
+            ? 'permission denied'
+            : (err as Error).message;
       throw new InputError([`--record ${recordDir}: cannot use it for recordings (${why})`]);
     }
   }
@@ -113,7 +165,14 @@ export async function run(args: ParsedArgs): Promise<number> {
     server = await startServeServer(options);
   } catch (err) {
     const e = err as NodeJS.ErrnoException;
-    const why = e.code === 'EADDRINUSE' ? 'the port is in use' : e.code === 'EADDRNOTAVAIL' ? 'no such address on this machine' : e.code === 'EACCES' ? 'permission denied' : e.message;
+    const why =
+      e.code === 'EADDRINUSE'
+        ? 'the port is in use'
+        : e.code === 'EADDRNOTAVAIL'
+          ? 'no such address on this machine'
+          : e.code === 'EACCES'
+            ? 'permission denied'
+            : e.message;
     throw new InputError([`--listen ${listenText}: cannot listen (${why})`]);
   }
   // The handlers are in place before the address is printed: a client script may signal as soon as it reads it.

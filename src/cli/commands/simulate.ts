@@ -14,7 +14,7 @@ import { SimulationError, simulateFlight, type SimSample } from '../../sim/point
 import { formatWsUrl, isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { describeOutputError, isClosedPipe } from '../output-errors.js';
-import { EXIT_OK, EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
+import { EXIT_OK, EXIT_UNUSABLE, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, readJson } from '../load.js';
 
 export const spec: CommandSpec = {
@@ -26,18 +26,63 @@ export const spec: CommandSpec = {
     '                           [--speed X] [--loop] [--quiet]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
-    { name: 'plan', type: 'string', valueName: 'FILE', description: 'flight plan (JSON): start state and segments (see below); required' },
+    {
+      name: 'plan',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'flight plan (JSON): start state and segments (see below); required',
+    },
     { name: 'rate', type: 'string', valueName: 'HZ', unit: 'Hz', defaultText: '10', description: 'frame rate' },
-    { name: 'seed', type: 'string', valueName: 'N', defaultText: '1', description: 'seed of the measurement noise (same seed, same frames)' },
-    { name: 'out', type: 'string', valueName: 'FILE', defaultText: 'stdout', description: 'write NDJSON frames to a file, as fast as possible' },
+    {
+      name: 'seed',
+      type: 'string',
+      valueName: 'N',
+      defaultText: '1',
+      description: 'seed of the measurement noise (same seed, same frames)',
+    },
+    {
+      name: 'out',
+      type: 'string',
+      valueName: 'FILE',
+      defaultText: 'stdout',
+      description: 'write NDJSON frames to a file, as fast as possible',
+    },
     { name: 'force', type: 'boolean', description: 'overwrite an existing --out file' },
-    { name: 'serial', type: 'string', valueName: 'PATH', description: 'stream live to an existing serial device or pseudo-terminal (e.g. one end of a socat pair)' },
+    {
+      name: 'serial',
+      type: 'string',
+      valueName: 'PATH',
+      description: 'stream live to an existing serial device or pseudo-terminal (e.g. one end of a socat pair)',
+    },
     { name: 'baud', type: 'string', valueName: 'N', defaultText: '57600', description: 'baud rate for --serial' },
-    { name: 'pty', type: 'boolean', description: 'create a pseudo-terminal (needs python3), print its path and stream live to it' },
-    { name: 'ws-listen', type: 'string', valueName: 'HOST:PORT', description: 'stream live as a websocket server (port 0: a free port); starts when the first client connects' },
-    { name: 'allow-remote', type: 'boolean', description: 'allow --ws-listen on a non-loopback address (anyone on the network can connect)' },
-    { name: 'speed', type: 'string', valueName: 'X', defaultText: '1 (real time)', description: 'time scale of live streaming (2 = twice as fast)' },
-    { name: 'loop', type: 'boolean', description: 'live streaming: fly the plan again and again (time keeps increasing) until interrupted' },
+    {
+      name: 'pty',
+      type: 'boolean',
+      description: 'create a pseudo-terminal (needs python3), print its path and stream live to it',
+    },
+    {
+      name: 'ws-listen',
+      type: 'string',
+      valueName: 'HOST:PORT',
+      description: 'stream live as a websocket server (port 0: a free port); starts when the first client connects',
+    },
+    {
+      name: 'allow-remote',
+      type: 'boolean',
+      description: 'allow --ws-listen on a non-loopback address (anyone on the network can connect)',
+    },
+    {
+      name: 'speed',
+      type: 'string',
+      valueName: 'X',
+      defaultText: '1 (real time)',
+      description: 'time scale of live streaming (2 = twice as fast)',
+    },
+    {
+      name: 'loop',
+      type: 'boolean',
+      description: 'live streaming: fly the plan again and again (time keeps increasing) until interrupted',
+    },
     { name: 'quiet', type: 'boolean', description: 'no segment summary on stderr' },
   ],
   notes: [
@@ -51,13 +96,13 @@ export const spec: CommandSpec = {
       '  pull_up       wings level at "load_factor"\n' +
       'Any segment: "label" (written as "segment" in each frame), and "throttle" (0…1 of the thrust available)\n' +
       'or "tas_mps" (speed to hold); by default the autothrottle holds the speed the segment began with.',
-    'The model: a point mass with dV/dt = (T − D)/m − g·sin γ, the airframe\'s thrust model and drag polar at the\n' +
+    "The model: a point mass with dV/dt = (T − D)/m − g·sin γ, the airframe's thrust model and drag polar at the\n" +
       'flown CL = n·W/(q·S), density from ISA at the flown altitude, a simple autopilot (roll-rate-limited bank,\n' +
       'load factor to hold the vertical path, autothrottle), lift capped at CLmax. Frames carry t_s, the airspeed,\n' +
       'alt_m, bank_deg, nz (with seeded noise on nz and on the airspeed), heading_deg and segment.',
     'The model ignores: pitch dynamics (the load factor changes at once), sideslip and uncoordinated flight, wind\n' +
       'and turbulence, the stall itself (the wing holds CLmax instead of departing), engine and propeller lag,\n' +
-      'battery or fuel mass change, ground effect and the Earth\'s curvature. It is a test stimulus, not a flight\n' +
+      "battery or fuel mass change, ground effect and the Earth's curvature. It is a test stimulus, not a flight\n" +
       'model of any real aircraft.',
     'Live outputs are paced in real time (see --speed); --out and stdout are written as fast as possible.',
   ],
@@ -88,7 +133,11 @@ interface SegmentSummary {
   liftLimitedS: number;
 }
 
-function summarize(samples: Iterable<SimSample>, plan: FlightPlan, periodS: number): { summaries: SegmentSummary[]; frames: number } {
+function summarize(
+  samples: Iterable<SimSample>,
+  plan: FlightPlan,
+  periodS: number,
+): { summaries: SegmentSummary[]; frames: number } {
   const summaries: SegmentSummary[] = [];
   let frames = 0;
   for (const s of samples) {
@@ -139,7 +188,13 @@ function formatSummary(plan: FlightPlan, aircraft: Aircraft, summaries: SegmentS
 }
 
 /** The frames of one pass through the plan (or endless passes with --loop), as NDJSON lines. */
-function* frameLines(aircraft: Aircraft, plan: FlightPlan, rateHz: number, seed: number, loop: boolean): Generator<{ tS: number; line: string }> {
+function* frameLines(
+  aircraft: Aircraft,
+  plan: FlightPlan,
+  rateHz: number,
+  seed: number,
+  loop: boolean,
+): Generator<{ tS: number; line: string }> {
   const periodS = 1 / rateHz;
   const passS = planDurationS(plan) + periodS;
   for (let pass = 0; ; pass++) {
@@ -169,7 +224,7 @@ function writeAsync(stream: NodeJS.WritableStream, text: string): Promise<void> 
 }
 
 async function openSerialSink(path: string, baudRate: number): Promise<LiveSink> {
-  let isDevice = false;
+  let isDevice: boolean;
   try {
     isDevice = statSync(path).isCharacterDevice();
   } catch {
@@ -178,7 +233,9 @@ async function openSerialSink(path: string, baudRate: number): Promise<LiveSink>
   if (!isDevice) throw new InputError([`${path}: not a serial device or pseudo-terminal (use --out for a file)`]);
   const { SerialPort } = await import('serialport');
   const port = new SerialPort({ path, baudRate, autoOpen: false });
-  await new Promise<void>((resolve, reject) => port.open((err) => (err ? reject(new InputError([`${path}: cannot open (${err.message})`])) : resolve())));
+  await new Promise<void>((resolve, reject) =>
+    port.open((err) => (err ? reject(new InputError([`${path}: cannot open (${err.message})`])) : resolve())),
+  );
   let lost: Error | null = null;
   port.on('close', (err: Error | null) => {
     if (err) lost = err;
@@ -191,7 +248,9 @@ async function openSerialSink(path: string, baudRate: number): Promise<LiveSink>
     write(line) {
       if (lost) return Promise.reject(new InputError([`${path}: serial line lost (${lost.message})`]));
       return new Promise((resolve, reject) => {
-        port.write(line, (err) => (err ? reject(new InputError([`${path}: write failed (${err.message})`])) : undefined));
+        port.write(line, (err) =>
+          err ? reject(new InputError([`${path}: write failed (${err.message})`])) : undefined,
+        );
         port.drain((err) => (err ? reject(new InputError([`${path}: write failed (${err.message})`])) : resolve()));
       });
     },
@@ -233,13 +292,17 @@ for line in sys.stdin.buffer:
 async function openPtySink(): Promise<LiveSink & { path: string }> {
   const child: ChildProcess = spawn('python3', ['-c', PTY_HELPER], { stdio: ['pipe', 'pipe', 'inherit'] });
   const path = await new Promise<string>((resolve, reject) => {
-    child.once('error', (err) => reject(new InputError([`--pty needs python3 (${err.message}); or give --serial PATH of a socat pair`])));
+    child.once('error', (err) =>
+      reject(new InputError([`--pty needs python3 (${err.message}); or give --serial PATH of a socat pair`])),
+    );
     const rl = createInterface({ input: child.stdout! });
     rl.once('line', (line) => {
       rl.close();
       resolve(line.trim());
     });
-    child.once('exit', (code) => reject(new InputError([`the pseudo-terminal helper (python3) exited with code ${code}`])));
+    child.once('exit', (code) =>
+      reject(new InputError([`the pseudo-terminal helper (python3) exited with code ${code}`])),
+    );
   });
   const stdin = child.stdin!;
   stdin.on('error', () => undefined);
@@ -261,7 +324,10 @@ async function openWsSink(hostPort: string, allowRemote: boolean, signal: AbortS
   if (!parsed.ok) throw new UsageError(`--ws-listen ${parsed.reason}`);
   const { host, port } = parsed.value;
   if (!isLoopbackHost(host)) {
-    if (!allowRemote) throw new UsageError(`--ws-listen ${host} is not a loopback address; give --allow-remote to listen on the network`);
+    if (!allowRemote)
+      throw new UsageError(
+        `--ws-listen ${host} is not a loopback address; give --allow-remote to listen on the network`,
+      );
     process.stderr.write(`turnmargin: warning: listening on ${host}: anyone who can reach this machine can connect\n`);
   }
   const { WebSocketServer, WebSocket } = await import('ws');
@@ -316,7 +382,12 @@ function sleep(ms: number, signal: AbortSignal): Promise<void> {
 }
 
 /** Stream frames in real time (scaled by `speed`) until the plan ends or the signal aborts. */
-async function streamLive(lines: Iterable<{ tS: number; line: string }>, sink: LiveSink, speed: number, signal: AbortSignal): Promise<number> {
+async function streamLive(
+  lines: Iterable<{ tS: number; line: string }>,
+  sink: LiveSink,
+  speed: number,
+  signal: AbortSignal,
+): Promise<number> {
   let count = 0;
   let t0: number | null = null;
   const wall0 = performance.now();
@@ -347,7 +418,8 @@ async function writeAll(lines: Iterable<{ line: string }>, stream: NodeJS.Writab
 }
 
 export async function run(args: ParsedArgs): Promise<number> {
-  if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}" (the plan is given with --plan FILE)`);
+  if (args.positionals.length > 0)
+    throw new UsageError(`unexpected argument "${args.positionals[0]}" (the plan is given with --plan FILE)`);
   const aircraft = loadAircraftFile(requireOption(args, 'aircraft'));
   const plan = loadPlanFile(requireOption(args, 'plan'));
   const rateHz = numberOption(args, 'rate', DEFAULT_RATE_HZ, { above: 0, max: 1000 });
@@ -361,14 +433,22 @@ export async function run(args: ParsedArgs): Promise<number> {
   const loop = args.values['loop'] === true;
   const quiet = args.values['quiet'] === true;
 
-  const chosen = [out !== undefined && '--out', serial !== undefined && '--serial', usePty && '--pty', wsListen !== undefined && '--ws-listen'].filter(Boolean);
+  const chosen = [
+    out !== undefined && '--out',
+    serial !== undefined && '--serial',
+    usePty && '--pty',
+    wsListen !== undefined && '--ws-listen',
+  ].filter(Boolean);
   if (chosen.length > 1) throw new UsageError(`give one output at most (got ${chosen.join(' and ')})`);
   const live = serial !== undefined || usePty || wsListen !== undefined;
   if (loop && !live) throw new UsageError('--loop applies to live streaming only (--serial, --pty or --ws-listen)');
-  if (args.values['speed'] !== undefined && !live) throw new UsageError('--speed applies to live streaming only (--serial, --pty or --ws-listen)');
-  if (args.values['baud'] !== undefined && serial === undefined) throw new UsageError('--baud applies to --serial only');
+  if (args.values['speed'] !== undefined && !live)
+    throw new UsageError('--speed applies to live streaming only (--serial, --pty or --ws-listen)');
+  if (args.values['baud'] !== undefined && serial === undefined)
+    throw new UsageError('--baud applies to --serial only');
   if (args.values['force'] && out === undefined) throw new UsageError('--force applies to --out only');
-  if (args.values['allow-remote'] && wsListen === undefined) throw new UsageError('--allow-remote applies to --ws-listen only');
+  if (args.values['allow-remote'] && wsListen === undefined)
+    throw new UsageError('--allow-remote applies to --ws-listen only');
   for (const option of ['aircraft', 'plan'] as const) {
     const input = stringOption(args, option);
     if (out !== undefined && input !== undefined && resolvePath(input) === resolvePath(out)) {
@@ -397,7 +477,9 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (!quiet) process.stderr.write(formatSummary(plan, aircraft, summary.summaries, summary.frames));
   for (const s of summary.summaries) {
     if (s.liftLimitedS > 0 && !quiet) {
-      process.stderr.write(`turnmargin: note: in "${s.label}" the wing was at CLmax for ${s.liftLimitedS.toFixed(1)} s (the commanded load factor was not available; the model does not stall)\n`);
+      process.stderr.write(
+        `turnmargin: note: in "${s.label}" the wing was at CLmax for ${s.liftLimitedS.toFixed(1)} s (the commanded load factor was not available; the model does not stall)\n`,
+      );
     }
   }
 
@@ -455,7 +537,8 @@ export async function run(args: ParsedArgs): Promise<number> {
     } finally {
       await sink.close();
     }
-    if (!quiet) process.stderr.write(`sent ${count} frames to ${sink.describe}${stop.signal.aborted ? ' (interrupted)' : ''}\n`);
+    if (!quiet)
+      process.stderr.write(`sent ${count} frames to ${sink.describe}${stop.signal.aborted ? ' (interrupted)' : ''}\n`);
     return EXIT_OK;
   } catch (err) {
     if (err instanceof InputError || err instanceof UsageError) throw err;

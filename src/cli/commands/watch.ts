@@ -5,19 +5,42 @@ import { createSerialSource, DEFAULT_BAUD, whyNotASerialPort } from '../../sourc
 import { createWebSocketSource } from '../../sources/websocket.js';
 import type { TelemetrySource } from '../../sources/source.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
-import { UsageError } from '../errors.js';
+import { UsageError } from '../../errors.js';
 import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js';
 
 export const spec: CommandSpec = {
   name: 'watch',
   summary: 'monitor live telemetry from a serial radio or a websocket relay',
-  usage: 'turnmargin watch (--serial PATH [--baud N] | --ws URL) --aircraft FILE [--record FILE [--force]] [--thresholds FILE] [--smooth S] [--no-ui]',
+  usage:
+    'turnmargin watch (--serial PATH [--baud N] | --ws URL) --aircraft FILE [--record FILE [--force]] [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
-    { name: 'serial', type: 'string', valueName: 'PATH', description: 'serial device of the telemetry radio, e.g. /dev/ttyUSB0' },
-    { name: 'baud', type: 'string', valueName: 'N', unit: 'bit/s', defaultText: String(DEFAULT_BAUD), description: 'serial speed' },
-    { name: 'ws', type: 'string', valueName: 'URL', description: 'websocket relay, e.g. ws://127.0.0.1:8765/telemetry' },
+    {
+      name: 'serial',
+      type: 'string',
+      valueName: 'PATH',
+      description: 'serial device of the telemetry radio, e.g. /dev/ttyUSB0',
+    },
+    {
+      name: 'baud',
+      type: 'string',
+      valueName: 'N',
+      unit: 'bit/s',
+      defaultText: String(DEFAULT_BAUD),
+      description: 'serial speed',
+    },
+    {
+      name: 'ws',
+      type: 'string',
+      valueName: 'URL',
+      description: 'websocket relay, e.g. ws://127.0.0.1:8765/telemetry',
+    },
     ...COMMON_MONITOR_OPTIONS,
-    { name: 'record', type: 'string', valueName: 'FILE', description: 'record every received line (verbatim, with its receive time) to FILE' },
+    {
+      name: 'record',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'record every received line (verbatim, with its receive time) to FILE',
+    },
     { name: 'force', type: 'boolean', description: 'overwrite an existing recording file' },
   ],
   notes: [
@@ -32,7 +55,8 @@ function sourceFromArgs(args: ParsedArgs): TelemetrySource {
   const serial = stringOption(args, 'serial');
   const ws = stringOption(args, 'ws');
   if (serial !== undefined && ws !== undefined) throw new UsageError('give --serial PATH or --ws URL, not both');
-  if (serial === undefined && ws === undefined) throw new UsageError('a telemetry link is required: --serial PATH or --ws URL');
+  if (serial === undefined && ws === undefined)
+    throw new UsageError('a telemetry link is required: --serial PATH or --ws URL');
   if (serial !== undefined) {
     if (serial === '') throw new UsageError('--serial PATH must not be empty');
     const why = whyNotASerialPort(serial);
@@ -47,7 +71,8 @@ function sourceFromArgs(args: ParsedArgs): TelemetrySource {
   } catch {
     throw new UsageError(`--ws must be a websocket URL such as ws://127.0.0.1:8765 (got "${ws}")`);
   }
-  if (url.protocol !== 'ws:' && url.protocol !== 'wss:') throw new UsageError(`--ws must start with ws:// or wss:// (got "${ws}")`);
+  if (url.protocol !== 'ws:' && url.protocol !== 'wss:')
+    throw new UsageError(`--ws must start with ws:// or wss:// (got "${ws}")`);
   return createWebSocketSource({ url: url.href });
 }
 
@@ -59,12 +84,16 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (args.values['force'] && recordPath === undefined) throw new UsageError('--force applies to --record only');
   let recorder: Recorder | undefined;
   if (recordPath !== undefined) {
-    for (const [option, input] of [['aircraft', stringOption(args, 'aircraft')], ['thresholds', stringOption(args, 'thresholds')]] as const) {
+    for (const [option, input] of [
+      ['aircraft', stringOption(args, 'aircraft')],
+      ['thresholds', stringOption(args, 'thresholds')],
+    ] as const) {
       if (input !== undefined && resolve(input) === resolve(recordPath)) {
         throw new UsageError(`--record ${recordPath} is the --${option} file: recording there would overwrite it`);
       }
     }
   }
-  if (recordPath !== undefined) recorder = openRecorder({ path: recordPath, force: args.values['force'] === true, sourceLabel: source.label });
+  if (recordPath !== undefined)
+    recorder = openRecorder({ path: recordPath, force: args.values['force'] === true, sourceLabel: source.label });
   return runMonitor({ ...setup, source, ...(recorder ? { recorder } : {}) });
 }

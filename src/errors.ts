@@ -7,7 +7,10 @@ export const EXIT_UNUSABLE = 2;
 /** Bad command line: the message names the option and what was wrong. Exit 2, with a pointer to --help. */
 export class UsageError extends Error {
   readonly code = 'usage';
-  constructor(message: string, readonly command?: string) {
+  constructor(
+    message: string,
+    readonly command?: string,
+  ) {
     super(message);
     this.name = 'UsageError';
   }
