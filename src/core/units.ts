@@ -36,3 +36,10 @@ export function radToDeg(rad: number): number {
 export function celsiusToKelvin(celsius: number): number {
   return celsius + KELVIN_OFFSET;
 }
+
+/**
+ * Bounds on a mass, kg, the same for the airframe file, a frame's mass_kg and --mass: outside them the number is a
+ * typing or unit error (grams for kilograms), not an aircraft. From a 50 g micro air vehicle to 10 t.
+ */
+export const MASS_MIN_KG = 0.05;
+export const MASS_MAX_KG = 10_000;
