@@ -104,6 +104,8 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     warnings: false,
     title: 'turnmargin',
   });
+  // terminfo's max_colors: on 8-colour terminals grey becomes black, so dim tones are drawn differently.
+  const colors = (screen as unknown as { tput?: { colors?: number } }).tput?.colors ?? 256;
 
   const panel = (): blessed.Widgets.BoxElement =>
     blessed.box({ tags: true, border: { type: 'line' }, style: { border: {} }, wrap: false });
@@ -187,7 +189,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     el.setLabel(` ${p.title} `);
     const style = el.style as { border: { fg?: string } };
     style.border.fg = color ? BORDER_COLOR[p.tone] : undefined;
-    el.setContent(renderLines(p.lines, { color }));
+    el.setContent(renderLines(p.lines, { color, colors }));
   };
 
   const drawPlot = (input: ScreenInput, stale: boolean): void => {
@@ -215,7 +217,8 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       cols: surface.width / 2,
       rows: surface.height / 4,
     });
-    const paint = (tone: Tone): string | number => (color ? CANVAS_COLOR[tone] : 'normal');
+    const paint = (tone: Tone): string | number =>
+      !color ? 'normal' : tone === 'dim' && colors <= 8 ? 'white' : CANVAS_COLOR[tone];
     for (const line of model.polylines) {
       surface.color = paint(line.tone);
       for (const [x, y] of rasterizePolyline(line.points, line.dotEvery)) surface.set(x, y);
@@ -259,9 +262,9 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       error,
     };
     const model = buildScreenModel(input, layout);
-    banner.setContent(renderLines(model.banner, { color }));
+    banner.setContent(renderLines(model.banner, { color, colors }));
     if (model.tooSmall) {
-      tooSmall.setContent(renderLines(model.tooSmall, { color }));
+      tooSmall.setContent(renderLines(model.tooSmall, { color, colors }));
     } else {
       setPanel(margins, model.margins);
       setPanel(readouts, model.readouts);
@@ -271,11 +274,11 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       const plotStyle = plot.style as { border: { fg?: string } };
       plotStyle.border.fg = color && model.stale ? BORDER_COLOR.stale : undefined;
       drawPlot(input, model.stale);
-      keys.setContent(renderLine(model.keys, { color }));
-      caution.setContent(renderLine(model.caution, { color }));
+      keys.setContent(renderLine(model.keys, { color, colors }));
+      caution.setContent(renderLine(model.caution, { color, colors }));
     }
     if (helpVisible) {
-      help.setContent(renderLines(model.help as Line[], { color }));
+      help.setContent(renderLines(model.help as Line[], { color, colors }));
       help.show();
       help.setFront();
     } else {
