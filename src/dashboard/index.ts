@@ -144,6 +144,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
   const trail = createTrail();
   const eventsByKey = new Map<string, LimitEvent>();
   let record: MarginRecord | null = null;
+  let sawSimulated = false;
   let lastRecordAtMs: number | null = null;
   let linkHealth: LinkHealth | null = null;
   let replay: ReplayStatus | null = null; // until the caller's first setReplay
@@ -260,6 +261,8 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       units,
       muted,
       error,
+      // Once a frame said it was simulated, the whole session is marked (a simulator never stops saying it).
+      simulated: sawSimulated,
     };
     const model = buildScreenModel(input, layout);
     banner.setContent(renderLines(model.banner, { color, colors }));
@@ -352,6 +355,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       if (rec.level === 'warning' && newWarnings(record?.alerts ?? [], rec.alerts).length > 0) bellPending = true;
       if (record !== null && rec.t_s < record.t_s) drawn = null;
       record = rec;
+      if ((rec as { simulated?: boolean }).simulated === true) sawSimulated = true;
       lastRecordAtMs = performance.now();
       trail.push({ tS: rec.t_s, tasMps: rec.tas_mps, n: rec.n_measured });
     },
