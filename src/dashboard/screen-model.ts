@@ -4,7 +4,8 @@
  * draws what this returns.
  */
 import { alertThreshold } from '../core/alerts.js';
-import type { LimitEvent } from '../core/events.js';
+import type { EndedBy, LimitEvent } from '../core/events.js';
+import type { ReplayState } from '../sources/source.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { LimitName } from '../core/performance.js';
 import type { AlertThresholds } from '../core/thresholds.js';
@@ -29,11 +30,27 @@ import { innerSize, type DashboardLayout } from './layout.js';
 /** After this long without a frame the data are marked STALE, s (issue contract). */
 export const STALE_AFTER_S = 1;
 
-export interface ReplayStatus {
-  positionS: number;
-  lengthS: number;
-  speed: number;
-  paused: boolean;
+/** The replay transport's state (one type from the replay stage to the screen). */
+export type ReplayStatus = ReplayState;
+
+/** What ended an event, in words for the exceedance list. */
+export function endedByWords(endedBy: EndedBy | null): string {
+  switch (endedBy) {
+    case null:
+      return '';
+    case 'cleared':
+      return 'cleared';
+    case 'data_gap':
+      return 'data lost';
+    case 'link_lost':
+      return 'link lost';
+    case 'seek':
+      return 'skipped';
+    case 'clock_restart':
+      return 'clock reset';
+    case 'end_of_data':
+      return 'data end';
+  }
 }
 
 export interface ScreenInput {
@@ -334,7 +351,7 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
         fitLine(
           [
             seg('replay ', 'dim'),
-            seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS)}`),
+            seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS ?? 0)}`),
             seg(` ×${r.speed === 0 ? 'max' : formatSpeedFactor(r.speed)} `),
             r.paused ? seg('PAUSED', 'caution') : link?.state === 'ended' ? seg('at end', 'dim') : seg('playing', 'ok'),
           ],
@@ -391,7 +408,7 @@ export function buildEventLines(input: ScreenInput, width: number, height: numbe
     lines.push(fitLine([seg('no exceedances so far', 'dim')], width));
     return lines.slice(0, Math.max(0, height));
   }
-  lines.push(fitLine([seg('  start limit     level   duration peak   at TAS', 'dim')], width));
+  lines.push(fitLine([seg('  start limit     level   duration peak   at TAS   ended', 'dim')], width));
   const newestFirst = [...input.events].sort((a, b) => b.start_s - a.start_s || (a.level === 'warning' ? -1 : 1));
   for (const ev of newestFirst) {
     if (lines.length >= height) break;
@@ -412,6 +429,7 @@ export function buildEventLines(input: ScreenInput, width: number, height: numbe
           seg(peak.padStart(6)),
           seg(' '),
           seg(formatSpeed(ev.speed_at_peak_mps, input.units)),
+          seg(ev.ended_by === null ? '' : ` ${endedByWords(ev.ended_by)}`, 'dim'),
         ],
         width,
       ),
