@@ -46,6 +46,12 @@ export function sustainedBandMps(
   };
   const speeds: number[] = [];
   for (let i = 0; i <= SCAN_STEPS; i++) speeds.push(vs1 + ((topMps - vs1) * i) / SCAN_STEPS);
+  // A thrust table's own speeds too: a table may cover less than one step of the grid.
+  if (aircraft.thrust.model === 'table') {
+    for (const [v] of aircraft.thrust.points) if (v > vs1 && v < topMps) speeds.push(v);
+    speeds.sort((a, b) => a - b);
+  }
+  const lastIndex = speeds.length - 1;
   let first = -1;
   let last = -1;
   for (let i = 0; i < speeds.length; i++) {
@@ -60,7 +66,7 @@ export function sustainedBandMps(
   if (first >= 0) {
     inside = speeds[first]!;
     below = first === 0 ? NaN : speeds[first - 1]!;
-    above = last === SCAN_STEPS ? NaN : speeds[last + 1]!;
+    above = last === lastIndex ? NaN : speeds[last + 1]!;
     const lo = Number.isNaN(below) ? inside : edge(ok, below, inside);
     const hi = Number.isNaN(above) ? speeds[last]! : edge(ok, above, speeds[last]!);
     return { loMps: lo, hiMps: hi };
