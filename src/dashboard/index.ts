@@ -6,6 +6,8 @@
 import blessed from 'blessed';
 import contrib from 'blessed-contrib';
 import type { Aircraft } from '../core/aircraft.js';
+import { isaPressurePa } from '../core/atmosphere.js';
+import { vneTasMps } from '../core/performance.js';
 import type { LimitEvent } from '../core/events.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { AlertThresholds } from '../core/thresholds.js';
@@ -203,7 +205,11 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     surface.colors = new Array(surface.colors.length);
     surface.chars = new Array(surface.chars.length);
     if (record !== null) {
-      const now = { densityKgM3: record.density_kg_m3, massKg: record.mass_kg };
+      const now = {
+        densityKgM3: record.density_kg_m3,
+        massKg: record.mass_kg,
+        vneTasMps: vneTasMps(options.aircraft, isaPressurePa(record.alt_m), record.temperature_k),
+      };
       if (isMaterialChange(drawn, now)) drawn = now;
     }
     const model = buildPlotModel({
