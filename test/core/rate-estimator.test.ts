@@ -20,7 +20,7 @@ describe('the rate estimator', () => {
       [1000, 86_400, 25, 3],
     ] as const) {
       const est = createRateEstimator(1.0);
-      let last: number | null = null;
+      let last: number | null;
       for (let i = 0; i < hz * 5; i++) {
         const t = t0 + i / hz;
         last = est.push(t, a + b * (t - t0));
