@@ -10,8 +10,14 @@ import { describeOutputError, isClosedPipe } from './output-errors.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import { createEventTracker, type LimitEvent } from '../core/events.js';
 import type { MarginRecord } from '../core/margin-record.js';
-import { createMarginTracker, type MarginOptions } from '../core/margins.js';
-import type { AlertThresholds } from '../core/thresholds.js';
+import {
+  DEFAULT_SMOOTH_TAU_S,
+  createMarginTracker,
+  frameRejection,
+  frameRejectionText,
+  type MarginOptions,
+} from '../core/margins.js';
+import { describeDefaultThresholds, type AlertThresholds } from '../core/thresholds.js';
 import { createFrameDecoder, type DecodedLine } from '../decode/frame-decoder.js';
 import type { FileLine } from '../decode/read-frames.js';
 import type { Recorder } from '../recording/recorder.js';
@@ -81,7 +87,9 @@ export function createPipeline(options: PipelineOptions): Pipeline {
     const decoded: (DecodedLine & Partial<Pick<FileLine, 'afterReconnect'>>) | null =
       line.decoded ?? decoder.judgeLine(line);
     if (!decoded) return;
-    const verdict = decoded.verdict;
+    let verdict = decoded.verdict;
+    const refused = verdict.ok ? frameRejection(options.aircraft, verdict.frame) : null;
+    if (refused) verdict = { ok: false, reason: frameRejectionText(refused) };
     if (!verdict.ok) {
       health.rejected(verdict.reason);
       const recordedAtMs = (decoded as FileLine).receivedAtMs; // a line replayed from a recording keeps its receive time
@@ -332,16 +340,17 @@ export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
     name: 'thresholds',
     type: 'string',
     valueName: 'FILE',
-    defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust",
-    description: 'alert thresholds (JSON)',
+    defaultText: `the airframe's, else ${describeDefaultThresholds()}`,
+    description:
+      'alert thresholds (JSON): an alert comes on at its threshold and goes off after clear_s below threshold − hysteresis',
   },
   {
     name: 'smooth',
     type: 'string',
     valueName: 'S',
     unit: 's',
-    defaultText: '0.15',
-    description: 'time constant of the load-factor low-pass filter (0 = off)',
+    defaultText: String(DEFAULT_SMOOTH_TAU_S),
+    description: 'time constant of the low-pass filter on the load factor and the TAS (0 = off)',
   },
   {
     name: 'no-ui',

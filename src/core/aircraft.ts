@@ -119,7 +119,7 @@ export const AircraftSchema = z.strictObject(
       .number({ error: 'must be a negative number' })
       .lt(0, { error: 'must be a negative number' })
       .optional(),
-    vne_mps: positive().optional(),
+    vne_mps: positive('a positive calibrated airspeed (CAS), m/s').optional(),
     airspeed_calibration: z
       .array(speedPoint, { error: 'must be a list of [ias_mps, cas_mps] pairs' })
       .min(1, { error: 'must hold at least one [ias_mps, cas_mps] pair' })

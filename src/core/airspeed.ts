@@ -34,6 +34,16 @@ export function casToTasMps(casMps: number, pressurePa: number, temperatureK: nu
   return mach * Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
 }
 
+/**
+ * CAS from TAS, the inverse of casToTasMps (subsonic): M = TAS/√(γRT); qc = p[(1 + 0.2M²)^3.5 − 1];
+ * CAS = a0·√(5[(qc/p0 + 1)^(2/7) − 1]).
+ */
+export function tasToCasMps(tasMps: number, pressurePa: number, temperatureK: number): number {
+  const mach = tasMps / Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
+  const impactPressurePa = pressurePa * ((1 + 0.2 * mach * mach) ** 3.5 - 1);
+  return A0_MPS * Math.sqrt(5 * ((impactPressurePa / P0_PA + 1) ** (2 / 7) - 1));
+}
+
 /** EAS = TAS·√σ. */
 export function tasToEasMps(tasMps: number, densityKgM3: number): number {
   return tasMps * Math.sqrt(densityKgM3 / RHO0_KG_M3);

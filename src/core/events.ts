@@ -95,12 +95,15 @@ function closeEvent(event: LimitEvent, endS: number): void {
 export function createEventTracker(): EventTracker {
   const all: LimitEvent[] = [];
   const open = new Map<string, LimitEvent>();
+  // Start of the running clear stretch of each open event (ActiveAlert.clear_since_s): the event ends there.
+  const clearSince = new Map<string, number>();
   let lastTS: number | null = null;
   const closeOpen = (): LimitEvent[] => {
-    const closed = [...open.values()];
-    for (const event of closed) closeEvent(event, lastTS ?? event.end_s);
+    const closed = [...open.entries()];
+    for (const [key, event] of closed) closeEvent(event, clearSince.get(key) ?? lastTS ?? event.end_s);
     open.clear();
-    return closed;
+    clearSince.clear();
+    return closed.map(([, event]) => event);
   };
   return {
     push(rec) {
@@ -111,11 +114,14 @@ export function createEventTracker(): EventTracker {
       const onNow = new Set(rec.alerts.map((a) => keyOf(a.limit, a.level)));
       for (const [key, event] of open) {
         if (!onNow.has(key)) {
-          closeEvent(event, rec.t_s);
+          closeEvent(event, clearSince.get(key) ?? rec.t_s);
           open.delete(key);
           ended.push(event);
         }
       }
+      clearSince.clear();
+      for (const a of rec.alerts)
+        if (a.clear_since_s !== undefined) clearSince.set(keyOf(a.limit, a.level), a.clear_since_s);
       const started: LimitEvent[] = [];
       // Cautions first, so a warning starting with its caution is listed after it.
       const ordered = [...rec.alerts].sort((a, b) => (a.level === b.level ? 0 : a.level === 'caution' ? -1 : 1));

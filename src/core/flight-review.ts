@@ -4,12 +4,13 @@
  * the n–V plot. Pure: the shell reads the file and feeds accepted frames and rejected lines in file order.
  */
 import type { Aircraft } from './aircraft.js';
+import { createAssumptionCounter } from './assumptions.js';
 import { createDecimator, median } from './decimate.js';
 import { createEventTracker, type LimitEvent } from './events.js';
 import { FILTER_RESTART_GAP_S } from './filter.js';
 import type { Frame } from './frame.js';
 import { createMarginTracker, resolveMarginOptions, type MarginOptions } from './margins.js';
-import type { Level, MarginRecord } from './margin-record.js';
+import type { Assumption, Level, MarginRecord } from './margin-record.js';
 import type { LimitName } from './performance.js';
 
 /** Rejected lines kept for the report (the count covers all). */
@@ -76,6 +77,8 @@ export interface FlightReview {
   /** Accepted frames the plot sample was drawn from. */
   plotPointsOf: number;
   options: MarginOptions;
+  /** Share of the accepted frames (0…1) in which each input was assumed; null without frames. */
+  assumedShare: Record<Assumption, number | null>;
 }
 
 export interface AcceptOptions {
@@ -121,7 +124,9 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
     stall: { utilization: null, t_s: null },
     thrust: { utilization: null, t_s: null },
     structure: { utilization: null, t_s: null },
+    speed: { utilization: null, t_s: null },
   };
+  const assumed = createAssumptionCounter();
   const timeInLevelS: Record<Level, number> = { normal: 0, caution: 0, warning: 0 };
   const conditions: FlightConditions = {
     altitudeM: null,
@@ -174,6 +179,8 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
       raisePeak(peaks.stall, rec.utilization.stall, rec.t_s);
       raisePeak(peaks.thrust, rec.utilization.thrust, rec.t_s);
       raisePeak(peaks.structure, rec.utilization.structure, rec.t_s);
+      raisePeak(peaks.speed, rec.utilization.speed, rec.t_s);
+      assumed.push(rec);
       conditions.altitudeM = widen(conditions.altitudeM, rec.alt_m);
       conditions.tasMps = widen(conditions.tasMps, rec.tas_mps);
       conditions.nMeasured = widen(conditions.nMeasured, rec.n_measured);
@@ -217,6 +224,7 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
         plotPoints: [...plot.normal.items(), ...plot.caution.items(), ...plot.warning.items()],
         plotPointsOf: accepted,
         options: resolved,
+        assumedShare: assumed.shares(),
       };
     },
   };

@@ -28,7 +28,7 @@ export interface DashboardLayout {
 export const MIN_COLS = 80;
 export const MIN_ROWS = 24;
 
-const MARGINS_HEIGHT = 8; // 3 limits × 2 lines + border
+const MARGINS_HEIGHT = 10; // 3 load-factor limits × 2 lines + speed + assumed inputs + border
 
 function clamp(value: number, lo: number, hi: number): number {
   return Math.min(hi, Math.max(lo, value));

@@ -6,7 +6,7 @@
  * No socket here: the server hands in message bytes and sends out the answers; the recorder is injected.
  */
 import type { Aircraft } from '../core/aircraft.js';
-import { createMarginTracker, type MarginOptions } from '../core/margins.js';
+import { createMarginTracker, frameRejection, frameRejectionText, type MarginOptions } from '../core/margins.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import { createFrameDecoder } from '../decode/frame-decoder.js';
 import { createLineSplitter } from '../decode/line-splitter.js';
@@ -67,7 +67,9 @@ export function createServeSession(aircraft: Aircraft, options: ServeSessionOpti
         const decoded = decoder.judgeLine(raw);
         if (!decoded) continue;
         stats.lines++;
-        const verdict = decoded.verdict;
+        let verdict = decoded.verdict;
+        const refused = verdict.ok ? frameRejection(aircraft, verdict.frame) : null;
+        if (refused) verdict = { ok: false, reason: frameRejectionText(refused) };
         if (!verdict.ok) {
           const answer: ServeErrorAnswer = { error: verdict.reason, line: decoded.lineNo };
           const tS = readTime(decoded.text);
