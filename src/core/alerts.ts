@@ -36,6 +36,9 @@ const KINDS: ReadonlyArray<{ limit: LimitName; level: AlertLevel }> = (['warning
     })),
 );
 
+/** Frame times this close count as equal (t_s differences such as 0.7 − 0.2 are not exact in binary). */
+const TIME_TOLERANCE_S = 1e-9;
+
 /** Hysteresis only (no clear stretch): on at value ≥ threshold; once on, held while value ≥ threshold − hysteresis. */
 export function isAlertOn(wasOn: boolean, value: number | null, threshold: number, hysteresis: number): boolean {
   if (value === null || Number.isNaN(value)) return false;
@@ -59,7 +62,7 @@ export function alertStep(
   if (previous === undefined) return above ? { limit, level } : null;
   if (held) return { limit, level };
   const since = previous.clear_since_s ?? tS;
-  if (tS - since >= clearS) return null;
+  if (tS - since >= clearS - TIME_TOLERANCE_S) return null;
   return { limit, level, clear_since_s: since };
 }
 

@@ -161,8 +161,8 @@ const LIMIT_LABEL: Record<LimitName, string> = {
   speed: 'Speed',
 };
 
-/** The speed limit in one line (CAS against vne), and the inputs assumed in words. */
-function speedAndAssumedLines(input: ScreenInput, stale: boolean, width: number): Line[] {
+/** The speed limit (CAS against vne) and the inputs assumed in words: two lines, or one when `oneLine`. */
+function speedAndAssumedLines(input: ScreenInput, stale: boolean, width: number, oneLine: boolean): Line[] {
   const rec = input.record;
   if (rec === null) return [];
   const level = limitLevel(rec.alerts, 'speed');
@@ -176,6 +176,13 @@ function speedAndAssumedLines(input: ScreenInput, stale: boolean, width: number)
   ];
   const used = left.reduce((n, s) => n + Array.from(s.text).length, 0);
   const assumed = rec.assumed.map((a) => ASSUMPTION_WORDS[a]).join(', ');
+  if (oneLine) {
+    const speed = [seg('Speed ', 'heading'), seg(u === null ? 'no vne' : formatPercent(u).trim(), tone)];
+    if (level) speed.push(seg(` ${word}`, tone));
+    return [
+      fitLine([...speed, seg(' · assumed ', 'dim'), seg(assumed === '' ? 'nothing' : assumed, 'caution')], width),
+    ];
+  }
   return [
     fitLine(
       [...left, seg(' '.repeat(Math.max(1, width - used - word.length))), seg(word, stale ? 'stale' : tone)],
@@ -188,7 +195,7 @@ function speedAndAssumedLines(input: ScreenInput, stale: boolean, width: number)
   ];
 }
 
-export function buildMarginLines(input: ScreenInput, stale: boolean, width: number): Line[] {
+export function buildMarginLines(input: ScreenInput, stale: boolean, width: number, height = 8): Line[] {
   const rec = input.record;
   const lines: Line[] = [];
   for (const limit of LIMITS) {
@@ -232,7 +239,7 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
     });
     lines.push(fitLine([seg('  '), ...bar, seg(' '), seg(suffix.padStart(suffixWidth - 1), valueTone)], width));
   }
-  lines.push(...speedAndAssumedLines(input, stale, width));
+  lines.push(...speedAndAssumedLines(input, stale, width, height < 8));
   return lines;
 }
 
@@ -525,7 +532,7 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
     margins: {
       title: fitTitle(`Margins to the limits${staleTitle}`, layout.margins.width),
       tone: alertTone,
-      lines: buildMarginLines(input, stale, marginsInner.width),
+      lines: buildMarginLines(input, stale, marginsInner.width, marginsInner.height),
     },
     readouts: {
       title: fitTitle(
