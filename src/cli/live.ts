@@ -83,7 +83,7 @@ export function createPipeline(options: PipelineOptions): Pipeline {
     if (!decoded) return;
     const verdict = decoded.verdict;
     if (!verdict.ok) {
-      health.rejected(verdict.reason);
+      health.rejected(verdict);
       const recordedAtMs = (decoded as FileLine).receivedAtMs; // a line replayed from a recording keeps its receive time
       const where = !line.decoded
         ? `line ${decoded.lineNo} at ${isoTime(line.receivedAtMs)}`
@@ -207,7 +207,8 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
           if (!outputBroken) stdout.write(JSON.stringify(rec) + '\n');
         },
         rejected(line, where, reason) {
-          stderr.write(`turnmargin: rejected ${where}: ${reason}: ${excerpt(line.text)}\n`);
+          const code = line.verdict.ok ? '' : ` [${line.verdict.code}]`;
+          stderr.write(`turnmargin: rejected ${where}${code}: ${reason}: ${excerpt(line.text)}\n`);
         },
         status(s) {
           if (s.kind === 'lost') stderr.write(`turnmargin: link lost (${s.detail ?? 'no detail'}); retrying\n`);

@@ -11,6 +11,7 @@ import type { Frame } from './frame.js';
 import { createMarginTracker, resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { Level, MarginRecord } from './margin-record.js';
 import type { LimitName } from './performance.js';
+import type { Rejected } from '../decode/rejections.js';
 
 /** Rejected lines kept for the report (the count covers all). */
 export const MAX_REJECTS_KEPT = 100;
@@ -21,6 +22,9 @@ export const CONDITION_SAMPLES = 2048;
 export interface RejectedLine {
   line: number;
   reason: string;
+  code: Rejected['code'];
+  key?: string;
+  got?: string;
 }
 
 export interface Peak {
@@ -85,7 +89,7 @@ export interface AcceptOptions {
 
 export interface FlightReviewer {
   accept(frame: Frame, options?: AcceptOptions): MarginRecord;
-  reject(lineNo: number, reason: string): void;
+  reject(lineNo: number, rejected: Pick<Rejected, 'reason' | 'code' | 'key' | 'got'>): void;
   /** Counts of lines read so far. */
   counts(): { frames: number; accepted: number; rejected: number };
   finish(): FlightReview;
@@ -191,9 +195,14 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
       previous = rec;
       return rec;
     },
-    reject(lineNo, reason) {
+    reject(lineNo, r) {
       rejected += 1;
-      if (rejects.length < MAX_REJECTS_KEPT) rejects.push({ line: lineNo, reason });
+      if (rejects.length < MAX_REJECTS_KEPT) {
+        const line: RejectedLine = { line: lineNo, reason: r.reason, code: r.code };
+        if (r.key !== undefined) line.key = r.key;
+        if (r.got !== undefined) line.got = r.got;
+        rejects.push(line);
+      }
     },
     counts: () => ({ frames: accepted + rejected, accepted, rejected }),
     finish() {

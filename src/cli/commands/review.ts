@@ -24,7 +24,9 @@ import {
 } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
-import type { FrameBatchMessage, ReviewWorkerData } from '../review-worker.js';
+import type { ReviewWorkerData } from '../review-worker.js';
+import type { PackedFrameBatch } from '../../decode/frame-batch.js';
+import { systemErrorWords } from '../../system-errors.js';
 
 /** Options shared by review and check. */
 export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
@@ -146,19 +148,7 @@ function createProgress(file: string): { update(bytes: number, total: number): v
  * The file is created (or replaced: it is derived output) at the first write.
  */
 function describeWriteError(err: unknown): string {
-  switch ((err as NodeJS.ErrnoException).code) {
-    case 'ENOENT':
-      return 'no such directory';
-    case 'EISDIR':
-      return 'is a directory';
-    case 'EACCES':
-    case 'EPERM':
-      return 'permission denied';
-    case 'ENOSPC':
-      return 'disk full';
-    default:
-      return (err as Error).message;
-  }
+  return systemErrorWords(err, { ENOENT: 'no such directory' });
 }
 
 function createBlockWriter(path: string): { write(text: string): void; close(): void } {
@@ -225,7 +215,7 @@ async function reviewInThread(
         });
         onRecord?.(rec);
       } else {
-        reviewer.reject(line.lineNo, line.verdict.reason);
+        reviewer.reject(line.lineNo, line.verdict);
       }
     }
   }
@@ -266,7 +256,7 @@ async function reviewInWorker(script: URL, input: FlightInput, readOptions: Read
   result.catch(() => undefined); // awaited below; failures also stop the reading loop
   try {
     for await (const batch of readFramePackedBatches(input.file, readOptions)) {
-      const message: FrameBatchMessage = batch;
+      const message: PackedFrameBatch = batch;
       worker.postMessage(message, [batch.frames.buffer]);
       inFlight += 1;
       while (inFlight >= MAX_BATCHES_IN_FLIGHT && failure === undefined)

@@ -7,6 +7,7 @@ import type { MarginOptions } from '../../core/margins.js';
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
+import { systemErrorWords } from '../../system-errors.js';
 
 export const DEFAULT_LISTEN = '127.0.0.1:8765';
 
@@ -136,13 +137,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     try {
       makeDirectory(recordDir);
     } catch (err) {
-      const code = (err as NodeJS.ErrnoException).code;
-      const why =
-        code === 'EEXIST' || code === 'ENOTDIR'
-          ? 'not a directory'
-          : code === 'EACCES'
-            ? 'permission denied'
-            : (err as Error).message;
+      const why = systemErrorWords(err, { EEXIST: 'not a directory' });
       throw new InputError([`--record ${recordDir}: cannot use it for recordings (${why})`]);
     }
   }
@@ -164,15 +159,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   try {
     server = await startServeServer(options);
   } catch (err) {
-    const e = err as NodeJS.ErrnoException;
-    const why =
-      e.code === 'EADDRINUSE'
-        ? 'the port is in use'
-        : e.code === 'EADDRNOTAVAIL'
-          ? 'no such address on this machine'
-          : e.code === 'EACCES'
-            ? 'permission denied'
-            : e.message;
+    const why = systemErrorWords(err);
     throw new InputError([`--listen ${listenText}: cannot listen (${why})`]);
   }
   // The handlers are in place before the address is printed: a client script may signal as soon as it reads it.
