@@ -25,7 +25,7 @@ const WORDS: Readonly<Record<string, string>> = {
 };
 
 /** The system error code of an error, if it has one. */
-export function systemErrorCode(err: unknown): string | undefined {
+function systemErrorCode(err: unknown): string | undefined {
   const code = (err as { code?: unknown } | null)?.code;
   return typeof code === 'string' ? code : undefined;
 }

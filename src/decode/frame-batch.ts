@@ -70,7 +70,7 @@ export interface PackedFrameBatch {
   rejects: Array<number | string>;
 }
 
-export const REJECT_STRIDE = 5;
+const REJECT_STRIDE = 5;
 
 export function packReject(rejects: Array<number | string>, lineNo: number, r: Rejected): void {
   rejects.push(lineNo, r.reason, r.code, r.key ?? '', r.got ?? '');

@@ -23,7 +23,7 @@ const KeyMappingSchema = z.strictObject({
   offset: z.number({ error: 'must be a number' }).optional(),
 });
 
-export const MappingSchema = z
+const MappingSchema = z
   .strictObject({
     description: z.string().optional(),
     delimiter: z.enum([',', ';', '\t'], { error: 'must be ",", ";" or "\\t"' }).optional(),

@@ -46,7 +46,7 @@ export interface ReadFrameOptions {
   onProgress?(bytesRead: number, totalBytes: number): void;
 }
 
-export function loadMappingFile(path: string): ColumnMapping {
+function loadMappingFile(path: string): ColumnMapping {
   let json: unknown;
   try {
     json = JSON.parse(readFileSync(path, 'utf8').replace(/^\uFEFF/, ''));

@@ -86,15 +86,6 @@ export function rejectionGroupWords(r: Rejection): string {
   return rejectionWords(rest);
 }
 
-/** The fields of a rejection alone (no verdict flag, no words), e.g. to copy into an output. */
-export function rejectionData(r: Rejection): Rejection {
-  const out: Rejection = { code: r.code };
-  if (r.key !== undefined) out.key = r.key;
-  if (r.got !== undefined) out.got = r.got;
-  if (r.detail !== undefined) out.detail = r.detail;
-  return out;
-}
-
 /** A value as shown after "got": JSON text, cut at 40 characters. */
 export function shownValue(value: unknown): string {
   let text: string;

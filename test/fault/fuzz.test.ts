@@ -204,19 +204,17 @@ describe('fuzz: 100 000 random and mutated lines', () => {
     // The report lists the first rejected lines with their reason: the same lines, the same reasons.
     expect(report.rejects.length).toBeGreaterThan(0);
     expect(report.rejects).toEqual(
-      bad
-        .slice(0, report.rejects.length)
-        .map((d) =>
-          d.verdict.ok
-            ? {}
-            : {
-                line: d.lineNo,
-                reason: d.verdict.reason,
-                code: d.verdict.code,
-                key: d.verdict.key,
-                got: d.verdict.got,
-              },
-        ),
+      bad.slice(0, report.rejects.length).map((d) =>
+        d.verdict.ok
+          ? {}
+          : {
+              line: d.lineNo,
+              reason: d.verdict.reason,
+              code: d.verdict.code,
+              key: d.verdict.key,
+              got: d.verdict.got,
+            },
+      ),
     );
   });
 

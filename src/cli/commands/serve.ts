@@ -74,12 +74,12 @@ export const spec: CommandSpec = {
   ],
   notes: [
     'Protocol: send text messages, each holding one frame (the telemetry keys: t_s, tas_mps | cas_mps | ias_mps,\n' +
-      'alt_m, bank_deg and/or nz, oat_c?, mass_kg?) or several frames one per line. Every frame is answered, in\n' +
-      'order, with one JSON text message: the margin record (t_s, tas_mps, eas_mps, density_kg_m3, n_measured,\n' +
-      'n_stall, n_thrust, n_structural, utilization {stall, thrust, structure}, bank_limit_deg, bank_sustained_deg,\n' +
-      'level, alerts [{limit, level}], and more). A bad line is answered with {"error": "<reason>", "line": N,\n' +
-      '"t_s"?} and the connection goes on. t_s must increase on each connection; smoothing and alert hysteresis\n' +
-      'are per connection.',
+      'alt_m, bank_deg and/or nz, oat_c?, mass_kg?, throttle?, simulated?) or several frames one per line. Every\n' +
+      'frame is answered, in order, with one JSON text message: the margin record (t_s, tas_mps, eas_mps,\n' +
+      'density_kg_m3, n_measured, n_stall, n_thrust, n_structural, utilization {stall, thrust, structure},\n' +
+      'bank_limit_deg, bank_sustained_deg, level, alerts [{limit, level}], and more). A bad line is answered with\n' +
+      '{"error": "<reason>", "code": "<code>", "line": N, "t_s"?} (the codes are listed in README) and the\n' +
+      'connection goes on. t_s must increase on each connection; smoothing and alert hysteresis are per connection.',
     'A message over 1 MiB closes that connection with code 1009; other clients are not affected. A client that\n' +
       'does not read its answers (8 MiB pending) is closed with 1008. With --token, a client without the token\n' +
       'is refused with HTTP 401 before the websocket opens.',
