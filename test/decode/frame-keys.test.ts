@@ -110,10 +110,14 @@ describe('the frame-key table', () => {
       const verdict = (value: unknown) => validateWithSchema({ ...baseFor(rule), [rule.key]: value });
       expect(verdict('12'), rule.key).toMatchObject({ ok: false, code: 'wrong_type', key: rule.key, got: '"12"' });
       if (rule.type === 'number') {
-        expect(verdict(rule.max * 2 + 1), rule.key).toMatchObject({ ok: false, code: 'out_of_range', key: rule.key });
-        expect(verdict(rule.max * 2 + 1).ok || verdict(rule.max * 2 + 1).reason).toBe(
-          `${rule.key} must be ${ruleWords(rule.key)} (got ${rule.max * 2 + 1})`,
-        );
+        const above = rule.max * 2 + 1;
+        expect(verdict(above), rule.key).toEqual({
+          ok: false,
+          code: 'out_of_range',
+          key: rule.key,
+          got: String(above),
+          reason: `${rule.key} must be ${ruleWords(rule.key)} (got ${above})`,
+        });
       } else {
         expect(verdict(1), rule.key).toMatchObject({ ok: false, code: 'wrong_type', key: rule.key, got: '1' });
       }
