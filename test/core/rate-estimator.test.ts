@@ -20,9 +20,10 @@ describe('the rate estimator', () => {
       [1000, 86_400, 25, 3],
     ] as const) {
       const est = createRateEstimator(1.0);
+      let last: number | null;
       for (let i = 0; i < hz * 5; i++) {
         const t = t0 + i / hz;
-        const last = est.push(t, a + b * (t - t0));
+        last = est.push(t, a + b * (t - t0));
         if (i / hz >= 0.5 + 1e-9) expect(last, `${hz} Hz at ${t}`).not.toBeNull();
         if (last !== null) expect(Math.abs(last - b), `${hz} Hz at ${t}`).toBeLessThan(1e-9 * Math.max(1, Math.abs(b)));
       }
