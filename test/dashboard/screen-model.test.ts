@@ -246,8 +246,8 @@ describe('link, replay and event log', () => {
     const model = buildScreenModel(screenInput({ record: turn45, events }), LAYOUT_120x40);
     const lines = model.events.lines.map(lineText).map((l) => l.trimEnd());
     expect(lines[1]).toMatch(/^ 0:31\.0 STALL +WARNING +ON NOW +93 % 12\.4 m\/s$/);
-    expect(lines[2]).toMatch(/^ 0:30\.0 THRUST +CAUTION +4\.9 s +150 % 20\.8 m\/s$/);
-    expect(lines[3]).toMatch(/^ 0:12\.5 STALL +CAUTION +1\.5 s +86 % 12\.4 m\/s$/);
+    expect(lines[2]).toMatch(/^ 0:30\.0 THRUST +CAUTION +4\.9 s +150 % 20\.8 m\/s +cleared$/);
+    expect(lines[3]).toMatch(/^ 0:12\.5 STALL +CAUTION +1\.5 s +86 % 12\.4 m\/s +cleared$/);
     expect(model.events.title).toBe('Exceedances (3)');
     expect(model.events.tone).toBe('warning');
   });
