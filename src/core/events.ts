@@ -1,6 +1,8 @@
 /**
  * Limit events: one contiguous interval in which one (limit, level) alert is on. start_s is the time of the first
- * frame on; end_s the time of the first frame off, or of the last frame when the data end with the alert on.
+ * frame on; end_s the first frame of the clear stretch that switched the alert off (ActiveAlert.clear_since_s), or,
+ * when the data end or break with the alert on, that of an unfinished clear stretch if one has begun, else the last
+ * frame.
  * A warning interval lies inside its caution interval; both are reported as separate events.
  */
 import type { AlertLevel, MarginRecord } from './margin-record.js';
