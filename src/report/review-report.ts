@@ -24,7 +24,7 @@ export interface ReviewContext {
   aircraftFile: string;
 }
 
-function eventJson(e: LimitEvent) {
+export function eventJson(e: LimitEvent) {
   return {
     limit: e.limit,
     level: e.level,
@@ -35,6 +35,7 @@ function eventJson(e: LimitEvent) {
     peak_t_s: roundTo(e.peak_t_s, 6),
     speed_at_peak_mps: roundTo(e.speed_at_peak_mps, 3),
     n_at_peak: roundTo(e.n_at_peak, 4),
+    ended_by: e.ended_by,
   };
 }
 
@@ -122,6 +123,7 @@ export const EVENT_CSV_COLUMNS = [
   'peak_t_s',
   'speed_at_peak_mps',
   'n_at_peak',
+  'ended_by',
 ] as const;
 
 /** Flight-level columns repeated on every event row: the share of the frames in which each input was assumed. */

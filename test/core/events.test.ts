@@ -97,10 +97,10 @@ describe('limit events', () => {
     const recs = records([0.5, 0.85, 0.5, 0.5].map((u) => u * N_STALL_12));
     for (const r of recs) tracker.push(r);
     // A break (gap, reconnect) before the stretch lasted clear_s: the event ends where the stretch began.
-    expect(tracker.closeOpen()[0]!.end_s).toBeCloseTo(0.2, 9);
+    expect(tracker.closeOpen('data_gap')[0]!.end_s).toBeCloseTo(0.2, 9);
     const again = createEventTracker();
     for (const r of records([0.5, 0.85, 0.86].map((u) => u * N_STALL_12))) again.push(r);
-    expect(again.closeOpen()[0]!.end_s).toBeCloseTo(0.2, 9);
+    expect(again.closeOpen('link_lost')[0]!.end_s).toBeCloseTo(0.2, 9);
   });
 
   it('closes an event still on at the end of the data at the last frame', () => {
