@@ -271,7 +271,13 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
 // Options shared by `watch` and `replay`.
 
 export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
-  { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
+  {
+    name: 'aircraft',
+    type: 'string',
+    valueName: 'FILE',
+    description:
+      "airframe model (JSON; its vne_mps is a calibrated airspeed, compared with each frame's CAS); required",
+  },
   {
     name: 'thresholds',
     type: 'string',

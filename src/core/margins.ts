@@ -167,11 +167,6 @@ export function frameRejection(aircraft: Aircraft, frame: Frame): FrameRejection
   };
 }
 
-/** A rejection in words, for the paths that report rejections as text: "tas_mps 688 is above the subsonic …". */
-export function frameRejectionText(rejection: FrameRejection): string {
-  return `${rejection.key} ${rejection.got} is ${rejection.reason}`;
-}
-
 /** The inputs a frame's record assumes, in the order of ASSUMPTIONS (src/core/assumptions.ts). */
 export function frameAssumptions(aircraft: Aircraft, frame: Frame): Assumption[] {
   const assumed: Assumption[] = [];

@@ -102,6 +102,7 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(Object.keys(out.events[0]).sort()).toEqual([
       'duration_s',
       'end_s',
+      'ended_by',
       'level',
       'limit',
       'n_at_peak',
@@ -177,7 +178,7 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(r.code).toBe(0);
     const lines = r.stdout.trim().split('\n');
     expect(lines[0]).toBe(
-      'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak,' +
+      'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak,ended_by,' +
         'assumed_n_from_bank_share,assumed_temperature_isa_share,assumed_n_limit_default_share',
     );
     // every frame has nz, none has oat_c, the airframe gives n_limit_pos

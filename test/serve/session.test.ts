@@ -18,6 +18,7 @@ describe('a serve session (one connection, no socket)', () => {
     const session = createServeSession(exampleAirframe(), { margins: { smoothTauS: 0 } });
     const fast = JSON.stringify({ t_s: 0, cas_mps: 300, alt_m: 20000, nz: 1 });
     const answers = session.handleMessage(`${fast}\n${line(0.1, 1.2)}`);
+    expect(answers[0]).toMatchObject({ code: 'out_of_range', line: 1 });
     expect('error' in answers[0]! && answers[0].error).toMatch(
       /^cas_mps above the subsonic range \(Mach 2\.3\d\) \(got 300\)$/,
     );

@@ -32,7 +32,13 @@ import { systemErrorWords } from '../../system-errors.js';
 
 /** Options shared by review and check. */
 export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
-  { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model file (JSON); required' },
+  {
+    name: 'aircraft',
+    type: 'string',
+    valueName: 'FILE',
+    description:
+      "airframe model file (JSON; its vne_mps is a calibrated airspeed, compared with each frame's CAS); required",
+  },
   {
     name: 'thresholds',
     type: 'string',
