@@ -4,6 +4,7 @@ import { basename } from 'node:path';
 import { parseAircraft, type Aircraft } from '../core/aircraft.js';
 import { ThresholdsSchema, resolveThresholds, type AlertThresholds } from '../core/thresholds.js';
 import { parseLenient } from '../core/validation.js';
+import { configJsonOrThrow } from '../config-json.js';
 import { InputError } from '../errors.js';
 
 /** Read and parse a JSON input file; InputError naming the file when it cannot be read or parsed. */
@@ -14,14 +15,17 @@ export function readJson(path: string, what: string): unknown {
     text = readFileSync(path, 'utf8');
   } catch (err) {
     const code = (err as NodeJS.ErrnoException).code;
-    const why = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'is a directory' : (err as Error).message;
+    const why =
+      code === 'ENOENT'
+        ? 'no such file'
+        : code === 'EISDIR'
+          ? 'is a directory'
+          : code === 'EACCES'
+            ? 'permission denied'
+            : (err as Error).message;
     throw new InputError([`${path}: cannot read the ${what} file (${why})`]);
   }
-  try {
-    return JSON.parse(text.replace(/^\uFEFF/, ''));
-  } catch (err) {
-    throw new InputError([`${label}: not valid JSON (${(err as Error).message})`]);
-  }
+  return configJsonOrThrow(text, label, what);
 }
 
 function warn(lines: readonly string[]): void {

@@ -273,6 +273,7 @@ export function buildReadoutLines(input: ScreenInput, stale: boolean, width: num
 
 const LINK_STATE_TONE: Record<LinkState, Tone> = {
   connecting: 'dim',
+  listening: 'dim',
   live: 'ok',
   stale: 'stale',
   lost: 'warning',

@@ -68,7 +68,7 @@ export const MappingSchema = z
   })
   .check((ctx) => {
     for (const [key, entry] of Object.entries(ctx.value.keys)) {
-      const kind = FRAME_KEY_KINDS[key];
+      const kind = Object.hasOwn(FRAME_KEY_KINDS, key) ? FRAME_KEY_KINDS[key] : undefined; // not "constructor"…
       if (!kind) {
         ctx.issues.push({
           code: 'custom',

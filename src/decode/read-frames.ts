@@ -8,6 +8,7 @@ import { isAscii } from 'node:buffer';
 import { createReadStream, readFileSync, statSync } from 'node:fs';
 import { basename, extname } from 'node:path';
 import { InputError } from '../errors.js';
+import { configJsonOrThrow } from '../config-json.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
 import { FRAME_SLOTS, packFrame } from './frame-batch.js';
 import { csvRow, splitCsvLine } from './csv.js';
@@ -53,14 +54,13 @@ function describeErrno(err: unknown): string {
 }
 
 export function loadMappingFile(path: string): ColumnMapping {
-  let json: unknown;
+  let text: string;
   try {
-    json = JSON.parse(readFileSync(path, 'utf8').replace(/^\uFEFF/, ''));
+    text = readFileSync(path, 'utf8');
   } catch (err) {
-    if (err instanceof SyntaxError)
-      throw new InputError([`${basename(path)}: the mapping file is not valid JSON (${err.message})`]);
     throw new InputError([`${path}: cannot read the mapping file (${describeErrno(err)})`]);
   }
+  const json = configJsonOrThrow(text, basename(path), 'mapping');
   const result = parseMapping(json, basename(path));
   if (!result.ok) throw new InputError(result.problems);
   return result.mapping;

@@ -1,6 +1,7 @@
 /** Link health of one telemetry source, as shown on the dashboard and summarised at exit in `--no-ui` mode. */
 
-export type LinkState = 'connecting' | 'live' | 'stale' | 'lost' | 'ended';
+/** 'listening': a connectionless link (UDP) waiting for its first datagram. */
+export type LinkState = 'connecting' | 'listening' | 'live' | 'stale' | 'lost' | 'ended';
 
 export interface LinkHealth {
   /** Human description of the source, e.g. "serial /dev/ttyUSB0 @ 57600", "ws://…", "file flight.ndjson". */

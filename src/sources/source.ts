@@ -38,6 +38,8 @@ export interface SourceStatus {
   atMs: number;
   /** Human detail: why the link was lost, where it connected to. */
   detail?: string;
+  /** On 'open' from a connectionless link (UDP): bound and listening; data may or may not come. */
+  listening?: boolean;
 }
 
 export interface SourceHandlers {
