@@ -78,16 +78,16 @@ export function editDistance(a: string, b: string): number {
 }
 
 /**
- * The known words nearest to a mistyped one, when near enough to be what was meant: the words it begins (at most
- * three), else the nearest within a third of its length in edits (at least 1, at most 3). Empty otherwise.
+ * The known words nearest to a mistyped one, when near enough to be what was meant: the nearest within a third of
+ * its length in edits (at least 1, at most 3), else the words it begins (at most three). Empty otherwise.
  */
 export function nearestWords(typed: string, known: readonly string[]): string[] {
   const word = typed.toLowerCase();
   if (word === '') return [];
-  const prefixed = known.filter((k) => k.startsWith(word));
-  if (prefixed.length > 0 && prefixed.length <= 3) return prefixed;
   const near = nearestWord(word, known);
-  return near === null ? [] : [near];
+  if (near !== null) return [near];
+  const prefixed = known.filter((k) => k.startsWith(word));
+  return prefixed.length <= 3 ? prefixed : [];
 }
 
 /** The one known word nearest to a mistyped one, within a third of its length in edits (1 to 3); else null. */
