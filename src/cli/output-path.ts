@@ -30,14 +30,14 @@ function notRegular(stats: Stats): string | null {
   if (stats.isDirectory()) return 'is a directory; give a file name';
   if (stats.isFIFO()) return 'is a FIFO (named pipe), not a file: writing there would wait for a reader';
   if (stats.isSocket()) return 'is a socket, not a file';
-  if (stats.isCharacterDevice() || stats.isBlockDevice()) return 'is a device, not a file';
-  return null;
+  if (stats.isBlockDevice()) return 'is a disk device, not a file';
+  return null; // a regular file, or a character device such as /dev/null (written in place, never replaced)
 }
 
 /**
  * Refuse an output path that cannot be what the user meant, before any work starts: an empty name, a wrong
- * extension, a missing directory, a directory/FIFO/device, an input file (also through a link), or an existing file
- * without --force. Throws UsageError (a usage slip) or InputError (a fact of the file system), both exit 2.
+ * extension, a missing directory, a directory/FIFO/socket/disk device, an input file (also through a link), or an
+ * existing regular file without --force. A character device (/dev/null) is accepted as it is. Throws UsageError (a usage slip) or InputError (a fact of the file system), both exit 2.
  */
 export function checkOutputPath(check: OutputPathCheck): void {
   const { option, path } = check;
@@ -73,6 +73,7 @@ export function checkOutputPath(check: OutputPathCheck): void {
       ]);
     }
   }
+  if (stats.isCharacterDevice()) return; // /dev/null, a terminal: nothing there to overwrite
   if (!check.force) throw new InputError([`${flag}: the file exists; give --force to overwrite it`]);
 }
 
@@ -141,7 +142,9 @@ function describeWriteError(err: unknown): string {
  * renamed to its own name by commit(): a reader, or an interrupted run, never sees half a file under that name.
  */
 export function createOutputFile(path: string, blockBytes = 256 * 1024): OutputFile {
-  const temp = join(dirname(path), `.${basename(path)}.${process.pid}.part`);
+  // A device (/dev/null, /dev/stdout) is written in place: renaming onto it would replace the device itself.
+  const inPlace = statOrNull(path)?.isCharacterDevice() === true;
+  const temp = inPlace ? path : join(dirname(path), `.${basename(path)}.${process.pid}.part`);
   let fd: number | null = null;
   let buffer: string[] = [];
   let size = 0;
@@ -152,8 +155,10 @@ export function createOutputFile(path: string, blockBytes = 256 * 1024): OutputF
   const flush = (): void => {
     try {
       if (fd === null) {
-        hookSignals();
-        unfinished.add(temp);
+        if (!inPlace) {
+          hookSignals();
+          unfinished.add(temp);
+        }
         fd = openSync(temp, 'w');
       }
       if (buffer.length > 0) writeSync(fd, buffer.join(''));
@@ -177,6 +182,7 @@ export function createOutputFile(path: string, blockBytes = 256 * 1024): OutputF
     if (done) return;
     done = true;
     closeFd();
+    if (inPlace) return;
     try {
       unlinkSync(temp);
     } catch {
@@ -197,7 +203,7 @@ export function createOutputFile(path: string, blockBytes = 256 * 1024): OutputF
         flush();
         closeSync(fd!);
         fd = null;
-        renameSync(temp, path);
+        if (!inPlace) renameSync(temp, path);
       } catch (err) {
         discard();
         if (err instanceof InputError) throw err;
