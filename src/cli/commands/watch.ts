@@ -18,7 +18,7 @@ export const spec: CommandSpec = {
   summary: 'monitor live telemetry from a serial radio, a websocket relay or UDP datagrams',
   usage:
     'turnmargin watch (--serial PATH [--baud N] | --ws URL | --udp [HOST:]PORT [--allow-remote]) --aircraft FILE\n' +
-    '                        [--record FILE [--force]] [--thresholds FILE] [--smooth S] [--no-ui]',
+    '                        [--record FILE] [--events FILE] [--force] [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
     {
       name: 'serial',
@@ -59,7 +59,6 @@ export const spec: CommandSpec = {
       valueName: 'FILE',
       description: 'record every received line (verbatim, with its receive time) to FILE',
     },
-    { name: 'force', type: 'boolean', description: 'overwrite an existing recording file' },
   ],
   notes: [
     'Telemetry: one JSON object per line with t_s, one of ias_mps/cas_mps/tas_mps, alt_m, bank_deg and/or nz,\n' +
@@ -130,7 +129,8 @@ export async function run(args: ParsedArgs): Promise<number> {
   const { source, note } = sourceFromArgs(args);
   const setup = loadMonitorSetup(args);
   const recordPath = stringOption(args, 'record');
-  if (args.values['force'] && recordPath === undefined) throw new UsageError('--force applies to --record only');
+  if (args.values['force'] && recordPath === undefined && stringOption(args, 'events') === undefined)
+    throw new UsageError('--force applies to --record and --events only');
   let recorder: Recorder | undefined;
   if (recordPath !== undefined) {
     const force = args.values['force'] === true;
