@@ -62,10 +62,65 @@ export function joinNegativeValues(spec: CommandSpec, argv: readonly string[]): 
   return out;
 }
 
+/** Edit distance (insertions, deletions, substitutions, adjacent swaps) between two short words. */
+export function editDistance(a: string, b: string): number {
+  const rows: number[][] = Array.from({ length: a.length + 1 }, (_, i) => [i, ...new Array<number>(b.length).fill(0)]);
+  for (let j = 1; j <= b.length; j++) rows[0]![j] = j;
+  for (let i = 1; i <= a.length; i++) {
+    for (let j = 1; j <= b.length; j++) {
+      const cost = a[i - 1] === b[j - 1] ? 0 : 1;
+      let d = Math.min(rows[i - 1]![j]! + 1, rows[i]![j - 1]! + 1, rows[i - 1]![j - 1]! + cost);
+      if (i > 1 && j > 1 && a[i - 1] === b[j - 2] && a[i - 2] === b[j - 1]) d = Math.min(d, rows[i - 2]![j - 2]! + 1);
+      rows[i]![j] = d;
+    }
+  }
+  return rows[a.length]![b.length]!;
+}
+
+/**
+ * The known words nearest to a mistyped one, when near enough to be what was meant: the nearest within a third of
+ * its length in edits (at least 1, at most 3), else the words it begins (at most three). Empty otherwise.
+ */
+export function nearestWords(typed: string, known: readonly string[]): string[] {
+  const word = typed.toLowerCase();
+  if (word === '') return [];
+  const near = nearestWord(word, known);
+  if (near !== null) return [near];
+  const prefixed = known.filter((k) => k.startsWith(word));
+  return prefixed.length <= 3 ? prefixed : [];
+}
+
+/** The one known word nearest to a mistyped one, within a third of its length in edits (1 to 3); else null. */
+export function nearestWord(typed: string, known: readonly string[]): string | null {
+  const word = typed.toLowerCase();
+  if (word === '') return null;
+  let best: string | null = null;
+  let bestDistance = Infinity;
+  for (const k of known) {
+    const d = editDistance(word, k);
+    if (d < bestDistance) {
+      best = k;
+      bestDistance = d;
+    }
+  }
+  const allowed = Math.min(3, Math.max(1, Math.floor(word.length / 3)));
+  return bestDistance <= allowed ? best : null;
+}
+
+/** "unknown option --altitud (did you mean --altitude?)" */
+function unknownOption(spec: CommandSpec, option: string): string {
+  const name = option.replace(/^-+/, '').split('=')[0]!;
+  const longNames = [...spec.options, HELP_OPTION].map((o) => o.name);
+  const near = option.startsWith('--') || name.length > 1 ? nearestWords(name, longNames) : [];
+  const words = near.map((w) => `--${w}`);
+  const list = words.length > 1 ? `${words.slice(0, -1).join(', ')} or ${words[words.length - 1]}` : words[0];
+  return `unknown option ${option}${list ? ` (did you mean ${list}?)` : ''}`;
+}
+
 /** node:util's parse errors in the words of this tool. */
-function describeParseError(err: Error & { code?: string }): string {
+function describeParseError(spec: CommandSpec, err: Error & { code?: string }): string {
   const option = /Option '(-{1,2}[^ ']+)/.exec(err.message)?.[1] ?? /option '(-{1,2}[^ ']+)'/i.exec(err.message)?.[1];
-  if (err.code === 'ERR_PARSE_ARGS_UNKNOWN_OPTION' && option) return `unknown option ${option}`;
+  if (err.code === 'ERR_PARSE_ARGS_UNKNOWN_OPTION' && option) return unknownOption(spec, option);
   if (err.code === 'ERR_PARSE_ARGS_INVALID_OPTION_VALUE' && option) {
     return /argument missing|ambiguous/.test(err.message) ? `${option} needs a value` : `${option}: ${err.message}`;
   }
@@ -91,13 +146,24 @@ export function parseCommandArgs(spec: CommandSpec, argv: string[]): ParsedArgs 
   for (const o of [...spec.options, HELP_OPTION]) {
     options[o.name] = o.short ? { type: o.type, short: o.short } : { type: o.type };
   }
+  let values: Record<string, string | boolean | undefined>;
+  let positionals: string[];
   try {
     const args = joinNegativeValues(spec, argv);
-    const { values, positionals } = parseArgs({ args, options, allowPositionals: true, strict: true });
-    return { values: values as Record<string, string | boolean | undefined>, positionals };
+    const parsed = parseArgs({ args, options, allowPositionals: true, strict: true });
+    values = parsed.values as Record<string, string | boolean | undefined>;
+    positionals = parsed.positionals;
   } catch (err) {
-    throw new UsageError(describeParseError(err as Error & { code?: string }), spec.name);
+    throw new UsageError(describeParseError(spec, err as Error & { code?: string }), spec.name);
   }
+  // An empty value (`--record ""`, an unset shell variable) is never meant: a path of "" would mean "here".
+  for (const o of spec.options) {
+    const value = values[o.name];
+    if (typeof value === 'string' && value.trim() === '') {
+      throw new UsageError(`--${o.name} ${o.valueName ?? 'VALUE'} must not be empty`, spec.name);
+    }
+  }
+  return { values, positionals };
 }
 
 function optionRows(spec: CommandSpec): Array<readonly [string, string]> {
@@ -115,11 +181,6 @@ function formatRows(rows: Array<readonly [string, string]>): string[] {
   return rows.map(([flag, text]) =>
     flag.length > width ? `  ${flag}\n  ${' '.repeat(width)}  ${text}` : `  ${flag.padEnd(width)}  ${text}`,
   );
-}
-
-/** A heading and the option rows of one command (for the overall help). */
-export function formatOptionList(spec: CommandSpec, heading: string): string {
-  return [`${heading} options:`, ...formatRows(optionRows(spec)), ''].join('\n');
 }
 
 export function formatHelp(spec: CommandSpec): string {

@@ -9,6 +9,7 @@ import { numberOption, requireOption, stringOption, type OptionSpec, type Parsed
 import { EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
+import { checkOutputPath, inputFilesOf } from './output-path.js';
 import type { LimitEvent } from '../core/events.js';
 import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../core/margins.js';
 import { describeDefaultThresholds, type AlertThresholds } from '../core/thresholds.js';
@@ -330,6 +331,12 @@ export function loadMonitorSetup(args: ParsedArgs): MonitorSetup {
   const eventsPath = stringOption(args, 'events');
   if (eventsPath !== undefined) {
     if (eventsPath === '') throw new UsageError('--events FILE must not be empty');
+    checkOutputPath({
+      option: 'events',
+      path: eventsPath,
+      force: args.values['force'] === true,
+      inputs: inputFilesOf(args),
+    });
     setup.events = openEventsFile(eventsPath, args.values['force'] === true);
   }
   return setup;

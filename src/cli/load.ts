@@ -4,6 +4,7 @@ import { basename } from 'node:path';
 import { parseAircraft, type Aircraft } from '../core/aircraft.js';
 import { ThresholdsSchema, resolveThresholds, type AlertThresholds } from '../core/thresholds.js';
 import { parseLenient } from '../core/validation.js';
+import { configJsonOrThrow } from '../config-json.js';
 import { InputError } from '../errors.js';
 import { systemErrorWords } from '../system-errors.js';
 
@@ -17,11 +18,7 @@ export function readJson(path: string, what: string): unknown {
     const why = systemErrorWords(err);
     throw new InputError([`${path}: cannot read the ${what} file (${why})`]);
   }
-  try {
-    return JSON.parse(text.replace(/^\uFEFF/, ''));
-  } catch (err) {
-    throw new InputError([`${label}: not valid JSON (${(err as Error).message})`]);
-  }
+  return configJsonOrThrow(text, label, what);
 }
 
 function warn(lines: readonly string[]): void {

@@ -353,6 +353,7 @@ export function stallSpeedCasMps(rec: MarginRecord): number | null {
 
 const LINK_STATE_TONE: Record<LinkState, Tone> = {
   connecting: 'dim',
+  listening: 'dim',
   live: 'ok',
   stale: 'stale',
   lost: 'warning',

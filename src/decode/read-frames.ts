@@ -8,6 +8,7 @@ import { isAscii } from 'node:buffer';
 import { createReadStream, readFileSync, statSync } from 'node:fs';
 import { basename, extname } from 'node:path';
 import { InputError } from '../errors.js';
+import { configJsonOrThrow } from '../config-json.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
 import { FRAME_SLOTS, PACKED_AFTER_RECONNECT, packFrame, packReject, type PackedFrameBatch } from './frame-batch.js';
 import { csvRow, splitCsvLine } from './csv.js';
@@ -46,15 +47,14 @@ export interface ReadFrameOptions {
   onProgress?(bytesRead: number, totalBytes: number): void;
 }
 
-function loadMappingFile(path: string): ColumnMapping {
-  let json: unknown;
+export function loadMappingFile(path: string): ColumnMapping {
+  let text: string;
   try {
-    json = JSON.parse(readFileSync(path, 'utf8').replace(/^\uFEFF/, ''));
+    text = readFileSync(path, 'utf8');
   } catch (err) {
-    if (err instanceof SyntaxError)
-      throw new InputError([`${basename(path)}: the mapping file is not valid JSON (${err.message})`]);
     throw new InputError([`${path}: cannot read the mapping file (${systemErrorWords(err)})`]);
   }
+  const json = configJsonOrThrow(text, basename(path), 'mapping');
   const result = parseMapping(json, basename(path));
   if (!result.ok) throw new InputError(result.problems);
   return result.mapping;

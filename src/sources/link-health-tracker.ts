@@ -56,7 +56,7 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
       switch (s.kind) {
         case 'open':
           opens += 1;
-          state = 'live';
+          state = s.listening ? 'listening' : 'live';
           openedMs = s.atMs;
           stateDetail = null;
           break;
@@ -79,6 +79,7 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
       }
     },
     line(byteCount, atMs) {
+      if (state === 'listening') state = 'live'; // a sender is there: from now on, quiet means stale
       bucketBytes[bucket(atMs)]! += byteCount + 1;
     },
     accepted(tS, atMs, newSegment) {

@@ -13,7 +13,8 @@ export interface RejectCount {
   words: string;
 }
 
-export type LinkState = 'connecting' | 'live' | 'stale' | 'lost' | 'ended';
+/** 'listening': a connectionless link (UDP) waiting for its first datagram. */
+export type LinkState = 'connecting' | 'listening' | 'live' | 'stale' | 'lost' | 'ended';
 
 export interface LinkHealth {
   /** Human description of the source, e.g. "serial /dev/ttyUSB0 @ 57600", "ws://…", "file flight.ndjson". */

@@ -7,11 +7,14 @@ import { createLineSplitter, type RawLine } from '../decode/line-splitter.js';
 import { reconnectDelayMs, systemClock, type Clock, type SourceHandlers, type TelemetrySource } from './source.js';
 
 export interface ConnectionEvents {
-  opened(detail?: string): void;
+  /** `listening`: a connectionless link (UDP) is ready to receive; no sender is known to be there. */
+  opened(detail?: string, listening?: boolean): void;
   /** Bytes received. `messageEnd`: a message-based link finished a message (see flushCompleteObject). */
   data(chunk: Buffer, messageEnd?: boolean): void;
   /** The connection ended or could not be made. Only the first call per connection counts; later ones are ignored. */
   dropped(detail: string): void;
+  /** The sender ended the stream normally (e.g. websocket close 1000): 'ended', no retry. */
+  ended(detail: string): void;
 }
 
 export interface Connection {
@@ -66,19 +69,28 @@ export function createLinkSource(label: string, connect: Connect, options: LinkS
     currentSplitter = splitter;
     let done = false;
     const events: ConnectionEvents = {
-      opened(detail) {
+      opened(detail, listening) {
         if (done || stopped) return;
         attempt = 0;
         reportedLost = false;
-        handlers?.onStatus(
-          detail === undefined ? { kind: 'open', atMs: clock() } : { kind: 'open', atMs: clock(), detail },
-        );
+        handlers?.onStatus({
+          kind: 'open',
+          atMs: clock(),
+          ...(detail === undefined ? {} : { detail }),
+          ...(listening ? { listening } : {}),
+        });
       },
       data(chunk, messageEnd) {
         if (done || stopped) return;
         deliver(splitter.push(chunk));
         if (messageEnd && splitter.pendingBytes() > 0 && isCompleteObject(splitter.peekPending()))
           deliver(splitter.end());
+      },
+      ended(detail) {
+        if (done || stopped) return;
+        done = true;
+        deliver(splitter.end());
+        handlers?.onStatus({ kind: 'ended', atMs: clock(), detail });
       },
       dropped(detail) {
         if (done) return;

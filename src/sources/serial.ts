@@ -1,11 +1,14 @@
 /** Serial adapter (radio modem, USB serial): reopens the same path with backoff when the port disappears. */
-import { closeSync, constants, openSync, statSync, type Stats } from 'node:fs';
+import { closeSync, constants, existsSync, openSync, statSync, type Stats } from 'node:fs';
 import { isatty } from 'node:tty';
 import { SerialPort } from 'serialport';
 import { createLinkSource, type LinkSourceOptions } from './link-source.js';
 import type { TelemetrySource } from './source.js';
 
+/** The serial speed when none is given (a common telemetry radio setting), for watch and simulate alike. */
 export const DEFAULT_BAUD = 57600;
+/** Why a serial link waits: its path does not exist (a radio not plugged in yet, or a typo). */
+export const NO_SUCH_PORT_YET = 'no such port yet; waiting for it to appear';
 
 export interface SerialSourceOptions extends LinkSourceOptions {
   path: string;
@@ -26,7 +29,8 @@ export function createSerialSource(options: SerialSourceOptions): TelemetrySourc
       );
       port.on('data', (chunk: Buffer) => events.data(chunk));
       port.open((err) => {
-        if (err) events.dropped(describeOpenError(options.path, err));
+        if (err && !existsSync(options.path)) events.dropped(`${options.path}: ${NO_SUCH_PORT_YET}`);
+        else if (err) events.dropped(describeOpenError(options.path, err));
         else events.opened(options.path);
       });
       return {

@@ -43,6 +43,8 @@ export interface SourceStatus {
   atMs: number;
   /** Human detail: why the link was lost, where it connected to. */
   detail?: string;
+  /** On 'open' from a connectionless link (UDP): bound and listening; data may or may not come. */
+  listening?: boolean;
   /**
    * With 'seek': the replay goes back (a backward seek, or a loop to the start). Lines flagged `replayCatchUp` then
    * rebuild the state up to the target, and a plain 'seek' marks the target.

@@ -38,6 +38,9 @@ export function createWebSocketSource(options: WebSocketSourceOptions): Telemetr
       });
       ws.on('close', (code: number, reason: Buffer) => {
         const why = reason.length ? ` ${reason.toString('utf8')}` : '';
+        // 1000 is the sender's normal end (a simulated flight is over): the link has ended, nothing to retry.
+        if (code === 1000 && lastError === undefined)
+          return events.ended(why.trim() || 'closed normally by the sender');
         events.dropped(lastError ?? `connection closed (${code}${why})`);
       });
       return {

@@ -86,7 +86,7 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
   it('rejects unusable options and files with exit 2 and a clear message', async () => {
     const noLink = await runCli(['watch', '--aircraft', AIRFRAME, '--no-ui']);
     expect(noLink.code).toBe(2);
-    expect(noLink.stderr).toContain('a telemetry link is required: --serial PATH or --ws URL');
+    expect(noLink.stderr).toContain('a telemetry link is required: --serial PATH, --ws URL or --udp [HOST:]PORT');
     const badWs = await runCli(['watch', '--ws', 'http://x', '--aircraft', AIRFRAME, '--no-ui']);
     expect(badWs.stderr).toContain('--ws must start with ws:// or wss://');
     const missing = await runCli(['replay', join(dir, 'nope.ndjson'), '--aircraft', AIRFRAME, '--no-ui']);
@@ -105,7 +105,7 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
       '--no-ui',
     ]);
     expect(clobber.code).toBe(2);
-    expect(clobber.stderr).toContain('the recording file exists; choose another name or add --force');
+    expect(clobber.stderr).toContain('the file exists; give --force to overwrite it');
     expect(readFileSync(existing, 'utf8')).toBe('keep me');
   });
 

@@ -92,7 +92,7 @@ describe('serial source on a real pseudo-terminal', () => {
     await source.stop();
     expect(statuses[0]!.kind).toBe('connecting');
     expect(statuses[1]!.kind).toBe('lost');
-    expect(statuses[1]!.detail).toMatch(/cannot open .*nothing-here/);
+    expect(statuses[1]!.detail).toMatch(/nothing-here: no such port yet; waiting for it to appear/);
     expect(statuses.filter((s) => s.kind === 'lost')).toHaveLength(1); // one report per outage
   });
 });

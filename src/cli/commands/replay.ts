@@ -1,5 +1,5 @@
 /** `turnmargin replay`: play a recorded flight (recording, NDJSON or CSV log) through the monitor, paced by t_s. */
-import { statSync } from 'node:fs';
+import { closeSync, openSync, readSync, statSync } from 'node:fs';
 import { checkMappingFits } from '../../decode/read-frames.js';
 import { createReplay } from '../../engine/replay.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
@@ -38,16 +38,45 @@ export const spec: CommandSpec = {
   ],
 };
 
+/**
+ * The flight file must be readable now: a file that cannot be opened or read (permissions, a directory, an I/O
+ * error) is refused with its name and exit 2 rather than played as an empty flight.
+ */
+function refuseUnreadable(path: string): void {
+  let fd: number | undefined;
+  try {
+    const stats = statSync(path);
+    if (stats.isDirectory()) throw new InputError([`${path}: cannot read the flight file (is a directory)`]);
+    if (!stats.isFile()) return; // a pipe is read as it comes; a probe would take its first byte
+    fd = openSync(path, 'r');
+    readSync(fd, Buffer.alloc(1), 0, 1, 0);
+  } catch (err) {
+    if (err instanceof InputError) throw err;
+    throw new InputError([`${path}: cannot read the flight file (${describeReadError(err as NodeJS.ErrnoException)})`]);
+  } finally {
+    if (fd !== undefined) closeSync(fd);
+  }
+}
+
+function describeReadError(err: NodeJS.ErrnoException): string {
+  switch (err.code) {
+    case 'ENOENT':
+      return 'no such file';
+    case 'EACCES':
+    case 'EPERM':
+      return 'permission denied';
+    case 'EIO':
+      return 'input/output error';
+    default:
+      return err.message;
+  }
+}
+
 export async function run(args: ParsedArgs): Promise<number> {
   const [path, ...extra] = args.positionals;
   if (path === undefined) throw new UsageError('the flight file is required: turnmargin replay FILE --aircraft FILE');
   if (extra.length > 0) throw new UsageError(`unexpected argument "${extra[0]}"`);
-  try {
-    if (statSync(path).isDirectory()) throw new InputError([`${path}: cannot read the flight file (is a directory)`]);
-  } catch (err) {
-    if (err instanceof InputError) throw err;
-    throw new InputError([`${path}: cannot read the flight file (${systemErrorWords(err)})`]);
-  }
+  refuseUnreadable(path);
   const speed = numberOption(args, 'speed', 1, { min: 0, max: 1000 });
   const mappingPath = stringOption(args, 'mapping');
   if (mappingPath !== undefined) await checkMappingFits(path, mappingPath); // report a bad mapping before starting

@@ -3,7 +3,7 @@
  * its limit events, peaks and time in each level (Markdown, JSON or CSV), optionally with the per-frame records
  * and an n–V plot. Memory does not grow with the file. Also the shared reading loop of `turnmargin check`.
  */
-import { closeSync, existsSync, openSync, statSync, writeSync } from 'node:fs';
+import { existsSync, statSync } from 'node:fs';
 import { basename } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import type { Aircraft } from '../../core/aircraft.js';
@@ -25,10 +25,10 @@ import {
 } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
+import { checkOutputPath, createOutputFile, inputFilesOf } from '../output-path.js';
 import { DEFAULT_THRESHOLDS, describeDefaultThresholds } from '../../core/thresholds.js';
 import type { ReviewWorkerData } from '../review-worker.js';
 import type { PackedFrameBatch } from '../../decode/frame-batch.js';
-import { systemErrorWords } from '../../system-errors.js';
 
 /** Options shared by review and check. */
 export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
@@ -89,6 +89,7 @@ export const spec: CommandSpec = {
       valueName: 'OUT.svg',
       description: "also draw the n–V plot with the flight's points to this SVG file",
     },
+    { name: 'force', type: 'boolean', description: 'overwrite existing --per-frame and --plot files' },
   ],
   notes: [
     'FILE is NDJSON (one frame per line), CSV with a header (or a --mapping file), or a turnmargin recording. ' +
@@ -151,46 +152,6 @@ function createProgress(file: string): { update(bytes: number, total: number): v
     },
     done() {
       if (shown) process.stderr.write('\r\x1b[2K');
-    },
-  };
-}
-
-/**
- * Writes text to a file in large blocks (bounded buffer), so per-frame output does not hold the flight in memory.
- * The file is created (or replaced: it is derived output) at the first write.
- */
-function describeWriteError(err: unknown): string {
-  return systemErrorWords(err, { ENOENT: 'no such directory' });
-}
-
-function createBlockWriter(path: string): { write(text: string): void; close(): void } {
-  let fd: number | null = null;
-  let buffer: string[] = [];
-  let size = 0;
-  const flush = () => {
-    if (buffer.length === 0) return;
-    try {
-      fd ??= openSync(path, 'w');
-      writeSync(fd, buffer.join(''));
-    } catch (err) {
-      throw new InputError([`${path}: cannot write (${describeWriteError(err)})`]);
-    }
-    buffer = [];
-    size = 0;
-  };
-  return {
-    write(text) {
-      buffer.push(text);
-      size += text.length;
-      if (size >= 256 * 1024) flush();
-    },
-    close() {
-      try {
-        flush();
-      } finally {
-        if (fd !== null) closeSync(fd);
-        fd = null;
-      }
     },
   };
 }
@@ -328,21 +289,21 @@ export async function run(args: ParsedArgs): Promise<number> {
   const format = choiceOption(args, 'format', ['md', 'json', 'csv'] as const, 'md');
   const perFramePath = stringOption(args, 'per-frame');
   const plotPath = stringOption(args, 'plot');
-  for (const [name, path] of [
-    ['per-frame', perFramePath],
-    ['plot', plotPath],
-  ] as const) {
-    if (path !== undefined && (path === input.file || path === input.aircraftFile)) {
-      throw new UsageError(`--${name} ${path} would overwrite an input file`, 'review');
-    }
-  }
+  const force = args.values['force'] === true;
+  if (force && perFramePath === undefined && plotPath === undefined)
+    throw new UsageError('--force applies to --per-frame and --plot only', 'review');
+  if (perFramePath !== undefined)
+    checkOutputPath({ option: 'per-frame', path: perFramePath, force, inputs: inputFilesOf(args) });
+  if (plotPath !== undefined)
+    checkOutputPath({ option: 'plot', path: plotPath, force, inputs: inputFilesOf(args), extension: '.svg' });
 
-  const perFrame = perFramePath !== undefined ? createBlockWriter(perFramePath) : undefined;
+  const perFrame = perFramePath !== undefined ? createOutputFile(perFramePath) : undefined;
   let review: FlightReview;
   try {
     review = await reviewFlight(input, perFrame ? (rec) => perFrame.write(JSON.stringify(rec) + '\n') : undefined);
+    perFrame?.commit();
   } finally {
-    perFrame?.close();
+    perFrame?.discard();
   }
 
   const ctx: ReviewContext = { source: input.file, aircraft: input.aircraft, aircraftFile: input.aircraftFile };
@@ -355,9 +316,9 @@ export async function run(args: ParsedArgs): Promise<number> {
       pointsOf: review.plotPointsOf,
       source: basename(input.file),
     });
-    const writer = createBlockWriter(plotPath);
+    const writer = createOutputFile(plotPath);
     writer.write(svg);
-    writer.close();
+    writer.commit();
   }
 
   const text =

@@ -4,8 +4,10 @@
  * so that the monitor can be tried without an aircraft.
  */
 import { spawn, type ChildProcess } from 'node:child_process';
-import { createWriteStream, existsSync, statSync, type WriteStream } from 'node:fs';
-import { basename, resolve as resolvePath } from 'node:path';
+import { createSocket } from 'node:dgram';
+import { statSync } from 'node:fs';
+import { isIPv6 } from 'node:net';
+import { basename } from 'node:path';
 import { createInterface } from 'node:readline';
 import type { Aircraft } from '../../core/aircraft.js';
 import { createFrameWriter, type SimFrame } from '../../sim/frames.js';
@@ -14,16 +16,21 @@ import { SimulationError, simulateFlight, type SimSample } from '../../sim/point
 import { formatWsUrl, isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { describeOutputError, isClosedPipe } from '../output-errors.js';
+import { checkOutputPath, createOutputFile, inputFilesOf } from '../output-path.js';
+import { DEFAULT_BAUD } from '../../sources/serial.js';
+import { formatUdpAddress } from '../../sources/udp.js';
 import { EXIT_OK, EXIT_UNUSABLE, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, readJson } from '../load.js';
+
+const DEFAULT_RATE_HZ = 10;
 
 export const spec: CommandSpec = {
   name: 'simulate',
   summary: 'fly a turn plan with a point-mass model and emit telemetry frames',
   usage:
     'turnmargin simulate --aircraft FILE --plan PLAN.json [--rate HZ] [--seed N]\n' +
-    '                           [--out FILE [--force] | --serial PATH [--baud N] | --pty | --ws-listen HOST:PORT]\n' +
-    '                           [--speed X] [--loop] [--quiet]',
+    '                           [--out FILE [--force] | --serial PATH [--baud N] | --pty | --ws-listen HOST:PORT\n' +
+    '                            | --udp HOST:PORT] [--speed X] [--start-delay S] [--loop] [--quiet]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
     {
@@ -32,7 +39,14 @@ export const spec: CommandSpec = {
       valueName: 'FILE',
       description: 'flight plan (JSON): start state and segments (see below); required',
     },
-    { name: 'rate', type: 'string', valueName: 'HZ', unit: 'Hz', defaultText: '10', description: 'frame rate' },
+    {
+      name: 'rate',
+      type: 'string',
+      valueName: 'HZ',
+      unit: 'Hz',
+      defaultText: String(DEFAULT_RATE_HZ),
+      description: 'frame rate',
+    },
     {
       name: 'seed',
       type: 'string',
@@ -54,17 +68,41 @@ export const spec: CommandSpec = {
       valueName: 'PATH',
       description: 'stream live to an existing serial device or pseudo-terminal (e.g. one end of a socat pair)',
     },
-    { name: 'baud', type: 'string', valueName: 'N', defaultText: '57600', description: 'baud rate for --serial' },
+    {
+      name: 'baud',
+      type: 'string',
+      valueName: 'N',
+      unit: 'bit/s',
+      defaultText: String(DEFAULT_BAUD),
+      description: 'baud rate for --serial',
+    },
     {
       name: 'pty',
       type: 'boolean',
-      description: 'create a pseudo-terminal (needs python3), print its path and stream live to it',
+      description:
+        'create a pseudo-terminal (needs python3), print its path and stream live to it once a program opens it',
     },
     {
       name: 'ws-listen',
       type: 'string',
       valueName: 'HOST:PORT',
-      description: 'stream live as a websocket server (port 0: a free port); starts when the first client connects',
+      description:
+        'stream live as a websocket server (port 0: a free port); starts when the first client connects and closes\n' +
+        'with code 1000 "end of flight" at the end (1001 when interrupted)',
+    },
+    {
+      name: 'udp',
+      type: 'string',
+      valueName: 'HOST:PORT',
+      description: 'stream live as UDP datagrams (one frame line each) to HOST:PORT, e.g. watch --udp PORT',
+    },
+    {
+      name: 'start-delay',
+      type: 'string',
+      valueName: 'S',
+      unit: 's',
+      defaultText: 'wait for a reader (--pty, --ws-listen); 0 otherwise',
+      description: 'start flying after S seconds at the latest, whether or not a reader is there',
     },
     {
       name: 'allow-remote',
@@ -107,9 +145,6 @@ export const spec: CommandSpec = {
     'Live outputs are paced in real time (see --speed); --out and stdout are written as fast as possible.',
   ],
 };
-
-const DEFAULT_RATE_HZ = 10;
-const DEFAULT_BAUD = 57600;
 
 function loadPlanFile(path: string): FlightPlan {
   const json = readJson(path, 'plan');
@@ -211,8 +246,13 @@ function* frameLines(
 /** Where live frames go: a line at a time; `close` flushes and releases. */
 interface LiveSink {
   describe: string;
+  /** Resolves when someone is there to read (a program opened the pseudo-terminal, a client connected). */
+  ready?: Promise<void>;
+  /** What is being waited for, e.g. "a program to open /dev/pts/4". */
+  waitingFor?: string;
   write(line: string): Promise<void>;
-  close(): Promise<void>;
+  /** `interrupted`: stopped by a signal rather than at the end of the flight. */
+  close(interrupted: boolean): Promise<void>;
 }
 
 function writeAsync(stream: NodeJS.WritableStream, text: string): Promise<void> {
@@ -259,59 +299,85 @@ async function openSerialSink(path: string, baudRate: number): Promise<LiveSink>
 }
 
 /**
- * A python3 helper owns the pseudo-terminal: it holds the far end open (so a monitor may come and go) and, when
- * nobody reads, drops the backlog instead of blocking — like a radio link nobody listens to.
+ * A python3 helper owns the pseudo-terminal. Until a program opens the port it keeps only the master side, which
+ * then reports a hang-up: when that clears, a reader is there ("reader" on stdout), and the helper opens the port
+ * itself so a monitor may come and go. When nobody reads, it drops the backlog instead of blocking, like a radio
+ * link nobody listens to. Ctrl-C reaches the helper too (same process group): it ignores it and ends when its
+ * input closes, so no traceback is printed.
  */
 const PTY_HELPER = `
-import os, pty, sys, tty, fcntl, termios
+import os, pty, select, signal, sys, tty, fcntl, termios
+signal.signal(signal.SIGINT, signal.SIG_IGN)
 master, slave = pty.openpty()
 tty.setraw(slave)
+name = os.ttyname(slave)
+os.close(slave)
+held = None
 fl = fcntl.fcntl(master, fcntl.F_GETFL)
 fcntl.fcntl(master, fcntl.F_SETFL, fl | os.O_NONBLOCK)
-sys.stdout.write(os.ttyname(slave) + "\\n")
+sys.stdout.write(name + "\\n")
 sys.stdout.flush()
+hangup = select.poll()
+hangup.register(master, select.POLLIN)
+def reader_there():
+    return not any(ev & select.POLLHUP for _, ev in hangup.poll(0))
 def put(data):
     try:
         n = os.write(master, data)
-    except BlockingIOError:
+    except (BlockingIOError, OSError):
         n = 0
-    if n < len(data):
-        termios.tcflush(slave, termios.TCIFLUSH)
+    if n < len(data) and held is not None:
+        termios.tcflush(held, termios.TCIFLUSH)
         try:
             os.write(master, data[n:])
-        except BlockingIOError:
+        except (BlockingIOError, OSError):
             pass
-for line in sys.stdin.buffer:
-    put(line)
-    try:
-        os.read(master, 65536)
-    except (BlockingIOError, OSError):
-        pass
+try:
+    while True:
+        ready, _, _ = select.select([0], [], [], 0.02)
+        if held is None and reader_there():
+            held = os.open(name, os.O_RDWR | os.O_NOCTTY)
+            sys.stdout.write("reader\\n")
+            sys.stdout.flush()
+        if ready:
+            data = os.read(0, 65536)
+            if not data:
+                break
+            if held is not None:
+                put(data)
+        if held is not None:
+            try:
+                os.read(master, 65536)
+            except (BlockingIOError, OSError):
+                pass
+except (KeyboardInterrupt, BrokenPipeError):
+    pass
 `;
 
 async function openPtySink(): Promise<LiveSink & { path: string }> {
   const child: ChildProcess = spawn('python3', ['-c', PTY_HELPER], { stdio: ['pipe', 'pipe', 'inherit'] });
+  const rl = createInterface({ input: child.stdout! });
   const path = await new Promise<string>((resolve, reject) => {
     child.once('error', (err) =>
       reject(new InputError([`--pty needs python3 (${err.message}); or give --serial PATH of a socat pair`])),
     );
-    const rl = createInterface({ input: child.stdout! });
-    rl.once('line', (line) => {
-      rl.close();
-      resolve(line.trim());
-    });
+    rl.once('line', (line) => resolve(line.trim()));
     child.once('exit', (code) =>
       reject(new InputError([`the pseudo-terminal helper (python3) exited with code ${code}`])),
     );
   });
+  const ready = new Promise<void>((resolve) => rl.on('line', (line) => line.trim() === 'reader' && resolve()));
   const stdin = child.stdin!;
   stdin.on('error', () => undefined);
   return {
     path,
     describe: `pseudo-terminal ${path}`,
+    ready,
+    waitingFor: `a program to open ${path}`,
     write: (line) => writeAsync(stdin, line),
     close: () =>
       new Promise((resolve) => {
+        rl.close();
         if (child.exitCode !== null) return resolve();
         child.once('exit', () => resolve());
         stdin.end();
@@ -319,7 +385,7 @@ async function openPtySink(): Promise<LiveSink & { path: string }> {
   };
 }
 
-async function openWsSink(hostPort: string, allowRemote: boolean, signal: AbortSignal): Promise<LiveSink | null> {
+async function openWsSink(hostPort: string, allowRemote: boolean): Promise<LiveSink> {
   const parsed = parseListenAddress(hostPort);
   if (!parsed.ok) throw new UsageError(`--ws-listen ${parsed.reason}`);
   const { host, port } = parsed.value;
@@ -339,32 +405,57 @@ async function openWsSink(hostPort: string, allowRemote: boolean, signal: AbortS
   wss.on('error', () => undefined);
   const realPort = (wss.address() as { port: number }).port;
   process.stdout.write(`listening on ${formatWsUrl(host, realPort)}\n`);
-  process.stderr.write('turnmargin: waiting for the first client to connect…\n');
   // Clients only receive; anything they send is ignored.
   wss.on('connection', (ws) => ws.on('error', () => undefined));
-  const first = await new Promise<boolean>((resolve) => {
-    if (wss.clients.size > 0) return resolve(true);
-    wss.once('connection', () => resolve(true));
-    signal.addEventListener('abort', () => resolve(false), { once: true });
-  });
-  const closeAll = () =>
-    new Promise<void>((resolve) => {
-      for (const ws of wss.clients) ws.close(1000, 'flight ended');
-      setTimeout(() => {
-        for (const ws of wss.clients) ws.terminate();
-        wss.close(() => resolve());
-      }, 200).unref();
-    });
-  if (!first) {
-    await closeAll();
-    return null;
-  }
+  const ready = new Promise<void>((resolve) => wss.once('connection', () => resolve()));
   return {
     describe: `websocket ${formatWsUrl(host, realPort)}`,
+    ready,
+    waitingFor: 'the first client to connect',
     async write(line) {
       for (const ws of wss.clients) if (ws.readyState === WebSocket.OPEN) ws.send(line);
     },
-    close: closeAll,
+    // 1000 "end of flight" tells a monitor the stream is over (it shows ENDED and does not retry); an interrupted
+    // simulator is going away (1001): a monitor keeps retrying, as for a relay that restarts.
+    close: (interrupted) =>
+      new Promise<void>((resolve) => {
+        for (const ws of wss.clients) {
+          if (interrupted) ws.close(1001, 'simulator stopped');
+          else ws.close(1000, END_OF_FLIGHT);
+        }
+        setTimeout(() => {
+          for (const ws of wss.clients) ws.terminate();
+          wss.close(() => resolve());
+        }, 200).unref();
+      }),
+  };
+}
+
+/** The reason of the websocket close at the normal end of a simulated flight. */
+export const END_OF_FLIGHT = 'end of flight';
+
+/** UDP: each frame line is one datagram, sent to HOST:PORT (no connection, no reader to wait for). */
+async function openUdpSink(hostPort: string): Promise<LiveSink> {
+  const parsed = parseListenAddress(hostPort);
+  if (!parsed.ok) throw new UsageError(`--udp ${parsed.reason}`);
+  const { host, port } = parsed.value;
+  if (port === 0) throw new UsageError('--udp needs the port the receiver listens on (not 0)');
+  const socket = createSocket(isIPv6(host) ? 'udp6' : 'udp4');
+  let failure: Error | null = null;
+  socket.on('error', (err) => (failure = err));
+  return {
+    describe: `udp ${formatUdpAddress(host, port)}`,
+    write: (line) =>
+      new Promise((resolve, reject) => {
+        if (failure) return reject(new InputError([`--udp ${hostPort}: cannot send (${failure.message})`]));
+        socket.send(line, port, host, (err) => {
+          // Nobody listening (ICMP refused) is normal for a datagram link: the frame is simply lost.
+          if (err && (err as NodeJS.ErrnoException).code !== 'ECONNREFUSED')
+            return reject(new InputError([`--udp ${hostPort}: cannot send (${err.message})`]));
+          resolve();
+        });
+      }),
+    close: () => new Promise((resolve) => socket.close(() => resolve())),
   };
 }
 
@@ -379,6 +470,35 @@ function sleep(ms: number, signal: AbortSignal): Promise<void> {
     }
     signal.addEventListener('abort', done, { once: true });
   });
+}
+
+/**
+ * The flight starts when a reader is there (the sink says when), or after --start-delay seconds at the latest; a
+ * sink that cannot tell (serial, UDP) starts after the delay (none by default).
+ */
+async function waitForReader(sink: LiveSink, startDelayS: number | undefined, signal: AbortSignal): Promise<void> {
+  if (sink.ready === undefined) {
+    if (startDelayS !== undefined) await sleep(startDelayS * 1000, signal);
+    return;
+  }
+  const giveUp = new AbortController();
+  const onAbort = (): void => giveUp.abort();
+  signal.addEventListener('abort', onAbort, { once: true });
+  const timer = startDelayS !== undefined ? setTimeout(onAbort, startDelayS * 1000) : undefined;
+  process.stderr.write(
+    `turnmargin: waiting for ${sink.waitingFor ?? 'a reader'}` +
+      (startDelayS !== undefined ? ` (at most ${startDelayS} s)` : '') +
+      '; the flight starts then\n',
+  );
+  try {
+    await Promise.race([
+      sink.ready,
+      new Promise<void>((resolve) => giveUp.signal.addEventListener('abort', () => resolve(), { once: true })),
+    ]);
+  } finally {
+    clearTimeout(timer);
+    signal.removeEventListener('abort', onAbort);
+  }
 }
 
 /** Stream frames in real time (scaled by `speed`) until the plan ends or the signal aborts. */
@@ -430,6 +550,8 @@ export async function run(args: ParsedArgs): Promise<number> {
   const serial = stringOption(args, 'serial');
   const usePty = args.values['pty'] === true;
   const wsListen = stringOption(args, 'ws-listen');
+  const udp = stringOption(args, 'udp');
+  const startDelayS = numberOption(args, 'start-delay', undefined, { min: 0, max: 86_400 });
   const loop = args.values['loop'] === true;
   const quiet = args.values['quiet'] === true;
 
@@ -438,26 +560,21 @@ export async function run(args: ParsedArgs): Promise<number> {
     serial !== undefined && '--serial',
     usePty && '--pty',
     wsListen !== undefined && '--ws-listen',
+    udp !== undefined && '--udp',
   ].filter(Boolean);
   if (chosen.length > 1) throw new UsageError(`give one output at most (got ${chosen.join(' and ')})`);
-  const live = serial !== undefined || usePty || wsListen !== undefined;
-  if (loop && !live) throw new UsageError('--loop applies to live streaming only (--serial, --pty or --ws-listen)');
-  if (args.values['speed'] !== undefined && !live)
-    throw new UsageError('--speed applies to live streaming only (--serial, --pty or --ws-listen)');
+  const live = serial !== undefined || usePty || wsListen !== undefined || udp !== undefined;
+  const liveOnly = 'applies to live streaming only (--serial, --pty, --ws-listen or --udp)';
+  if (loop && !live) throw new UsageError(`--loop ${liveOnly}`);
+  if (args.values['speed'] !== undefined && !live) throw new UsageError(`--speed ${liveOnly}`);
+  if (startDelayS !== undefined && !live) throw new UsageError(`--start-delay ${liveOnly}`);
   if (args.values['baud'] !== undefined && serial === undefined)
     throw new UsageError('--baud applies to --serial only');
   if (args.values['force'] && out === undefined) throw new UsageError('--force applies to --out only');
   if (args.values['allow-remote'] && wsListen === undefined)
     throw new UsageError('--allow-remote applies to --ws-listen only');
-  for (const option of ['aircraft', 'plan'] as const) {
-    const input = stringOption(args, option);
-    if (out !== undefined && input !== undefined && resolvePath(input) === resolvePath(out)) {
-      throw new UsageError(`--out ${out} is the --${option} file: writing there would overwrite it`);
-    }
-  }
-  if (out !== undefined && existsSync(out) && !args.values['force']) {
-    throw new UsageError(`--out ${out} exists; give --force to overwrite it`);
-  }
+  if (out !== undefined)
+    checkOutputPath({ option: 'out', path: out, force: args.values['force'] === true, inputs: inputFilesOf(args) });
   if (plan.airspeedKey === 'ias_mps') {
     try {
       createFrameWriter(aircraft, plan, { seed });
@@ -494,21 +611,17 @@ export async function run(args: ParsedArgs): Promise<number> {
       }
       return EXIT_OK;
     }
-    const stream: WriteStream = createWriteStream(out, { flags: 'w' });
-    await new Promise<void>((resolve, reject) => {
-      stream.once('open', () => resolve());
-      stream.once('error', (err) => reject(new InputError([`${out}: cannot write (${err.message})`])));
-    });
-    let count: number;
+    // Written under a temporary name and renamed at the end: an interrupted run leaves no half file named `out`.
+    const file = createOutputFile(out);
+    let count = 0;
     try {
-      count = await writeAll(frameLines(aircraft, plan, rateHz, seed, false), stream);
-      await new Promise<void>((resolve, reject) => {
-        stream.once('error', reject);
-        stream.end(resolve);
-      });
-    } catch (err) {
-      stream.destroy();
-      throw new InputError([`${out}: cannot write (${describeOutputError(err as NodeJS.ErrnoException)})`]);
+      for (const { line } of frameLines(aircraft, plan, rateHz, seed, false)) {
+        file.write(line + '\n');
+        count++;
+      }
+      file.commit();
+    } finally {
+      file.discard();
     }
     if (!quiet) process.stderr.write(`wrote ${count} frames to ${out}\n`);
     return EXIT_OK;
@@ -518,8 +631,9 @@ export async function run(args: ParsedArgs): Promise<number> {
   const onSignal = () => stop.abort();
   process.once('SIGINT', onSignal);
   process.once('SIGTERM', onSignal);
+  process.once('SIGHUP', onSignal);
   try {
-    let sink: LiveSink | null;
+    let sink: LiveSink;
     if (serial !== undefined) {
       sink = await openSerialSink(serial, baud);
     } else if (usePty) {
@@ -527,15 +641,17 @@ export async function run(args: ParsedArgs): Promise<number> {
       process.stdout.write(`pseudo-terminal ${ptySink.path}\n`);
       process.stderr.write(`turnmargin: try: turnmargin watch --serial ${ptySink.path} --aircraft FILE\n`);
       sink = ptySink;
+    } else if (udp !== undefined) {
+      sink = await openUdpSink(udp);
     } else {
-      sink = await openWsSink(wsListen!, args.values['allow-remote'] === true, stop.signal);
+      sink = await openWsSink(wsListen!, args.values['allow-remote'] === true);
     }
-    if (!sink) return EXIT_OK;
     let count = 0;
     try {
+      await waitForReader(sink, startDelayS, stop.signal);
       count = await streamLive(frameLines(aircraft, plan, rateHz, seed, loop), sink, speed, stop.signal);
     } finally {
-      await sink.close();
+      await sink.close(stop.signal.aborted);
     }
     if (!quiet)
       process.stderr.write(`sent ${count} frames to ${sink.describe}${stop.signal.aborted ? ' (interrupted)' : ''}\n`);
@@ -548,5 +664,6 @@ export async function run(args: ParsedArgs): Promise<number> {
   } finally {
     process.off('SIGINT', onSignal);
     process.off('SIGTERM', onSignal);
+    process.off('SIGHUP', onSignal);
   }
 }

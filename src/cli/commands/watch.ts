@@ -1,18 +1,24 @@
-/** `turnmargin watch`: live margins from a serial radio or a websocket relay, with recording and link health. */
-import { resolve } from 'node:path';
+/** `turnmargin watch`: live margins from a serial radio, a websocket relay or UDP datagrams, with recording and link health. */
+import { existsSync } from 'node:fs';
 import { openRecorder, type Recorder } from '../../recording/recorder.js';
-import { createSerialSource, DEFAULT_BAUD, whyNotASerialPort } from '../../sources/serial.js';
+import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
+import { createSerialSource, DEFAULT_BAUD, NO_SUCH_PORT_YET, whyNotASerialPort } from '../../sources/serial.js';
+import { createUdpSource } from '../../sources/udp.js';
 import { createWebSocketSource } from '../../sources/websocket.js';
 import type { TelemetrySource } from '../../sources/source.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { UsageError } from '../../errors.js';
 import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js';
+import { checkOutputPath, inputFilesOf } from '../output-path.js';
+
+export const DEFAULT_UDP_HOST = '127.0.0.1';
 
 export const spec: CommandSpec = {
   name: 'watch',
-  summary: 'monitor live telemetry from a serial radio or a websocket relay',
+  summary: 'monitor live telemetry from a serial radio, a websocket relay or UDP datagrams',
   usage:
-    'turnmargin watch (--serial PATH [--baud N] | --ws URL) --aircraft FILE [--record FILE [--force]] [--thresholds FILE] [--smooth S] [--no-ui]',
+    'turnmargin watch (--serial PATH [--baud N] | --ws URL | --udp [HOST:]PORT [--allow-remote]) --aircraft FILE\n' +
+    '                        [--record FILE] [--events FILE] [--force] [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
     {
       name: 'serial',
@@ -34,6 +40,18 @@ export const spec: CommandSpec = {
       valueName: 'URL',
       description: 'websocket relay, e.g. ws://127.0.0.1:8765/telemetry',
     },
+    {
+      name: 'udp',
+      type: 'string',
+      valueName: '[HOST:]PORT',
+      defaultText: `host ${DEFAULT_UDP_HOST}`,
+      description: 'receive UDP datagrams of complete lines on this address (port 0: a free port, printed)',
+    },
+    {
+      name: 'allow-remote',
+      type: 'boolean',
+      description: 'allow --udp on a non-loopback address (anyone on the network can send)',
+    },
     ...COMMON_MONITOR_OPTIONS,
     {
       name: 'record',
@@ -41,31 +59,61 @@ export const spec: CommandSpec = {
       valueName: 'FILE',
       description: 'record every received line (verbatim, with its receive time) to FILE',
     },
-    { name: 'force', type: 'boolean', description: 'overwrite an existing recording file' },
   ],
   notes: [
     'Telemetry: one JSON object per line with t_s, one of ias_mps/cas_mps/tas_mps, alt_m, bank_deg and/or nz,\n' +
       'optionally oat_c, mass_kg, throttle and simulated. Bad lines are rejected with a code and a reason,\n' +
       'counted, and kept in the recording.',
     'When the link drops the monitor reports "link lost" and reconnects by itself (first retry within 0.5 s,\n' +
-      'then every 2 s at most). Ctrl-C (or q on the dashboard) flushes the recording and exits.',
+      'then every 2 s at most). A serial port that does not exist yet is waited for. A websocket sender that\n' +
+      'closes normally (code 1000, e.g. the simulator at the end of its flight) ends the link: no retry.\n' +
+      'Ctrl-C (or q on the dashboard) flushes the recording and exits.',
+    'UDP: each datagram holds one or more complete lines (at most 64 KiB); a line never spans two datagrams.\n' +
+      'The link shows LISTENING until the first datagram, then LIVE, and STALE when nothing arrives for 1 s.',
   ],
 };
 
-function sourceFromArgs(args: ParsedArgs): TelemetrySource {
+/** `--udp [HOST:]PORT`: a bare port listens on 127.0.0.1. */
+function udpAddress(text: string, allowRemote: boolean): { host: string; port: number } {
+  const parsed = /^\d+$/.test(text.trim())
+    ? parseListenAddress(`:${text.trim()}`, DEFAULT_UDP_HOST)
+    : parseListenAddress(text, DEFAULT_UDP_HOST);
+  if (!parsed.ok) throw new UsageError(`--udp ${parsed.reason.replace('HOST:PORT', '[HOST:]PORT')}`);
+  const { host } = parsed.value;
+  if (!isLoopbackHost(host)) {
+    if (!allowRemote)
+      throw new UsageError(`--udp ${host} is not a loopback address; give --allow-remote to receive from the network`);
+    process.stderr.write(
+      `turnmargin: warning: receiving UDP on ${host}: anyone who can reach this machine can send frames\n`,
+    );
+  }
+  return parsed.value;
+}
+
+/** The link, and a note to print once everything else is checked. */
+function sourceFromArgs(args: ParsedArgs): { source: TelemetrySource; note?: string } {
   const serial = stringOption(args, 'serial');
   const ws = stringOption(args, 'ws');
-  if (serial !== undefined && ws !== undefined) throw new UsageError('give --serial PATH or --ws URL, not both');
-  if (serial === undefined && ws === undefined)
-    throw new UsageError('a telemetry link is required: --serial PATH or --ws URL');
+  const udp = stringOption(args, 'udp');
+  const given = [serial !== undefined && '--serial', ws !== undefined && '--ws', udp !== undefined && '--udp'].filter(
+    Boolean,
+  );
+  if (given.length > 1) throw new UsageError(`give one telemetry link (got ${given.join(' and ')})`);
+  if (given.length === 0)
+    throw new UsageError('a telemetry link is required: --serial PATH, --ws URL or --udp [HOST:]PORT');
+  if (args.values['baud'] !== undefined && serial === undefined)
+    throw new UsageError('--baud applies to --serial only');
+  if (args.values['allow-remote'] === true && udp === undefined)
+    throw new UsageError('--allow-remote applies to --udp only');
   if (serial !== undefined) {
-    if (serial === '') throw new UsageError('--serial PATH must not be empty');
     const why = whyNotASerialPort(serial);
     if (why !== null) throw new UsageError(`--serial ${serial} ${why}`);
     const baudRate = numberOption(args, 'baud', DEFAULT_BAUD, { integer: true, min: 50, max: 4_000_000 });
-    return createSerialSource({ path: serial, baudRate });
+    // Said at once, not after a failed open: a radio not plugged in yet is normal, a typo is not.
+    const note = existsSync(serial) ? undefined : `${serial}: ${NO_SUCH_PORT_YET}`;
+    return { source: createSerialSource({ path: serial, baudRate }), ...(note ? { note } : {}) };
   }
-  if (args.values['baud'] !== undefined) throw new UsageError('--baud applies to --serial only');
+  if (udp !== undefined) return { source: createUdpSource(udpAddress(udp, args.values['allow-remote'] === true)) };
   let url: URL;
   try {
     url = new URL(ws!);
@@ -74,27 +122,22 @@ function sourceFromArgs(args: ParsedArgs): TelemetrySource {
   }
   if (url.protocol !== 'ws:' && url.protocol !== 'wss:')
     throw new UsageError(`--ws must start with ws:// or wss:// (got "${ws}")`);
-  return createWebSocketSource({ url: url.href });
+  return { source: createWebSocketSource({ url: url.href }) };
 }
 
 export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
-  const source = sourceFromArgs(args);
+  const { source, note } = sourceFromArgs(args);
   const setup = loadMonitorSetup(args);
   const recordPath = stringOption(args, 'record');
-  if (args.values['force'] && recordPath === undefined) throw new UsageError('--force applies to --record only');
+  if (args.values['force'] && recordPath === undefined && stringOption(args, 'events') === undefined)
+    throw new UsageError('--force applies to --record and --events only');
   let recorder: Recorder | undefined;
   if (recordPath !== undefined) {
-    for (const [option, input] of [
-      ['aircraft', stringOption(args, 'aircraft')],
-      ['thresholds', stringOption(args, 'thresholds')],
-    ] as const) {
-      if (input !== undefined && resolve(input) === resolve(recordPath)) {
-        throw new UsageError(`--record ${recordPath} is the --${option} file: recording there would overwrite it`);
-      }
-    }
+    const force = args.values['force'] === true;
+    checkOutputPath({ option: 'record', path: recordPath, force, inputs: inputFilesOf(args) });
+    recorder = openRecorder({ path: recordPath, force, sourceLabel: source.label });
   }
-  if (recordPath !== undefined)
-    recorder = openRecorder({ path: recordPath, force: args.values['force'] === true, sourceLabel: source.label });
+  if (note !== undefined) process.stderr.write(`turnmargin: ${note}\n`);
   return runMonitor({ ...setup, source, ...(recorder ? { recorder } : {}) });
 }
