@@ -5,7 +5,6 @@ import { createReplay } from '../../engine/replay.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { InputError, UsageError } from '../../errors.js';
 import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js';
-import { systemErrorWords } from '../../system-errors.js';
 
 export const spec: CommandSpec = {
   name: 'replay',
