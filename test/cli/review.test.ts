@@ -90,6 +90,7 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(Object.keys(out.events[0]).sort()).toEqual([
       'duration_s',
       'end_s',
+      'ended_by',
       'level',
       'limit',
       'n_at_peak',
@@ -149,9 +150,9 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(md).toContain('2 warning events and 6 caution events');
     expect(md).toMatch(/\| 2 \| stall \| WARNING \| 11\.00 \| 13\.00 \| 2\.00 \| 94\.3 % \|/);
     expect(md).toContain('| 43 | time not increasing |');
-    // the last stall caution is still on when the data end; the one closed at 18.00 is not marked
-    expect(md).toMatch(/\| 8 \| stall \| CAUTION \| 29\.50 \| 30\.00 \(end of data\) \|/);
-    expect(md).toMatch(/\| 3 \| stall \| CAUTION \| 16\.00 \| 18\.00 \|/);
+    // the last stall caution is still on when the data end; the one closed at 18.00 cleared
+    expect(md).toMatch(/\| 8 \| stall \| CAUTION \| 29\.50 \| 30\.00 \| .* \| end of data \|/);
+    expect(md).toMatch(/\| 3 \| stall \| CAUTION \| 16\.00 \| 18\.00 \| .* \| alert cleared \|/);
     expect(md).toContain(
       "The aircraft's approved limits, the operator's procedures and local aviation rules take precedence.",
     );
@@ -162,7 +163,9 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     const r = await runCli(['review', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0', '--format', 'csv']);
     expect(r.code).toBe(0);
     const lines = r.stdout.trim().split('\n');
-    expect(lines[0]).toBe('limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak');
+    expect(lines[0]).toBe(
+      'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak,ended_by',
+    );
     expect(lines).toHaveLength(1 + EXPECTED_EVENTS.length);
     expect(lines[2]!.startsWith('stall,warning,11,13,2,0.943')).toBe(true);
   });

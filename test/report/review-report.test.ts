@@ -30,7 +30,7 @@ describe('review renderers', () => {
     expect(md).toContain('No caution or warning: every limit stayed below its caution threshold.');
     expect(md).toContain('## Rejected lines\n\nNone.');
     expect(reviewToCsv(review)).toBe(
-      'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak\n',
+      'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak,ended_by\n',
     );
     expect(reviewToJson(review, ctx).events).toEqual([]);
     expect(checkSummary(review, ctx, 'caution').trimEnd().split('\n').pop()).toBe('PASS: no event reached caution');
