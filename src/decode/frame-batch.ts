@@ -80,6 +80,23 @@ export function unpackFrame(source: Float64Array, index: number): Frame {
   return frame;
 }
 
+/** unpackFrame into an existing frame (no allocation): absent optional keys become undefined. */
+export function unpackFrameInto(frame: Frame, source: Float64Array, index: number): void {
+  const o = index * FRAME_SLOTS;
+  frame.tS = source[o]!;
+  frame.airspeedKind = KINDS[source[o + 1]!]!;
+  frame.airspeedMps = source[o + 2]!;
+  frame.altM = source[o + 3]!;
+  const bankDeg = source[o + 4]!;
+  const nz = source[o + 5]!;
+  const oatC = source[o + 6]!;
+  const massKg = source[o + 7]!;
+  frame.bankDeg = bankDeg === bankDeg ? bankDeg : undefined;
+  frame.nz = nz === nz ? nz : undefined;
+  frame.oatC = oatC === oatC ? oatC : undefined;
+  frame.massKg = massKg === massKg ? massKg : undefined;
+}
+
 export function packedNewSegment(source: Float64Array, index: number): boolean {
   return source[index * FRAME_SLOTS + 8] !== 0;
 }

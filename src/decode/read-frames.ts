@@ -282,6 +282,8 @@ export async function* readFrameBatches(
 export interface PackedFrameBatch {
   frames: Float64Array<ArrayBuffer>;
   count: number;
+  /** The line number of each packed frame (for a frame the frame engine refuses). */
+  lineNos: Int32Array<ArrayBuffer>;
   /** Rejected lines in order: line number, reason, line number, reason, … */
   rejects: Array<number | string>;
 }
@@ -299,6 +301,7 @@ export async function* readFramePackedBatches(
   // A new array per batch: the consumer may transfer the one it was given to another thread.
   let capacity = 1024;
   let frames = new Float64Array(capacity * FRAME_SLOTS);
+  let lineNos = new Int32Array(capacity);
   let count = 0;
   let rejects: Array<number | string> = [];
   const room = (): void => {
@@ -307,6 +310,9 @@ export async function* readFramePackedBatches(
     const larger = new Float64Array(capacity * FRAME_SLOTS);
     larger.set(frames);
     frames = larger;
+    const moreNos = new Int32Array(capacity);
+    moreNos.set(lineNos);
+    lineNos = moreNos;
   };
   const sink: LineSink = {
     plain(block, start, end, physicalNo) {
@@ -314,6 +320,7 @@ export async function* readFramePackedBatches(
       const order = reader.checkTime(acceptedFrameTime());
       if (order.ok) {
         room();
+        lineNos[count] = physicalNo;
         packAcceptedFrame(frames, count++, order.newSegment);
       } else rejects.push(physicalNo, order.reason);
       return true;
@@ -323,6 +330,7 @@ export async function* readFramePackedBatches(
       if (line === null) return;
       if (line.verdict.ok) {
         room();
+        lineNos[count] = line.lineNo;
         packFrame(
           frames,
           count++,
@@ -334,8 +342,9 @@ export async function* readFramePackedBatches(
   };
   for await (const _chunk of physicalBatches(path, options, sink)) {
     if (count === 0 && rejects.length === 0) continue;
-    yield { frames, count, rejects };
+    yield { frames, count, lineNos, rejects };
     frames = new Float64Array(capacity * FRAME_SLOTS);
+    lineNos = new Int32Array(capacity);
     count = 0;
     rejects = [];
   }
