@@ -184,4 +184,33 @@ describe('one frame engine on every path', () => {
     expect(replayRecords).toEqual(reviewRecords);
     expect(serve.records).toEqual(reviewRecords);
   }, 90_000);
+
+  it('refuses an existing --events file unless --force is given, like --record', async () => {
+    const flight = join(dir, 'short.ndjson');
+    writeFileSync(flight, stretch(0, 1, 0.95).join('\n') + '\n');
+    const eventsFile = join(dir, 'kept.ndjson');
+    writeFileSync(eventsFile, 'earlier events\n');
+    const args = [
+      'replay',
+      flight,
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--no-ui',
+      '--speed',
+      '0',
+      '--events',
+      eventsFile,
+    ];
+    const refused = await runCli(args);
+    expect(refused.code).toBe(2);
+    expect(refused.stderr).toContain(`${eventsFile}: the events file exists; choose another name or add --force`);
+    expect(readFileSync(eventsFile, 'utf8')).toBe('earlier events\n');
+    const forced = await runCli([...args, '--force']);
+    expect(forced.code, forced.stderr).toBe(0);
+    // Both stall alerts are still on at the end of the file: written when the monitor stops, ended by the end of data.
+    expect(jsonLines(readFileSync(eventsFile, 'utf8')).map((e) => [e['level'], e['ended_by']])).toEqual([
+      ['caution', 'end_of_data'],
+      ['warning', 'end_of_data'],
+    ]);
+  }, 60_000);
 });

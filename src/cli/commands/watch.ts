@@ -12,7 +12,7 @@ export const spec: CommandSpec = {
   name: 'watch',
   summary: 'monitor live telemetry from a serial radio or a websocket relay',
   usage:
-    'turnmargin watch (--serial PATH [--baud N] | --ws URL) --aircraft FILE [--record FILE [--force]] [--thresholds FILE] [--smooth S] [--no-ui]',
+    'turnmargin watch (--serial PATH [--baud N] | --ws URL) --aircraft FILE [--record FILE] [--events FILE] [--force] [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
     {
       name: 'serial',
@@ -41,7 +41,6 @@ export const spec: CommandSpec = {
       valueName: 'FILE',
       description: 'record every received line (verbatim, with its receive time) to FILE',
     },
-    { name: 'force', type: 'boolean', description: 'overwrite an existing recording file' },
   ],
   notes: [
     'Telemetry: one JSON object per line with t_s, one of ias_mps/cas_mps/tas_mps, alt_m, bank_deg and/or nz,\n' +
@@ -81,7 +80,8 @@ export async function run(args: ParsedArgs): Promise<number> {
   const source = sourceFromArgs(args);
   const setup = loadMonitorSetup(args);
   const recordPath = stringOption(args, 'record');
-  if (args.values['force'] && recordPath === undefined) throw new UsageError('--force applies to --record only');
+  if (args.values['force'] && recordPath === undefined && args.values['events'] === undefined)
+    throw new UsageError('--force applies to --record and --events only');
   let recorder: Recorder | undefined;
   if (recordPath !== undefined) {
     for (const [option, input] of [
