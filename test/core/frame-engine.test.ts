@@ -32,7 +32,8 @@ describe('frame engine', () => {
     // Stall alert on from 0 to 2 s, a 1.5 s gap in the data, on again from 3.5 to 5 s, then off.
     const breaks: DataBreak[] = [];
     const engine = createFrameEngine(exampleAirframe(), { smoothTauS: 0 }, { dataBreak: (b) => breaks.push(b) });
-    for (const f of [...run(0, 2, 0.95), ...run(3.5, 5, 0.95), ...run(5.1, 5.5, 0.5)]) engine.push(f);
+    // (The alerts go off after 0.5 s below threshold − hysteresis, the clear stretch; the events end at its start.)
+    for (const f of [...run(0, 2, 0.95), ...run(3.5, 5, 0.95), ...run(5.1, 6, 0.5)]) engine.push(f);
     const events = engine.finish();
     expect(summary(events)).toEqual([
       ['stall', 'caution', 0, 2, 'data_gap'],
@@ -42,7 +43,7 @@ describe('frame engine', () => {
     ]);
     expect(breaks).toEqual([
       { kind: 'data_gap', t_s: 2 },
-      { kind: 'end_of_data', t_s: 5.5 },
+      { kind: 'end_of_data', t_s: 6 },
     ]);
   });
 
@@ -111,7 +112,7 @@ describe('frame engine', () => {
         eventEnded: (e) => log.push(`end ${e.level} ${e.end_s} ${e.ended_by}`),
       },
     );
-    for (const f of [...run(0, 0.2, 0.5), ...run(0.3, 0.5, 0.85), ...run(0.6, 0.7, 0.5)]) engine.push(f);
+    for (const f of [...run(0, 0.2, 0.5), ...run(0.3, 0.5, 0.85), ...run(0.6, 1.2, 0.5)]) engine.push(f);
     engine.finish();
     expect(log).toEqual(['start caution 0.3', 'end caution 0.6 cleared']);
   });
