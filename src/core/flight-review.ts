@@ -96,14 +96,6 @@ export interface FlightReview {
   assumedShare: Record<Assumption, number | null>;
 }
 
-/** The range widened to hold the value (updated in place: the ranges are the reviewer's own until finish). */
-function widen(range: Range | null, value: number): Range {
-  if (range === null) return { min: value, max: value };
-  range.min = Math.min(range.min, value);
-  range.max = Math.max(range.max, value);
-  return range;
-}
-
 /** The peak raised to the utilization when it is higher (or the first defined). */
 function raisePeak(peak: Peak, utilization: number | null, tS: number): void {
   if (utilization !== null && (peak.utilization === null || utilization > peak.utilization)) {
@@ -174,6 +166,14 @@ export function createFlightReviewer(
     warning: createDecimator(PLOT_POINTS_PER_LEVEL),
   };
   const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
+  let altMin = Infinity;
+  let altMax = -Infinity;
+  let tasMin = Infinity;
+  let tasMax = -Infinity;
+  let nMin = Infinity;
+  let nMax = -Infinity;
+  let tempMin = Infinity;
+  let tempMax = -Infinity;
   const engine = createFrameEngine(aircraft, resolved, {
     dataBreak(brk) {
       pendingBreak = brk.kind;
@@ -227,10 +227,15 @@ export function createFlightReviewer(
       raisePeak(peaks.structure, rec.utilization.structure, rec.t_s);
       raisePeak(peaks.speed, rec.utilization.speed, rec.t_s);
       assumed.push(rec);
-      conditions.altitudeM = widen(conditions.altitudeM, rec.alt_m);
-      conditions.tasMps = widen(conditions.tasMps, rec.tas_mps);
-      conditions.nMeasured = widen(conditions.nMeasured, rec.n_measured);
-      conditions.temperatureK = widen(conditions.temperatureK, rec.temperature_k);
+      // Plain numbers on the per-frame path; the ranges are made at finish.
+      if (rec.alt_m < altMin) altMin = rec.alt_m;
+      if (rec.alt_m > altMax) altMax = rec.alt_m;
+      if (rec.tas_mps < tasMin) tasMin = rec.tas_mps;
+      if (rec.tas_mps > tasMax) tasMax = rec.tas_mps;
+      if (rec.n_measured < nMin) nMin = rec.n_measured;
+      if (rec.n_measured > nMax) nMax = rec.n_measured;
+      if (rec.temperature_k < tempMin) tempMin = rec.temperature_k;
+      if (rec.temperature_k > tempMax) tempMax = rec.temperature_k;
       if (!rec.flying) conditions.notFlyingFrames += 1;
       // Sample objects only for the items the decimators keep.
       if (conditionSamples.keepsNext()) conditionSamples.push({ densityKgM3: rec.density_kg_m3, massKg: rec.mass_kg });
@@ -249,6 +254,11 @@ export function createFlightReviewer(
     counts: () => ({ frames: accepted + rejected, accepted, rejected }),
     finish() {
       const events = engine.finish();
+      const range = (min: number, max: number): Range | null => (accepted > 0 ? { min, max } : null);
+      conditions.altitudeM = range(altMin, altMax);
+      conditions.tasMps = range(tasMin, tasMax);
+      conditions.nMeasured = range(nMin, nMax);
+      conditions.temperatureK = range(tempMin, tempMax);
       const samples = conditionSamples.items();
       conditions.medianDensityKgM3 = median(samples.map((s) => s.densityKgM3));
       conditions.medianMassKg = median(samples.map((s) => s.massKg));

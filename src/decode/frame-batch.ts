@@ -80,6 +80,8 @@ export function packedAfterReconnect(source: Float64Array, index: number): boole
 export interface PackedFrameBatch {
   frames: Float64Array<ArrayBuffer>;
   count: number;
+  /** The line number of each packed frame (for a frame the frame engine refuses). */
+  lineNos: Int32Array<ArrayBuffer>;
   /** Rejected lines in order, REJECT_STRIDE entries each: line number, words, code, key ('' if none), got ('' if none). */
   rejects: Array<number | string>;
 }

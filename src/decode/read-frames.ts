@@ -285,6 +285,7 @@ export async function* readFramePackedBatches(
   // A new array per batch: the consumer may transfer the one it was given to another thread.
   let capacity = 1024;
   let frames = new Float64Array(capacity * FRAME_SLOTS);
+  let lineNos = new Int32Array(capacity);
   let count = 0;
   let rejects: Array<number | string> = [];
   const room = (): void => {
@@ -293,6 +294,9 @@ export async function* readFramePackedBatches(
     const larger = new Float64Array(capacity * FRAME_SLOTS);
     larger.set(frames);
     frames = larger;
+    const moreNos = new Int32Array(capacity);
+    moreNos.set(lineNos);
+    lineNos = moreNos;
   };
   const sink: LineSink = {
     plain(block, start, end, physicalNo) {
@@ -300,6 +304,7 @@ export async function* readFramePackedBatches(
       const order = reader.checkTime(acceptedFrameTime());
       if (order.ok) {
         room();
+        lineNos[count] = physicalNo;
         packAcceptedFrame(frames, count++, order.newSegment);
       } else packReject(rejects, physicalNo, order);
       return true;
@@ -309,6 +314,7 @@ export async function* readFramePackedBatches(
       if (line === null) return;
       if (line.verdict.ok) {
         room();
+        lineNos[count] = line.lineNo;
         packFrame(
           frames,
           count++,
@@ -320,8 +326,9 @@ export async function* readFramePackedBatches(
   };
   for await (const _chunk of physicalBatches(path, options, sink)) {
     if (count === 0 && rejects.length === 0) continue;
-    yield { frames, count, rejects };
+    yield { frames, count, lineNos, rejects };
     frames = new Float64Array(capacity * FRAME_SLOTS);
+    lineNos = new Int32Array(capacity);
     count = 0;
     rejects = [];
   }

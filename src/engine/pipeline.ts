@@ -76,11 +76,13 @@ export function createPipeline(options: PipelineOptions): Pipeline {
   let stopped = false;
   /** A replay is rebuilding the state up to a backward seek's target: the engine runs, the sinks hear nothing. */
   let catchingUp = false;
+  /** Events started by the frame being handled: announced after its record. */
+  const started: LimitEvent[] = [];
 
   const newEngine = (): FrameEngine =>
     createFrameEngine(options.aircraft, options.margins, {
       eventStarted: (ev) => {
-        if (!catchingUp) sinks.eventStarted?.(ev);
+        if (!catchingUp) started.push(ev);
       },
       eventEnded: (ev) => {
         if (!catchingUp) sinks.eventEnded?.(ev);
@@ -122,6 +124,10 @@ export function createPipeline(options: PipelineOptions): Pipeline {
     }
     health.accepted(verdict.frame.tS, line.receivedAtMs, decoded.newSegment === true);
     sinks.record(rec, decoded);
+    if (started.length > 0) {
+      for (const ev of started) sinks.eventStarted?.(ev);
+      started.length = 0;
+    }
   }
 
   function onStatus(status: SourceStatus): void {

@@ -4,7 +4,7 @@
  * Pure: a FlightReview in, a string out.
  */
 import type { Aircraft } from '../core/aircraft.js';
-import type { LimitEvent } from '../core/events.js';
+import type { EndedBy, LimitEvent } from '../core/events.js';
 import type { FlightReview, Peak } from '../core/flight-review.js';
 import type { AlertLevel, Level } from '../core/margin-record.js';
 import type { LimitName } from '../core/performance.js';
@@ -86,6 +86,7 @@ export function reviewToJson(review: FlightReview, ctx: ReviewContext) {
       gaps: c.gaps,
       gap_s: roundTo(c.gapS, 6),
       segments: c.segments,
+      breaks: { ...c.breaks },
     },
     thresholds: {
       stall_caution: t.stallCaution,
@@ -147,6 +148,26 @@ export function formatUtilization(u: number | null): string {
 
 function pct(part: number, whole: number): string {
   return whole > 0 ? `${((part / whole) * 100).toFixed(1)} %` : '—';
+}
+
+/** What ended an event, in words (the JSON and CSV carry the code). */
+export function endedByText(endedBy: EndedBy | null): string {
+  switch (endedBy) {
+    case null:
+      return 'still on';
+    case 'cleared':
+      return 'alert cleared';
+    case 'data_gap':
+      return 'data gap';
+    case 'link_lost':
+      return 'link lost';
+    case 'seek':
+      return 'replay seek';
+    case 'clock_restart':
+      return 'sender clock restart';
+    case 'end_of_data':
+      return 'end of data';
+  }
 }
 
 function limitWords(limit: LimitName): string {
@@ -256,12 +277,13 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
       limitWords(e.limit),
       e.level.toUpperCase(),
       fixed(e.start_s, 2),
-      `${fixed(e.end_s, 2)}${review.onAtEnd.includes(e) ? ' (end of data)' : ''}`,
+      fixed(e.end_s, 2),
       fixed(e.duration_s, 2),
       formatUtilization(e.peak_utilization),
       fixed(e.peak_t_s, 2),
       fixed(e.speed_at_peak_mps, 1),
       fixed(e.n_at_peak, 2),
+      endedByText(e.ended_by),
     ]);
     out.push(
       ...mdTable(
@@ -276,10 +298,14 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
           'Peak at (s)',
           'TAS at peak (m/s)',
           'n at peak',
+          'Ended by',
         ],
         rows,
-        [true, false, false, true, true, true, true, true, true, true],
+        [true, false, false, true, true, true, true, true, true, true, false],
       ),
+      '',
+      'An event ends when its alert clears, or at a break in the data (a gap over 1 s, a lost link, a restart of ' +
+        "the sender's clock, the end of the data): there it ends at the last frame before the break.",
       '',
     );
   }

@@ -53,8 +53,11 @@ export interface ServeSession {
   stats(): ServeSessionStats;
   /** The limit events of the session so far (open ones included), as the frame engine made them. */
   events(): readonly LimitEvent[];
-  /** The connection closed: open events end ("end_of_data"); returns every event. */
-  finish(): LimitEvent[];
+  /**
+   * The connection closed: open events end, "end_of_data" for a clean close, "link_lost" when the connection
+   * dropped; returns every event.
+   */
+  finish(dropped?: boolean): LimitEvent[];
 }
 
 export const EMPTY_MESSAGE_REASON = rejectionWords({ code: 'empty_message' });
@@ -104,7 +107,10 @@ export function createServeSession(aircraft: Aircraft, options: ServeSessionOpti
     },
     stats: () => ({ ...stats }),
     events: () => engine.events(),
-    finish: () => engine.finish(),
+    finish(dropped = false) {
+      if (dropped) engine.breakData('link_lost');
+      return engine.finish();
+    },
   };
 }
 

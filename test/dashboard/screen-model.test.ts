@@ -238,16 +238,23 @@ describe('link, replay and event log', () => {
     expect(text(model.link.lines)).toContain('replay 0:12.0/1:32.0 ×0.5 playing');
   });
 
-  it('lists exceedances newest first with time, limit, level, duration and peak', () => {
+  it('lists exceedances newest first with time, limit, level, duration, peak and what ended them', () => {
     const events = [
       event(),
-      event({ limit: 'thrust', start_s: 30, duration_s: 4.9, peak_utilization: 1.5, speed_at_peak_mps: 20.8 }),
+      event({
+        limit: 'thrust',
+        start_s: 30,
+        duration_s: 4.9,
+        peak_utilization: 1.5,
+        speed_at_peak_mps: 20.8,
+        ended_by: 'data_gap',
+      }),
       event({ level: 'warning', start_s: 31, open: true, peak_utilization: 0.93 }),
     ];
     const model = buildScreenModel(screenInput({ record: turn45, events }), LAYOUT_120x40);
     const lines = model.events.lines.map(lineText).map((l) => l.trimEnd());
     expect(lines[1]).toMatch(/^ 0:31\.0 STALL +WARNING +ON NOW +93 % 12\.4 m\/s$/);
-    expect(lines[2]).toMatch(/^ 0:30\.0 THRUST +CAUTION +4\.9 s +150 % 20\.8 m\/s +cleared$/);
+    expect(lines[2]).toMatch(/^ 0:30\.0 THRUST +CAUTION +4\.9 s +150 % 20\.8 m\/s +data lost \(gap\)$/);
     expect(lines[3]).toMatch(/^ 0:12\.5 STALL +CAUTION +1\.5 s +86 % 12\.4 m\/s +cleared$/);
     expect(model.events.title).toBe('Exceedances (3)');
     expect(model.events.tone).toBe('warning');

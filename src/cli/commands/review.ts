@@ -4,6 +4,7 @@
  * and an n–V plot. Memory does not grow with the file. Also the shared reading loop of `turnmargin check`.
  */
 import { existsSync, statSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
 import { basename } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import type { Aircraft } from '../../core/aircraft.js';
@@ -11,7 +12,8 @@ import { nothingCheckableReason } from '../../core/checkable.js';
 import { createFlightReviewer, type FlightReview } from '../../core/flight-review.js';
 import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../../core/margins.js';
 import type { MarginRecord } from '../../core/margin-record.js';
-import { readFrameBatches, readFramePackedBatches, type ReadFrameOptions } from '../../decode/read-frames.js';
+import { readFramePackedBatches, type ReadFrameOptions } from '../../decode/read-frames.js';
+import { feedPackedBatch } from '../review-worker.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from '../../report/review-report.js';
 import {
@@ -172,6 +174,8 @@ const MAX_BATCHES_IN_FLIGHT = 128;
 
 /** The worker script when the file is long enough to pay for a worker (and the built script is there). */
 function reviewWorkerUrl(file: string): URL | undefined {
+  // On one core the worker only adds the hand-over: the computation cannot overlap the reading.
+  if (availableParallelism() < 2 && process.env['TURNMARGIN_REVIEW_WORKER_MIN_BYTES'] === undefined) return undefined;
   let size: number;
   try {
     size = statSync(file).size;
@@ -183,23 +187,18 @@ function reviewWorkerUrl(file: string): URL | undefined {
   return existsSync(url) ? url : undefined;
 }
 
+/**
+ * The review in this thread: the accepted frames of each batch come packed (no object per line), each unpacked
+ * into one reused frame (the engine keeps no reference to it) and fed to the frame engine through the reviewer.
+ */
 async function reviewInThread(
   input: FlightInput,
   readOptions: ReadFrameOptions,
   onRecord?: (rec: MarginRecord) => void,
 ): Promise<FlightReview> {
   const reviewer = createFlightReviewer(input.aircraft, input.margins);
-  for await (const batch of readFrameBatches(input.file, { ...readOptions, raw: false })) {
-    for (const line of batch) {
-      if (line.verdict.ok) {
-        const rec = reviewer.accept(line.verdict.frame, line, line.lineNo);
-        if (rec !== null) onRecord?.(rec);
-      } else {
-        // A reconnect marked on a rejected line is still a break.
-        if (line.afterReconnect === true) reviewer.breakData('link_lost');
-        reviewer.reject(line.lineNo, line.verdict);
-      }
-    }
+  for await (const batch of readFramePackedBatches(input.file, readOptions)) {
+    feedPackedBatch(reviewer, batch, onRecord);
   }
   return reviewer.finish();
 }
@@ -209,7 +208,7 @@ async function reviewInThread(
  * frames of each batch and hands them over in file order; reading waits while MAX_BATCHES_IN_FLIGHT are queued.
  */
 async function reviewInWorker(script: URL, input: FlightInput, readOptions: ReadFrameOptions): Promise<FlightReview> {
-  const workerData: ReviewWorkerData = { aircraft: input.aircraft, margins: input.margins };
+  const workerData: ReviewWorkerData = { reviewWorker: true, aircraft: input.aircraft, margins: input.margins };
   const worker = new Worker(script, { workerData });
   let inFlight = 0;
   let failure: Error | undefined;
@@ -239,7 +238,7 @@ async function reviewInWorker(script: URL, input: FlightInput, readOptions: Read
   try {
     for await (const batch of readFramePackedBatches(input.file, readOptions)) {
       const message: PackedFrameBatch = batch;
-      worker.postMessage(message, [batch.frames.buffer]);
+      worker.postMessage(message, [batch.frames.buffer, batch.lineNos.buffer]);
       inFlight += 1;
       while (inFlight >= MAX_BATCHES_IN_FLIGHT && failure === undefined)
         await new Promise<void>((resolve) => (wake = resolve));

@@ -17,17 +17,21 @@ function flight(name: string, lines: string[]): string {
 
 function play(path: string, speed: number) {
   const lines: ReceivedLine[] = [];
+  const catchUp: ReceivedLine[] = [];
   const statuses: SourceStatus[] = [];
   const source = createFileSource({ path, speed, scanLength: true });
-  source.start({ onLine: (l) => lines.push(l), onStatus: (s) => statuses.push(s) });
+  source.start({
+    onLine: (l) => (l.replayCatchUp ? catchUp : lines).push(l),
+    onStatus: (s) => statuses.push(s),
+  });
   const ended = (): boolean => statuses.some((s) => s.kind === 'ended');
-  return { source, lines, statuses, ended };
+  return { source, lines, catchUp, statuses, ended };
 }
 
 const seqOf = (l: ReceivedLine): number | undefined =>
   l.decoded?.verdict.ok ? (l.decoded.verdict.raw['seq'] as number) : undefined;
 
-describe('file source', () => {
+describe('replay stage (file source, decoder, pacing)', () => {
   it('plays every line, judged, in file order at speed 0 and then ends', async () => {
     const path = flight('a.ndjson', [...frameLines(500, 0, 0.01), 'noise', frameLine({ t_s: 1 })]);
     const p = play(path, 0);
@@ -47,6 +51,10 @@ describe('file source', () => {
     expect(p.lines).toHaveLength(1000);
     p.source.seekBy(-5);
     await expect.poll(() => p.statuses.filter((s) => s.kind === 'ended').length, { timeout: 5000 }).toBe(2);
+    // The lines before the target come again as catch-up (the engine rebuilds its state), between a rewind and the
+    // seek to the target.
+    expect(p.catchUp.map(seqOf)).toEqual(Array.from({ length: p.catchUp.length }, (_, i) => i));
+    expect(p.statuses.filter((s) => s.kind === 'seek').map((s) => s.rewind === true)).toEqual([true, false]);
     const replayed = p.lines.slice(1000).map(seqOf);
     expect(replayed[0]).toBeGreaterThanOrEqual(499);
     expect(replayed[0]).toBeLessThanOrEqual(501);
@@ -73,11 +81,14 @@ describe('file source', () => {
     await expect.poll(() => seqOf(p.lines.at(-1)!) ?? 0, { timeout: 5000 }).toBeGreaterThanOrEqual(2000);
     const afterForward = p.lines.length;
     p.source.seekBy(-15);
-    await expect.poll(() => p.statuses.filter((s) => s.kind === 'seek').length, { timeout: 5000 }).toBe(2);
+    await expect.poll(() => p.statuses.filter((s) => s.kind === 'seek' && !s.rewind).length, { timeout: 5000 }).toBe(2);
     await expect.poll(() => p.lines.length, { timeout: 5000 }).toBeGreaterThan(afterForward + 1);
     const backSeq = seqOf(p.lines[afterForward]!)!;
     expect(backSeq).toBeGreaterThanOrEqual(500);
     expect(backSeq).toBeLessThan(1500);
+    // Going back replays the lines before the target as catch-up, from the start of the file.
+    expect(seqOf(p.catchUp[0]!)).toBe(0);
+    expect(seqOf(p.catchUp.at(-1)!)).toBe(backSeq - 1);
     p.source.setSpeed(0);
     await expect.poll(p.ended, { timeout: 5000 }).toBe(true);
     expect(seqOf(p.lines.at(-1)!)).toBe(2999);
@@ -98,6 +109,7 @@ describe('file source', () => {
     const statuses: SourceStatus[] = [];
     const source = createFileSource({ path, speed: 0, loop: true });
     source.start({ onLine: (l) => lines.push(l), onStatus: (s) => statuses.push(s) });
+    // (A loop goes back to 0: nothing to catch up.)
     await expect.poll(() => lines.length, { timeout: 5000 }).toBeGreaterThanOrEqual(25);
     await source.stop();
     expect(lines.slice(0, 25).map(seqOf)).toEqual([...Array(10).keys(), ...Array(10).keys(), 0, 1, 2, 3, 4]);
