@@ -163,7 +163,7 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(md).toContain('**Example airframe**');
     expect(md).toContain('2 warning events and 6 caution events');
     expect(md).toMatch(/\| 2 \| stall \| WARNING \| 11\.00 \| 13\.00 \| 2\.00 \| 94\.3 % \|/);
-    expect(md).toContain('| 43 | time not increasing |');
+    expect(md).toContain('| 43 | time_not_increasing | time not increasing |');
     // the last stall caution is still on when the data end; the one closed at 18.00 cleared
     expect(md).toMatch(/\| 8 \| stall \| CAUTION \| 29\.50 \| 30\.00 \| .* \| end of data \|/);
     expect(md).toMatch(/\| 3 \| stall \| CAUTION \| 16\.00 \| 18\.00 \| .* \| alert cleared \|/);

@@ -203,7 +203,7 @@ describe('one frame engine on every path', () => {
     ];
     const refused = await runCli(args);
     expect(refused.code).toBe(2);
-    expect(refused.stderr).toContain(`${eventsFile}: the events file exists; choose another name or add --force`);
+    expect(refused.stderr).toContain(`--events ${eventsFile}: the file exists; give --force to overwrite it`);
     expect(readFileSync(eventsFile, 'utf8')).toBe('earlier events\n');
     const forced = await runCli([...args, '--force']);
     expect(forced.code, forced.stderr).toBe(0);
