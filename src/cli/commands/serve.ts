@@ -87,7 +87,8 @@ export const spec: CommandSpec = {
   ],
 };
 
-function readToken(args: ParsedArgs): string | undefined {
+/** --token T or --token-file FILE (its first line); undefined when neither is given. Shared with `watch --ws`. */
+export function readToken(args: ParsedArgs): string | undefined {
   const given = stringOption(args, 'token');
   const file = stringOption(args, 'token-file');
   if (given !== undefined && file !== undefined) throw new UsageError('give --token or --token-file, not both');

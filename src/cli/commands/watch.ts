@@ -2,17 +2,18 @@
 import { resolve } from 'node:path';
 import { openRecorder, type Recorder } from '../../recording/recorder.js';
 import { createSerialSource, DEFAULT_BAUD, whyNotASerialPort } from '../../sources/serial.js';
-import { createWebSocketSource } from '../../sources/websocket.js';
+import { createWebSocketSource, redactUrl } from '../../sources/websocket.js';
 import type { TelemetrySource } from '../../sources/source.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { UsageError } from '../../errors.js';
 import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js';
+import { readToken } from './serve.js';
 
 export const spec: CommandSpec = {
   name: 'watch',
   summary: 'monitor live telemetry from a serial radio or a websocket relay',
   usage:
-    'turnmargin watch (--serial PATH [--baud N] | --ws URL) --aircraft FILE [--record FILE [--force]] [--thresholds FILE] [--smooth S] [--no-ui]',
+    'turnmargin watch (--serial PATH [--baud N] | --ws URL [--token T | --token-file FILE]) --aircraft FILE [--record FILE [--force]] [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
     {
       name: 'serial',
@@ -33,6 +34,18 @@ export const spec: CommandSpec = {
       type: 'string',
       valueName: 'URL',
       description: 'websocket relay, e.g. ws://127.0.0.1:8765/telemetry',
+    },
+    {
+      name: 'token',
+      type: 'string',
+      valueName: 'T',
+      description: 'with --ws: send "Authorization: Bearer T" (never shown or recorded)',
+    },
+    {
+      name: 'token-file',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'with --ws: read the token from the first line of a file (keeps it out of the process list)',
     },
     ...COMMON_MONITOR_OPTIONS,
     {
@@ -58,6 +71,8 @@ function sourceFromArgs(args: ParsedArgs): TelemetrySource {
   if (serial === undefined && ws === undefined)
     throw new UsageError('a telemetry link is required: --serial PATH or --ws URL');
   if (serial !== undefined) {
+    if (args.values['token'] !== undefined || args.values['token-file'] !== undefined)
+      throw new UsageError('--token and --token-file apply to --ws only');
     if (serial === '') throw new UsageError('--serial PATH must not be empty');
     const why = whyNotASerialPort(serial);
     if (why !== null) throw new UsageError(`--serial ${serial} ${why}`);
@@ -69,11 +84,12 @@ function sourceFromArgs(args: ParsedArgs): TelemetrySource {
   try {
     url = new URL(ws!);
   } catch {
-    throw new UsageError(`--ws must be a websocket URL such as ws://127.0.0.1:8765 (got "${ws}")`);
+    throw new UsageError(`--ws must be a websocket URL such as ws://127.0.0.1:8765 (got "${redactUrl(ws!)}")`);
   }
   if (url.protocol !== 'ws:' && url.protocol !== 'wss:')
-    throw new UsageError(`--ws must start with ws:// or wss:// (got "${ws}")`);
-  return createWebSocketSource({ url: url.href });
+    throw new UsageError(`--ws must start with ws:// or wss:// (got "${redactUrl(ws!)}")`);
+  const token = readToken(args);
+  return createWebSocketSource({ url: url.href, ...(token !== undefined ? { token } : {}) });
 }
 
 export async function run(args: ParsedArgs): Promise<number> {
