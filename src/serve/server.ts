@@ -24,7 +24,7 @@ import type { RawLine } from '../decode/line-splitter.js';
 import { openRecorder, type Recorder, type RecorderIo } from '../recording/recorder.js';
 import { readMessageLines, type MessageLines } from '../sources/message-lines.js';
 import { formatWsUrl } from './listen-address.js';
-import { createServeSession, type ServeSession, type ServeSessionStats } from './session.js';
+import { createServeSession, type ServeSession } from './session.js';
 
 /** Largest message a client may send, bytes (1 MiB). */
 export const SERVE_MAX_PAYLOAD_BYTES = 1024 * 1024;
