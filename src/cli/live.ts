@@ -7,6 +7,7 @@ import type { Aircraft } from '../core/aircraft.js';
 import { numberOption, requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
 import { EXIT_UNUSABLE } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
+import { createBoundedOutput, maxPendingStdoutBytes } from './bounded-stdout.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import { createEventTracker, type LimitEvent } from '../core/events.js';
 import type { MarginRecord } from '../core/margin-record.js';
@@ -200,11 +201,18 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
   let finish!: () => void;
   const finished = new Promise<void>((resolve) => (finish = resolve));
   let outputBroken = false;
+  // A slow stdout reader never grows memory without end: records beyond the bound are counted, not printed.
+  const out = noUi
+    ? createBoundedOutput(stdout, {
+        maxPendingBytes: maxPendingStdoutBytes(),
+        report: (text) => stderr.write(`turnmargin: ${text}\n`),
+      })
+    : undefined;
 
   const sinks: PipelineSinks = noUi
     ? {
         record(rec) {
-          if (!outputBroken) stdout.write(JSON.stringify(rec) + '\n');
+          if (!outputBroken) out!.write(JSON.stringify(rec) + '\n');
         },
         rejected(line, where, reason) {
           stderr.write(`turnmargin: rejected ${where}: ${reason}: ${excerpt(line.text)}\n`);
@@ -232,6 +240,8 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
 
   let refresh: NodeJS.Timeout | undefined;
   let lastRecordingError: string | null = null;
+  let lastRecordingReportMs = 0;
+  let lastRecordingText: string | null = null;
   if (dashboardModule) {
     const mod = dashboardModule;
     const lengthS = options.replay
@@ -267,8 +277,10 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     refresh = setInterval(() => {
       const h = pipeline.health();
       dashboard?.setLink(h);
-      if (h.recordingError && h.recordingError !== lastRecordingError) dashboard?.showError(h.recordingError);
-      lastRecordingError = h.recordingError;
+      // Once per kind of problem in the event log; the link panel shows the running count of lines not written.
+      const kind = h.recordingError?.replace(/\d+ lines/, 'N lines') ?? null;
+      if (h.recordingError && kind !== lastRecordingError) dashboard?.showError(h.recordingError);
+      lastRecordingError = kind;
       if (transport) {
         const st = transport.state();
         dashboard?.setReplay({ positionS: st.positionS, lengthS: st.lengthS ?? 0, speed: st.speed, paused: st.paused });
@@ -277,8 +289,14 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
   } else if (options.recorder) {
     refresh = setInterval(() => {
       const err = options.recorder!.error();
-      if (err && err !== lastRecordingError) stderr.write(`turnmargin: ${err}; the monitor keeps running\n`);
-      lastRecordingError = err;
+      // The count of lines not written changes often: repeat it at most every 5 s.
+      const kind = err?.replace(/\d+ lines/, 'N lines') ?? null;
+      if (err && (kind !== lastRecordingError || Date.now() - lastRecordingReportMs >= 5000)) {
+        if (err !== lastRecordingText) stderr.write(`turnmargin: ${err}; the monitor keeps running\n`);
+        lastRecordingReportMs = Date.now();
+        lastRecordingText = err;
+      }
+      lastRecordingError = kind;
     }, UI_REFRESH_MS);
     refresh.unref();
   }
@@ -314,8 +332,13 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     await pipeline.stop();
     dashboard?.destroy();
   }
+  // A reader that has stopped reading must not keep the process alive: wait for it a short while only.
+  const drained = outputBroken || ((await out?.settle(1500)) ?? true);
+  out?.close();
+  if (!drained && stdout === process.stdout) setTimeout(() => process.exit(process.exitCode ?? 0), 200);
   // After the dashboard has restored the terminal, the summary goes to stderr in both modes.
   stderr.write(formatLinkSummary(pipeline.health()));
+  if (out?.dropped()) stderr.write(`turnmargin: stdout too slow: ${out.dropped()} records not printed\n`);
   if (outputFailure !== null) {
     stderr.write(`turnmargin: cannot write the margin records to standard output (${outputFailure}); stopped\n`);
     return EXIT_UNUSABLE;

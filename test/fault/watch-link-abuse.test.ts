@@ -11,8 +11,11 @@ import { join } from 'node:path';
 import { afterAll, afterEach, describe, expect, it } from 'vitest';
 import { WebSocketServer, type WebSocket } from 'ws';
 import { decodeEntry, type RecordingEntry } from '../../src/recording/format.js';
+import { spawn } from 'node:child_process';
 import { EXAMPLE_AIRFRAME_PATH } from '../helpers/airframes.js';
 import { startCliProcess, type CliProcess } from '../helpers/cli-process.js';
+import { createPacedRelay } from '../helpers/paced-ws-relay.js';
+import { CLI_PATH, REPO_ROOT } from '../helpers/run-cli.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'tm-watch-abuse-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -179,4 +182,49 @@ describe('watch --ws under abuse', () => {
     expect(recording).toContain(`#source websocket ws://127.0.0.1:${server.port}/feed?token=***&vehicle=7`);
     expect(w.stderr()).toContain('token=***');
   });
+
+  it('with a stdout reader that stops reading: pending output stays bounded, records beyond it are counted on stderr, the recording keeps everything, and SIGTERM still exits promptly', async () => {
+    const relay = createPacedRelay({ rateHz: 2000 });
+    const port = await relay.listen(0);
+    cleanup.push(() => relay.close());
+    const recordPath = join(dir, 'slow-stdout.tmrec');
+    // A small bound (64 KiB instead of 16 MiB) so that the test needs seconds, not minutes.
+    const child = spawn(
+      process.execPath,
+      [
+        CLI_PATH,
+        'watch',
+        '--ws',
+        `ws://127.0.0.1:${port}`,
+        '--aircraft',
+        EXAMPLE_AIRFRAME_PATH,
+        '--no-ui',
+        '--record',
+        recordPath,
+      ],
+      { cwd: REPO_ROOT, env: { ...process.env, NO_COLOR: '1', TURNMARGIN_MAX_PENDING_STDOUT_BYTES: '65536' } },
+    );
+    cleanup.push(() => child.kill('SIGKILL'));
+    child.stdout.pause(); // nobody reads stdout
+    let stderr = '';
+    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
+    const exited = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
+    await expect.poll(() => stderr, { timeout: 20_000 }).toMatch(/stdout too slow: margin records are not printed/);
+    await new Promise((r) => setTimeout(r, 1000));
+    const signalledAt = Date.now();
+    child.kill('SIGTERM');
+    const code = await exited;
+    const tookMs = Date.now() - signalledAt;
+    expect(code).toBe(0);
+    // The 2 s bound by design (1.5 s for the reader, then exit); generous here for a loaded test machine.
+    expect(tookMs).toBeLessThan(10_000);
+    const notPrinted = Number(/stdout too slow: (\d+) records not printed\n/.exec(stderr)?.[1]);
+    expect(notPrinted).toBeGreaterThan(0);
+    const accepted = Number(/accepted (\d+)/.exec(stderr)![1]);
+    expect(notPrinted).toBeLessThanOrEqual(accepted);
+    // The recording holds every line received, printed or not.
+    const recorded = lineEntries(readRecording(recordPath));
+    expect(recorded.length).toBe(Number(/lines (\d+), accepted/.exec(stderr)![1]));
+    expect(recorded.length).toBeGreaterThanOrEqual(accepted);
+  }, 60_000);
 });
