@@ -38,6 +38,8 @@ export const SHUTDOWN_GRACE_MS = 1000;
 export const SLICE_MS = 4;
 /** Work before yielding to the event loop (timers, signals, other sockets), ms. */
 export const TICK_MS = 20;
+/** A message this small from a client with nothing waiting is answered at once, ahead of the round robin. */
+const LIGHT_MESSAGE_BYTES = 64 * 1024;
 /** Lines handed to the session at a time. */
 const LINES_PER_BATCH = 64;
 /** Received bytes waiting per client beyond which its socket is paused. */
@@ -466,8 +468,10 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
         c.paused = true;
         ws.pause();
       }
-      // Nobody waiting: answer now (no added latency); otherwise take a turn.
-      if (!tickScheduled && ready.length === 0 && !c.scheduled) {
+      // A light client (nothing waiting, a small message) is answered now, ahead of any flood; a client with a
+      // backlog takes its turn in the round robin.
+      const light = !c.scheduled && c.current === null && c.queue.length === 1 && bytes.length <= LIGHT_MESSAGE_BYTES;
+      if (light || (!tickScheduled && ready.length === 0 && !c.scheduled)) {
         if (work(c, SLICE_MS)) schedule(c);
       } else schedule(c);
     });
