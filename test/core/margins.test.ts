@@ -38,13 +38,13 @@ describe('air state and speeds of a frame', () => {
 
   it('takes the temperature from oat_c when the frame has it', () => {
     const rec = single(frame(0, { altM: 0, oatC: 35, bankDeg: 0 }));
-    // ρ = p/(R·T), p0 101 325 Pa, R 287.05287 (U.S. Standard Atmosphere 1976), T = 308.15 K
+    // fluids 1.3.1 ATMOSPHERE_1976(0, dT = 20) (OAT 35 °C at sea level = ISA + 20 K): ρ = 1.145492476939946 kg/m³
     expect(rec.temperature_k).toBeCloseTo(308.15, 9);
-    expect(rec.density_kg_m3).toBeCloseTo(101325 / (287.05287 * 308.15), 9);
+    expect(Math.abs(rec.density_kg_m3 / 1.145492476939946 - 1)).toBeLessThan(2e-6);
   });
 
   it('converts CAS to TAS with the compressible relations (CAS 100 kt at 10 000 ft ISA is 116.22 kt)', () => {
-    // REFERENCES: computed from the standard subsonic relations, 116.22 kt
+    // Computed from the standard subsonic compressible relations with USSA 1976 pressure and temperature: 116.22 kt
     const rec = single(
       frame(0, { airspeedKind: 'cas', airspeedMps: 100 * KNOT_MPS, altM: 10000 * FOOT_M, bankDeg: 0 }),
     );
@@ -235,7 +235,7 @@ describe('not flying', () => {
     // 0.5·Vs1 = 0.5·8.811 = 4.405 m/s; a large nz would otherwise be a warning
     const rec = single(frame(0, { airspeedMps: 4.3, nz: 3.0 }));
     expect(rec.flying).toBe(false);
-    expect(rec.utilization).toEqual({ stall: null, thrust: null, structure: null });
+    expect(rec.utilization).toEqual({ stall: null, thrust: null, structure: null, speed: null });
     expect(rec.alerts).toEqual([]);
     expect(rec.level).toBe('normal');
   });
@@ -246,10 +246,13 @@ describe('not flying', () => {
     expect(rec.utilization.stall).not.toBeNull();
   });
 
-  it('clears an alert that was on when the aircraft stops flying', () => {
+  it('clears an alert that was on when the aircraft stops flying, after its clear stretch', () => {
     const tracker = createMarginTracker(exampleAirframe(), { smoothTauS: 0 });
     expect(tracker.push(frame(0, { nz: 1.6 })).level).toBe('caution');
-    expect(tracker.push(frame(0.1, { airspeedMps: 2, nz: 1.6 })).alerts).toEqual([]);
+    expect(tracker.push(frame(0.1, { airspeedMps: 2, nz: 1.6 })).alerts).toEqual([
+      { limit: 'stall', level: 'caution', clear_since_s: 0.1 },
+    ]);
+    expect(tracker.push(frame(0.6, { airspeedMps: 2, nz: 1.6 })).alerts).toEqual([]);
   });
 });
 
