@@ -14,6 +14,7 @@ import { join } from 'node:path';
 import { loadAircraftFile } from '../src/cli/load.js';
 import { REPO_ROOT, formatTable, median } from './measure.js';
 import { runServeLoad, type ServeLoadResult } from './serve-load.js';
+import { runServeFloodRows } from './serve-flood.js';
 import { runLiveSoak, type SoakCheckpoint, type SoakResult } from './soak-live-path.js';
 
 type Row = [string, string, string, string];
@@ -185,6 +186,7 @@ async function main(): Promise<void> {
     results['serve'] = load;
   }
 
+  if (!process.argv.includes('--no-flood')) rows.push(...(await runServeFloodRows(AIRFRAME, results)));
   process.stdout.write('\n' + formatTable(rows) + '\n');
   const outDir = join(REPO_ROOT, 'bench-results');
   mkdirSync(outDir, { recursive: true });

@@ -8,6 +8,7 @@ import type { Aircraft } from '../core/aircraft.js';
 import { numberOption, requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
 import { EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
+import { createBoundedOutput, maxPendingStdoutBytes } from './bounded-stdout.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import { checkOutputPath, inputFilesOf } from './output-path.js';
 import type { LimitEvent } from '../core/events.js';
@@ -137,11 +138,18 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
   let finish!: () => void;
   const finished = new Promise<void>((resolve) => (finish = resolve));
   let outputBroken = false;
+  // A slow stdout reader never grows memory without end: records beyond the bound are counted, not printed.
+  const out = noUi
+    ? createBoundedOutput(stdout, {
+        maxPendingBytes: maxPendingStdoutBytes(),
+        report: (text) => stderr.write(`turnmargin: ${text}\n`),
+      })
+    : undefined;
 
   const sinks: PipelineSinks = noUi
     ? {
         record(rec) {
-          if (!outputBroken) stdout.write(JSON.stringify(rec) + '\n');
+          if (!outputBroken) out!.write(JSON.stringify(rec) + '\n');
         },
         rejected(line, where, reason) {
           const code = line.verdict.ok ? '' : ` [${line.verdict.code}]`;
@@ -175,6 +183,8 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
 
   let refresh: NodeJS.Timeout | undefined;
   let lastRecordingError: string | null = null;
+  let lastRecordingReportMs = 0;
+  let lastRecordingText: string | null = null;
   if (dashboardModule) {
     const mod = dashboardModule;
     const lengthS = options.replay
@@ -210,15 +220,23 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     refresh = setInterval(() => {
       const h = pipeline.health();
       dashboard?.setLink(h);
-      if (h.recordingError && h.recordingError !== lastRecordingError) dashboard?.showError(h.recordingError);
-      lastRecordingError = h.recordingError;
+      // Once per kind of problem in the event log; the link panel shows the running count of lines not written.
+      const kind = h.recordingError?.replace(/\d+ lines/, 'N lines') ?? null;
+      if (h.recordingError && kind !== lastRecordingError) dashboard?.showError(h.recordingError);
+      lastRecordingError = kind;
       if (transport) dashboard?.setReplay(transport.state());
     }, UI_REFRESH_MS);
   } else if (options.recorder) {
     refresh = setInterval(() => {
       const err = options.recorder!.error();
-      if (err && err !== lastRecordingError) stderr.write(`turnmargin: ${err}; the monitor keeps running\n`);
-      lastRecordingError = err;
+      // The count of lines not written changes often: repeat it at most every 5 s.
+      const kind = err?.replace(/\d+ lines/, 'N lines') ?? null;
+      if (err && (kind !== lastRecordingError || Date.now() - lastRecordingReportMs >= 5000)) {
+        if (err !== lastRecordingText) stderr.write(`turnmargin: ${err}; the monitor keeps running\n`);
+        lastRecordingReportMs = Date.now();
+        lastRecordingText = err;
+      }
+      lastRecordingError = kind;
     }, UI_REFRESH_MS);
     refresh.unref();
   }
@@ -257,8 +275,13 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     dashboard?.destroy();
     removeCrashHandlers?.();
   }
+  // A reader that has stopped reading must not keep the process alive: wait for it a short while only.
+  const drained = outputBroken || ((await out?.settle(1500)) ?? true);
+  out?.close();
+  if (!drained && stdout === process.stdout) setTimeout(() => process.exit(process.exitCode ?? 0), 200);
   // After the dashboard has restored the terminal, the summary goes to stderr in both modes.
   stderr.write(formatLinkSummary(pipeline.health()));
+  if (out?.dropped()) stderr.write(`turnmargin: stdout too slow: ${out.dropped()} records not printed\n`);
   const eventsFailure = options.events?.error();
   if (eventsFailure) stderr.write(`turnmargin: ${eventsFailure}; later events were not written\n`);
   if (outputFailure !== null) {

@@ -9,6 +9,7 @@
  *   1777889520131~<TAB><the first 65536 bytes of a runaway line>
  *   #link 1777889520900 lost port disappeared
  *   #link 1777889521400 open
+ *   #not-recorded 1777889530000 1985 lines (disk full)
  *
  * - A record is the receive time (integer ms since the Unix epoch), an optional "~" when the line was cut at the
  *   length cap, a TAB, then the line's bytes exactly as received (CR, noise and invalid UTF-8 included) and LF.
@@ -16,6 +17,8 @@
  *   Received lines always start a record with a digit, so they never collide with metadata.
  * - "#link … open" after an earlier one marks a reconnect: a reader restarts the time check there, as the live
  *   monitor did.
+ * - "#not-recorded <ms> <N> lines (<why>)" stands where N received lines could not be written (the disk refused
+ *   them); readers skip it like any other metadata.
  */
 export const RECORDING_MAGIC = '#turnmargin-recording 1';
 
@@ -37,6 +40,10 @@ export function encodeLine(receivedAtMs: number, bytes: Buffer, cut: boolean): B
 export function encodeLinkEvent(atMs: number, state: string, detail?: string): Buffer {
   const tail = detail ? ` ${detail.replace(/[\r\n]+/g, ' ')}` : '';
   return Buffer.from(`#link ${Math.round(atMs)} ${state}${tail}\n`, 'utf8');
+}
+
+export function encodeNotRecorded(atMs: number, lines: number, why: string): Buffer {
+  return Buffer.from(`#not-recorded ${Math.round(atMs)} ${lines} lines (${why.replace(/[\r\n]+/g, ' ')})\n`, 'utf8');
 }
 
 export type RecordingEntry =

@@ -12,7 +12,7 @@ import { createFrameEngine } from '../core/frame-engine.js';
 import type { MarginOptions } from '../core/margins.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import { createFrameDecoder } from '../decode/frame-decoder.js';
-import { createLineSplitter } from '../decode/line-splitter.js';
+import { createLineSplitter, type RawLine } from '../decode/line-splitter.js';
 import { rejectionWords, type RejectCode } from '../decode/rejections.js';
 import type { ReceivedLine } from '../sources/source.js';
 
@@ -50,6 +50,8 @@ export interface ServeSessionStats {
 export interface ServeSession {
   /** Answers for one message (text or bytes), in the order of its lines. */
   handleMessage(data: Buffer | string): ServeAnswer[];
+  /** Answers for some lines of a message (the server hands a big message in slices); no empty-message rule. */
+  handleLines(rawLines: readonly RawLine[], receivedAtMs: number): ServeAnswer[];
   stats(): ServeSessionStats;
   /** The limit events of the session so far (open ones included), as the frame engine made them. */
   events(): readonly LimitEvent[];
@@ -68,37 +70,42 @@ export function createServeSession(aircraft: Aircraft, options: ServeSessionOpti
   const decoder = createFrameDecoder();
   const stats: ServeSessionStats = { lines: 0, answered: 0, errors: 0 };
 
+  const handleLines = (rawLines: readonly RawLine[], receivedAtMs: number): ServeAnswer[] => {
+    const answers: ServeAnswer[] = [];
+    for (const raw of rawLines) {
+      options.recorder?.writeLine({ bytes: raw.bytes, receivedAtMs, cut: raw.cut });
+      const decoded = decoder.judgeLine(raw);
+      if (!decoded) continue;
+      stats.lines++;
+      const verdict = decoded.verdict;
+      if (!verdict.ok) {
+        const answer: ServeErrorAnswer = { error: verdict.reason, code: verdict.code, line: decoded.lineNo };
+        const tS = readTime(decoded.text);
+        if (tS !== undefined) answer.t_s = tS;
+        answers.push(answer);
+        stats.errors++;
+        continue;
+      }
+      const rec = engine.push(verdict.frame, decoded);
+      if (rec === null) {
+        const why = engine.rejection()!;
+        answers.push({ error: why.reason, code: why.code, line: decoded.lineNo, t_s: verdict.frame.tS });
+        stats.errors++;
+        continue;
+      }
+      answers.push(rec);
+      stats.answered++;
+    }
+    return answers;
+  };
+
   return {
+    handleLines,
     handleMessage(data) {
-      const receivedAtMs = clock();
       // A message is complete in itself: its last line needs no newline, and nothing carries over.
       const splitter = createLineSplitter();
       const rawLines = [...splitter.push(data), ...splitter.end()];
-      const answers: ServeAnswer[] = [];
-      for (const raw of rawLines) {
-        options.recorder?.writeLine({ bytes: raw.bytes, receivedAtMs, cut: raw.cut });
-        const decoded = decoder.judgeLine(raw);
-        if (!decoded) continue;
-        stats.lines++;
-        const verdict = decoded.verdict;
-        if (!verdict.ok) {
-          const answer: ServeErrorAnswer = { error: verdict.reason, code: verdict.code, line: decoded.lineNo };
-          const tS = readTime(decoded.text);
-          if (tS !== undefined) answer.t_s = tS;
-          answers.push(answer);
-          stats.errors++;
-          continue;
-        }
-        const rec = engine.push(verdict.frame, decoded);
-        if (rec === null) {
-          const why = engine.rejection()!;
-          answers.push({ error: why.reason, code: why.code, line: decoded.lineNo, t_s: verdict.frame.tS });
-          stats.errors++;
-          continue;
-        }
-        answers.push(rec);
-        stats.answered++;
-      }
+      const answers = handleLines(rawLines, clock());
       if (answers.length === 0 && rawLines.every((l) => l.bytes.toString('utf8').trim() === '')) {
         stats.errors++;
         answers.push({ error: EMPTY_MESSAGE_REASON, code: 'empty_message' });

@@ -1,4 +1,8 @@
-/** Websocket client adapter (telemetry relay): a text message holds one or more lines; reconnects with backoff. */
+/**
+ * Websocket client adapter (telemetry relay): a text message holds one or more complete lines (a message ends any
+ * partial line); reconnects with backoff. A token goes in the `Authorization: Bearer` header; neither it nor a
+ * secret in the URL is ever shown (label, link details, recording).
+ */
 import { WebSocket } from 'ws';
 import { createLinkSource, type LinkSourceOptions } from './link-source.js';
 import type { TelemetrySource } from './source.js';
@@ -9,29 +13,62 @@ export const WS_MAX_PAYLOAD_BYTES = 1024 * 1024;
 export interface WebSocketSourceOptions extends LinkSourceOptions {
   url: string;
   maxPayloadBytes?: number;
+  /** Sent as `Authorization: Bearer <token>`. */
+  token?: string;
+}
+
+/** Query parameters whose values are secrets (token=, access_token=, api_key=, password=, sig=…). */
+const SECRET_PARAM = /token|key|secret|pass|auth|sig/i;
+
+/**
+ * The URL as it may be shown or written down: secret query values and a password replaced by ***
+ * ("ws://host/?token=***"). Text that is not a URL is returned with any `token=…`-like value masked.
+ */
+export function redactUrl(text: string): string {
+  let url: URL;
+  try {
+    url = new URL(text);
+  } catch {
+    return text.replace(/((?:token|key|secret|pass\w*|auth\w*|sig\w*)=)[^&\s]*/gi, '$1***');
+  }
+  if (url.password) url.password = '***';
+  const parts = url.search
+    .slice(1)
+    .split('&')
+    .filter((p) => p.length > 0)
+    .map((p) => {
+      const eq = p.indexOf('=');
+      const name = decodeURIComponent(eq < 0 ? p : p.slice(0, eq));
+      return eq >= 0 && SECRET_PARAM.test(name) ? `${p.slice(0, eq)}=***` : p;
+    });
+  url.search = parts.length ? `?${parts.join('&')}` : '';
+  return url.href;
 }
 
 function describeWsError(err: Error & { code?: string }): string {
   if (err.code === 'WS_ERR_UNSUPPORTED_MESSAGE_LENGTH') return 'message larger than 1 MiB refused';
   if (err.code === 'ECONNREFUSED') return 'connection refused';
   if (err.code === 'ENOTFOUND') return 'host not found';
-  return err.message;
+  if (/Unexpected server response: 401/.test(err.message)) return 'refused by the server: token missing or wrong (401)';
+  return redactUrl(err.message);
 }
 
 export function createWebSocketSource(options: WebSocketSourceOptions): TelemetrySource {
+  const shownUrl = redactUrl(options.url);
   return createLinkSource(
-    `websocket ${options.url}`,
+    `websocket ${shownUrl}`,
     (events) => {
       let lastError: string | undefined;
       const ws = new WebSocket(options.url, {
         maxPayload: options.maxPayloadBytes ?? WS_MAX_PAYLOAD_BYTES,
         handshakeTimeout: 5000,
+        ...(options.token !== undefined ? { headers: { Authorization: `Bearer ${options.token}` } } : {}),
       });
       // Always listen for 'error' (ECONNREFUSED, oversized message…): it is followed by 'close'.
       ws.on('error', (err: Error) => {
         lastError = describeWsError(err);
       });
-      ws.on('open', () => events.opened(options.url));
+      ws.on('open', () => events.opened(shownUrl));
       ws.on('message', (data: Buffer | ArrayBuffer | Buffer[]) => {
         const chunk = Array.isArray(data) ? Buffer.concat(data) : Buffer.isBuffer(data) ? data : Buffer.from(data);
         events.data(chunk, true);
@@ -50,6 +87,12 @@ export function createWebSocketSource(options: WebSocketSourceOptions): Telemetr
             ws.once('close', () => resolve());
             ws.terminate();
           }),
+        pause: () => {
+          if (ws.readyState === WebSocket.OPEN) ws.pause();
+        },
+        resume: () => {
+          if (ws.readyState === WebSocket.OPEN) ws.resume();
+        },
       };
     },
     options,

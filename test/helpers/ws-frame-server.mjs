@@ -1,7 +1,8 @@
 // A telemetry relay for the websocket tests: a ws server on 127.0.0.1, driven by commands on stdin.
 //   node ws-frame-server.mjs PORT     (0 = any free port) → prints "listening <port>", then "connected" per client
-//   send FIRST COUNT   frames seq FIRST.. in messages of several lines, lines split across messages, and every 50th
-//                      frame alone in a message without newline; paced (~1 ms per frame); prints "sent <count>"
+//   send FIRST COUNT   frames seq FIRST.. in messages of several complete lines (the last one with or without its
+//                      newline), and every 50th frame alone in a message without newline; paced (~1 ms per frame);
+//                      prints "sent <count>"
 //   noise              three bad lines (not JSON, a wrong type, control bytes); prints "sent noise"
 //   big                one 1.5 MiB message (over the client's 1 MiB cap); prints "sent big"
 import { createInterface } from 'node:readline';
@@ -36,9 +37,8 @@ createInterface({ input: process.stdin }).on('line', async (line) => {
       }
       group += frame(seq) + '\n';
       if ((i + 1) % 5 === 0 || i === count - 1) {
-        const cut = Math.floor(group.length / 2) + 3; // a frame split across two messages
-        broadcast(group.slice(0, cut));
-        broadcast(group.slice(cut));
+        // A message ends its last line: the newline is optional (every other message goes without).
+        broadcast(seq % 2 === 0 ? group : group.slice(0, -1));
         group = '';
         await sleep(5);
       }

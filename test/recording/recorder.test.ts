@@ -62,6 +62,26 @@ describe('recorder', () => {
     rec.close();
   });
 
+  it('flushes on time while the event loop is kept busy (its timer cannot run): a flood is on disk as it arrives', () => {
+    const path = join(dir, 'busy.tmrec');
+    const rec = openRecorder({ path, sourceLabel: 'x', flushIntervalMs: 50 });
+    const start = performance.now();
+    let pushed = 0;
+    let pushedBy100Ms = 0;
+    // 300 ms without yielding to the event loop.
+    while (performance.now() - start < 300) {
+      rec.writeLine({ bytes: Buffer.from(`junk ${pushed}`), receivedAtMs: T0, cut: false });
+      pushed += 1;
+      if (performance.now() - start < 100) pushedBy100Ms = pushed;
+    }
+    const onDisk = readFileSync(path, 'utf8')
+      .split('\n')
+      .filter((l) => l.startsWith(`${T0}\t`)).length;
+    expect(pushedBy100Ms).toBeGreaterThan(0);
+    expect(onDisk).toBeGreaterThanOrEqual(pushedBy100Ms);
+    rec.close();
+  });
+
   it('reports a full disk and keeps accepting lines', () => {
     if (!existsSync('/dev/full')) return; // Linux device whose writes fail with ENOSPC
     const rec = openRecorder({ path: '/dev/full', sourceLabel: 'x', force: true });

@@ -1,7 +1,13 @@
 /** `turnmargin serve`: answer an autopilot on the bench with margin records over a websocket. */
 import { readFileSync } from 'node:fs';
 import { makeDirectory } from '../../recording/make-directory.js';
-import { startServeServer, DEFAULT_MAX_CLIENTS, type ServeServerOptions } from '../../serve/server.js';
+import {
+  startServeServer,
+  DEFAULT_IDLE_TIMEOUT_MS,
+  DEFAULT_MAX_CLIENTS,
+  PING_INTERVAL_MS,
+  type ServeServerOptions,
+} from '../../serve/server.js';
 import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import type { MarginOptions } from '../../core/margins.js';
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
@@ -16,7 +22,8 @@ export const spec: CommandSpec = {
   summary: 'answer an autopilot on the bench with margins over a websocket',
   usage:
     'turnmargin serve --aircraft FILE [--listen HOST:PORT [--allow-remote]] [--thresholds FILE]\n' +
-    '                        [--token T | --token-file FILE] [--record DIR] [--smooth S] [--max-clients N]',
+    '                        [--token T | --token-file FILE] [--record DIR] [--smooth S] [--max-clients N]\n' +
+    '                        [--idle-timeout S]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
     {
@@ -71,6 +78,14 @@ export const spec: CommandSpec = {
       defaultText: String(DEFAULT_MAX_CLIENTS),
       description: 'most clients at once (more are refused with HTTP 503)',
     },
+    {
+      name: 'idle-timeout',
+      type: 'string',
+      valueName: 'S',
+      unit: 's',
+      defaultText: String(DEFAULT_IDLE_TIMEOUT_MS / 1000),
+      description: 'close a client that sends no complete message for this long (its slot is freed)',
+    },
   ],
   notes: [
     'Protocol: send text messages, each holding one frame (the telemetry keys: t_s, tas_mps | cas_mps | ias_mps,\n' +
@@ -83,12 +98,18 @@ export const spec: CommandSpec = {
     'A message over 1 MiB closes that connection with code 1009; other clients are not affected. A client that\n' +
       'does not read its answers (8 MiB pending) is closed with 1008. With --token, a client without the token\n' +
       'is refused with HTTP 401 before the websocket opens.',
-    'At start the server prints "listening on ws://HOST:PORT" to stdout. SIGINT or SIGTERM: clients are closed\n' +
-      '(1001), recordings flushed, a summary goes to stderr, exit 0.',
+    `Idle clients: every ${PING_INTERVAL_MS / 1000} s each client is pinged; one that leaves two pings unanswered is cut off,\n` +
+      'and one that sends no complete message for --idle-timeout is closed (1001); either way its slot is freed.',
+    'Work is shared fairly: a client flooding the server is served in slices (and held back by TCP while its\n' +
+      'messages wait), so the other clients keep getting their answers. A recording the disk refuses (disk full)\n' +
+      'is reported in the log; the lines that could not be written are counted per client and in the summary.',
+    'At start the server prints "listening on ws://HOST:PORT" to stdout. SIGINT, SIGTERM or SIGHUP: clients are\n' +
+      'closed (1001), recordings flushed, a summary goes to stderr, exit 0.',
   ],
 };
 
-function readToken(args: ParsedArgs): string | undefined {
+/** --token T or --token-file FILE (its first line); undefined when neither is given. Shared with `watch --ws`. */
+export function readToken(args: ParsedArgs): string | undefined {
   const given = stringOption(args, 'token');
   const file = stringOption(args, 'token-file');
   if (given !== undefined && file !== undefined) throw new UsageError('give --token or --token-file, not both');
@@ -115,6 +136,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
   const smoothTauS = numberOption(args, 'smooth', undefined, { min: 0, max: 10 });
   const maxClients = numberOption(args, 'max-clients', DEFAULT_MAX_CLIENTS, { integer: true, min: 1, max: 10_000 });
+  const idleTimeoutS = numberOption(args, 'idle-timeout', DEFAULT_IDLE_TIMEOUT_MS / 1000, { min: 0.1, max: 86_400 });
   const listenText = stringOption(args, 'listen') ?? DEFAULT_LISTEN;
   const parsed = parseListenAddress(listenText);
   if (!parsed.ok) throw new UsageError(`--listen ${parsed.reason}`);
@@ -150,6 +172,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     port,
     margins,
     maxClients,
+    idleTimeoutMs: idleTimeoutS * 1000,
     log: (line) => process.stderr.write(`turnmargin: serve: ${line}\n`),
   };
   if (token !== undefined) options.token = token;
@@ -167,10 +190,13 @@ export async function run(args: ParsedArgs): Promise<number> {
     const stop = () => {
       process.off('SIGINT', stop);
       process.off('SIGTERM', stop);
+      process.off('SIGHUP', stop);
       resolve();
     };
     process.on('SIGINT', stop);
     process.on('SIGTERM', stop);
+    // The terminal went away (ssh dropped): stop as cleanly as on SIGTERM, recordings flushed.
+    process.on('SIGHUP', stop);
   });
   process.stdout.write(`listening on ${server.url}\n`);
   await stopped;
@@ -178,6 +204,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   process.stderr.write(
     `turnmargin: serve: stopped; ${summary.connections} connections, ${summary.answered} frames answered, ` +
       `${summary.errors} errors, ${summary.refused} refused` +
+      `${summary.linesNotRecorded ? `, ${summary.linesNotRecorded} lines not recorded` : ''}` +
       `${summary.recordings.length ? `; recordings in ${recordDir}` : ''}\n`,
   );
   return EXIT_OK;

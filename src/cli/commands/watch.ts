@@ -4,7 +4,7 @@ import { openRecorder, type Recorder } from '../../recording/recorder.js';
 import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import { createSerialSource, DEFAULT_BAUD, NO_SUCH_PORT_YET, whyNotASerialPort } from '../../sources/serial.js';
 import { createUdpSource } from '../../sources/udp.js';
-import { createWebSocketSource } from '../../sources/websocket.js';
+import { createWebSocketSource, redactUrl } from '../../sources/websocket.js';
 import type { TelemetrySource } from '../../sources/source.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { UsageError } from '../../errors.js';
@@ -12,13 +12,15 @@ import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js
 import { checkOutputPath, inputFilesOf } from '../output-path.js';
 
 export const DEFAULT_UDP_HOST = '127.0.0.1';
+import { readToken } from './serve.js';
 
 export const spec: CommandSpec = {
   name: 'watch',
   summary: 'monitor live telemetry from a serial radio, a websocket relay or UDP datagrams',
   usage:
-    'turnmargin watch (--serial PATH [--baud N] | --ws URL | --udp [HOST:]PORT [--allow-remote]) --aircraft FILE\n' +
-    '                        [--record FILE] [--events FILE] [--force] [--thresholds FILE] [--smooth S] [--no-ui]',
+    'turnmargin watch (--serial PATH [--baud N] | --ws URL [--token T | --token-file FILE] | --udp [HOST:]PORT\n' +
+    '                        [--allow-remote]) --aircraft FILE [--record FILE] [--events FILE] [--force]\n' +
+    '                        [--thresholds FILE] [--smooth S] [--no-ui]',
   options: [
     {
       name: 'serial',
@@ -51,6 +53,18 @@ export const spec: CommandSpec = {
       name: 'allow-remote',
       type: 'boolean',
       description: 'allow --udp on a non-loopback address (anyone on the network can send)',
+    },
+    {
+      name: 'token',
+      type: 'string',
+      valueName: 'T',
+      description: 'with --ws: send "Authorization: Bearer T" (never shown or recorded)',
+    },
+    {
+      name: 'token-file',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'with --ws: read the token from the first line of a file (keeps it out of the process list)',
     },
     ...COMMON_MONITOR_OPTIONS,
     {
@@ -106,6 +120,9 @@ function sourceFromArgs(args: ParsedArgs): { source: TelemetrySource; note?: str
   if (args.values['allow-remote'] === true && udp === undefined)
     throw new UsageError('--allow-remote applies to --udp only');
   if (serial !== undefined) {
+    if (args.values['token'] !== undefined || args.values['token-file'] !== undefined)
+      throw new UsageError('--token and --token-file apply to --ws only');
+    if (serial === '') throw new UsageError('--serial PATH must not be empty');
     const why = whyNotASerialPort(serial);
     if (why !== null) throw new UsageError(`--serial ${serial} ${why}`);
     const baudRate = numberOption(args, 'baud', DEFAULT_BAUD, { integer: true, min: 50, max: 4_000_000 });
@@ -118,11 +135,12 @@ function sourceFromArgs(args: ParsedArgs): { source: TelemetrySource; note?: str
   try {
     url = new URL(ws!);
   } catch {
-    throw new UsageError(`--ws must be a websocket URL such as ws://127.0.0.1:8765 (got "${ws}")`);
+    throw new UsageError(`--ws must be a websocket URL such as ws://127.0.0.1:8765 (got "${redactUrl(ws!)}")`);
   }
   if (url.protocol !== 'ws:' && url.protocol !== 'wss:')
-    throw new UsageError(`--ws must start with ws:// or wss:// (got "${ws}")`);
-  return { source: createWebSocketSource({ url: url.href }) };
+    throw new UsageError(`--ws must start with ws:// or wss:// (got "${redactUrl(ws!)}")`);
+  const token = readToken(args);
+  return { source: createWebSocketSource({ url: url.href, ...(token !== undefined ? { token } : {}) }) };
 }
 
 export async function run(args: ParsedArgs): Promise<number> {
