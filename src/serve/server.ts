@@ -364,6 +364,8 @@ export async function startServeServer(options: ServeServerOptions): Promise<Ser
     const now = performance.now();
     for (const c of open.values()) {
       if (c.closing) continue;
+      // The recorder's own timer may find the disk full after the last message was answered: say so now.
+      checkRecording(c);
       // A client whose input is still being worked through (or held back by us) is not idle.
       if (c.current !== null || c.queue.length > 0) {
         c.lastMessageMs = now;
