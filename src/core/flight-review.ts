@@ -11,6 +11,7 @@ import type { Frame } from './frame.js';
 import { createMarginTracker, resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { Level, MarginRecord } from './margin-record.js';
 import type { LimitName } from './performance.js';
+import { createTimeHistory, type BreakKind, type TimeHistory } from './time-history.js';
 
 /** Rejected lines kept for the report (the count covers all). */
 export const MAX_REJECTS_KEPT = 100;
@@ -76,6 +77,8 @@ export interface FlightReview {
   /** Accepted frames the plot sample was drawn from. */
   plotPointsOf: number;
   options: MarginOptions;
+  /** Every series against time, reduced for drawing (min and max per bucket). */
+  timeHistory: TimeHistory;
 }
 
 export interface AcceptOptions {
@@ -141,6 +144,7 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
     caution: createDecimator(PLOT_POINTS_PER_LEVEL),
     warning: createDecimator(PLOT_POINTS_PER_LEVEL),
   };
+  const history = createTimeHistory();
   const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
 
   return {
@@ -170,6 +174,10 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
         }
       }
       events.push(rec);
+      let breakKind: BreakKind | undefined;
+      if (restart) breakKind = acceptOptions.newSegment === true ? 'other' : 'clock_restart';
+      else if (previous !== null && rec.t_s - previous.t_s > FILTER_RESTART_GAP_S) breakKind = 'data_gap';
+      history.push(rec, breakKind);
 
       raisePeak(peaks.stall, rec.utilization.stall, rec.t_s);
       raisePeak(peaks.thrust, rec.utilization.thrust, rec.t_s);
@@ -217,6 +225,7 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
         plotPoints: [...plot.normal.items(), ...plot.caution.items(), ...plot.warning.items()],
         plotPointsOf: accepted,
         options: resolved,
+        timeHistory: history.finish(),
       };
     },
   };
