@@ -170,8 +170,8 @@ export function createTimeHistory(): TimeHistoryAccumulator {
   let lastS = NaN;
   let lastTS = NaN;
   let axisShiftS = 0;
-  let reduced = false;
-  let lastBucket = -1;
+  // Frames per bucket: the series are reduced once a bucket holds more than one.
+  const frameCounts = new Uint32Array(MAX_BUCKETS);
 
   const add = (name: SeriesName, value: number | null | undefined, bucket: number, tS: number): void => {
     if (value === null || value === undefined || !Number.isFinite(value)) return;
@@ -203,14 +203,14 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         for (const s of Object.values(series)) halve(s, used);
         orHalve(breaks, used);
         orHalve(alerts, used);
+        for (let i = 0; i < Math.ceil(used / 2); i++)
+          frameCounts[i] = frameCounts[2 * i]! + (2 * i + 1 < used ? frameCounts[2 * i + 1]! : 0);
+        frameCounts.fill(0, Math.ceil(used / 2));
         used = Math.ceil(used / 2);
         bucketS *= 2;
         bucket = Math.floor((tS - t0S) / bucketS);
-        lastBucket = -1;
-        reduced = true;
       }
-      if (bucket === lastBucket) reduced = true;
-      lastBucket = bucket;
+      frameCounts[bucket] = frameCounts[bucket]! + 1;
       used = Math.max(used, bucket + 1);
       if (breakBefore !== undefined && frames > 0) {
         breaks[bucket] = breaks[bucket]! | BREAK_BITS[breakBefore];
@@ -266,7 +266,7 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         alerts: alerts.slice(0, used),
         axisShiftS,
         assumedFrames: { ...assumedFrames },
-        reduced,
+        reduced: frameCounts.some((c) => c > 1),
       };
     },
   };

@@ -150,7 +150,7 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
   const out: string[] = [];
   if (input.inline !== true) out.push('<?xml version="1.0" encoding="UTF-8"?>');
   out.push(
-    `<svg xmlns="http://www.w3.org/2000/svg" width="${WIDTH}" height="${HEIGHT}" viewBox="0 0 ${WIDTH} ${HEIGHT}" font-family="Helvetica, Arial, sans-serif" font-size="13">`,
+    `<svg${input.inline === true ? '' : ' xmlns="http://www.w3.org/2000/svg"'} width="${WIDTH}" height="${HEIGHT}" viewBox="0 0 ${WIDTH} ${HEIGHT}" font-family="Helvetica, Arial, sans-serif" font-size="13">`,
   );
   out.push(`<title>${escapeXml(`n–V plot of ${input.source} (${aircraft.name})`)}</title>`);
   out.push(

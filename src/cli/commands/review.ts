@@ -13,6 +13,7 @@ import type { MarginRecord } from '../../core/margin-record.js';
 import { readFrameBatches, readFramePackedBatches, type ReadFrameOptions } from '../../decode/read-frames.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from '../../report/review-report.js';
+import { htmlFlightFrom, renderHtmlReport } from '../../report/html-report.js';
 import {
   choiceOption,
   numberOption,
@@ -57,7 +58,7 @@ export const spec: CommandSpec = {
   name: 'review',
   summary: 'report the limit events, peaks and time in each alert level of a recorded flight',
   usage:
-    'turnmargin review FILE --aircraft FILE [--format md|json|csv] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+    'turnmargin review FILE --aircraft FILE [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
     {
@@ -65,8 +66,16 @@ export const spec: CommandSpec = {
       type: 'string',
       valueName: 'FORMAT',
       defaultText: 'md',
-      description: 'report format: md (for a flight-test record), json, or csv (one row per event)',
+      description:
+        'report format: md (for a flight-test record), json, csv (one row per event), or html (one self-contained page with time histories and the n–V plane, printable)',
     },
+    {
+      name: 'out',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'write the report to this file instead of standard output (refused if it exists, unless --force)',
+    },
+    { name: 'force', type: 'boolean', description: 'overwrite an existing --out file' },
     {
       name: 'per-frame',
       type: 'string',
@@ -312,12 +321,17 @@ export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRe
 
 export async function run(args: ParsedArgs): Promise<number> {
   const input = parseFlightInput(args, 'review');
-  const format = choiceOption(args, 'format', ['md', 'json', 'csv'] as const, 'md');
+  const format = choiceOption(args, 'format', ['md', 'json', 'csv', 'html'] as const, 'md');
   const perFramePath = stringOption(args, 'per-frame');
   const plotPath = stringOption(args, 'plot');
+  const outPath = stringOption(args, 'out');
+  if (args.values['force'] && outPath === undefined) throw new UsageError('--force applies to --out only', 'review');
+  if (outPath !== undefined && existsSync(outPath) && !args.values['force'])
+    throw new UsageError(`--out ${outPath} exists; give --force to overwrite it`, 'review');
   for (const [name, path] of [
     ['per-frame', perFramePath],
     ['plot', plotPath],
+    ['out', outPath],
   ] as const) {
     if (path !== undefined && (path === input.file || path === input.aircraftFile)) {
       throw new UsageError(`--${name} ${path} would overwrite an input file`, 'review');
@@ -352,7 +366,25 @@ export async function run(args: ParsedArgs): Promise<number> {
       ? JSON.stringify(reviewToJson(review, ctx), null, 2) + '\n'
       : format === 'csv'
         ? reviewToCsv(review)
-        : reviewToMarkdown(review, ctx);
-  process.stdout.write(text);
+        : format === 'html'
+          ? renderHtmlReport({ flights: [htmlFlightFrom(review, ctx)], command: reviewCommandLine(args) })
+          : reviewToMarkdown(review, ctx);
+  if (outPath !== undefined) {
+    const writer = createBlockWriter(outPath);
+    writer.write(text);
+    writer.close();
+  } else {
+    process.stdout.write(text);
+  }
   return EXIT_OK;
+}
+
+/** The command as a user would type it again (file names only: no machine paths in the report). */
+function reviewCommandLine(args: ParsedArgs): string {
+  const parts = ['turnmargin review', ...args.positionals.map((p) => basename(p))];
+  for (const [name, value] of Object.entries(args.values)) {
+    if (value === undefined || value === false || name === 'force') continue;
+    parts.push(value === true ? `--${name}` : `--${name} ${basename(String(value))}`);
+  }
+  return parts.join(' ');
 }
