@@ -87,7 +87,7 @@ export interface TimeHistory {
   axisShiftS: number;
   /** Frames carrying each `assumed` flag (records without flags count nowhere). */
   assumedFrames: Record<string, number>;
-  /** Whether the series were reduced (some bucket held more than one frame). */
+  /** Whether the series were reduced: some bucket held more than two frames (two are both drawn). */
   reduced: boolean;
 }
 
@@ -170,7 +170,7 @@ export function createTimeHistory(): TimeHistoryAccumulator {
   let lastS = NaN;
   let lastTS = NaN;
   let axisShiftS = 0;
-  // Frames per bucket: the series are reduced once a bucket holds more than one.
+  // Frames per bucket: the series are reduced once a bucket holds more than two (its min and max are drawn).
   const frameCounts = new Uint32Array(MAX_BUCKETS);
 
   const add = (name: SeriesName, value: number | null | undefined, bucket: number, tS: number): void => {
@@ -266,7 +266,7 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         alerts: alerts.slice(0, used),
         axisShiftS,
         assumedFrames: { ...assumedFrames },
-        reduced: frameCounts.some((c) => c > 1),
+        reduced: frameCounts.some((c) => c > 2),
       };
     },
   };

@@ -352,7 +352,7 @@ function eventsSection(flight: HtmlFlight): string {
 // ---------------------------------------------------------------------------------------------------------------
 // Time histories: stacked panels on one time axis
 
-const TH = { width: 1000, left: 64, right: 16, panelH: 92, gap: 30, top: 34, axisH: 40 };
+const TH = { width: 1000, left: 64, right: 96, panelH: 92, gap: 30, top: 34, axisH: 40 };
 
 interface LineSpec {
   name: SeriesName;
@@ -391,7 +391,7 @@ function panelsFor(flight: HtmlFlight): Panel[] {
     if (!has(name)) return;
     panels.push({
       title,
-      unit: 'utilization',
+      unit: '',
       lines: [{ name, label: title.toLowerCase(), colour: primary, dash: '', width: 1.3 }],
       refs: refs(c, w),
       limit,
@@ -427,7 +427,9 @@ function panelsFor(flight: HtmlFlight): Panel[] {
     title: 'Load factor',
     unit: 'g',
     lines: nLines,
-    refs: [{ value: flight.aircraft.nLimitPos, label: 'n limit', colour: warning, dash: '' }],
+    refs: [
+      { value: flight.aircraft.nLimitPos, label: `n limit +${flight.aircraft.nLimitPos}`, colour: warning, dash: '' },
+    ],
     include: [1],
   });
   if (has('bank_deg'))
@@ -558,12 +560,16 @@ function timeHistorySvg(flight: HtmlFlight, prefix: string): string {
     for (let t = Math.ceil(t0 / tStep) * tStep; t <= t1 + 1e-9; t += tStep)
       grid.push(`<line x1="${num(sx(t))}" y1="${top}" x2="${num(sx(t))}" y2="${bottom}"/>`);
     out.push(`<g stroke="#e4e4e4" stroke-width="1">${grid.join('')}</g>`);
-    // Reference lines.
-    for (const r of panel.refs) {
-      if (r.value < lo || r.value > hi) continue;
+    // Reference lines, labelled in the right margin (labels pushed apart when two lines are close).
+    const shown = panel.refs.filter((r) => r.value >= lo && r.value <= hi).sort((a, b) => b.value - a.value);
+    let lastLabelY = -Infinity;
+    for (const r of shown) {
+      const y = sy(r.value);
+      const labelY = Math.max(y + 4, lastLabelY + 12);
+      lastLabelY = labelY;
       out.push(
-        `<line class="ref" x1="${TH.left}" y1="${num(sy(r.value))}" x2="${TH.left + plotW}" y2="${num(sy(r.value))}" stroke="${r.colour}" stroke-width="1.4"${r.dash ? ` stroke-dasharray="${r.dash}"` : ''}/>`,
-        `<text x="${TH.left + plotW - 4}" y="${num(sy(r.value) - 3)}" text-anchor="end" font-size="10.5" fill="${r.colour}" class="ref-label">${esc(r.label)}</text>`,
+        `<line class="ref" x1="${TH.left}" y1="${num(y)}" x2="${TH.left + plotW}" y2="${num(y)}" stroke="${r.colour}" stroke-width="1.4"${r.dash ? ` stroke-dasharray="${r.dash}"` : ''}/>`,
+        `<text x="${TH.left + plotW + 5}" y="${num(labelY)}" font-size="10.5" fill="${r.colour}" class="ref-label">${esc(r.label)}</text>`,
       );
     }
     // Series.
@@ -590,7 +596,7 @@ function timeHistorySvg(flight: HtmlFlight, prefix: string): string {
     );
     // Title and legend above the panel.
     let lx = TH.left;
-    const titleText = `${panel.title} (${panel.unit})`;
+    const titleText = panel.unit ? `${panel.title} (${panel.unit})` : panel.title;
     out.push(`<text x="${lx}" y="${top - 8}" font-weight="bold" font-size="12.5">${esc(titleText)}</text>`);
     lx += titleText.length * 7 + 18;
     if (panel.lines.length > 1)
@@ -605,9 +611,12 @@ function timeHistorySvg(flight: HtmlFlight, prefix: string): string {
       out.push(
         `<rect x="${num(lx)}" y="${top - 20}" width="16" height="11" fill="url(#${prefix}hatch-caution)" stroke="#999999" stroke-width="0.5"/>`,
         `<text x="${num(lx + 21)}" y="${top - 10}">caution on</text>`,
-        `<rect x="${num(lx + 96)}" y="${top - 20}" width="16" height="11" fill="url(#${prefix}hatch-warning)" stroke="#999999" stroke-width="0.5"/>`,
-        `<text x="${num(lx + 117)}" y="${top - 10}">warning on</text>`,
       );
+      if (panel.refs.length > 1)
+        out.push(
+          `<rect x="${num(lx + 96)}" y="${top - 20}" width="16" height="11" fill="url(#${prefix}hatch-warning)" stroke="#999999" stroke-width="0.5"/>`,
+          `<text x="${num(lx + 117)}" y="${top - 10}">warning on</text>`,
+        );
     }
     out.push('</g>');
   });
@@ -630,7 +639,9 @@ function timeHistorySvg(flight: HtmlFlight, prefix: string): string {
 }
 
 function formatTick(value: number, step: number): string {
-  const decimals = step >= 1 ? 0 : step >= 0.1 ? 1 : step >= 0.01 ? 2 : 3;
+  // As many decimals as the step needs (0.25 → 2), so no two ticks read the same.
+  let decimals = 0;
+  while (decimals < 4 && Math.abs(Math.round(step * 10 ** decimals) - step * 10 ** decimals) > 1e-6) decimals += 1;
   const text = value.toFixed(decimals);
   return /^-0(\.0*)?$/.test(text) ? text.slice(1) : text;
 }
@@ -751,6 +762,7 @@ th, td { border: 1px solid #b9b9b9; padding: 3px 7px; text-align: left; vertical
 thead th { background: #ececec; }
 table.kv th { background: #f4f4f4; font-weight: 600; width: 38%; }
 td.num, th.num { text-align: right; font-variant-numeric: tabular-nums; }
+td.num { white-space: nowrap; }
 table.events, table.points, table.summary { width: 100%; }
 ul.verdict { list-style: none; padding: 0; margin: 8px 0; }
 ul.verdict li { padding: 5px 10px; margin: 3px 0; border-left: 6px solid #bdbdbd; background: #fafafa; }

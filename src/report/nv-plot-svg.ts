@@ -271,11 +271,8 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
   };
   legendLine(STYLE.stall, 'Stall (CLmax)', 'n = q·S·CLmax / W');
   if (stallNegD) legendLine(STYLE.stallNeg, 'Stall, negative g (CLmin)');
-  legendLine(
-    STYLE.stallCaution,
-    'Stall caution / warning',
-    `stall × ${thresholds.stallCaution.toFixed(2)} (dots) / × ${thresholds.stallWarning.toFixed(2)} (dashes)`,
-  );
+  legendLine(STYLE.stallCaution, 'Stall caution', `stall × ${thresholds.stallCaution.toFixed(2)}`);
+  legendLine(STYLE.stallWarning, 'Stall warning', `stall × ${thresholds.stallWarning.toFixed(2)}`);
   legendLine(STYLE.thrust, 'Thrust (sustained turn)', 'largest n with thrust = drag, n ≥ 1');
   legendLine(STYLE.structure, 'Structure', `n limit +${num(aircraft.nLimitPos)} / ${num(aircraft.nLimitNeg)}`);
   ly += 34;
