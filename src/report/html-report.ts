@@ -805,7 +805,7 @@ function flightSection(flight: HtmlFlight, index: number, several: boolean): str
   );
   out.push(
     `<${hn}>The n–V plane</${hn}>`,
-    `<figure>${renderNvPlotSvg(flight.nvPlot)}<figcaption>${esc(
+    `<figure>${renderNvPlotSvg({ ...flight.nvPlot, idPrefix: `${prefix}nv-`, inline: true })}<figcaption>${esc(
       'Curves at the median density and mass of the flight; each point was judged at its own. ' +
         'Markers: circle normal, triangle caution, square warning (the dashboard uses the same colours).',
     )}</figcaption></figure>`,
