@@ -48,6 +48,12 @@ export interface HtmlReportInput {
 /** One flight for the report, from its review (the same numbers `review --format json` prints). */
 export function htmlFlightFrom(review: FlightReview, ctx: ReviewContext, index = 0): HtmlFlight {
   const json = reviewToJson(review, ctx) as ReviewJson & Record<string, unknown>;
+  const nvPlot = { ...nvPlotInputFrom(review, ctx), idPrefix: `f${index + 1}-nv-`, inline: true };
+  return { json, history: review.timeHistory, aircraft: ctx.aircraft, thresholds: review.options.thresholds, nvPlot };
+}
+
+/** The n–V plot of a reviewed flight: its points, the thresholds in force, V_NE at its TAS when the envelope has it. */
+export function nvPlotInputFrom(review: FlightReview, ctx: ReviewContext): NvPlotInput {
   const c = review.conditions;
   const density = c.medianDensityKgM3 ?? 1.225;
   const mass = c.medianMassKg ?? ctx.aircraft.massKg;
@@ -59,12 +65,10 @@ export function htmlFlightFrom(review: FlightReview, ctx: ReviewContext, index =
     pointsOf: review.plotPointsOf,
     source: ctx.source,
     thresholds: review.options.thresholds,
-    idPrefix: `f${index + 1}-nv-`,
-    inline: true,
   };
   const vneTas = vneTasAt(ctx.aircraft, review, mass);
   if (vneTas !== undefined) nvPlot.vneTasMps = vneTas;
-  return { json, history: review.timeHistory, aircraft: ctx.aircraft, thresholds: review.options.thresholds, nvPlot };
+  return nvPlot;
 }
 
 /** V_NE as TAS at the middle of the altitudes and temperatures flown, when the envelope provides it. */
