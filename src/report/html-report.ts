@@ -261,10 +261,16 @@ function setupSection(flight: HtmlFlight): string {
     temperature_isa: 'temperature from the standard atmosphere (no oat_c)',
     n_limit_default: 'structural limit from the default formula',
   };
-  for (const [flag, count] of Object.entries(flight.history.assumedFrames))
-    assumedRows.push([esc(assumedWords[flag] ?? flag), String(count), pct(count, frames)]);
-  if (!('n_limit_default' in flight.history.assumedFrames) && /default|formula|23\.337/i.test(a.nLimitPosSource))
-    assumedRows.push([`structural limit: ${esc(a.nLimitPosSource)}`, 'all', '100.0 %']);
+  // The review's own shares (assumed_share) when it has them, else the counts of the time history.
+  const shares = j['assumed_share'] as Record<string, number | null> | undefined;
+  if (shares && typeof shares === 'object') {
+    for (const [flag, share] of Object.entries(shares))
+      if (share !== null && share > 0)
+        assumedRows.push([esc(assumedWords[flag] ?? flag), String(Math.round(share * j.accepted)), pct(share, 1)]);
+  } else {
+    for (const [flag, count] of Object.entries(flight.history.assumedFrames))
+      assumedRows.push([esc(assumedWords[flag] ?? flag), String(count), pct(count, frames)]);
+  }
   const assumptions =
     assumedRows.length > 0
       ? table(['Assumed', 'Frames', 'Share'], assumedRows, 'compact', [false, true, true])

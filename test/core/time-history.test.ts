@@ -4,7 +4,7 @@ import { createTimeHistory, MAX_BUCKETS, seriesPoints, type TimeHistory } from '
 
 /** A margin record with the keys the accumulator reads; the rest are not used by it. */
 function record(tS: number, n: number, extra: Partial<MarginRecord> = {}): MarginRecord {
-  return {
+  const rec = {
     t_s: tS,
     tas_mps: 20,
     eas_mps: 20,
@@ -13,7 +13,7 @@ function record(tS: number, n: number, extra: Partial<MarginRecord> = {}): Margi
     n_stall: 3,
     n_thrust: 2,
     n_structural: 4,
-    utilization: { stall: n / 3, thrust: n / 2, structure: n / 4 },
+    utilization: { stall: n / 3, thrust: n / 2, structure: n / 4, speed: null },
     bank_limit_deg: 60,
     bank_sustained_deg: 50,
     level: 'normal',
@@ -34,8 +34,8 @@ function record(tS: number, n: number, extra: Partial<MarginRecord> = {}): Margi
     n_raw: n,
     n_stall_neg: null,
     n_structural_neg: -1.5,
-    ...extra,
   };
+  return { ...rec, ...extra } as MarginRecord;
 }
 
 /** Brute force: min and max of the values whose time falls in bucket i of the result's final width. */

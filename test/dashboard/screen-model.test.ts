@@ -160,8 +160,9 @@ describe('stale data', () => {
     expect(model.banner[0]![0]!.tone).toBe('banner-stale');
     expect(model.readouts.title).toBe('Readouts — STALE 3.4 s · t 0:02.0'); // t of the last frame
     expect(text(model.readouts.lines)).toContain('STALE — last frame 3.4 s ago');
+    // Stall, structure, thrust (name line then bar line) and the speed line.
     const words = model.margins.lines.filter((_, i) => i % 2 === 0).map((l) => lineText(l).trim().split(' ').pop());
-    expect(words).toEqual(['STALE', 'STALE', 'STALE']);
+    expect(words).toEqual(['STALE', 'STALE', 'STALE', 'STALE']);
     expect(
       model.readouts.lines
         .flat()
