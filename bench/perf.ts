@@ -13,6 +13,7 @@ import type { Frame } from '../src/core/frame.js';
 import { CLI, REPO_ROOT, formatTable, median, percentile, runNode } from './measure.js';
 import { syntheticFrameLine, writeSyntheticFlight } from './synthetic-flight.js';
 import { createLivePath } from './live-path.js';
+import { benchHtmlReport } from './html-report.js';
 
 type Row = [string, string, string, string];
 const rows: Row[] = [];
@@ -215,6 +216,7 @@ async function main(): Promise<void> {
     process.stderr.write('perf: start-up…\n');
     await benchStartup(dir);
     await benchReview(dir);
+    await benchHtmlReport(dir, quick, rows, results);
   } finally {
     rmSync(dir, { recursive: true, force: true });
   }

@@ -14,6 +14,7 @@ import type { Frame } from './frame.js';
 import { resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { Assumption, Level, MarginRecord } from './margin-record.js';
 import type { LimitName } from './performance.js';
+import { createTimeHistory, type TimeHistory } from './time-history.js';
 
 /** Rejected lines kept for the report (the count covers all). */
 export const MAX_REJECTS_KEPT = 100;
@@ -92,6 +93,8 @@ export interface FlightReview {
   /** Accepted frames the plot sample was drawn from. */
   plotPointsOf: number;
   options: MarginOptions;
+  /** Every series against time, reduced for drawing (min and max per bucket). */
+  timeHistory: TimeHistory;
   /** Share of the accepted frames (0…1) in which each input was assumed; null without frames. */
   assumedShare: Record<Assumption, number | null>;
 }
@@ -165,6 +168,7 @@ export function createFlightReviewer(
     caution: createDecimator(PLOT_POINTS_PER_LEVEL),
     warning: createDecimator(PLOT_POINTS_PER_LEVEL),
   };
+  const history = createTimeHistory();
   const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
   let altMin = Infinity;
   let altMax = -Infinity;
@@ -220,6 +224,7 @@ export function createFlightReviewer(
         // A new stretch of data (clock restart, reconnect): no interval across it.
         conditions.segments += 1;
       }
+      history.push(rec, pendingBreak === null ? undefined : pendingBreak === 'end_of_data' ? 'other' : pendingBreak);
       pendingBreak = null;
 
       raisePeak(peaks.stall, rec.utilization.stall, rec.t_s);
@@ -278,6 +283,7 @@ export function createFlightReviewer(
         plotPoints: [...plot.normal.items(), ...plot.caution.items(), ...plot.warning.items()],
         plotPointsOf: accepted,
         options: resolved,
+        timeHistory: history.finish(),
         assumedShare: assumed.shares(),
       };
     },

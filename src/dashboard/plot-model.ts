@@ -5,7 +5,8 @@
  */
 import type { Aircraft } from '../core/aircraft.js';
 import type { Level } from '../core/margin-record.js';
-import { stallLoadFactor, stallSpeedMps, thrustLoadFactor } from '../core/performance.js';
+import { LEVEL_MARKS, NV_LINES, sampleNvCurves } from '../core/nv-plane.js';
+import { stallSpeedMps } from '../core/performance.js';
 import type { AlertThresholds } from '../core/thresholds.js';
 import type { Tone } from './format-tags.js';
 import { speedFromMps, speedToMps, speedUnitLabel, type SpeedUnit } from './format-units.js';
@@ -146,15 +147,16 @@ export function buildPlotModel(input: PlotInput): PlotModel {
   const stallCaution: Px[] = [];
   const thrustRuns: Px[][] = [];
   let thrustRun: Px[] = [];
-  const cautionAt = input.thresholds.stallCaution;
+  const speeds = Array.from({ length: area.width }, (_, x) => xMinMps + (x / (area.width - 1)) * (xMaxMps - xMinMps));
+  const curves = sampleNvCurves(aircraft, c.densityKgM3, c.massKg, input.thresholds, speeds);
   for (let x = 0; x < area.width; x++) {
-    const v = xMinMps + (x / (area.width - 1)) * (xMaxMps - xMinMps);
-    const nStall = stallLoadFactor(aircraft, v, c.densityKgM3, c.massKg);
+    const v = speeds[x]!;
+    const nStall = curves.stall[x]!;
     if (inRange(nStall)) stall.push([px(v), py(nStall)]);
-    if (inRange(nStall * cautionAt)) stallCaution.push([px(v), py(nStall * cautionAt)]);
-    const nThrust = thrustLoadFactor(aircraft, v, c.densityKgM3, c.massKg);
-    // Only where a turn is both sustainable and flyable (below the stall curve).
-    if (nThrust !== null && nThrust > 0 && nThrust <= nStall && inRange(nThrust)) {
+    if (inRange(curves.stallCaution[x]!)) stallCaution.push([px(v), py(curves.stallCaution[x]!)]);
+    const nThrust = curves.thrust[x]!;
+    // Only where a level turn is both sustainable and flyable (the shared rule of nv-plane.ts).
+    if (nThrust !== null && inRange(nThrust)) {
       thrustRun.push([px(v), py(nThrust)]);
     } else if (thrustRun.length) {
       thrustRuns.push(thrustRun);
@@ -165,15 +167,16 @@ export function buildPlotModel(input: PlotInput): PlotModel {
   const yStruct = py(aircraft.nLimitPos);
   model.polylines.push({
     name: 'structure',
-    tone: 'warning',
+    tone: NV_LINES.structure.tone,
     points: [
       [area.left, yStruct],
       [area.left + area.width - 1, yStruct],
     ],
   });
-  model.polylines.push({ name: 'stall-caution', tone: 'caution', dotEvery: 3, points: stallCaution });
-  for (const run of thrustRuns) model.polylines.push({ name: 'thrust', tone: 'caution', points: run });
-  model.polylines.push({ name: 'stall', tone: 'warning', points: stall });
+  const { stallCaution: sc, thrust: th, stall: st } = NV_LINES;
+  model.polylines.push({ name: 'stall-caution', tone: sc.tone, dotEvery: sc.dotEvery!, points: stallCaution });
+  for (const run of thrustRuns) model.polylines.push({ name: 'thrust', tone: th.tone, points: run });
+  model.polylines.push({ name: 'stall', tone: st.tone, points: stall });
 
   // Ticks and labels: n on the left, speed in the chosen unit along the bottom.
   const yStep = niceStep(yMax - yMin, Math.max(2, Math.floor(input.rows / 3)));
@@ -250,7 +253,7 @@ export function buildPlotModel(input: PlotInput): PlotModel {
     const { tasMps, n, level } = input.current;
     const x = px(tasMps);
     const y = py(n);
-    const tone: Tone = input.stale ? 'stale' : level === 'warning' ? 'warning' : level === 'caution' ? 'caution' : 'ok';
+    const tone: Tone = input.stale ? 'stale' : LEVEL_MARKS[level].tone;
     model.marker = { x, y, tone };
     const word = input.stale ? 'STALE' : level === 'normal' ? 'now' : level.toUpperCase();
     const label = `◀ ${word}${n < yMin ? ' n<0' : ''}`;

@@ -391,7 +391,7 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
 
     const badFormat = await runCli(['review', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--format', 'pdf']);
     expect(badFormat.code).toBe(2);
-    expect(badFormat.stderr).toContain('--format must be one of md, json, csv (got "pdf")');
+    expect(badFormat.stderr).toContain('--format must be one of md, json, csv, html (got "pdf")');
 
     const badSmooth = await runCli(['review', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', 'fast']);
     expect(badSmooth.code).toBe(2);

@@ -16,6 +16,7 @@ import { readFramePackedBatches, type ReadFrameOptions } from '../../decode/read
 import { feedPackedBatch } from '../review-worker.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from '../../report/review-report.js';
+import { htmlFlightFrom, nvPlotInputFrom, renderHtmlReport } from '../../report/html-report.js';
 import {
   choiceOption,
   numberOption,
@@ -69,7 +70,7 @@ export const spec: CommandSpec = {
   name: 'review',
   summary: 'report the limit events, peaks and time in each alert level of a recorded flight',
   usage:
-    'turnmargin review FILE --aircraft FILE [--format md|json|csv] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+    'turnmargin review FILE --aircraft FILE [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
     {
@@ -77,8 +78,16 @@ export const spec: CommandSpec = {
       type: 'string',
       valueName: 'FORMAT',
       defaultText: 'md',
-      description: 'report format: md (for a flight-test record), json, or csv (one row per event)',
+      description:
+        'report format: md (for a flight-test record), json, csv (one row per event), or html (one self-contained page with time histories and the n–V plane, printable)',
     },
+    {
+      name: 'out',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'write the report to this file instead of standard output (refused if it exists, unless --force)',
+    },
+    { name: 'force', type: 'boolean', description: 'overwrite an existing --out file' },
     {
       name: 'per-frame',
       type: 'string',
@@ -285,16 +294,18 @@ export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRe
 
 export async function run(args: ParsedArgs): Promise<number> {
   const input = parseFlightInput(args, 'review');
-  const format = choiceOption(args, 'format', ['md', 'json', 'csv'] as const, 'md');
+  const format = choiceOption(args, 'format', ['md', 'json', 'csv', 'html'] as const, 'md');
   const perFramePath = stringOption(args, 'per-frame');
   const plotPath = stringOption(args, 'plot');
+  const outPath = stringOption(args, 'out');
   const force = args.values['force'] === true;
-  if (force && perFramePath === undefined && plotPath === undefined)
-    throw new UsageError('--force applies to --per-frame and --plot only', 'review');
+  if (force && perFramePath === undefined && plotPath === undefined && outPath === undefined)
+    throw new UsageError('--force applies to --per-frame, --plot and --out only', 'review');
   if (perFramePath !== undefined)
     checkOutputPath({ option: 'per-frame', path: perFramePath, force, inputs: inputFilesOf(args) });
   if (plotPath !== undefined)
     checkOutputPath({ option: 'plot', path: plotPath, force, inputs: inputFilesOf(args), extension: '.svg' });
+  if (outPath !== undefined) checkOutputPath({ option: 'out', path: outPath, force, inputs: inputFilesOf(args) });
 
   const perFrame = perFramePath !== undefined ? createOutputFile(perFramePath) : undefined;
   let review: FlightReview;
@@ -307,14 +318,7 @@ export async function run(args: ParsedArgs): Promise<number> {
 
   const ctx: ReviewContext = { source: input.file, aircraft: input.aircraft, aircraftFile: input.aircraftFile };
   if (plotPath !== undefined) {
-    const svg = renderNvPlotSvg({
-      aircraft: input.aircraft,
-      densityKgM3: review.conditions.medianDensityKgM3!,
-      massKg: review.conditions.medianMassKg!,
-      points: review.plotPoints,
-      pointsOf: review.plotPointsOf,
-      source: basename(input.file),
-    });
+    const svg = renderNvPlotSvg({ ...nvPlotInputFrom(review, ctx), source: basename(input.file) });
     const writer = createOutputFile(plotPath);
     writer.write(svg);
     writer.commit();
@@ -325,7 +329,25 @@ export async function run(args: ParsedArgs): Promise<number> {
       ? JSON.stringify(reviewToJson(review, ctx), null, 2) + '\n'
       : format === 'csv'
         ? reviewToCsv(review)
-        : reviewToMarkdown(review, ctx);
-  process.stdout.write(text);
+        : format === 'html'
+          ? renderHtmlReport({ flights: [htmlFlightFrom(review, ctx)], command: reviewCommandLine(args) })
+          : reviewToMarkdown(review, ctx);
+  if (outPath !== undefined) {
+    const writer = createOutputFile(outPath);
+    writer.write(text);
+    writer.commit();
+  } else {
+    process.stdout.write(text);
+  }
   return EXIT_OK;
+}
+
+/** The command as a user would type it again (file names only: no machine paths in the report). */
+function reviewCommandLine(args: ParsedArgs): string {
+  const parts = ['turnmargin review', ...args.positionals.map((p) => basename(p))];
+  for (const [name, value] of Object.entries(args.values)) {
+    if (value === undefined || value === false || name === 'force') continue;
+    parts.push(value === true ? `--${name}` : `--${name} ${basename(String(value))}`);
+  }
+  return parts.join(' ');
 }

@@ -1,0 +1,302 @@
+/**
+ * Time histories of a flight for drawing, in bounded memory whatever the flight's length: every series is kept as
+ * the minimum and the maximum of each time bucket (with the times at which they occurred), so no peak disappears
+ * when a long flight is reduced. There are at most MAX_BUCKETS buckets; when the flight outgrows them the bucket
+ * width doubles and neighbouring buckets merge, so the length need not be known in advance. Breaks in the data
+ * (gaps, clock restarts, link losses) and the alert levels on are kept per bucket too. Pure: the reviewer feeds
+ * margin records in order.
+ */
+import type { MarginRecord } from './margin-record.js';
+
+/** Buckets kept at most: two points (min and max) each, so at most 2 000 points per series. */
+export const MAX_BUCKETS = 1000;
+/** The first bucket width, s (halved no further: 1/1024 s is finer than any telemetry rate the tool takes). */
+const FIRST_BUCKET_S = 1 / 1024;
+
+export type SeriesName =
+  | 'u_stall'
+  | 'u_thrust'
+  | 'u_structure'
+  | 'u_speed'
+  | 'tas_mps'
+  | 'cas_mps'
+  | 'n_measured'
+  | 'n_from_bank'
+  | 'bank_deg'
+  | 'alt_m'
+  | 'ps_mps'
+  | 'ps_model_mps';
+
+export const SERIES_NAMES: readonly SeriesName[] = [
+  'u_stall',
+  'u_thrust',
+  'u_structure',
+  'u_speed',
+  'tas_mps',
+  'cas_mps',
+  'n_measured',
+  'n_from_bank',
+  'bank_deg',
+  'alt_m',
+  'ps_mps',
+  'ps_model_mps',
+];
+
+export type BreakKind = 'data_gap' | 'clock_restart' | 'link_lost' | 'seek' | 'other';
+const BREAK_BITS: Record<BreakKind, number> = { data_gap: 1, clock_restart: 2, link_lost: 4, seek: 8, other: 16 };
+export const BREAK_KINDS = Object.keys(BREAK_BITS) as BreakKind[];
+
+/** Alert bits per bucket: caution and warning of each limit (a warning sets its caution bit too). */
+export const ALERT_LIMITS = ['stall', 'thrust', 'structure', 'speed'] as const;
+export type AlertLimit = (typeof ALERT_LIMITS)[number];
+export function alertBit(limit: AlertLimit, level: 'caution' | 'warning'): number {
+  return 1 << (ALERT_LIMITS.indexOf(limit) * 2 + (level === 'warning' ? 1 : 0));
+}
+
+/** One series after reduction: per bucket min and max and their times; NaN where the bucket holds no value. */
+export interface ReducedSeries {
+  min: Float64Array;
+  max: Float64Array;
+  tMin: Float64Array;
+  tMax: Float64Array;
+  /** Values seen (frames where the series was defined). */
+  count: number;
+}
+
+export interface TimeHistory {
+  /** Time of the first frame on the drawing axis, s, and the bucket width, s. */
+  t0S: number;
+  bucketS: number;
+  /** Buckets in use (the last one holds the last frame). */
+  buckets: number;
+  /** Frames pushed. */
+  frames: number;
+  /** Last time on the drawing axis, s. */
+  lastS: number;
+  /** Present only for series that had at least one value. */
+  series: Partial<Record<SeriesName, ReducedSeries>>;
+  /** Per bucket: the OR of BREAK_BITS of the breaks just before a frame of the bucket. */
+  breaks: Uint8Array;
+  breakCounts: Record<BreakKind, number>;
+  /** Per bucket: the OR of alertBit() of the alerts on in its frames. */
+  alerts: Uint8Array;
+  /**
+   * Shift added to t_s to place a frame on the axis: 0 until a clock restart, after which the next frames are
+   * placed right after the last one (the axis never runs back). Non-zero only when the clock restarted.
+   */
+  axisShiftS: number;
+  /** Frames carrying each `assumed` flag (records without flags count nowhere). */
+  assumedFrames: Record<string, number>;
+  /** Whether the series were reduced: some bucket held more than two frames (two are both drawn). */
+  reduced: boolean;
+}
+
+export interface TimeHistoryAccumulator {
+  /** Feed the next record; `breakBefore` when a break lies between the previous frame and this one. */
+  push(rec: MarginRecord, breakBefore?: BreakKind): void;
+  finish(): TimeHistory;
+}
+
+/** Record keys that only some records carry (added by later work); read when present. */
+interface OptionalKeys {
+  cas_mps?: number | null;
+  ps_mps?: number | null;
+  ps_model_mps?: number | null;
+  assumed?: readonly string[];
+}
+
+function newSeries(): ReducedSeries {
+  const s: ReducedSeries = {
+    min: new Float64Array(MAX_BUCKETS).fill(NaN),
+    max: new Float64Array(MAX_BUCKETS).fill(NaN),
+    tMin: new Float64Array(MAX_BUCKETS).fill(NaN),
+    tMax: new Float64Array(MAX_BUCKETS).fill(NaN),
+    count: 0,
+  };
+  return s;
+}
+
+/** Merge bucket pairs (2i, 2i+1) into i: the width doubles. */
+function halve(s: ReducedSeries, used: number): void {
+  for (let i = 0; i < Math.ceil(used / 2); i++) {
+    const a = 2 * i;
+    const b = a + 1;
+    let min = s.min[a]!;
+    let tMin = s.tMin[a]!;
+    let max = s.max[a]!;
+    let tMax = s.tMax[a]!;
+    if (b < used) {
+      const bMin = s.min[b]!;
+      const bMax = s.max[b]!;
+      if (!(bMin >= min)) {
+        if (!Number.isNaN(bMin)) {
+          min = bMin;
+          tMin = s.tMin[b]!;
+        }
+      }
+      if (!(bMax <= max)) {
+        if (!Number.isNaN(bMax)) {
+          max = bMax;
+          tMax = s.tMax[b]!;
+        }
+      }
+    }
+    s.min[i] = min;
+    s.tMin[i] = tMin;
+    s.max[i] = max;
+    s.tMax[i] = tMax;
+  }
+  s.min.fill(NaN, Math.ceil(used / 2));
+  s.max.fill(NaN, Math.ceil(used / 2));
+  s.tMin.fill(NaN, Math.ceil(used / 2));
+  s.tMax.fill(NaN, Math.ceil(used / 2));
+}
+
+function orHalve(bits: Uint8Array, used: number): void {
+  for (let i = 0; i < Math.ceil(used / 2); i++) bits[i] = bits[2 * i]! | (2 * i + 1 < used ? bits[2 * i + 1]! : 0);
+  bits.fill(0, Math.ceil(used / 2));
+}
+
+export function createTimeHistory(): TimeHistoryAccumulator {
+  const series: Partial<Record<SeriesName, ReducedSeries>> = {};
+  const breaks = new Uint8Array(MAX_BUCKETS);
+  const alerts = new Uint8Array(MAX_BUCKETS);
+  const breakCounts: Record<BreakKind, number> = { data_gap: 0, clock_restart: 0, link_lost: 0, seek: 0, other: 0 };
+  const assumedFrames: Record<string, number> = {};
+  let t0S = NaN;
+  let bucketS = FIRST_BUCKET_S;
+  let used = 0;
+  let frames = 0;
+  let lastS = NaN;
+  let lastTS = NaN;
+  let axisShiftS = 0;
+  // Frames per bucket: the series are reduced once a bucket holds more than two (its min and max are drawn).
+  const frameCounts = new Uint32Array(MAX_BUCKETS);
+
+  const add = (name: SeriesName, value: number | null | undefined, bucket: number, tS: number): void => {
+    if (value === null || value === undefined || !Number.isFinite(value)) return;
+    const s = (series[name] ??= newSeries());
+    s.count += 1;
+    const min = s.min[bucket]!;
+    if (!(value >= min)) {
+      s.min[bucket] = value;
+      s.tMin[bucket] = tS;
+    }
+    const max = s.max[bucket]!;
+    if (!(value <= max)) {
+      s.max[bucket] = value;
+      s.tMax[bucket] = tS;
+    }
+  };
+
+  return {
+    push(rec, breakBefore) {
+      if (frames > 0 && rec.t_s <= lastTS) {
+        // The sender's clock ran back: keep the axis running forward from the last frame.
+        axisShiftS = lastS - rec.t_s + (lastS - t0S > 0 ? Math.min(1, (lastS - t0S) * 0.001) : 0);
+        breakBefore ??= 'clock_restart';
+      }
+      const tS = rec.t_s + axisShiftS;
+      if (frames === 0) t0S = tS;
+      let bucket = Math.floor((tS - t0S) / bucketS);
+      while (bucket >= MAX_BUCKETS) {
+        for (const s of Object.values(series)) halve(s, used);
+        orHalve(breaks, used);
+        orHalve(alerts, used);
+        for (let i = 0; i < Math.ceil(used / 2); i++)
+          frameCounts[i] = frameCounts[2 * i]! + (2 * i + 1 < used ? frameCounts[2 * i + 1]! : 0);
+        frameCounts.fill(0, Math.ceil(used / 2));
+        used = Math.ceil(used / 2);
+        bucketS *= 2;
+        bucket = Math.floor((tS - t0S) / bucketS);
+      }
+      frameCounts[bucket] = frameCounts[bucket]! + 1;
+      used = Math.max(used, bucket + 1);
+      if (breakBefore !== undefined && frames > 0) {
+        breaks[bucket] = breaks[bucket]! | BREAK_BITS[breakBefore];
+        breakCounts[breakBefore] += 1;
+      }
+      for (const a of rec.alerts) {
+        if (!(ALERT_LIMITS as readonly string[]).includes(a.limit)) continue;
+        const limit = a.limit as AlertLimit;
+        alerts[bucket] = alerts[bucket]! | alertBit(limit, a.level) | alertBit(limit, 'caution');
+      }
+      const u = rec.utilization as MarginRecord['utilization'] & { speed?: number | null };
+      const extra = rec as MarginRecord & OptionalKeys;
+      add('u_stall', u.stall, bucket, tS);
+      add('u_thrust', u.thrust, bucket, tS);
+      add('u_structure', u.structure, bucket, tS);
+      add('u_speed', u.speed, bucket, tS);
+      add('tas_mps', rec.tas_mps, bucket, tS);
+      add('cas_mps', extra.cas_mps, bucket, tS);
+      add('n_measured', rec.n_measured, bucket, tS);
+      add('n_from_bank', rec.n_from_bank, bucket, tS);
+      add('bank_deg', rec.bank_deg, bucket, tS);
+      add('alt_m', rec.alt_m, bucket, tS);
+      add('ps_mps', extra.ps_mps, bucket, tS);
+      add('ps_model_mps', extra.ps_model_mps, bucket, tS);
+      if (extra.assumed) for (const flag of extra.assumed) assumedFrames[flag] = (assumedFrames[flag] ?? 0) + 1;
+      frames += 1;
+      lastS = tS;
+      lastTS = rec.t_s;
+    },
+    finish() {
+      // Copies of the used part only: the result crosses threads and goes into reports.
+      const out: Partial<Record<SeriesName, ReducedSeries>> = {};
+      for (const name of SERIES_NAMES) {
+        const s = series[name];
+        if (!s) continue;
+        out[name] = {
+          min: s.min.slice(0, used),
+          max: s.max.slice(0, used),
+          tMin: s.tMin.slice(0, used),
+          tMax: s.tMax.slice(0, used),
+          count: s.count,
+        };
+      }
+      return {
+        t0S: frames > 0 ? t0S : 0,
+        bucketS,
+        buckets: used,
+        frames,
+        lastS: frames > 0 ? lastS : 0,
+        series: out,
+        breaks: breaks.slice(0, used),
+        breakCounts: { ...breakCounts },
+        alerts: alerts.slice(0, used),
+        axisShiftS,
+        assumedFrames: { ...assumedFrames },
+        reduced: frameCounts.some((c) => c > 2),
+      };
+    },
+  };
+}
+
+/**
+ * The points to draw for one series, in time order: per bucket its minimum and maximum, ordered by when they
+ * occurred (one point when they are the same frame). `penUp` is true on a point drawn after a break or after
+ * buckets holding no value of this series where a break lies.
+ */
+export function seriesPoints(history: TimeHistory, name: SeriesName): Array<{ tS: number; v: number; penUp: boolean }> {
+  const s = history.series[name];
+  if (!s) return [];
+  const points: Array<{ tS: number; v: number; penUp: boolean }> = [];
+  let breakPending = true;
+  for (let i = 0; i < history.buckets; i++) {
+    if (history.breaks[i]! !== 0) breakPending = true;
+    const min = s.min[i]!;
+    if (Number.isNaN(min)) continue;
+    const max = s.max[i]!;
+    const tMin = s.tMin[i]!;
+    const tMax = s.tMax[i]!;
+    if (tMin === tMax) {
+      points.push({ tS: tMin, v: min, penUp: breakPending });
+    } else if (tMin < tMax) {
+      points.push({ tS: tMin, v: min, penUp: breakPending }, { tS: tMax, v: max, penUp: false });
+    } else {
+      points.push({ tS: tMax, v: max, penUp: breakPending }, { tS: tMin, v: min, penUp: false });
+    }
+    breakPending = false;
+  }
+  return points;
+}
