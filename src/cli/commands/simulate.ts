@@ -16,12 +16,14 @@ import { numberOption, requireOption, stringOption, type CommandSpec, type Parse
 import { describeOutputError, isClosedPipe } from '../output-errors.js';
 import { EXIT_OK, EXIT_UNUSABLE, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, readJson } from '../load.js';
+import { cardToFlightPlan } from '../../sim/card-plan.js';
+import { loadCardFile } from './card.js';
 
 export const spec: CommandSpec = {
   name: 'simulate',
   summary: 'fly a turn plan with a point-mass model and emit telemetry frames',
   usage:
-    'turnmargin simulate --aircraft FILE --plan PLAN.json [--rate HZ] [--seed N]\n' +
+    'turnmargin simulate --aircraft FILE (--plan PLAN.json | --card CARD.json) [--rate HZ] [--seed N]\n' +
     '                           [--out FILE [--force] | --serial PATH [--baud N] | --pty | --ws-listen HOST:PORT]\n' +
     '                           [--speed X] [--loop] [--quiet]',
   options: [
@@ -31,6 +33,12 @@ export const spec: CommandSpec = {
       type: 'string',
       valueName: 'FILE',
       description: 'flight plan (JSON): start state and segments (see below); required',
+    },
+    {
+      name: 'card',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'fly a test card (JSON from `turnmargin card`) in its order instead of a plan',
     },
     { name: 'rate', type: 'string', valueName: 'HZ', unit: 'Hz', defaultText: '10', description: 'frame rate' },
     {
@@ -114,6 +122,12 @@ const DEFAULT_BAUD = 57600;
 function loadPlanFile(path: string): FlightPlan {
   const json = readJson(path, 'plan');
   const result = parseFlightPlan(json, basename(path));
+  if (!result.ok) throw new InputError(result.problems);
+  return result.value;
+}
+
+function loadCardPlan(path: string, aircraft: Aircraft): FlightPlan {
+  const result = cardToFlightPlan(loadCardFile(path, aircraft), aircraft, { name: basename(path) });
   if (!result.ok) throw new InputError(result.problems);
   return result.value;
 }
@@ -421,7 +435,10 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0)
     throw new UsageError(`unexpected argument "${args.positionals[0]}" (the plan is given with --plan FILE)`);
   const aircraft = loadAircraftFile(requireOption(args, 'aircraft'));
-  const plan = loadPlanFile(requireOption(args, 'plan'));
+  const cardPath = stringOption(args, 'card');
+  if (cardPath !== undefined && args.values['plan'] !== undefined)
+    throw new UsageError('give --plan or --card, not both');
+  const plan = cardPath !== undefined ? loadCardPlan(cardPath, aircraft) : loadPlanFile(requireOption(args, 'plan'));
   const rateHz = numberOption(args, 'rate', DEFAULT_RATE_HZ, { above: 0, max: 1000 });
   const seed = numberOption(args, 'seed', 1, { integer: true, min: 0, max: 4294967295 });
   const speed = numberOption(args, 'speed', 1, { above: 0, max: 1000 });
@@ -449,7 +466,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (args.values['force'] && out === undefined) throw new UsageError('--force applies to --out only');
   if (args.values['allow-remote'] && wsListen === undefined)
     throw new UsageError('--allow-remote applies to --ws-listen only');
-  for (const option of ['aircraft', 'plan'] as const) {
+  for (const option of ['aircraft', 'plan', 'card'] as const) {
     const input = stringOption(args, option);
     if (out !== undefined && input !== undefined && resolvePath(input) === resolvePath(out)) {
       throw new UsageError(`--out ${out} is the --${option} file: writing there would overwrite it`);
