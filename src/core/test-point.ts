@@ -99,6 +99,7 @@ function extendHold(h: Hold, r: TestPointRecord, absBank: number): void {
 }
 
 const holdLength = (h: Hold) => h.lastT - h.startT;
+const longer = (a: Hold, b: Hold) => holdLength(a) > holdLength(b) + HOLD_TIME_SLACK_S;
 
 function measuredOf(h: Hold): TestPointMeasured {
   const n = h.count;
@@ -130,8 +131,8 @@ export function createTestPointTracker(points: readonly CardPoint[]): TestPointT
 
   const keep = (i: number, h: Hold) => {
     const b = best[i];
-    // The longest hold wins; of two equally long the first is kept.
-    if (b === null || b === undefined || holdLength(h) > holdLength(b)) best[i] = h;
+    // The longest hold wins; of two equally long (within the rounding slack) the first is kept.
+    if (b === null || b === undefined || longer(h, b)) best[i] = h;
   };
   const closeAll = () => {
     open.forEach((h, i) => {
@@ -169,7 +170,7 @@ export function createTestPointTracker(points: readonly CardPoint[]): TestPointT
       return points.map((p, i) => {
         let h = best[i] ?? null;
         const o = open[i];
-        if (o && (h === null || holdLength(o) > holdLength(h))) h = o;
+        if (o && (h === null || longer(o, h))) h = o;
         const longest = h ? holdLength(h) : 0;
         const status: TestPointStatus =
           longest >= p.hold_s - HOLD_TIME_SLACK_S ? 'achieved' : longest > 0 ? 'partial' : 'not_flown';
