@@ -102,12 +102,17 @@ export const spec: CommandSpec = {
       '                "vertical_speed_mps"? makes it a climbing or descending turn\n' +
       '  speed_change  "to_tas_mps" (autothrottle, idle to full thrust, no airbrake); "bank_deg"?\n' +
       '  pull_up       wings level at "load_factor"\n' +
+      '  glide         throttle 0, the path holds "tas_mps"? (default: the entry speed) by descending; "bank_deg"?\n' +
       'Any segment: "label" (written as "segment" in each frame), and "throttle" (0…1 of the thrust available)\n' +
       'or "tas_mps" (speed to hold); by default the autothrottle holds the speed the segment began with.',
     "The model: a point mass with dV/dt = (T − D)/m − g·sin γ, the airframe's thrust model and drag polar at the\n" +
       'flown CL = n·W/(q·S), density from ISA at the flown altitude, a simple autopilot (roll-rate-limited bank,\n' +
       'load factor to hold the vertical path, autothrottle), lift capped at CLmax. Frames carry t_s, the airspeed,\n' +
-      'alt_m, bank_deg, nz (with seeded noise on nz and on the airspeed), heading_deg and segment.',
+      'alt_m, bank_deg, nz (with seeded noise on nz and on the airspeed), heading_deg, throttle (fraction of the\n' +
+      'thrust available in use), segment and "simulated": true.',
+    'With --card, the points of a test card (`turnmargin card --format json`) are flown in order: straight at the\n' +
+      "target speed, roll in, hold hold_s + 1 s (full throttle where the card's turn is not sustainable: the speed\n" +
+      'bleeds), roll out; each frame carries segment = the point id.',
     'The model ignores: pitch dynamics (the load factor changes at once), sideslip and uncoordinated flight, wind\n' +
       'and turbulence, the stall itself (the wing holds CLmax instead of departing), engine and propeller lag,\n' +
       "battery or fuel mass change, ground effect and the Earth's curvature. It is a test stimulus, not a flight\n" +
