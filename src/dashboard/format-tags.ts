@@ -75,6 +75,17 @@ const COLOR_TAGS: Record<Tone, [string, string]> = {
   'banner-idle': ['{inverse}', '{/inverse}'],
 };
 
+// 8-colour terminals have no grey: blessed reduces it to black (SGR 30), unreadable on a dark background, so dim
+// text stays plain there; banners use inverse video in the banner's colour rather than black text on it.
+const EIGHT_COLOR_TAGS: Record<Tone, [string, string]> = {
+  ...COLOR_TAGS,
+  dim: ['', ''],
+  'banner-normal': ['{green-fg}{inverse}', '{/inverse}{/green-fg}'],
+  'banner-caution': ['{yellow-fg}{inverse}{bold}', '{/bold}{/inverse}{/yellow-fg}'],
+  'banner-warning': ['{red-fg}{inverse}{bold}', '{/bold}{/inverse}{/red-fg}'],
+  'banner-stale': ['{magenta-fg}{inverse}{bold}', '{/bold}{/inverse}{/magenta-fg}'],
+};
+
 // Without colour, emphasis only: bold for anything that needs attention, inverse for the alert banner so it still
 // reads as a block from across the room. The words themselves carry the state.
 const MONO_TAGS: Record<Tone, [string, string]> = {
@@ -101,11 +112,18 @@ export function escapeTags(text: string): string {
 export interface RenderOptions {
   /** false under NO_COLOR: no colour tags at all. */
   color: boolean;
+  /** Colours the terminal has (terminfo max_colors); 8 or fewer: no grey, no black text. Default 256. */
+  colors?: number;
+}
+
+function tagsFor(options: RenderOptions): Record<Tone, [string, string]> {
+  if (!options.color) return MONO_TAGS;
+  return (options.colors ?? 256) <= 8 ? EIGHT_COLOR_TAGS : COLOR_TAGS;
 }
 
 /** One line as blessed tagged text. */
 export function renderLine(line: Line, options: RenderOptions): string {
-  const tags = options.color ? COLOR_TAGS : MONO_TAGS;
+  const tags = tagsFor(options);
   return line
     .map((s) => {
       const [open, close] = tags[s.tone];

@@ -6,6 +6,8 @@
 import blessed from 'blessed';
 import contrib from 'blessed-contrib';
 import type { Aircraft } from '../core/aircraft.js';
+import { isaPressurePa } from '../core/atmosphere.js';
+import { vneTasMps } from '../core/performance.js';
 import type { LimitEvent } from '../core/events.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { AlertThresholds } from '../core/thresholds.js';
@@ -40,8 +42,10 @@ export interface DashboardControls {
 export interface Dashboard {
   pushRecord(rec: MarginRecord): void;
   pushEvent(ev: LimitEvent): void;
+  /** Replace the exceedance list (after a replay sought back: the events of the data up to the target). */
+  resetEvents(events: readonly LimitEvent[]): void;
   setLink(h: LinkHealth): void;
-  setReplay(s: { positionS: number; lengthS: number; speed: number; paused: boolean }): void;
+  setReplay(s: ReplayStatus): void;
   showError(message: string): void;
   /** Restores the terminal. Safe to call more than once. */
   destroy(): void;
@@ -104,6 +108,8 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     warnings: false,
     title: 'turnmargin',
   });
+  // terminfo's max_colors: on 8-colour terminals grey becomes black, so dim tones are drawn differently.
+  const colors = (screen as unknown as { tput?: { colors?: number } }).tput?.colors ?? 256;
 
   const panel = (): blessed.Widgets.BoxElement =>
     blessed.box({ tags: true, border: { type: 'line' }, style: { border: {} }, wrap: false });
@@ -142,6 +148,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
   const trail = createTrail();
   const eventsByKey = new Map<string, LimitEvent>();
   let record: MarginRecord | null = null;
+  let sawSimulated = false;
   let lastRecordAtMs: number | null = null;
   let linkHealth: LinkHealth | null = null;
   let replay: ReplayStatus | null = null; // until the caller's first setReplay
@@ -187,7 +194,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     el.setLabel(` ${p.title} `);
     const style = el.style as { border: { fg?: string } };
     style.border.fg = color ? BORDER_COLOR[p.tone] : undefined;
-    el.setContent(renderLines(p.lines, { color }));
+    el.setContent(renderLines(p.lines, { color, colors }));
   };
 
   const drawPlot = (input: ScreenInput, stale: boolean): void => {
@@ -198,7 +205,11 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     surface.colors = new Array(surface.colors.length);
     surface.chars = new Array(surface.chars.length);
     if (record !== null) {
-      const now = { densityKgM3: record.density_kg_m3, massKg: record.mass_kg };
+      const now = {
+        densityKgM3: record.density_kg_m3,
+        massKg: record.mass_kg,
+        vneTasMps: vneTasMps(options.aircraft, isaPressurePa(record.alt_m), record.temperature_k),
+      };
       if (isMaterialChange(drawn, now)) drawn = now;
     }
     const model = buildPlotModel({
@@ -215,7 +226,8 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       cols: surface.width / 2,
       rows: surface.height / 4,
     });
-    const paint = (tone: Tone): string | number => (color ? CANVAS_COLOR[tone] : 'normal');
+    const paint = (tone: Tone): string | number =>
+      !color ? 'normal' : tone === 'dim' && colors <= 8 ? 'white' : CANVAS_COLOR[tone];
     for (const line of model.polylines) {
       surface.color = paint(line.tone);
       for (const [x, y] of rasterizePolyline(line.points, line.dotEvery)) surface.set(x, y);
@@ -257,11 +269,13 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       units,
       muted,
       error,
+      // Once a frame said it was simulated, the whole session is marked (a simulator never stops saying it).
+      simulated: sawSimulated,
     };
     const model = buildScreenModel(input, layout);
-    banner.setContent(renderLines(model.banner, { color }));
+    banner.setContent(renderLines(model.banner, { color, colors }));
     if (model.tooSmall) {
-      tooSmall.setContent(renderLines(model.tooSmall, { color }));
+      tooSmall.setContent(renderLines(model.tooSmall, { color, colors }));
     } else {
       setPanel(margins, model.margins);
       setPanel(readouts, model.readouts);
@@ -271,11 +285,11 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       const plotStyle = plot.style as { border: { fg?: string } };
       plotStyle.border.fg = color && model.stale ? BORDER_COLOR.stale : undefined;
       drawPlot(input, model.stale);
-      keys.setContent(renderLine(model.keys, { color }));
-      caution.setContent(renderLine(model.caution, { color }));
+      keys.setContent(renderLine(model.keys, { color, colors }));
+      caution.setContent(renderLine(model.caution, { color, colors }));
     }
     if (helpVisible) {
-      help.setContent(renderLines(model.help as Line[], { color }));
+      help.setContent(renderLines(model.help as Line[], { color, colors }));
       help.show();
       help.setFront();
     } else {
@@ -318,16 +332,6 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     render();
   });
 
-  // An exception anywhere while the dashboard is up: restore the terminal first, then print the error.
-  const onFatal = (err: unknown): void => {
-    destroy();
-    const text = err instanceof Error ? (err.stack ?? err.message) : String(err);
-    process.stderr.write(`turnmargin: unexpected error: ${text}\n`);
-    process.exit(2);
-  };
-  process.on('uncaughtException', onFatal);
-  process.on('unhandledRejection', onFatal);
-
   const timer = setInterval(render, RENDER_PERIOD_MS);
 
   function destroy(): void {
@@ -335,8 +339,6 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     destroyed = true;
     clearInterval(timer);
     if (pendingRender) clearTimeout(pendingRender);
-    process.removeListener('uncaughtException', onFatal);
-    process.removeListener('unhandledRejection', onFatal);
     screen.destroy();
   }
 
@@ -349,6 +351,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       if (rec.level === 'warning' && newWarnings(record?.alerts ?? [], rec.alerts).length > 0) bellPending = true;
       if (record !== null && rec.t_s < record.t_s) drawn = null;
       record = rec;
+      if ((rec as { simulated?: boolean }).simulated === true) sawSimulated = true;
       lastRecordAtMs = performance.now();
       trail.push({ tS: rec.t_s, tasMps: rec.tas_mps, n: rec.n_measured });
     },
@@ -357,6 +360,11 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       // shows it growing without a push per frame.
       eventsByKey.set(`${ev.limit}:${ev.level}:${ev.start_s}`, ev);
       if (eventsByKey.size > MAX_EVENTS) eventsByKey.delete(eventsByKey.keys().next().value!);
+    },
+    resetEvents(list) {
+      eventsByKey.clear();
+      for (const ev of list.slice(-MAX_EVENTS)) eventsByKey.set(`${ev.limit}:${ev.level}:${ev.start_s}`, ev);
+      requestRender();
     },
     setLink(h) {
       linkHealth = h;

@@ -4,7 +4,8 @@
  * draws what this returns.
  */
 import { alertThreshold } from '../core/alerts.js';
-import type { LimitEvent } from '../core/events.js';
+import type { EndedBy, LimitEvent } from '../core/events.js';
+import type { ReplayState } from '../sources/source.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { LimitName } from '../core/performance.js';
 import type { AlertThresholds } from '../core/thresholds.js';
@@ -22,6 +23,8 @@ import {
   formatPercent,
   formatSigned,
   formatSpeed,
+  speedFromMps,
+  speedUnitLabel,
   type SpeedUnit,
 } from './format-units.js';
 import { innerSize, type DashboardLayout } from './layout.js';
@@ -29,12 +32,8 @@ import { innerSize, type DashboardLayout } from './layout.js';
 /** After this long without a frame the data are marked STALE, s (issue contract). */
 export const STALE_AFTER_S = 1;
 
-export interface ReplayStatus {
-  positionS: number;
-  lengthS: number;
-  speed: number;
-  paused: boolean;
-}
+/** The replay transport's state (one type from the replay stage to the screen). */
+export type ReplayStatus = ReplayState;
 
 export interface ScreenInput {
   aircraftName: string;
@@ -52,6 +51,8 @@ export interface ScreenInput {
   units: SpeedUnit;
   muted: boolean;
   error: string | null;
+  /** The frames say they come from a simulator ("simulated": true). */
+  simulated?: boolean;
 }
 
 export interface Panel {
@@ -94,6 +95,12 @@ function centre(text: string, width: number): string {
 }
 
 export function buildBannerText(input: ScreenInput, stale: boolean): { tone: Tone; text: string } {
+  const { tone, text } = buildBannerState(input, stale);
+  // First, so that a narrow banner never cuts it off: nobody must take simulated data for a flight.
+  return { tone, text: input.simulated ? `SIMULATED DATA · ${text}` : text };
+}
+
+function buildBannerState(input: ScreenInput, stale: boolean): { tone: Tone; text: string } {
   const rec = input.record;
   const flags: string[] = [];
   if (input.replay?.paused) flags.push('PAUSED');
@@ -225,7 +232,12 @@ export function buildReadoutLines(input: ScreenInput, stale: boolean, width: num
     );
   }
   const u = input.units;
-  lines.push(pair('TAS  ', formatSpeed(rec.tas_mps, u), 'EAS  ', formatSpeed(rec.eas_mps, u), t, width));
+  const cas = (rec as MarginRecord & { cas_mps?: number | null }).cas_mps;
+  lines.push(
+    cas === undefined
+      ? pair('TAS  ', formatSpeed(rec.tas_mps, u), 'EAS  ', formatSpeed(rec.eas_mps, u), t, width)
+      : pair('TAS  ', formatSpeed(rec.tas_mps, u), 'CAS  ', formatSpeed(cas, u), t, width),
+  );
   lines.push(
     pair('alt  ', `${formatFixed(rec.alt_m, 0)} m`, 'ρ    ', `${formatFixed(rec.density_kg_m3, 3)} kg/m³`, t, width),
   );
@@ -253,22 +265,46 @@ export function buildReadoutLines(input: ScreenInput, stale: boolean, width: num
     nLine.push(seg(word, stale ? 'stale' : rec.uncoordinated ? 'caution' : 'ok'));
   }
   lines.push(fitLine(nLine, width));
+  const stallCas = stallSpeedCasMps(rec);
   lines.push(
-    pair(
-      'radius ',
-      rec.radius_m === null ? '—' : `${formatFixed(rec.radius_m, 0)} m`,
-      'stall V ',
-      formatSpeed(rec.stall_speed_mps, u),
-      t,
+    fitLine(
+      [
+        seg('stall V ', 'dim'),
+        seg('TAS ', 'dim'),
+        seg(formatSpeed(rec.stall_speed_mps, u), t),
+        seg('  CAS ', 'dim'),
+        seg(formatSpeed(stallCas, u), t),
+      ],
       width,
     ),
   );
   lines.push(pair('bank limit ', deg(rec.bank_limit_deg, 0), 'sustained ', deg(rec.bank_sustained_deg, 0), t, width));
-  lines.push(pair('mass ', `${formatFixed(rec.mass_kg, 2)} kg`, 'CL   ', formatFixed(rec.cl, 2), t, width));
   lines.push(
-    pair('nz   ', formatFixed(rec.nz, 2), 'temp ', `${formatFixed(rec.temperature_k - 273.15, 1)} °C`, t, width),
+    pair(
+      'radius ',
+      rec.radius_m === null ? '—' : `${formatFixed(rec.radius_m, 0)} m`,
+      'CL   ',
+      formatFixed(rec.cl, 2),
+      t,
+      width,
+    ),
+  );
+  lines.push(pair('mass ', `${formatFixed(rec.mass_kg, 2)} kg`, 'nz   ', formatFixed(rec.nz, 2), t, width));
+  lines.push(
+    pair('temp ', `${formatFixed(rec.temperature_k - 273.15, 1)} °C`, 'EAS  ', formatSpeed(rec.eas_mps, u), t, width),
   );
   return lines.slice(0, Math.max(0, height));
+}
+
+/**
+ * The stall speed as a calibrated airspeed (what the airspeed indicator and V_NE are read in): the record's own
+ * when it has one, else the TAS scaled by the frame's CAS/TAS ratio (the same pressure and temperature).
+ */
+export function stallSpeedCasMps(rec: MarginRecord): number | null {
+  const r = rec as MarginRecord & { stall_speed_cas_mps?: number | null; cas_mps?: number | null };
+  if (r.stall_speed_cas_mps !== undefined) return r.stall_speed_cas_mps;
+  if (rec.stall_speed_mps === null || r.cas_mps === undefined || r.cas_mps === null || !(rec.tas_mps > 0)) return null;
+  return (rec.stall_speed_mps * r.cas_mps) / rec.tas_mps;
 }
 
 const LINK_STATE_TONE: Record<LinkState, Tone> = {
@@ -287,7 +323,13 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
   } else {
     // A paused replay sends no frames on purpose: say so rather than "stale".
     const pausedReplay = input.replay?.paused === true && (link.state === 'stale' || link.state === 'live');
-    const stateWord = pausedReplay ? 'PAUSED' : stale && link.state === 'live' ? 'STALE' : link.state.toUpperCase();
+    const stateWord = pausedReplay
+      ? 'PAUSED'
+      : stale && link.state === 'live'
+        ? 'STALE'
+        : link.state === 'live' && input.isReplay
+          ? 'REPLAY' // frames from a file, not a live link
+          : link.state.toUpperCase();
     const stateTone: Tone = pausedReplay
       ? 'caution'
       : stale && link.state === 'live'
@@ -334,7 +376,7 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
         fitLine(
           [
             seg('replay ', 'dim'),
-            seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS)}`),
+            seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS ?? 0)}`),
             seg(` ×${r.speed === 0 ? 'max' : formatSpeedFactor(r.speed)} `),
             r.paused ? seg('PAUSED', 'caution') : link?.state === 'ended' ? seg('at end', 'dim') : seg('playing', 'ok'),
           ],
@@ -383,7 +425,30 @@ export function formatSpeedFactor(speed: number): string {
   return Number.isInteger(speed) ? String(speed) : String(Number(speed.toPrecision(3)));
 }
 
-/** Event log, newest first: time, limit, level, duration, peak and the speed at the peak. */
+/** How an event ended, in words: full, and short for a narrow list. */
+const ENDED_WORDS: Record<EndedBy, [string, string]> = {
+  cleared: ['cleared', 'clear'],
+  data_gap: ['data lost (gap)', 'gap'],
+  link_lost: ['link lost', 'lost'],
+  seek: ['replay seek', 'seek'],
+  clock_restart: ['clock restart', 'restart'],
+  end_of_data: ['end of data', 'end'],
+};
+
+export function endedWord(ev: LimitEvent, narrow: boolean): string {
+  if (ev.open) return '';
+  const by = ev.ended_by;
+  if (by === null) return '';
+  return ENDED_WORDS[by][narrow ? 1 : 0];
+}
+
+const NARROW_EVENTS_WIDTH = 60;
+const SHORT_LIMIT: Record<string, string> = { structure: 'STRUCT' };
+
+/**
+ * Event log, newest first: time, limit, level, duration, peak, the speed at the peak and how the event ended.
+ * Below 60 columns (the 80×24 screen) the columns shrink so the speed and the end still fit.
+ */
 export function buildEventLines(input: ScreenInput, width: number, height: number): Line[] {
   const lines: Line[] = [];
   if (input.error) lines.push(fitLine([seg('ERROR ', 'warning'), seg(input.error, 'warning')], width));
@@ -391,13 +456,56 @@ export function buildEventLines(input: ScreenInput, width: number, height: numbe
     lines.push(fitLine([seg('no exceedances so far', 'dim')], width));
     return lines.slice(0, Math.max(0, height));
   }
-  lines.push(fitLine([seg('  start limit     level   duration peak   at TAS', 'dim')], width));
+  const narrow = width < NARROW_EVENTS_WIDTH;
+  const unit = speedUnitLabel(input.units);
+  lines.push(
+    fitLine(
+      [
+        seg(
+          narrow
+            ? `start limit  lvl    dur peak ${unit.padStart(4)} ended`
+            : `  start limit     level   duration peak   at TAS    ended`,
+          'dim',
+        ),
+      ],
+      width,
+    ),
+  );
   const newestFirst = [...input.events].sort((a, b) => b.start_s - a.start_s || (a.level === 'warning' ? -1 : 1));
   for (const ev of newestFirst) {
     if (lines.length >= height) break;
     const tone = levelTone(ev.level);
+    const peakU = Number.isFinite(ev.peak_utilization) ? ev.peak_utilization : null;
+    if (narrow) {
+      const dur = ev.open ? 'ON' : `${formatFixed(ev.duration_s, 1)}s`;
+      const peak = peakU === null ? 'nsus' : `${Math.round(peakU * 100)}%`;
+      const limit = (SHORT_LIMIT[ev.limit] ?? limitWord(ev.limit)).slice(0, 6);
+      lines.push(
+        fitLine(
+          [
+            seg(formatClock(ev.start_s).replace(/\.\d$/, '').padStart(5)),
+            seg(' '),
+            seg(limit.padEnd(6), tone),
+            seg(' '),
+            seg(levelWord(ev.level).slice(0, 4), tone),
+            seg(' '),
+            seg(dur.padStart(6), ev.open ? tone : 'plain'),
+            seg(' '),
+            seg(peak.padStart(4)),
+            seg(' '),
+            seg(
+              formatFixed(speedFromMps(ev.speed_at_peak_mps, input.units), input.units === 'kmh' ? 0 : 1).padStart(4),
+            ),
+            seg(' '),
+            seg(endedWord(ev, true), 'dim'),
+          ],
+          width,
+        ),
+      );
+      continue;
+    }
     const dur = ev.open ? 'ON NOW' : `${formatFixed(ev.duration_s, 1)} s`;
-    const peak = Number.isFinite(ev.peak_utilization) ? formatPercent(ev.peak_utilization) : 'no sust';
+    const peak = peakU === null ? 'no sust' : formatPercent(peakU);
     lines.push(
       fitLine(
         [
@@ -411,7 +519,9 @@ export function buildEventLines(input: ScreenInput, width: number, height: numbe
           seg(' '),
           seg(peak.padStart(6)),
           seg(' '),
-          seg(formatSpeed(ev.speed_at_peak_mps, input.units)),
+          seg(formatSpeed(ev.speed_at_peak_mps, input.units).padEnd(9)),
+          seg(' '),
+          seg(endedWord(ev, false), 'dim'),
         ],
         width,
       ),
@@ -468,7 +578,8 @@ export function buildHelpLines(input: ScreenInput, width: number): Line[] {
 
 /** A panel title cut to fit its border (blessed would wrap a long label into the panel). */
 export function fitTitle(title: string, panelWidth: number): string {
-  const room = Math.max(0, panelWidth - 4);
+  // blessed draws the label from column 2 with a space either side; keep one border cell before the corner.
+  const room = Math.max(0, panelWidth - 6);
   return Array.from(title).length <= room ? title : fitText(title, room);
 }
 
@@ -499,7 +610,10 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
       lines: buildReadoutLines(input, stale, readoutsInner.width, readoutsInner.height),
     },
     link: {
-      title: `Link: ${fitPathTail(input.sourceLabel, Math.max(4, layout.link.width - 12))}`,
+      title: fitTitle(
+        `Link: ${fitPathTail(input.sourceLabel, Math.max(4, layout.link.width - 12))}`,
+        layout.link.width,
+      ),
       tone: stale ? 'stale' : input.link?.state === 'lost' ? 'warning' : 'plain',
       lines: buildLinkLines(input, stale, linkInner.width, linkInner.height),
     },

@@ -24,7 +24,7 @@ export interface PtyScreen {
 export function runInPty(
   file: string,
   args: string[],
-  opts: { cols: number; rows: number; env?: Record<string, string>; cwd?: string },
+  opts: { cols: number; rows: number; env?: Record<string, string>; cwd?: string; termName?: string },
 ): PtyScreen {
   const term = new Terminal({ cols: opts.cols, rows: opts.rows, allowProposedApi: true });
   const env: Record<string, string> = {};
@@ -33,7 +33,7 @@ export function runInPty(
   delete env['FORCE_COLOR'];
   Object.assign(env, { LANG: 'C.UTF-8', LC_ALL: 'C.UTF-8' }, opts.env ?? {});
   const child = pty.spawn(file, args, {
-    name: 'xterm-256color',
+    name: opts.termName ?? 'xterm-256color',
     cols: opts.cols,
     rows: opts.rows,
     env,

@@ -8,6 +8,7 @@ import {
   loadFactorMargin,
   type ScreenModel,
 } from '../../src/dashboard/screen-model.js';
+import type { LimitEvent } from '../../src/core/events.js';
 import { AIRCRAFT, LAYOUT_120x40, LAYOUT_80x24, event, link, screenInput, steadyRecord } from './records.js';
 
 const text = (lines: Line[]): string => lines.map(lineText).join('\n');
@@ -251,6 +252,67 @@ describe('link, replay and event log', () => {
     expect(model.events.tone).toBe('warning');
   });
 
+  it('keeps the speed at the peak and how each event ended in the 80×24 list', () => {
+    const events = [
+      event({
+        limit: 'structure',
+        start_s: 75.3,
+        duration_s: 2.25,
+        peak_utilization: 0.97,
+        speed_at_peak_mps: 24.4,
+        ended_by: 'data_gap',
+      } as Partial<LimitEvent>),
+      event({ start_s: 80, open: true, peak_utilization: 0.93, speed_at_peak_mps: 12.4 }),
+      event({ start_s: 12.5, ended_by: 'cleared' } as Partial<LimitEvent>),
+    ];
+    const model = buildScreenModel(screenInput({ record: turn45, events }), LAYOUT_80x24);
+    const width = innerSize(LAYOUT_80x24.events).width;
+    const lines = model.events.lines.map(lineText).map((l) => l.trimEnd());
+    for (const l of lines) expect(Array.from(l).length).toBeLessThanOrEqual(width);
+    expect(lines[0]).toMatch(/m\/s ended$/);
+    expect(lines[1]).toMatch(/^ 1:20 STALL +CAUT +ON +93% +12\.4$/);
+    expect(lines[2]).toMatch(/^ 1:15 STRUCT WARN|^ 1:15 STRUCT CAUT/);
+    expect(lines[2]).toMatch(/2\.3s +97% +24\.4 gap$/);
+    expect(lines[3]).toMatch(/1\.5s +86% +12\.4 clear$/);
+  });
+
+  it('says in words how an event ended on a wide screen', () => {
+    const events = [
+      event({ ended_by: 'link_lost' } as Partial<LimitEvent>),
+      event({ start_s: 1, ended_by: 'seek' } as Partial<LimitEvent>),
+    ];
+    const lines = buildScreenModel(screenInput({ record: turn45, events }), LAYOUT_120x40).events.lines.map(lineText);
+    expect(lines[1]).toMatch(/12\.4 m\/s +link lost/);
+    expect(lines[2]).toMatch(/replay seek/);
+  });
+
+  it('says REPLAY, not LIVE, in the link panel of a replay', () => {
+    const live = buildScreenModel(screenInput({ record: turn45 }), LAYOUT_80x24);
+    const replay = buildScreenModel(
+      screenInput({ record: turn45, isReplay: true, replay: { positionS: 12, lengthS: 92, speed: 1, paused: false } }),
+      LAYOUT_80x24,
+    );
+    expect(lineText(live.link.lines[0]!)).toMatch(/^LIVE /);
+    expect(lineText(replay.link.lines[0]!)).toMatch(/^REPLAY /);
+    expect(text(replay.link.lines)).not.toContain('LIVE');
+  });
+
+  it('marks simulated data in the banner, whatever the alert state', () => {
+    for (const record of [turn45, slowSteep]) {
+      const model = buildScreenModel(screenInput({ record, simulated: true }), LAYOUT_80x24);
+      expect(text(model.banner)).toMatch(/^ *SIMULATED DATA · (NORMAL|▲ WARNING)/);
+    }
+    expect(text(buildScreenModel(screenInput({ record: turn45 }), LAYOUT_80x24).banner)).not.toContain('SIMULATED');
+  });
+
+  it('gives the stall speed as TAS and as CAS', () => {
+    // CAS/TAS scales as √(ρ/ρ0) at low Mach (standard subsonic relations, REFERENCES.md); the record's ratio is used.
+    const rec = { ...turn45, cas_mps: turn45.tas_mps * 0.95 } as typeof turn45;
+    const lines = text(buildScreenModel(screenInput({ record: rec }), LAYOUT_80x24).readouts.lines);
+    const tas = turn45.stall_speed_mps!;
+    expect(lines).toContain(`stall V TAS ${tas.toFixed(1)} m/s  CAS ${(tas * 0.95).toFixed(1)} m/s`);
+  });
+
   it('shows an error from the caller at the top of the log', () => {
     const model = buildScreenModel(
       screenInput({ record: turn45, error: 'recording stopped: disk full' }),
@@ -302,12 +364,15 @@ describe('keys and layout fit', () => {
       check(model.help, innerSize(layout.help).width, innerSize(layout.help).height);
       check(model.banner, layout.cols, layout.banner.height);
       check([model.keys, model.caution], layout.cols, 2);
+      // blessed draws a label from column 2 with a space each side: title + 2 must end before the corner.
       for (const [title, rect] of [
         [model.margins.title, layout.margins],
+        [model.readouts.title, layout.readouts],
         [model.link.title, layout.link],
+        [model.events.title, layout.events],
         [model.plotTitle, layout.plot],
       ] as const) {
-        expect(Array.from(title).length).toBeLessThanOrEqual(rect.width - 4);
+        expect(Array.from(title).length).toBeLessThanOrEqual(rect.width - 6);
       }
     });
   }
