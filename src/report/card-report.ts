@@ -1,5 +1,6 @@
 /** Renderers for `turnmargin card`: JSON (the card file `simulate --card` and review read), CSV and printable Markdown. */
 import type { CardPoint, TestCard } from '../core/card.js';
+import type { TestPointResult } from '../core/test-point.js';
 import { csvRow, fixed, roundOrNull, roundTo } from './numbers.js';
 
 function pointJson(p: CardPoint): CardPoint {
@@ -121,4 +122,91 @@ export function cardToMarkdown(card: TestCard): string {
   }
   lines.push('');
   return lines.join('\n');
+}
+
+const STATUS_WORDS = { achieved: 'achieved', partial: 'partial', not_flown: 'not flown' } as const;
+
+/** The test points of a review: one row per card point, measured next to predicted. */
+export function testPointsToMarkdown(points: readonly TestPointResult[], cardName: string): string {
+  const achieved = points.filter((p) => p.status === 'achieved').length;
+  const lines = [
+    `## Test points (${cardName})`,
+    '',
+    `${achieved} of ${points.length} achieved. A point is held while |bank| and TAS stay within its tolerances; a`,
+    'break in the data ends a hold. Measured over the longest hold; predicted by the card at its conditions.',
+    '',
+    '| id | target TAS m/s | target bank ° | status | longest hold s | file | start t_s | n measured / target | TAS mean | bank mean | dV/dt measured / predicted m/s² |',
+    '|---|---|---|---|---|---|---|---|---|---|---|',
+  ];
+  for (const p of points) {
+    const m = p.measured;
+    lines.push(
+      `| ${p.id} | ${fixed(p.tas_mps, 1)} | ${fixed(p.bank_deg, 1)} | ${STATUS_WORDS[p.status]} | ${fixed(p.longest_hold_s, 1)} of ${p.hold_s} | ` +
+        `${p.file ?? '—'} | ${fixed(p.start_t_s, 1)} | ${fixed(m?.load_factor_mean, 2)} / ${fixed(p.load_factor, 2)} | ` +
+        `${fixed(m?.tas_mps_mean, 1)} | ${fixed(m?.bank_deg_mean, 1)} | ${fixed(m?.dvdt_mps2, 2)} / ${fixed(p.predicted.dvdt_mps2, 2)} |`,
+    );
+  }
+  lines.push('');
+  return lines.join('\n');
+}
+
+export const TEST_POINT_CSV_HEADER = [
+  'id',
+  'tas_mps',
+  'bank_deg',
+  'load_factor',
+  'hold_s',
+  'status',
+  'longest_hold_s',
+  'file',
+  'start_t_s',
+  'load_factor_mean',
+  'tas_mps_mean',
+  'bank_deg_mean',
+  'dvdt_mps2',
+  'utilization_peak_stall',
+  'utilization_peak_thrust',
+  'utilization_peak_structure',
+  'predicted_dvdt_mps2',
+  'predicted_sustained',
+];
+
+export function testPointsToCsv(points: readonly TestPointResult[]): string {
+  const rows = points.map((p) => {
+    const m = p.measured;
+    return csvRow([
+      p.id,
+      roundTo(p.tas_mps),
+      roundTo(p.bank_deg),
+      roundTo(p.load_factor),
+      p.hold_s,
+      p.status,
+      roundTo(p.longest_hold_s),
+      p.file,
+      roundOrNull(p.start_t_s),
+      roundOrNull(m?.load_factor_mean),
+      roundOrNull(m?.tas_mps_mean),
+      roundOrNull(m?.bank_deg_mean),
+      roundOrNull(m?.dvdt_mps2),
+      roundOrNull(m?.utilization_peak.stall),
+      roundOrNull(m?.utilization_peak.thrust),
+      roundOrNull(m?.utilization_peak.structure),
+      roundOrNull(p.predicted.dvdt_mps2),
+      p.predicted.sustained,
+    ]);
+  });
+  return [csvRow(TEST_POINT_CSV_HEADER), ...rows].join('\n') + '\n';
+}
+
+/** check's lines for a card: how many points were achieved, and each one that was not. */
+export function testPointSummary(points: readonly TestPointResult[]): string {
+  const achieved = points.filter((p) => p.status === 'achieved').length;
+  const lines = [`test points: ${achieved} of ${points.length} achieved`];
+  for (const p of points.filter((q) => q.status !== 'achieved')) {
+    lines.push(
+      `  ${p.id} (${fixed(p.bank_deg, 1)}° at ${fixed(p.tas_mps, 1)} m/s): ${STATUS_WORDS[p.status]}` +
+        (p.status === 'partial' ? `, longest hold ${fixed(p.longest_hold_s, 1)} of ${p.hold_s} s` : ''),
+    );
+  }
+  return lines.join('\n') + '\n';
 }

@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { parseAircraft } from '../../src/core/aircraft.js';
 import { parseCard, type CardPoint, type TestCard } from '../../src/core/card.js';
-import { createMarginTracker } from '../../src/core/margins.js';
+import { createFrameEngine } from '../../src/core/frame-engine.js';
 import { createTestPointTracker } from '../../src/core/test-point.js';
 import { parseFrameLine } from '../../src/decode/frame-line.js';
 import { runCli } from '../helpers/run-cli.js';
@@ -108,8 +108,9 @@ describe('simulate --card', () => {
     const sim = await runCli(['simulate', '--aircraft', DEMO_AIRFRAME_PATH, '--card', cardPath, '--out', framesPath]);
     expect(sim.code, sim.stderr).toBe(0);
     const lines = readFileSync(framesPath, 'utf8').trim().split('\n');
-    const margins = createMarginTracker(demo);
     const points = createTestPointTracker(card.points);
+    // The one frame engine decides what a break is; the tracker hears of each one.
+    const engine = createFrameEngine(demo, {}, { dataBreak: () => points.breakHere() });
     points.startFile('reachable.ndjson');
     const segments = new Set<string>();
     for (const line of lines) {
@@ -117,7 +118,9 @@ describe('simulate --card', () => {
       expect(verdict.ok).toBe(true);
       if (!verdict.ok) continue;
       segments.add((JSON.parse(line) as { segment: string }).segment);
-      points.push(margins.push(verdict.frame));
+      const rec = engine.push(verdict.frame);
+      expect(rec).not.toBeNull();
+      if (rec) points.push(rec);
     }
     expect([...segments]).toEqual(card.points.map((p) => p.id));
     const results = points.results();
@@ -129,6 +132,62 @@ describe('simulate --card', () => {
       expect(Math.abs(r.measured!.tas_mps_mean - r.tas_mps)).toBeLessThan(r.tolerance.tas_mps);
       expect(Math.abs(r.measured!.load_factor_mean - r.load_factor)).toBeLessThan(0.1);
     }
+
+    // The same through the commands: review --card reports every point achieved, check --require-points passes.
+    const review = await runCli([
+      'review',
+      framesPath,
+      '--aircraft',
+      DEMO_AIRFRAME_PATH,
+      '--card',
+      cardPath,
+      '--format',
+      'json',
+    ]);
+    expect(review.code, review.stderr).toBe(0);
+    const reported = (JSON.parse(review.stdout) as { test_points: Array<{ id: string; status: string; file: string }> })
+      .test_points;
+    expect(reported.map((p) => [p.id, p.status, p.file])).toEqual(
+      card.points.map((p) => [p.id, 'achieved', 'reachable.ndjson']),
+    );
+    const check = await runCli([
+      'check',
+      framesPath,
+      '--aircraft',
+      DEMO_AIRFRAME_PATH,
+      '--card',
+      cardPath,
+      '--require-points',
+    ]);
+    expect(check.code, check.stdout + check.stderr).toBe(0);
+    expect(check.stdout).toMatch(/test points: 4 of 4 achieved/);
+  });
+
+  it('check --require-points fails when a point of the card was not achieved', async () => {
+    // 23.5 m/s is beyond the demo airframe's top speed in level flight: the point cannot be reached.
+    const cardPath = join(dir, 'too-fast.json');
+    const args = ['--aircraft', DEMO_AIRFRAME_PATH, '--altitude', '150', '--speeds', '18,23.5', '--steps', '0.5'];
+    expect((await runCli(['card', ...args, '--format', 'json', '--out', cardPath])).code).toBe(0);
+    const framesPath = join(dir, 'too-fast.ndjson');
+    expect(
+      (await runCli(['simulate', '--aircraft', DEMO_AIRFRAME_PATH, '--card', cardPath, '--out', framesPath])).code,
+    ).toBe(0);
+    const check = await runCli([
+      'check',
+      framesPath,
+      '--aircraft',
+      DEMO_AIRFRAME_PATH,
+      '--card',
+      cardPath,
+      '--require-points',
+    ]);
+    expect(check.code).toBe(1);
+    expect(check.stdout).toMatch(/test points: 1 of 2 achieved/);
+    expect(check.stdout).toMatch(/P01 \(55\.2° at 23\.5 m\/s\): (partial|not flown)/);
+    const without = await runCli(['check', framesPath, '--aircraft', DEMO_AIRFRAME_PATH, '--card', cardPath]);
+    expect(without.code).toBe(0);
+    const usage = await runCli(['check', framesPath, '--aircraft', DEMO_AIRFRAME_PATH, '--require-points']);
+    expect(usage.code).toBe(2);
   });
 
   it('refuses a malformed card with every problem listed, and warns about a card made for another mass', async () => {

@@ -25,6 +25,7 @@ import {
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
 import type { FrameBatchMessage, ReviewWorkerData } from '../review-worker.js';
+import { CARD_OPTION, openCardReview } from './card.js';
 
 /** Options shared by review and check. */
 export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
@@ -57,9 +58,10 @@ export const spec: CommandSpec = {
   name: 'review',
   summary: 'report the limit events, peaks and time in each alert level of a recorded flight',
   usage:
-    'turnmargin review FILE --aircraft FILE [--format md|json|csv] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+    'turnmargin review FILE --aircraft FILE [--card CARD.json] [--format md|json|csv] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
+    CARD_OPTION,
     {
       name: 'format',
       type: 'string',
@@ -229,8 +231,9 @@ async function reviewInThread(
   input: FlightInput,
   readOptions: ReadFrameOptions,
   onRecord?: (rec: MarginRecord) => void,
+  onBreak?: () => void,
 ): Promise<FlightReview> {
-  const reviewer = createFlightReviewer(input.aircraft, input.margins);
+  const reviewer = createFlightReviewer(input.aircraft, input.margins, onBreak ? { dataBreak: onBreak } : {});
   for await (const batch of readFrameBatches(input.file, { ...readOptions, raw: false })) {
     for (const line of batch) {
       if (line.verdict.ok) {
@@ -298,7 +301,11 @@ async function reviewInWorker(script: URL, input: FlightInput, readOptions: Read
  * Read the flight file through the margin computation. `onRecord` sees each margin record (for --per-frame).
  * Throws InputError when the file cannot be read or has no accepted frame.
  */
-export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRecord) => void): Promise<FlightReview> {
+export async function reviewFlight(
+  input: FlightInput,
+  onRecord?: (rec: MarginRecord) => void,
+  onBreak?: () => void,
+): Promise<FlightReview> {
   const progress = createProgress(input.file);
   const readOptions: ReadFrameOptions = { onProgress: progress.update };
   if (input.mappingPath !== undefined) readOptions.mappingPath = input.mappingPath;
@@ -307,7 +314,7 @@ export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRe
     const worker = onRecord === undefined ? reviewWorkerUrl(input.file) : undefined;
     review = worker
       ? await reviewInWorker(worker, input, readOptions)
-      : await reviewInThread(input, readOptions, onRecord);
+      : await reviewInThread(input, readOptions, onRecord, onBreak);
   } finally {
     progress.done();
   }
@@ -338,10 +345,16 @@ export async function run(args: ParsedArgs): Promise<number> {
     }
   }
 
+  const card = openCardReview(stringOption(args, 'card'), input.aircraft, input.file);
   const perFrame = perFramePath !== undefined ? createBlockWriter(perFramePath) : undefined;
+  const onRecord = perFrame ? (rec: MarginRecord) => perFrame.write(JSON.stringify(rec) + '\n') : undefined;
   let review: FlightReview;
   try {
-    review = await reviewFlight(input, perFrame ? (rec) => perFrame.write(JSON.stringify(rec) + '\n') : undefined);
+    review = await reviewFlight(
+      input,
+      card ? (rec) => (onRecord?.(rec), card.onRecord(rec)) : onRecord,
+      card ? card.onBreak : undefined,
+    );
   } finally {
     perFrame?.close();
   }
@@ -367,6 +380,6 @@ export async function run(args: ParsedArgs): Promise<number> {
       : format === 'csv'
         ? reviewToCsv(review)
         : reviewToMarkdown(review, ctx);
-  process.stdout.write(text);
+  process.stdout.write(card ? card.render(format, reviewToJson(review, ctx), text) : text);
   return EXIT_OK;
 }
