@@ -10,8 +10,8 @@ import { EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import type { LimitEvent } from '../core/events.js';
-import type { MarginOptions } from '../core/margins.js';
-import type { AlertThresholds } from '../core/thresholds.js';
+import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../core/margins.js';
+import { describeDefaultThresholds, type AlertThresholds } from '../core/thresholds.js';
 import { createPipeline, type PipelineSinks } from '../engine/pipeline.js';
 import { eventJson } from '../report/review-report.js';
 import type { Recorder } from '../recording/recorder.js';
@@ -275,16 +275,17 @@ export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
     name: 'thresholds',
     type: 'string',
     valueName: 'FILE',
-    defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust",
-    description: 'alert thresholds (JSON)',
+    defaultText: `the airframe's, else ${describeDefaultThresholds()}`,
+    description:
+      'alert thresholds (JSON): an alert comes on at its threshold and goes off after clear_s below threshold − hysteresis',
   },
   {
     name: 'smooth',
     type: 'string',
     valueName: 'S',
     unit: 's',
-    defaultText: '0.15',
-    description: 'time constant of the load-factor low-pass filter (0 = off)',
+    defaultText: String(DEFAULT_SMOOTH_TAU_S),
+    description: 'time constant of the low-pass filter on the load factor and the TAS (0 = off)',
   },
   {
     name: 'no-ui',

@@ -1,20 +1,17 @@
 /**
- * Caution and warning alerts on utilization, with hysteresis: an alert comes on when the utilization reaches its
- * threshold and goes off only when it falls below threshold − hysteresis, so a value dithering around a threshold
- * does not make the alert flicker. Pure: the previous set of alerts is the only state.
+ * Caution and warning alerts on utilization, with hysteresis and a clear stretch: an alert comes on at the first
+ * frame whose utilization reaches its threshold, and goes off only at a frame where the utilization has stayed below
+ * threshold − hysteresis continuously for at least clear_s of frame time. So neither a value dithering around a
+ * threshold nor measurement noise at a high sample rate makes the alert flicker, and the number of events does not
+ * depend on the sample rate. Pure: the previous set of alerts (with the start of each running clear stretch) is the
+ * only state.
  */
 import type { ActiveAlert, AlertLevel, Level, Utilization } from './margin-record.js';
 import type { LimitName } from './performance.js';
-import type { AlertThresholds } from './thresholds.js';
+import { DEFAULT_THRESHOLDS, type AlertThresholds } from './thresholds.js';
 
-/** Every (limit, level) alert that exists, most severe first: the order alerts are listed in a record. */
-export const ALERT_KINDS: ReadonlyArray<ActiveAlert> = Object.freeze([
-  { limit: 'stall', level: 'warning' },
-  { limit: 'structure', level: 'warning' },
-  { limit: 'stall', level: 'caution' },
-  { limit: 'structure', level: 'caution' },
-  { limit: 'thrust', level: 'caution' },
-]);
+/** Every limit, in the one order used wherever limits are listed (records, reports, dashboard). */
+export const LIMITS: readonly LimitName[] = Object.freeze(['stall', 'structure', 'thrust', 'speed'] as const);
 
 /** The utilization threshold of one alert, or null where the limit has no such level (thrust has no warning). */
 export function alertThreshold(limit: LimitName, level: AlertLevel, thresholds: AlertThresholds): number | null {
@@ -25,58 +22,91 @@ export function alertThreshold(limit: LimitName, level: AlertLevel, thresholds: 
       return level === 'warning' ? thresholds.structureWarning : thresholds.structureCaution;
     case 'thrust':
       return level === 'caution' ? thresholds.thrustCaution : null;
+    case 'speed':
+      return level === 'warning' ? thresholds.speedWarning : thresholds.speedCaution;
   }
 }
 
-/**
- * One alert's hysteresis: on at value ≥ threshold; once on, off only below threshold − hysteresis.
- * A null value (the limit is not defined here) turns the alert off.
- */
+/** Every (limit, level) alert that exists, most severe first (warnings, then cautions, each in LIMITS order). */
+const KINDS: ReadonlyArray<{ limit: LimitName; level: AlertLevel }> = (['warning', 'caution'] as const).flatMap(
+  (level) =>
+    LIMITS.filter((limit) => alertThreshold(limit, level, DEFAULT_THRESHOLDS) !== null).map((limit) => ({
+      limit,
+      level,
+    })),
+);
+
+/** Frame times this close count as equal (t_s differences such as 0.7 − 0.2 are not exact in binary). */
+const TIME_TOLERANCE_S = 1e-9;
+
+/** Hysteresis only (no clear stretch): on at value ≥ threshold; once on, held while value ≥ threshold − hysteresis. */
 export function isAlertOn(wasOn: boolean, value: number | null, threshold: number, hysteresis: number): boolean {
   if (value === null || Number.isNaN(value)) return false;
   return wasOn ? value >= threshold - hysteresis : value >= threshold;
+}
+
+/**
+ * One alert's step at frame time tS. `previous` is the alert as it was at the previous frame (undefined when off).
+ * `above`: the utilization reached the threshold; `held`: it is at or above threshold − hysteresis. Returns the
+ * alert on at this frame (with clear_since_s while a clear stretch runs), or null once the stretch has lasted clear_s.
+ */
+export function alertStep(
+  previous: ActiveAlert | undefined,
+  limit: LimitName,
+  level: AlertLevel,
+  above: boolean,
+  held: boolean,
+  tS: number,
+  clearS: number,
+): ActiveAlert | null {
+  if (previous === undefined) return above ? { limit, level } : null;
+  if (held) return { limit, level };
+  const since = previous.clear_since_s ?? tS;
+  if (tS - since >= clearS - TIME_TOLERANCE_S) return null;
+  return { limit, level, clear_since_s: since };
 }
 
 export interface AlertInputs {
   utilization: Utilization;
   /** The thrust limit: 0 means level flight cannot be sustained at all, which is a thrust caution by itself. */
   nThrust: number | null;
-  /** Below 0.5·Vs1 no alert is raised. */
+  /** Below 0.5·Vs1 no alert comes on (one already on still needs its clear stretch to go off). */
   flying: boolean;
+  /** The frame's time, s: the clear stretch is measured in frame time. */
+  tS: number;
 }
 
-function wasOn(previous: readonly ActiveAlert[], limit: LimitName, level: AlertLevel): boolean {
+function find(previous: readonly ActiveAlert[], limit: LimitName, level: AlertLevel): ActiveAlert | undefined {
   for (let i = 0; i < previous.length; i++) {
     const p = previous[i]!;
-    if (p.limit === limit && p.level === level) return true;
+    if (p.limit === limit && p.level === level) return p;
   }
-  return false;
+  return undefined;
 }
 
-/**
- * The alerts on at this frame, given those on at the previous one (most severe first, see ALERT_KINDS).
- * Written out kind by kind, in ALERT_KINDS order: this runs once per frame.
- */
+/** The alerts on at this frame, given those on at the previous one (most severe first). Runs once per frame. */
 export function updateAlerts(
   previous: readonly ActiveAlert[],
   inputs: AlertInputs,
   thresholds: AlertThresholds,
 ): ActiveAlert[] {
   const on: ActiveAlert[] = [];
-  if (!inputs.flying) return on;
+  // Most frames: nothing on before and nothing can come on.
+  if (previous.length === 0 && !inputs.flying) return on;
   const u = inputs.utilization;
   const h = thresholds.hysteresis;
-  if (isAlertOn(wasOn(previous, 'stall', 'warning'), u.stall, thresholds.stallWarning, h))
-    on.push({ limit: 'stall', level: 'warning' });
-  if (isAlertOn(wasOn(previous, 'structure', 'warning'), u.structure, thresholds.structureWarning, h))
-    on.push({ limit: 'structure', level: 'warning' });
-  if (isAlertOn(wasOn(previous, 'stall', 'caution'), u.stall, thresholds.stallCaution, h))
-    on.push({ limit: 'stall', level: 'caution' });
-  if (isAlertOn(wasOn(previous, 'structure', 'caution'), u.structure, thresholds.structureCaution, h))
-    on.push({ limit: 'structure', level: 'caution' });
-  // n_thrust = 0: level flight cannot be sustained at all, a thrust caution by itself.
-  if (inputs.nThrust === 0 || isAlertOn(wasOn(previous, 'thrust', 'caution'), u.thrust, thresholds.thrustCaution, h)) {
-    on.push({ limit: 'thrust', level: 'caution' });
+  for (let i = 0; i < KINDS.length; i++) {
+    const { limit, level } = KINDS[i]!;
+    const threshold = alertThreshold(limit, level, thresholds)!;
+    const value = u[limit];
+    const defined = inputs.flying && value !== null && !Number.isNaN(value);
+    // n_thrust = 0: level flight cannot be sustained at all, a thrust caution by itself.
+    const unsustainable = limit === 'thrust' && inputs.flying && inputs.nThrust === 0;
+    const above = unsustainable || (defined && value >= threshold);
+    const held = unsustainable || (defined && value >= threshold - h);
+    const prev = previous.length === 0 ? undefined : find(previous, limit, level);
+    const next = alertStep(prev, limit, level, above, held, inputs.tS, thresholds.clearS);
+    if (next !== null) on.push(next);
   }
   return on;
 }

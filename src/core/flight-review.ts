@@ -7,11 +7,12 @@
  */
 import { createFrameEngine, type DataBreak, type FrameMarks } from './frame-engine.js';
 import type { Aircraft } from './aircraft.js';
+import { createAssumptionCounter } from './assumptions.js';
 import { createDecimator, median } from './decimate.js';
 import type { BreakKind, LimitEvent } from './events.js';
 import type { Frame } from './frame.js';
 import { resolveMarginOptions, type MarginOptions } from './margins.js';
-import type { Level, MarginRecord } from './margin-record.js';
+import type { Assumption, Level, MarginRecord } from './margin-record.js';
 import type { LimitName } from './performance.js';
 
 /** Rejected lines kept for the report (the count covers all). */
@@ -82,6 +83,8 @@ export interface FlightReview {
   /** Accepted frames the plot sample was drawn from. */
   plotPointsOf: number;
   options: MarginOptions;
+  /** Share of the accepted frames (0…1) in which each input was assumed; null without frames. */
+  assumedShare: Record<Assumption, number | null>;
 }
 
 /** The range widened to hold the value (updated in place: the ranges are the reviewer's own until finish). */
@@ -138,7 +141,9 @@ export function createFlightReviewer(
     stall: { utilization: null, t_s: null },
     thrust: { utilization: null, t_s: null },
     structure: { utilization: null, t_s: null },
+    speed: { utilization: null, t_s: null },
   };
+  const assumed = createAssumptionCounter();
   const timeInLevelS: Record<Level, number> = { normal: 0, caution: 0, warning: 0 };
   const conditions: FlightConditions = {
     altitudeM: null,
@@ -207,6 +212,8 @@ export function createFlightReviewer(
       raisePeak(peaks.stall, rec.utilization.stall, rec.t_s);
       raisePeak(peaks.thrust, rec.utilization.thrust, rec.t_s);
       raisePeak(peaks.structure, rec.utilization.structure, rec.t_s);
+      raisePeak(peaks.speed, rec.utilization.speed, rec.t_s);
+      assumed.push(rec);
       conditions.altitudeM = widen(conditions.altitudeM, rec.alt_m);
       conditions.tasMps = widen(conditions.tasMps, rec.tas_mps);
       conditions.nMeasured = widen(conditions.nMeasured, rec.n_measured);
@@ -248,6 +255,7 @@ export function createFlightReviewer(
         plotPoints: [...plot.normal.items(), ...plot.caution.items(), ...plot.warning.items()],
         plotPointsOf: accepted,
         options: resolved,
+        assumedShare: assumed.shares(),
       };
     },
   };

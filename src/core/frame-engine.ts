@@ -16,8 +16,13 @@ import type { Aircraft } from './aircraft.js';
 import { createEventTracker, type BreakKind, type LimitEvent } from './events.js';
 import { FILTER_RESTART_GAP_S } from './filter.js';
 import type { Frame } from './frame.js';
-import * as marginsModule from './margins.js';
-import { createMarginTracker, resolveMarginOptions, type MarginOptions } from './margins.js';
+import {
+  createMarginTracker,
+  frameRejection,
+  frameRejectionText,
+  resolveMarginOptions,
+  type MarginOptions,
+} from './margins.js';
 import type { MarginRecord } from './margin-record.js';
 
 export type { BreakKind, EndedBy, LimitEvent } from './events.js';
@@ -74,15 +79,6 @@ export interface FrameEngine {
   readonly options: MarginOptions;
 }
 
-type RejectionCheck = (aircraft: Aircraft, frame: Frame) => FrameRejection | null;
-
-/**
- * HOOK (alerts): `frameRejection(aircraft, frame)` from core/margins.ts refuses a frame at or above Mach 1. It is
- * looked up by name so this file works before and after that export exists; once it is there it runs on every
- * frame, before the record is computed.
- */
-const frameRejection = (marginsModule as unknown as { frameRejection?: RejectionCheck }).frameRejection;
-
 export function createFrameEngine(
   aircraft: Aircraft,
   options?: Partial<MarginOptions>,
@@ -110,10 +106,10 @@ export function createFrameEngine(
         if (marks.afterReconnect === true) breakData('link_lost');
         else if (marks.newSegment === true) breakData('clock_restart');
       }
-      if (frameRejection !== undefined) {
-        refused = frameRejection(aircraft, frame);
-        if (refused !== null) return null;
-      }
+      // A frame at or above Mach 1 is refused like a decoder's rejection; the words name the key and its value.
+      const found = frameRejection(aircraft, frame);
+      refused = found === null ? null : { ...found, reason: frameRejectionText(found) };
+      if (refused !== null) return null;
       if (last !== null) {
         const dtS = frame.tS - last;
         if (!(dtS > 0)) breakData('clock_restart');

@@ -10,16 +10,28 @@ export type Level = 'normal' | AlertLevel;
 export interface ActiveAlert {
   limit: LimitName;
   level: AlertLevel;
+  /**
+   * Present only while the alert is on but its utilization has been below threshold − hysteresis since this frame
+   * time (t_s of the first frame of the running clear stretch); it goes off once the stretch lasts clear_s. An event
+   * ends at this time.
+   */
+  clear_since_s?: number;
 }
+
+/** An input taken from a default rather than from the frame or the airframe file. */
+export type Assumption = 'n_from_bank' | 'temperature_isa' | 'n_limit_default';
 
 export interface Utilization {
   stall: number | null;
   thrust: number | null;
   structure: number | null;
+  /** CAS ÷ vne_mps, null without vne_mps. */
+  speed: number | null;
 }
 
 export interface MarginRecord {
   t_s: number;
+  /** TAS used for every limit and utilization: the frame's TAS low-passed like n (same τ, same restarts). */
   tas_mps: number;
   eas_mps: number;
   density_kg_m3: number;
@@ -59,4 +71,10 @@ export interface MarginRecord {
   n_stall_neg: number | null;
   /** Negative structural limit n_limit_neg. */
   n_structural_neg: number;
+  /** The frame's TAS before smoothing. */
+  tas_raw_mps: number;
+  /** CAS from tas_mps at the frame's pressure and temperature (compressible relation); compared with vne_mps. */
+  cas_mps: number;
+  /** Inputs assumed for this frame (see Assumption), in a fixed order; empty when none. */
+  assumed: Assumption[];
 }

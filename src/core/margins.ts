@@ -1,19 +1,20 @@
 /**
- * Per-frame margins: from an accepted frame and the airframe, the air state, the three load-factor limits at the
- * present TAS, density and mass, the smoothed measured load factor, utilizations, alerts with hysteresis, bank
- * limits and the turn readouts — one MarginRecord per frame.
+ * Per-frame margins: from an accepted frame and the airframe, the air state, the smoothed TAS and load factor, the
+ * three load-factor limits at that TAS, density and mass, the speed limit (CAS against vne), utilizations, alerts
+ * with hysteresis and a clear stretch, bank limits, the turn readouts and the inputs assumed — one MarginRecord per
+ * frame.
  *
  * Pure: `computeMarginRecord(aircraft, options, state, frame)` returns the record and the next state;
  * `createMarginTracker` is the small stateful wrapper the shell uses.
  */
 import type { Aircraft } from './aircraft.js';
 import { computeAirState, type AirState } from './atmosphere.js';
-import { casToTasMps, iasToCasMps, tasToEasMps } from './airspeed.js';
+import { casToTasMps, iasToCasMps, tasToCasMps, tasToEasMps } from './airspeed.js';
 import { levelOfAlerts, updateAlerts } from './alerts.js';
 import { computeBankLimits } from './bank-limits.js';
 import { lowPassStep, type LowPassState } from './filter.js';
 import type { Frame } from './frame.js';
-import type { ActiveAlert, MarginRecord, Utilization } from './margin-record.js';
+import type { ActiveAlert, Assumption, MarginRecord, Utilization } from './margin-record.js';
 import {
   dynamicPressurePa,
   levelTurnAt,
@@ -23,12 +24,12 @@ import {
   thrustLoadFactor,
 } from './performance.js';
 import type { AlertThresholds } from './thresholds.js';
-import { G0_MPS2 } from './units.js';
+import { GAMMA_AIR, G0_MPS2, R_AIR } from './units.js';
 
 export interface MarginOptions {
   /** Alert thresholds. Default: the airframe's (its `alert_thresholds` over the defaults). */
   thresholds: AlertThresholds;
-  /** Time constant of the load-factor low-pass filter, s. Default 0.15; 0 turns smoothing off. */
+  /** Time constant of the low-pass filter on n and TAS, s. Default 0.15; 0 turns smoothing off. */
   smoothTauS: number;
 }
 
@@ -49,7 +50,10 @@ export function resolveMarginOptions(aircraft: Aircraft, options: Partial<Margin
 
 /** What carries over from one frame to the next. */
 export interface MarginState {
+  /** The load-factor filter. */
   filter: LowPassState | null;
+  /** The TAS filter: the same filter and τ as n, restarted together with it. */
+  tasFilter: LowPassState | null;
   alerts: readonly ActiveAlert[];
   /** Start time of the present run of frames where n_measured and 1/cos(bank) disagree, or null. */
   disagreeSinceS: number | null;
@@ -61,7 +65,7 @@ export interface MarginState {
 }
 
 export function initialMarginState(): MarginState {
-  return { filter: null, alerts: [], disagreeSinceS: null };
+  return { filter: null, tasFilter: null, alerts: [], disagreeSinceS: null };
 }
 
 export interface FrameAir {
@@ -113,19 +117,68 @@ export function loadFactorFromBank(bankDeg: number): number | null {
   return Math.abs(c) < 1e-9 ? null : 1 / c;
 }
 
-/** The frame's measured load factor: nz when present, else 1/cos(bank). */
 /** Bound on a load factor derived from bank alone (the same as the plausibility bound on nz), g. */
 export const MAX_BANK_LOAD_FACTOR = 20;
 
+/**
+ * 1/cos(bank) held to ±MAX_BANK_LOAD_FACTOR: near 90° of bank 1/cos(bank) runs off to infinity; the bound (the
+ * plausibility bound of nz) still raises every alert without letting one absurd frame dominate the peaks, the
+ * filter and the turn readouts.
+ */
+export function clampedLoadFactorFromBank(bankDeg: number): number {
+  const n = 1 / Math.cos((bankDeg * Math.PI) / 180);
+  return Math.max(-MAX_BANK_LOAD_FACTOR, Math.min(MAX_BANK_LOAD_FACTOR, n));
+}
+
+/** The frame's measured load factor: nz when present, else 1/cos(bank) (clamped). */
 export function rawLoadFactor(frame: Frame): number {
   if (frame.nz !== undefined) return frame.nz;
-  // Near 90° of bank 1/cos(bank) runs off to infinity; it is held to the plausibility bound of nz (±20 g), which
-  // still raises every alert without letting one absurd frame dominate the peaks and the filter.
-  if (frame.bankDeg !== undefined) {
-    const n = 1 / Math.cos((frame.bankDeg * Math.PI) / 180);
-    return Math.max(-MAX_BANK_LOAD_FACTOR, Math.min(MAX_BANK_LOAD_FACTOR, n));
-  }
+  if (frame.bankDeg !== undefined) return clampedLoadFactorFromBank(frame.bankDeg);
   throw new RangeError(`frame at t_s ${frame.tS} has neither bank_deg nor nz`);
+}
+
+/** A frame's TAS at or above this Mach number is refused: the airspeed relations used here are subsonic. */
+export const MAX_MACH = 1;
+
+/** Why an accepted frame cannot be computed, as a rejection: `{code, key, got, reason}`. */
+export interface FrameRejection {
+  code: 'out_of_range';
+  /** The frame's airspeed key (tas_mps, cas_mps or ias_mps). */
+  key: string;
+  /** Its value. */
+  got: number;
+  reason: string;
+}
+
+/**
+ * null when the frame can be computed; a rejection when its TAS reaches Mach 1 at its temperature (the subsonic
+ * relations no longer hold). Call it before computing the frame's record.
+ */
+export function frameRejection(aircraft: Aircraft, frame: Frame): FrameRejection | null {
+  const air = frameAirState(frame);
+  const tasMps = computeFrameAir(aircraft, frame, air).tasMps;
+  const mach = tasMps / Math.sqrt(GAMMA_AIR * R_AIR * air.temperatureK);
+  if (!(mach >= MAX_MACH) && Number.isFinite(mach)) return null;
+  return {
+    code: 'out_of_range',
+    key: `${frame.airspeedKind}_mps`,
+    got: frame.airspeedMps,
+    reason: `above the subsonic range (Mach ${Number.isFinite(mach) ? mach.toFixed(2) : 'undefined'})`,
+  };
+}
+
+/** A rejection in words, for the paths that report rejections as text: "tas_mps 688 is above the subsonic …". */
+export function frameRejectionText(rejection: FrameRejection): string {
+  return `${rejection.key} ${rejection.got} is ${rejection.reason}`;
+}
+
+/** The inputs a frame's record assumes, in the order of ASSUMPTIONS (src/core/assumptions.ts). */
+export function frameAssumptions(aircraft: Aircraft, frame: Frame): Assumption[] {
+  const assumed: Assumption[] = [];
+  if (frame.nz === undefined) assumed.push('n_from_bank');
+  if (frame.oatC === undefined) assumed.push('temperature_isa');
+  if (aircraft.nLimitPosSource !== 'file') assumed.push('n_limit_default');
+  return assumed;
 }
 
 export interface LimitsForUtilization {
@@ -138,15 +191,22 @@ export interface LimitsForUtilization {
 
 /**
  * Utilization of each limit at load factor n: n/limit. For n < 0 the negative limits apply (structure n/n_limit_neg;
- * stall n/n_stall_neg, null without cl_min). Thrust is null where n_thrust is null or 0. All null when not flying.
+ * stall n/n_stall_neg, null without cl_min). Thrust is |n|/n_thrust (drag grows with n², whatever its sign), null
+ * where n_thrust is null or 0. Speed is CAS/vne (`speed`, null without vne). All null when not flying.
  */
-export function computeUtilization(n: number, limits: LimitsForUtilization, flying: boolean): Utilization {
-  if (!flying) return { stall: null, thrust: null, structure: null };
+export function computeUtilization(
+  n: number,
+  limits: LimitsForUtilization,
+  flying: boolean,
+  speed: number | null = null,
+): Utilization {
+  if (!flying) return { stall: null, thrust: null, structure: null, speed: null };
   const negative = n < 0;
   return {
     stall: negative ? (limits.nStallNeg === null ? null : n / limits.nStallNeg) : n / limits.nStall,
-    thrust: limits.nThrust === null || limits.nThrust === 0 ? null : n / limits.nThrust,
+    thrust: limits.nThrust === null || limits.nThrust === 0 ? null : Math.abs(n) / limits.nThrust,
     structure: negative ? n / limits.nLimitNeg : n / limits.nLimitPos,
+    speed,
   };
 }
 
@@ -192,11 +252,15 @@ export function computeMarginRecord(
       ? cached.state
       : frameAirState(frame);
   const air = computeFrameAir(aircraft, frame, airState);
-  const { tasMps, densityKgM3, massKg } = air;
+  const { densityKgM3, massKg } = air;
 
   const nRaw = rawLoadFactor(frame);
   const step = lowPassStep(state.filter, frame.tS, nRaw, options.smoothTauS);
   const nF = step.state.value;
+  // Airspeed noise enters the stall limit squared: TAS is smoothed with the same filter, so both restart together.
+  const tasStep = lowPassStep(state.tasFilter, frame.tS, air.tasMps, options.smoothTauS);
+  const tasMps = tasStep.state.value;
+  const casMps = tasToCasMps(tasMps, airState.pressurePa, airState.temperatureK);
 
   // The two limits of computeLimits this record needs, without its other fields.
   const limits: LimitsForUtilization = {
@@ -208,8 +272,13 @@ export function computeMarginRecord(
   };
 
   const flying = tasMps >= FLYING_FRACTION_OF_VS1 * stallSpeedMps(aircraft, densityKgM3, massKg);
-  const utilization = computeUtilization(nF, limits, flying);
-  const alerts = updateAlerts(state.alerts, { utilization, nThrust: limits.nThrust, flying }, options.thresholds);
+  const vneMps = aircraft.vneMps;
+  const utilization = computeUtilization(nF, limits, flying, vneMps !== undefined ? casMps / vneMps : null);
+  const alerts = updateAlerts(
+    state.alerts,
+    { utilization, nThrust: limits.nThrust, flying, tS: frame.tS },
+    options.thresholds,
+  );
   const bank = computeBankLimits(limits.nStall, limits.nThrust, limits.nLimitPos, options.thresholds);
 
   const nFromBank = frame.bankDeg !== undefined ? loadFactorFromBank(frame.bankDeg) : null;
@@ -224,12 +293,14 @@ export function computeMarginRecord(
 
   const stallSpeed = stallSpeedAtLoadFactorMps(aircraft, densityKgM3, massKg, nF);
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
-  const turn = nFromBank !== null && nFromBank >= 1 ? levelTurnAt(nFromBank, tasMps) : null;
+  // The turn readouts use the load factor actually used: 1/cos(bank) clamped near 90°.
+  const nTurn = nFromBank !== null ? Math.min(nFromBank, MAX_BANK_LOAD_FACTOR) : null;
+  const turn = nTurn !== null && nTurn >= 1 ? levelTurnAt(nTurn, tasMps) : null;
 
   const record: MarginRecord = {
     t_s: frame.tS,
     tas_mps: tasMps,
-    eas_mps: air.easMps,
+    eas_mps: tasToEasMps(tasMps, densityKgM3),
     density_kg_m3: densityKgM3,
     n_measured: nF,
     n_stall: limits.nStall,
@@ -256,18 +327,30 @@ export function computeMarginRecord(
     n_raw: nRaw,
     n_stall_neg: limits.nStallNeg,
     n_structural_neg: aircraft.nLimitNeg,
+    tas_raw_mps: air.tasMps,
+    cas_mps: casMps,
+    assumed: frameAssumptions(aircraft, frame),
   };
   const airUsed =
     cached !== undefined && cached.state === airState
       ? cached
       : { altM: frame.altM, oatC: frame.oatC, state: airState };
-  return { record, state: { filter: step.state, alerts, disagreeSinceS: coordination.disagreeSinceS, air: airUsed } };
+  return {
+    record,
+    state: {
+      filter: step.state,
+      tasFilter: tasStep.state,
+      alerts,
+      disagreeSinceS: coordination.disagreeSinceS,
+      air: airUsed,
+    },
+  };
 }
 
 export interface MarginTracker {
   /** The margin record of the next accepted frame. */
   push(frame: Frame): MarginRecord;
-  /** After a reconnect or a seek: the filter restarts, hysteresis and coordination state are cleared. */
+  /** At a break (reconnect, seek, gap, clock restart): the filters restart; alert and coordination state clear. */
   reset(): void;
 }
 

@@ -70,7 +70,7 @@ export function thrustLoadFactor(
   return (qS / (massKg * G0_MPS2)) * Math.sqrt(excess / (qS * aircraft.k));
 }
 
-export type LimitName = 'stall' | 'thrust' | 'structure';
+export type LimitName = 'stall' | 'thrust' | 'structure' | 'speed';
 
 export interface TurnGeometry {
   bankDeg: number | null;

@@ -3,7 +3,8 @@ import type { ActiveAlert, AlertLevel, MarginRecord } from '../core/margin-recor
 import type { LimitName } from '../core/performance.js';
 import type { Tone } from './format-tags.js';
 
-export const LIMITS: readonly LimitName[] = ['stall', 'thrust', 'structure'];
+export { LIMITS } from '../core/alerts.js';
+import { LIMITS } from '../core/alerts.js';
 
 export function limitWord(limit: LimitName): string {
   return limit.toUpperCase();

@@ -28,7 +28,10 @@ export interface DashboardLayout {
 export const MIN_COLS = 80;
 export const MIN_ROWS = 24;
 
-const MARGINS_HEIGHT = 8; // 3 limits × 2 lines + border
+// 3 load-factor limits × 2 lines + the speed limit + the assumed inputs + border; on short screens the last two
+// share one line and the readouts give up a line for it.
+const MARGINS_HEIGHT = 10;
+const MARGINS_HEIGHT_SHORT = 9;
 
 function clamp(value: number, lo: number, hi: number): number {
   return Math.min(hi, Math.max(lo, value));
@@ -44,8 +47,9 @@ export function computeLayout(cols: number, rows: number): DashboardLayout {
   const rightWidth = clamp(Math.round(c * 0.42), 36, 52);
   const leftWidth = Math.max(0, c - rightWidth);
   const eventsHeight = clamp(Math.round(middleHeight * 0.3), 6, 12);
-  const readoutsHeight = middleHeight >= 30 ? 11 : 8;
-  const linkHeight = Math.max(0, middleHeight - MARGINS_HEIGHT - readoutsHeight);
+  const marginsHeight = middleHeight >= 23 ? MARGINS_HEIGHT : MARGINS_HEIGHT_SHORT;
+  const readoutsHeight = middleHeight >= 30 ? 11 : marginsHeight === MARGINS_HEIGHT ? 8 : 7;
+  const linkHeight = Math.max(0, middleHeight - marginsHeight - readoutsHeight);
   const helpWidth = Math.min(c, 66);
   const helpHeight = Math.min(r, 22);
   return {
@@ -55,9 +59,9 @@ export function computeLayout(cols: number, rows: number): DashboardLayout {
     banner: { left: 0, top: 0, width: c, height: bannerHeight },
     plot: { left: 0, top: middleTop, width: leftWidth, height: Math.max(0, middleHeight - eventsHeight) },
     events: { left: 0, top: middleTop + middleHeight - eventsHeight, width: leftWidth, height: eventsHeight },
-    margins: { left: leftWidth, top: middleTop, width: rightWidth, height: MARGINS_HEIGHT },
-    readouts: { left: leftWidth, top: middleTop + MARGINS_HEIGHT, width: rightWidth, height: readoutsHeight },
-    link: { left: leftWidth, top: middleTop + MARGINS_HEIGHT + readoutsHeight, width: rightWidth, height: linkHeight },
+    margins: { left: leftWidth, top: middleTop, width: rightWidth, height: marginsHeight },
+    readouts: { left: leftWidth, top: middleTop + marginsHeight, width: rightWidth, height: readoutsHeight },
+    link: { left: leftWidth, top: middleTop + marginsHeight + readoutsHeight, width: rightWidth, height: linkHeight },
     keys: { left: 0, top: r - 2, width: c, height: 1 },
     caution: { left: 0, top: r - 1, width: c, height: 1 },
     help: {

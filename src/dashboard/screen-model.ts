@@ -4,6 +4,7 @@
  * draws what this returns.
  */
 import { alertThreshold } from '../core/alerts.js';
+import { ASSUMPTION_WORDS } from '../core/assumptions.js';
 import type { EndedBy, LimitEvent } from '../core/events.js';
 import type { ReplayState } from '../sources/source.js';
 import type { MarginRecord } from '../core/margin-record.js';
@@ -155,15 +156,57 @@ export function loadFactorMargin(rec: MarginRecord, limit: LimitName): number | 
       return rec.n_thrust === null ? null : rec.n_thrust - n;
     case 'structure':
       return n < 0 ? n - rec.n_structural_neg : rec.n_structural - n;
+    case 'speed':
+      return null; // not a load-factor limit
   }
 }
 
-const LIMIT_LABEL: Record<LimitName, string> = { stall: 'Stall', thrust: 'Thrust', structure: 'Structure' };
+const LIMIT_LABEL: Record<LimitName, string> = {
+  stall: 'Stall',
+  thrust: 'Thrust',
+  structure: 'Structure',
+  speed: 'Speed',
+};
 
-export function buildMarginLines(input: ScreenInput, stale: boolean, width: number): Line[] {
+/** The speed limit (CAS against vne) and the inputs assumed in words: two lines, or one when `oneLine`. */
+function speedAndAssumedLines(input: ScreenInput, stale: boolean, width: number, oneLine: boolean): Line[] {
+  const rec = input.record;
+  if (rec === null) return [];
+  const level = limitLevel(rec.alerts, 'speed');
+  const tone: Tone = stale ? 'stale' : level ? levelTone(level) : 'plain';
+  const u = rec.utilization.speed;
+  const word = stale ? 'STALE' : level ? levelWord(level) : u === null ? '' : 'ok';
+  const left = [
+    seg(LIMIT_LABEL.speed.padEnd(10), 'heading'),
+    seg((u === null ? 'no vne' : formatPercent(u)).padStart(7), tone),
+    seg(` CAS ${formatSpeed(rec.cas_mps, input.units)}`, tone),
+  ];
+  const used = left.reduce((n, s) => n + Array.from(s.text).length, 0);
+  const assumed = rec.assumed.map((a) => ASSUMPTION_WORDS[a]).join(', ');
+  if (oneLine) {
+    const speed = [seg('Speed ', 'heading'), seg(u === null ? 'no vne' : formatPercent(u).trim(), tone)];
+    if (level) speed.push(seg(` ${word}`, tone));
+    return [
+      fitLine([...speed, seg(' · assumed ', 'dim'), seg(assumed === '' ? 'nothing' : assumed, 'caution')], width),
+    ];
+  }
+  return [
+    fitLine(
+      [...left, seg(' '.repeat(Math.max(1, width - used - word.length))), seg(word, stale ? 'stale' : tone)],
+      width,
+    ),
+    fitLine(
+      [seg('assumed ', 'dim'), seg(assumed === '' ? 'nothing' : assumed, assumed === '' ? 'dim' : 'caution')],
+      width,
+    ),
+  ];
+}
+
+export function buildMarginLines(input: ScreenInput, stale: boolean, width: number, height = 8): Line[] {
   const rec = input.record;
   const lines: Line[] = [];
   for (const limit of LIMITS) {
+    if (limit === 'speed') continue; // one line below, with the assumed inputs
     const name = LIMIT_LABEL[limit].padEnd(10);
     const cautionAt = alertThreshold(limit, 'caution', input.thresholds);
     const warningAt = alertThreshold(limit, 'warning', input.thresholds);
@@ -203,6 +246,7 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
     });
     lines.push(fitLine([seg('  '), ...bar, seg(' '), seg(suffix.padStart(suffixWidth - 1), valueTone)], width));
   }
+  lines.push(...speedAndAssumedLines(input, stale, width, height < 8));
   return lines;
 }
 
@@ -599,7 +643,7 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
     margins: {
       title: fitTitle(`Margins to the limits${staleTitle}`, layout.margins.width),
       tone: alertTone,
-      lines: buildMarginLines(input, stale, marginsInner.width),
+      lines: buildMarginLines(input, stale, marginsInner.width, marginsInner.height),
     },
     readouts: {
       title: fitTitle(

@@ -8,6 +8,8 @@ import type { LimitEvent } from '../core/events.js';
 import type { FlightReview, Peak } from '../core/flight-review.js';
 import type { AlertLevel, Level } from '../core/margin-record.js';
 import type { LimitName } from '../core/performance.js';
+import { LIMITS } from '../core/alerts.js';
+import { ASSUMPTIONS, ASSUMPTION_WORDS } from '../core/assumptions.js';
 import { alignTable, csvRow, fixed, roundOrNull, roundTo } from './numbers.js';
 
 export const ADVISORY_CAUTION =
@@ -21,8 +23,6 @@ export interface ReviewContext {
   /** The airframe file as the user named it. */
   aircraftFile: string;
 }
-
-const LIMITS: readonly LimitName[] = ['stall', 'structure', 'thrust'];
 
 export function eventJson(e: LimitEvent) {
   return {
@@ -63,6 +63,7 @@ export function reviewToJson(review: FlightReview, ctx: ReviewContext) {
       stall: peakJson(review.peaks.stall),
       structure: peakJson(review.peaks.structure),
       thrust: peakJson(review.peaks.thrust),
+      speed: peakJson(review.peaks.speed),
     },
     time_in_level: {
       normal: roundTo(review.timeInLevelS.normal, 6),
@@ -92,9 +93,23 @@ export function reviewToJson(review: FlightReview, ctx: ReviewContext) {
       structure_caution: t.structureCaution,
       structure_warning: t.structureWarning,
       thrust_caution: t.thrustCaution,
+      speed_caution: t.speedCaution,
+      speed_warning: t.speedWarning,
       hysteresis: t.hysteresis,
+      clear_s: t.clearS,
     },
     smooth_tau_s: review.options.smoothTauS,
+    /** Share of the accepted frames (0…1) in which each input was assumed. */
+    assumed_share: assumedShareJson(review),
+  };
+}
+
+function assumedShareJson(review: FlightReview) {
+  const s = review.assumedShare;
+  return {
+    n_from_bank: roundOrNull(s.n_from_bank, 4),
+    temperature_isa: roundOrNull(s.temperature_isa, 4),
+    n_limit_default: roundOrNull(s.n_limit_default, 4),
   };
 }
 
@@ -111,12 +126,16 @@ export const EVENT_CSV_COLUMNS = [
   'ended_by',
 ] as const;
 
+/** Flight-level columns repeated on every event row: the share of the frames in which each input was assumed. */
+export const ASSUMED_CSV_COLUMNS = ASSUMPTIONS.map((a) => `assumed_${a}_share`);
+
 export function reviewToCsv(review: FlightReview): string {
+  const shares = assumedShareJson(review);
   const rows = review.events.map((e) => {
     const j = eventJson(e);
-    return csvRow(EVENT_CSV_COLUMNS.map((k) => j[k]));
+    return csvRow([...EVENT_CSV_COLUMNS.map((k) => j[k]), ...ASSUMPTIONS.map((a) => shares[a])]);
   });
-  return [EVENT_CSV_COLUMNS.join(','), ...rows].join('\n') + '\n';
+  return [[...EVENT_CSV_COLUMNS, ...ASSUMED_CSV_COLUMNS].join(','), ...rows].join('\n') + '\n';
 }
 
 /** Utilization as a percentage of the limit, e.g. 0.934 → "93.4 %"; unbounded (n_thrust = 0) → "n_thrust = 0". */
@@ -131,7 +150,7 @@ function pct(part: number, whole: number): string {
 }
 
 function limitWords(limit: LimitName): string {
-  return limit === 'stall' ? 'stall' : limit === 'structure' ? 'structure' : 'thrust (sustained turn)';
+  return limit === 'thrust' ? 'thrust (sustained turn)' : limit === 'speed' ? 'speed (CAS ÷ vne)' : limit;
 }
 
 function thresholdText(review: FlightReview): string {
@@ -139,7 +158,8 @@ function thresholdText(review: FlightReview): string {
   return (
     `stall caution ${t.stallCaution.toFixed(2)} / warning ${t.stallWarning.toFixed(2)}; ` +
     `structure caution ${t.structureCaution.toFixed(2)} / warning ${t.structureWarning.toFixed(2)}; ` +
-    `thrust caution ${t.thrustCaution.toFixed(2)}; hysteresis ${t.hysteresis.toFixed(2)}`
+    `thrust caution ${t.thrustCaution.toFixed(2)}; speed caution ${t.speedCaution.toFixed(2)} / warning ${t.speedWarning.toFixed(2)}; ` +
+    `hysteresis ${t.hysteresis.toFixed(2)}; off after ${t.clearS} s clear`
   );
 }
 
@@ -178,7 +198,7 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
   );
   out.push(
     `- Limit load factors: +${fixed(a.nLimitPos, 2)} (${a.nLimitPosSource}), ${fixed(a.nLimitNeg, 2)} (${a.nLimitNegSource})` +
-      (a.vneMps !== undefined ? `; Vne ${fixed(a.vneMps, 1)} m/s` : ''),
+      (a.vneMps !== undefined ? `; Vne ${fixed(a.vneMps, 1)} m/s CAS` : ''),
   );
   out.push(`- Alert thresholds (utilization = load factor ÷ limit): ${thresholdText(review)}`);
   out.push(
@@ -222,6 +242,11 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
       'Uncoordinated',
       `${fixed(c.uncoordinatedS, 2)} s (measured n differs from 1/cos(bank) by over 0.15 for over 1 s)`,
     ]);
+  for (const a of ASSUMPTIONS) {
+    const share = review.assumedShare[a];
+    if (share !== null && share > 0)
+      condRows.push([`Assumed: ${ASSUMPTION_WORDS[a]}`, `${pct(share, 1)} of the frames`]);
+  }
   out.push(...mdTable(['Item', 'Value'], condRows, [false, false]), '');
 
   out.push('## Events', '', outcomeLine(review), '');

@@ -37,7 +37,17 @@ describe('turnmargin check (built CLI)', () => {
     const dir = mkdtempSync(join(tmpdir(), 'turnmargin-check-'));
     const th = join(dir, 'thresholds.json');
     writeFileSync(th, JSON.stringify({ stall_warning: 0.99, structure_warning: 0.99 }));
-    const warningOnly = await runCli(['check', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--thresholds', th]);
+    // --smooth 0: with the TAS smoothed, the drop to 3 m/s at 27 s is not instant and the pull there is flown
+    const warningOnly = await runCli([
+      'check',
+      FLIGHT,
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--thresholds',
+      th,
+      '--smooth',
+      '0',
+    ]);
     expect(warningOnly.code).toBe(0);
     const cautionToo = await runCli([
       'check',
@@ -51,6 +61,22 @@ describe('turnmargin check (built CLI)', () => {
     ]);
     expect(cautionToo.code).toBe(1);
     expect(cautionToo.stdout).toMatch(/FAIL: \d+ events reached caution or warning/);
+  });
+
+  it('exits 2 when nothing could be checked, naming the likely cause (grams typed for kilograms)', async () => {
+    // mass_kg 3200 instead of 3.2: Vs1 ≈ 278 m/s at 120 m (stall speed relation) while the clean flight flies 14 m/s,
+    // so no frame is flying and no limit is computed: that is not a pass.
+    const dir = mkdtempSync(join(tmpdir(), 'turnmargin-check-'));
+    const heavy = join(dir, 'grams.json');
+    writeFileSync(heavy, JSON.stringify({ ...exampleAirframeJson(), mass_kg: 3200 }));
+    for (const command of ['check', 'review']) {
+      const r = await runCli([command, CLEAN, '--aircraft', heavy]);
+      expect(r.code).toBe(2);
+      expect(r.stdout).not.toContain('PASS');
+      expect(r.stderr).toMatch(
+        /no frame was flying .*: stall speed 2\d\d m\/s is above every speed flown \(14–14 m\/s\): is mass_kg in kilograms\?/,
+      );
+    }
   });
 
   it('exits 2 for unusable input: no accepted frame, unreadable file, invalid airframe, bad option', async () => {

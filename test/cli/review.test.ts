@@ -110,10 +110,12 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(out.peaks.thrust.utilization).toBeCloseTo(3.7 / 1.5703, 2);
     expect(out.peaks.thrust.t_s).toBe(20.5);
 
-    // Level intervals: caution 8–11, 13–14, 16–18, 20–20.5, 21–22, 24–25, 29.5–30 = 9.0 s; warning 11–13, 20.5–21 = 2.5 s
-    expect(out.time_in_level.caution).toBeCloseTo(9.0, 6);
-    expect(out.time_in_level.warning).toBeCloseTo(2.5, 6);
-    expect(out.time_in_level.normal).toBeCloseTo(18.5, 6);
+    // Level intervals: an alert stays shown through its 0.5 s clear stretch (it goes off 0.5 s after the first
+    // clear frame; the event ends at that frame). Caution 8–11, 13.5–14.5, 16–18.5, 20–20.5, 21.5–22.5, 24–25.5,
+    // 29.5–30 = 10.0 s; warning 11–13.5, 20.5–21.5 = 3.5 s
+    expect(out.time_in_level.caution).toBeCloseTo(10.0, 6);
+    expect(out.time_in_level.warning).toBeCloseTo(3.5, 6);
+    expect(out.time_in_level.normal).toBeCloseTo(16.5, 6);
   });
 
   it('finds the same events, a little later, with the default smoothing (τ 0.15 s delays the filtered n)', async () => {
@@ -162,7 +164,12 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     const r = await runCli(['review', FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0', '--format', 'csv']);
     expect(r.code).toBe(0);
     const lines = r.stdout.trim().split('\n');
-    expect(lines[0]).toBe('limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak');
+    expect(lines[0]).toBe(
+      'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak,' +
+        'assumed_n_from_bank_share,assumed_temperature_isa_share,assumed_n_limit_default_share',
+    );
+    // every frame has nz, none has oat_c, the airframe gives n_limit_pos
+    expect(lines[1]!.endsWith(',0,1,0')).toBe(true);
     expect(lines).toHaveLength(1 + EXPECTED_EVENTS.length);
     expect(lines[2]!.startsWith('stall,warning,11,13,2,0.943')).toBe(true);
   });
@@ -223,9 +230,11 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
       ).toBe(true);
     const count = (level: string) =>
       Number(els.find((e) => e.attributes['class'] === `points-${level}`)!.attributes['data-count']);
-    // time in level at 10 frames/s: 25 warning frames (11.0–12.9, 20.5–20.9), caution 90 + the last frame 30.0
-    expect(count('warning')).toBe(25);
-    expect(count('caution')).toBe(91);
+    // frames at 10 frames/s, each alert shown through its 0.5 s clear stretch: 35 warning frames (11.0–13.4,
+    // 20.5–21.4); 101 caution frames (8.0–10.9, 13.5–14.4, 16.0–18.4, 20.0–20.4, 21.5–22.4, 24.0–25.4, 29.5–30.0,
+    // less the rejected lines among them)
+    expect(count('warning')).toBe(35);
+    expect(count('caution')).toBe(101);
     expect(count('normal') + count('caution') + count('warning')).toBe(301);
   });
 

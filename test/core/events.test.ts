@@ -77,17 +77,30 @@ describe('limit events', () => {
 
   it('reports what started and ended at each frame, and open events with the latest end', () => {
     const tracker = createEventTracker();
-    const recs = records([0.5, 0.85, 0.86, 0.5].map((u) => u * N_STALL_12));
+    const recs = records([0.5, 0.85, 0.86, 0.5, 0.5, 0.5, 0.5, 0.5, 0.5].map((u) => u * N_STALL_12));
     expect(tracker.push(recs[0]!)).toEqual({ started: [], ended: [] });
     const second = tracker.push(recs[1]!);
     expect(second.started).toHaveLength(1);
     tracker.push(recs[2]!);
     expect(tracker.events()[0]!.open).toBe(true);
     expect(tracker.events()[0]!.end_s).toBeCloseTo(0.2, 9);
-    const fourth = tracker.push(recs[3]!);
-    expect(fourth.ended).toHaveLength(1);
-    expect(fourth.ended[0]!.end_s).toBeCloseTo(0.3, 9);
+    // The clear stretch starts at 0.3 s; the alert goes off at the first frame 0.5 s (clear_s) later.
+    for (let i = 3; i < 8; i++) expect(tracker.push(recs[i]!).ended).toHaveLength(0);
+    const off = tracker.push(recs[8]!);
+    expect(off.ended).toHaveLength(1);
+    expect(off.ended[0]!.end_s).toBeCloseTo(0.3, 9);
     expect(tracker.events()[0]!.open).toBe(false);
+  });
+
+  it('ends an event at the first frame of its clear stretch, and at the break when none has begun', () => {
+    const tracker = createEventTracker();
+    const recs = records([0.5, 0.85, 0.5, 0.5].map((u) => u * N_STALL_12));
+    for (const r of recs) tracker.push(r);
+    // A break (gap, reconnect) before the stretch lasted clear_s: the event ends where the stretch began.
+    expect(tracker.closeOpen('data_gap')[0]!.end_s).toBeCloseTo(0.2, 9);
+    const again = createEventTracker();
+    for (const r of records([0.5, 0.85, 0.86].map((u) => u * N_STALL_12))) again.push(r);
+    expect(again.closeOpen('data_gap')[0]!.end_s).toBeCloseTo(0.2, 9);
   });
 
   it('closes an event still on at the end of the data at the last frame', () => {

@@ -235,7 +235,7 @@ describe('not flying', () => {
     // 0.5·Vs1 = 0.5·8.811 = 4.405 m/s; a large nz would otherwise be a warning
     const rec = single(frame(0, { airspeedMps: 4.3, nz: 3.0 }));
     expect(rec.flying).toBe(false);
-    expect(rec.utilization).toEqual({ stall: null, thrust: null, structure: null });
+    expect(rec.utilization).toEqual({ stall: null, thrust: null, structure: null, speed: null });
     expect(rec.alerts).toEqual([]);
     expect(rec.level).toBe('normal');
   });
@@ -246,10 +246,13 @@ describe('not flying', () => {
     expect(rec.utilization.stall).not.toBeNull();
   });
 
-  it('clears an alert that was on when the aircraft stops flying', () => {
+  it('clears an alert that was on when the aircraft stops flying, after its clear stretch', () => {
     const tracker = createMarginTracker(exampleAirframe(), { smoothTauS: 0 });
     expect(tracker.push(frame(0, { nz: 1.6 })).level).toBe('caution');
-    expect(tracker.push(frame(0.1, { airspeedMps: 2, nz: 1.6 })).alerts).toEqual([]);
+    expect(tracker.push(frame(0.1, { airspeedMps: 2, nz: 1.6 })).alerts).toEqual([
+      { limit: 'stall', level: 'caution', clear_since_s: 0.1 },
+    ]);
+    expect(tracker.push(frame(0.6, { airspeedMps: 2, nz: 1.6 })).alerts).toEqual([]);
   });
 });
 

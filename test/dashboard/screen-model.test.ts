@@ -160,8 +160,9 @@ describe('stale data', () => {
     expect(model.banner[0]![0]!.tone).toBe('banner-stale');
     expect(model.readouts.title).toBe('Readouts — STALE 3.4 s · t 0:02.0'); // t of the last frame
     expect(text(model.readouts.lines)).toContain('STALE — last frame 3.4 s ago');
+    // Stall, structure, thrust (name line then bar line) and the speed line.
     const words = model.margins.lines.filter((_, i) => i % 2 === 0).map((l) => lineText(l).trim().split(' ').pop());
-    expect(words).toEqual(['STALE', 'STALE', 'STALE']);
+    expect(words).toEqual(['STALE', 'STALE', 'STALE', 'STALE']);
     expect(
       model.readouts.lines
         .flat()
@@ -246,8 +247,8 @@ describe('link, replay and event log', () => {
     const model = buildScreenModel(screenInput({ record: turn45, events }), LAYOUT_120x40);
     const lines = model.events.lines.map(lineText).map((l) => l.trimEnd());
     expect(lines[1]).toMatch(/^ 0:31\.0 STALL +WARNING +ON NOW +93 % 12\.4 m\/s$/);
-    expect(lines[2]).toMatch(/^ 0:30\.0 THRUST +CAUTION +4\.9 s +150 % 20\.8 m\/s$/);
-    expect(lines[3]).toMatch(/^ 0:12\.5 STALL +CAUTION +1\.5 s +86 % 12\.4 m\/s$/);
+    expect(lines[2]).toMatch(/^ 0:30\.0 THRUST +CAUTION +4\.9 s +150 % 20\.8 m\/s +cleared$/);
+    expect(lines[3]).toMatch(/^ 0:12\.5 STALL +CAUTION +1\.5 s +86 % 12\.4 m\/s +cleared$/);
     expect(model.events.title).toBe('Exceedances (3)');
     expect(model.events.tone).toBe('warning');
   });

@@ -11,13 +11,14 @@ const f = (tS: number, nz: number, tas = 12): Frame => ({ tS, airspeedKind: 'tas
 describe('flight review accumulation', () => {
   it('counts time in each level at the level of the frame that begins each interval', () => {
     const r = createFlightReviewer(exampleAirframe(), { smoothTauS: 0 });
-    // normal 0.0–1.0, caution 1.0–1.5, normal 1.5–2.0 (every 0.1 s)
-    for (let i = 0; i <= 20; i++) r.accept(f(i / 10, i >= 10 && i < 15 ? 1.6 : 1.0));
+    // utilization over the caution 1.0–1.5 (every 0.1 s); the caution stays shown through its 0.5 s clear
+    // stretch (1.5–2.0) and goes off at 2.0; the event ends where the stretch began
+    for (let i = 0; i <= 25; i++) r.accept(f(i / 10, i >= 10 && i < 15 ? 1.6 : 1.0));
     const review = r.finish();
     expect(review.timeInLevelS.normal).toBeCloseTo(1.5, 9);
-    expect(review.timeInLevelS.caution).toBeCloseTo(0.5, 9);
+    expect(review.timeInLevelS.caution).toBeCloseTo(1.0, 9);
     expect(review.timeInLevelS.warning).toBe(0);
-    expect(review.durationS).toBeCloseTo(2.0, 9);
+    expect(review.durationS).toBeCloseTo(2.5, 9);
     expect(review.events).toHaveLength(1);
     expect(review.events[0]!.start_s).toBeCloseTo(1.0, 9);
     expect(review.events[0]!.end_s).toBeCloseTo(1.5, 9);
@@ -77,7 +78,8 @@ describe('flight review accumulation', () => {
     for (let i = 0; i < 20_000; i++) r.accept(f(i * 0.01, i % 1000 === 0 ? 1.7 : 1.0));
     const review = r.finish();
     expect(review.plotPoints.length).toBeLessThanOrEqual(3 * PLOT_POINTS_PER_LEVEL);
-    expect(review.plotPoints.filter((p) => p.level === 'warning').length).toBe(20);
+    // 20 one-frame pulls, each warning held through its 0.5 s clear stretch (from the next frame): 51 frames each
+    expect(review.plotPoints.filter((p) => p.level === 'warning').length).toBe(20 * 51);
     expect(review.plotPointsOf).toBe(20_000);
     expect(review.conditions.medianDensityKgM3!).toBeCloseTo(1.225, 4);
     expect(review.conditions.medianMassKg).toBe(3.2);

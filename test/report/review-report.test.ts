@@ -30,10 +30,33 @@ describe('review renderers', () => {
     expect(md).toContain('No caution or warning: every limit stayed below its caution threshold.');
     expect(md).toContain('## Rejected lines\n\nNone.');
     expect(reviewToCsv(review)).toBe(
-      'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak\n',
+      'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak,ended_by,' +
+        'assumed_n_from_bank_share,assumed_temperature_isa_share,assumed_n_limit_default_share\n',
     );
     expect(reviewToJson(review, ctx).events).toEqual([]);
     expect(checkSummary(review, ctx, 'caution').trimEnd().split('\n').pop()).toBe('PASS: no event reached caution');
+  });
+
+  it('says for what share of the frames each input was assumed, in JSON, Markdown and CSV', () => {
+    // 4 frames: one with bank only (n from bank), one with oat_c; none has the structural limit from the default
+    const frames: Frame[] = [
+      f(0, 1),
+      { tS: 0.1, airspeedKind: 'tas', airspeedMps: 12, altM: 0, bankDeg: 20 },
+      { ...f(0.2, 1), oatC: 15 },
+      f(0.3, 1.7),
+    ];
+    const { review, ctx } = reviewOf(frames);
+    expect(reviewToJson(review, ctx).assumed_share).toEqual({
+      n_from_bank: 0.25,
+      temperature_isa: 0.75,
+      n_limit_default: 0,
+    });
+    const md = reviewToMarkdown(review, ctx);
+    expect(md).toContain('| Assumed: n from bank (no nz) | 25.0 % of the frames |');
+    expect(md).toContain('| Assumed: ISA temperature (no oat_c) | 75.0 % of the frames |');
+    expect(md).not.toContain('Assumed: default n limit');
+    const csv = reviewToCsv(review).trimEnd().split('\n');
+    expect(csv[1]!.endsWith(',0.25,0.75,0')).toBe(true);
   });
 
   it('lists the first 100 rejected lines and says how many more there were', () => {

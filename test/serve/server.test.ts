@@ -106,7 +106,7 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     ]) {
       expect(answers[0]).toHaveProperty(key);
     }
-    expect(Object.keys(answers[0]!['utilization'] as object).sort()).toEqual(['stall', 'structure', 'thrust']);
+    expect(Object.keys(answers[0]!['utilization'] as object).sort()).toEqual(['speed', 'stall', 'structure', 'thrust']);
     // And by hand: n_stall = q·S·CLmax/W (accelerated-stall relation, Anderson ch. 6) with the ISA density at
     // 100 m (USSA 1976: 1.2133 kg/m³ from the published formulas), 16 m/s, S 0.55 m², CLmax 1.2, 3.2 kg.
     const q = 0.5 * 1.21328 * 16 * 16;

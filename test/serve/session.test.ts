@@ -13,6 +13,17 @@ describe('a serve session (one connection, no socket)', () => {
     expect(session.stats()).toEqual({ lines: 2, answered: 2, errors: 0 });
   });
 
+  it('refuses a frame whose TAS reaches Mach 1 and goes on with the next', () => {
+    // CAS 300 m/s at 20 000 m ISA is about Mach 2.3 (subsonic relations out of range).
+    const session = createServeSession(exampleAirframe(), { margins: { smoothTauS: 0 } });
+    const fast = JSON.stringify({ t_s: 0, cas_mps: 300, alt_m: 20000, nz: 1 });
+    const answers = session.handleMessage(`${fast}\n${line(0.1, 1.2)}`);
+    expect('error' in answers[0]! && answers[0].error).toMatch(
+      /^cas_mps 300 is above the subsonic range \(Mach 2\.3\d\)$/,
+    );
+    expect('error' in answers[1]!).toBe(false);
+  });
+
   it("restarts smoothing when the sender's clock restarts (5 frames behind), like the monitor", () => {
     const session = createServeSession(exampleAirframe(), { margins: { smoothTauS: 0.15 } });
     const answers: ServeAnswer[] = [];

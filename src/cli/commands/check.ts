@@ -28,7 +28,8 @@ export const spec: CommandSpec = {
   ],
   notes: [
     'Prints a one-screen summary. Exit 0: no event reached the level; 1: at least one did; 2: unusable input ' +
-      '(unreadable file, invalid airframe or thresholds, no accepted frame). Rejected lines are reported but do not by ' +
+      '(unreadable file, invalid airframe or thresholds, no accepted frame, or no limit computable on any flying frame: ' +
+      'nothing checked is not a pass). Rejected lines are reported but do not by ' +
       'themselves fail the check.',
     "Advisory only; the aircraft's approved limits, the operator's procedures and local aviation rules take precedence.",
   ],

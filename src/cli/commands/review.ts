@@ -7,6 +7,7 @@ import { closeSync, existsSync, openSync, statSync, writeSync } from 'node:fs';
 import { basename } from 'node:path';
 import { Worker } from 'node:worker_threads';
 import type { Aircraft } from '../../core/aircraft.js';
+import { nothingCheckableReason } from '../../core/checkable.js';
 import { createFlightReviewer, type FlightReview } from '../../core/flight-review.js';
 import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../../core/margins.js';
 import type { MarginRecord } from '../../core/margin-record.js';
@@ -24,6 +25,7 @@ import {
 } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
+import { DEFAULT_THRESHOLDS, describeDefaultThresholds } from '../../core/thresholds.js';
 import type { FrameBatchMessage, ReviewWorkerData } from '../review-worker.js';
 import { CARD_OPTION, openCardReview } from './card.js';
 
@@ -35,7 +37,7 @@ export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
     type: 'string',
     valueName: 'FILE',
     description: "alert thresholds file (JSON), over the airframe's own",
-    defaultText: "the airframe's, else 0.80/0.90 stall, 0.80/0.95 structure, 1.00 thrust, hysteresis 0.02",
+    defaultText: `the airframe's, else ${describeDefaultThresholds()}`,
   },
   {
     name: 'smooth',
@@ -43,7 +45,7 @@ export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
     valueName: 'S',
     unit: 's',
     defaultText: String(DEFAULT_SMOOTH_TAU_S),
-    description: 'time constant of the load-factor low-pass filter; 0 turns smoothing off',
+    description: 'time constant of the low-pass filter on the load factor and the TAS; 0 turns smoothing off',
   },
   {
     name: 'mapping',
@@ -86,6 +88,10 @@ export const spec: CommandSpec = {
     'FILE is NDJSON (one frame per line), CSV with a header (or a --mapping file), or a turnmargin recording. ' +
       'Rejected lines are counted and listed (the first 100) with their reason; they do not stop the review.',
     'Events: one per interval in which one (limit, level) alert is on; a warning lies inside its caution and both are listed. ' +
+      'An alert comes on at the first frame at its threshold and goes off once the utilization has stayed below ' +
+      `threshold − hysteresis for clear_s (default ${DEFAULT_THRESHOLDS.clearS} s); the event ends at the first frame of that clear stretch. ` +
+      'Limits: stall, structure, thrust (load factor ÷ limit) and speed (CAS ÷ vne_mps, a calibrated airspeed). ' +
+      'A flight where no limit could be computed on any flying frame exits 2 with the likely cause. ' +
       'Exit 0 when the report is written, 2 for unusable input (unreadable file, invalid airframe, no accepted frame).',
     "Advisory only; the aircraft's approved limits, the operator's procedures and local aviation rules take precedence.",
   ],
@@ -328,6 +334,8 @@ export async function reviewFlight(
           : ''),
     ]);
   }
+  const nothingCheckable = nothingCheckableReason(review, input.aircraft);
+  if (nothingCheckable !== null) throw new InputError([`${input.file}: ${nothingCheckable}`]);
   return review;
 }
 
