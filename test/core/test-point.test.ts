@@ -19,7 +19,7 @@ const rec = (t: number, over: Partial<TestPointRecord> = {}): TestPointRecord =>
   tas_mps: 20,
   bank_deg: 45,
   n_measured: Math.SQRT2,
-  utilization: { stall: 0.3, thrust: 0.7, structure: 0.4 },
+  utilization: { stall: 0.3, thrust: 0.7, structure: 0.4, speed: 0.6 },
   ...over,
 });
 
@@ -94,7 +94,7 @@ describe('test-point tracker', () => {
     const result = feed(
       run(0, 31, (t) => ({
         n_measured: 1.4 + (t < 1.5 ? -0.02 : 0.02),
-        utilization: { stall: 0.3 + t / 100, thrust: t < 1 ? null : 0.7, structure: 0.4 },
+        utilization: { stall: 0.3 + t / 100, thrust: t < 1 ? null : 0.7, structure: 0.4, speed: 0.6 },
       })),
     )[0]!;
     const m = result.measured!;
