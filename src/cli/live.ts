@@ -143,7 +143,8 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
           if (!outputBroken) stdout.write(JSON.stringify(rec) + '\n');
         },
         rejected(line, where, reason) {
-          stderr.write(`turnmargin: rejected ${where}: ${reason}: ${excerpt(line.text)}\n`);
+          const code = line.verdict.ok ? '' : ` [${line.verdict.code}]`;
+          stderr.write(`turnmargin: rejected ${where}${code}: ${reason}: ${excerpt(line.text)}\n`);
         },
         status(s) {
           if (s.kind === 'lost') stderr.write(`turnmargin: link lost (${s.detail ?? 'no detail'}); retrying\n`);

@@ -5,6 +5,7 @@ import { parseAircraft, type Aircraft } from '../core/aircraft.js';
 import { ThresholdsSchema, resolveThresholds, type AlertThresholds } from '../core/thresholds.js';
 import { parseLenient } from '../core/validation.js';
 import { InputError } from '../errors.js';
+import { systemErrorWords } from '../system-errors.js';
 
 /** Read and parse a JSON input file; InputError naming the file when it cannot be read or parsed. */
 export function readJson(path: string, what: string): unknown {
@@ -13,8 +14,7 @@ export function readJson(path: string, what: string): unknown {
   try {
     text = readFileSync(path, 'utf8');
   } catch (err) {
-    const code = (err as NodeJS.ErrnoException).code;
-    const why = code === 'ENOENT' ? 'no such file' : code === 'EISDIR' ? 'is a directory' : (err as Error).message;
+    const why = systemErrorWords(err);
     throw new InputError([`${path}: cannot read the ${what} file (${why})`]);
   }
   try {

@@ -1,4 +1,5 @@
 /** Words for a failed write to standard output, and the exit it calls for. */
+import { systemErrorWords } from '../system-errors.js';
 
 /** A closed reader (`| head`) is a normal way for output to end; anything else is a failure to report. */
 export function isClosedPipe(err: NodeJS.ErrnoException): boolean {
@@ -6,15 +7,5 @@ export function isClosedPipe(err: NodeJS.ErrnoException): boolean {
 }
 
 export function describeOutputError(err: NodeJS.ErrnoException): string {
-  switch (err.code) {
-    case 'ENOSPC':
-      return 'disk full';
-    case 'EACCES':
-    case 'EPERM':
-      return 'permission denied';
-    case 'EIO':
-      return 'input/output error';
-    default:
-      return err.message;
-  }
+  return systemErrorWords(err);
 }

@@ -21,11 +21,20 @@ export const MAX_REJECTS_KEPT = 100;
 export const PLOT_POINTS_PER_LEVEL = 1500;
 export const CONDITION_SAMPLES = 2048;
 
+/** A rejected line as the decoder or the engine reports it: words and a stable code. */
+export interface RejectionInfo {
+  reason: string;
+  code: string;
+  key?: string;
+  got?: unknown;
+}
+
 export interface RejectedLine {
   line: number;
   reason: string;
-  /** The stable rejection code, when the decoder or the engine gave one. */
-  code?: string;
+  code: string;
+  key?: string;
+  got?: string;
 }
 
 export interface Peak {
@@ -109,7 +118,7 @@ export interface FlightReviewer {
    * null when the engine refused the frame: it is then counted as a rejected line, `lineNo` naming it.
    */
   accept(frame: Frame, marks?: FrameMarks, lineNo?: number): MarginRecord | null;
-  reject(lineNo: number, reason: string, code?: string): void;
+  reject(lineNo: number, rejected: RejectionInfo): void;
   /** A break the reader found on a line that is not an accepted frame (a reconnect before a rejected line). */
   breakData(kind: BreakKind): void;
   /** Counts of lines read so far. */
@@ -176,10 +185,14 @@ export function createFlightReviewer(
     },
   });
 
-  const reject = (lineNo: number, reason: string, code?: string): void => {
+  const reject = (lineNo: number, r: RejectionInfo): void => {
     rejected += 1;
-    if (rejects.length < MAX_REJECTS_KEPT)
-      rejects.push(code !== undefined ? { line: lineNo, reason, code } : { line: lineNo, reason });
+    if (rejects.length < MAX_REJECTS_KEPT) {
+      const line: RejectedLine = { line: lineNo, reason: r.reason, code: r.code };
+      if (r.key !== undefined) line.key = r.key;
+      if (r.got !== undefined) line.got = typeof r.got === 'string' ? r.got : JSON.stringify(r.got);
+      rejects.push(line);
+    }
   };
 
   return {
@@ -187,7 +200,7 @@ export function createFlightReviewer(
       const rec = engine.push(frame, marks);
       if (rec === null) {
         const why = engine.rejection()!;
-        reject(lineNo, why.reason, why.code);
+        reject(lineNo, why);
         return null;
       }
       if (previous === null) {

@@ -16,14 +16,9 @@ import type { Aircraft } from './aircraft.js';
 import { createEventTracker, type BreakKind, type LimitEvent } from './events.js';
 import { FILTER_RESTART_GAP_S } from './filter.js';
 import type { Frame } from './frame.js';
-import {
-  createMarginTracker,
-  frameRejection,
-  frameRejectionText,
-  resolveMarginOptions,
-  type MarginOptions,
-} from './margins.js';
+import { createMarginTracker, frameRejection, resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { MarginRecord } from './margin-record.js';
+import { rejectionWords, type Rejection } from '../decode/rejections.js';
 
 export type { BreakKind, EndedBy, LimitEvent } from './events.js';
 
@@ -31,12 +26,7 @@ export type { BreakKind, EndedBy, LimitEvent } from './events.js';
 export const DATA_GAP_S = FILTER_RESTART_GAP_S;
 
 /** A frame the engine refuses (physics out of range), reported exactly like a decoder's rejection. */
-export interface FrameRejection {
-  code: string;
-  key?: string;
-  got?: unknown;
-  reason: string;
-}
+export type FrameRejection = Rejection & { reason: string };
 
 /** A break in the data: what it was, and the t_s of the last accepted frame before it. */
 export interface DataBreak {
@@ -108,7 +98,10 @@ export function createFrameEngine(
       }
       // A frame at or above Mach 1 is refused like a decoder's rejection; the words name the key and its value.
       const found = frameRejection(aircraft, frame);
-      refused = found === null ? null : { ...found, reason: frameRejectionText(found) };
+      if (found !== null) {
+        const r: Rejection = { code: found.code, key: found.key, got: String(found.got), detail: found.reason };
+        refused = { ...r, reason: rejectionWords(r) };
+      } else refused = null;
       if (refused !== null) return null;
       if (last !== null) {
         const dtS = frame.tS - last;

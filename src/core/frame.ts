@@ -1,5 +1,6 @@
 /**
- * One accepted telemetry frame, as the solver sees it (the wire format and its validation live in src/decode).
+ * One accepted telemetry frame, as the solver sees it (the wire format and its validation live in src/decode; the
+ * keys and their bounds in the frame-key table, src/decode/frame-keys.ts).
  */
 export type AirspeedKind = 'ias' | 'cas' | 'tas';
 
@@ -18,4 +19,8 @@ export interface Frame {
   oatC?: number;
   /** Overrides the airframe's mass, kg. */
   massKg?: number;
+  /** Throttle, fraction of full throttle (0 idle … 1 full). */
+  throttle?: number;
+  /** The frame comes from a simulator (`simulate` says so). */
+  simulated?: boolean;
 }

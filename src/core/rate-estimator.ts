@@ -160,3 +160,33 @@ export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): Ra
     },
   };
 }
+
+/** The two rates the energy method needs at one frame. */
+export interface EnergyRates {
+  /** dV/dt of the frame's raw TAS (tas_raw_mps), m/s². */
+  dvdtMps2: number | null;
+  /** dh/dt of alt_m, m/s. */
+  dhdtMps: number | null;
+}
+
+export interface EnergyRateTracker {
+  /** Add one accepted frame; both windows cover [tS − W, tS]. */
+  push(tS: number, tasRawMps: number | null, altM: number | null): EnergyRates;
+  /** A break: both windows restart. */
+  reset(): void;
+}
+
+/** dvdt_mps2 and dhdt_mps per frame: two rate estimators with the same window, restarted together. */
+export function createEnergyRateTracker(windowS: number = DEFAULT_RATE_WINDOW_S): EnergyRateTracker {
+  const speed = createRateEstimator(windowS);
+  const altitude = createRateEstimator(windowS);
+  return {
+    push(tS, tasRawMps, altM) {
+      return { dvdtMps2: speed.push(tS, tasRawMps), dhdtMps: altitude.push(tS, altM) };
+    },
+    reset() {
+      speed.reset();
+      altitude.reset();
+    },
+  };
+}

@@ -10,7 +10,7 @@ import type { ReplayState } from '../sources/source.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { LimitName } from '../core/performance.js';
 import type { AlertThresholds } from '../core/thresholds.js';
-import type { LinkHealth, LinkState } from '../sources/link-health.js';
+import { STALE_AFTER_S, type LinkHealth, type LinkState } from '../sources/link-health.js';
 import { LIMITS, closestLimit, describeAlert, levelTone, levelWord, limitLevel, limitWord } from './format-alert.js';
 import { buildUtilizationBar } from './format-bars.js';
 import { fitLine, lineWidth, seg, type Line, type Tone } from './format-tags.js';
@@ -30,8 +30,8 @@ import {
 } from './format-units.js';
 import { innerSize, type DashboardLayout } from './layout.js';
 
-/** After this long without a frame the data are marked STALE, s (issue contract). */
-export const STALE_AFTER_S = 1;
+/** After this long without a frame the data are marked STALE, s (issue contract; the link health's limit). */
+export { STALE_AFTER_S } from '../sources/link-health.js';
 
 /** The replay transport's state (one type from the replay stage to the screen). */
 export type ReplayStatus = ReplayState;
@@ -457,9 +457,8 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
         width,
       ),
     );
-    const reasons = Object.entries(link.rejectedByReason).sort((a, b) => b[1] - a[1]);
-    for (const [reason, count] of reasons)
-      lines.push(fitLine([seg(`  ${String(count).padStart(5)} `, 'caution'), seg(reason, 'dim')], width));
+    for (const g of link.rejectedByCode)
+      lines.push(fitLine([seg(`  ${String(g.count).padStart(5)} `, 'caution'), seg(g.words, 'dim')], width));
   }
   return lines.slice(0, Math.max(0, height));
 }

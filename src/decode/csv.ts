@@ -1,4 +1,5 @@
 /** Minimal CSV line handling for telemetry logs: one record per line, double-quoted fields with "" escapes. Pure. */
+import { columnCount, type Rejected } from './rejections.js';
 
 export function splitCsvLine(line: string, delimiter = ','): string[] {
   const cells: string[] = [];
@@ -27,18 +28,22 @@ export function splitCsvLine(line: string, delimiter = ','): string[] {
 
 const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
 
-/** A cell as a value: a decimal number, absent when empty, otherwise the text (so validation can name it). */
-export function cellValue(cell: string): number | string | undefined {
+/**
+ * A cell as a value: a decimal number, true or false (a flag key such as `simulated`), absent when empty, otherwise
+ * the text (so validation can name it).
+ */
+function cellValue(cell: string): number | boolean | string | undefined {
   if (cell === '') return undefined;
+  if (cell === 'true') return true;
+  if (cell === 'false') return false;
   return DECIMAL.test(cell) ? Number(cell) : cell;
 }
 
-export type CsvRow = { ok: true; row: Record<string, unknown> } | { ok: false; reason: string };
+export type CsvRow = { ok: true; row: Record<string, unknown> } | Rejected;
 
 export function csvRow(header: readonly string[], line: string, delimiter = ','): CsvRow {
   const cells = splitCsvLine(line, delimiter);
-  if (cells.length !== header.length)
-    return { ok: false, reason: `expected ${header.length} columns (got ${cells.length})` };
+  if (cells.length !== header.length) return columnCount(header.length, cells.length);
   const row: Record<string, unknown> = {};
   header.forEach((name, i) => {
     const value = cellValue(cells[i]!);

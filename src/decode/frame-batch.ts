@@ -1,15 +1,42 @@
 /**
- * Accepted frames packed into a Float64Array, to hand a batch of them to another thread without copying objects.
- * Each frame takes FRAME_SLOTS numbers; an absent optional key is NaN (an accepted frame's values are finite).
- * Pure: packing then unpacking gives back an equal frame (doubles are stored exactly, −0 included).
+ * Accepted frames packed into a Float64Array, to hand a batch of them to another thread without copying objects,
+ * and the batch type that crosses (frames and rejected lines). The layout is derived from the frame-key table:
+ * the airspeed kind and value, then one number per other key in table order (NaN when absent, 1/0 for true/false),
+ * then the new-segment mark. Pure: packing then unpacking gives back an equal frame (doubles are stored exactly,
+ * −0 included).
  */
 import type { AirspeedKind, Frame } from '../core/frame.js';
+import { compileFrameBuilder, FRAME_KEYS } from './frame-keys.js';
+import type { RejectCode, Rejected } from './rejections.js';
 
-export const FRAME_SLOTS = 9;
+/** Packed code of each airspeed kind: its index here. */
+export const AIRSPEED_KINDS: readonly AirspeedKind[] = ['tas', 'cas', 'ias'];
 
-const KINDS: readonly AirspeedKind[] = ['tas', 'cas', 'ias'];
+export const PACKED_AIRSPEED_KIND = 0;
+export const PACKED_AIRSPEED = 1;
+/** The keys packed one number each after the airspeed, in table order. */
+export const PACKED_KEYS: readonly string[] = FRAME_KEYS.filter((r) => r.presence !== 'airspeed').map((r) => r.key);
+/** Numbers per frame: airspeed kind and value, the other keys, the new-segment mark. */
+export const FRAME_SLOTS = PACKED_AIRSPEED + 1 + PACKED_KEYS.length + 1;
 
-/** The mark of a frame that follows a reconnect (packFrame's last argument; `true` marks a clock restart). */
+const PACKED_RULES = FRAME_KEYS.filter((r) => r.presence !== 'airspeed');
+const PACKED_FIELDS = PACKED_RULES.map((r) => r.field as string);
+
+/** Offset of a (non-airspeed) key's number within a packed frame. */
+function packedOffset(key: string): number {
+  return PACKED_AIRSPEED + 1 + PACKED_KEYS.indexOf(key);
+}
+
+const buildUnpacked = compileFrameBuilder<[Float64Array, number, readonly AirspeedKind[]]>({
+  params: ['s', 'o', 'kinds'],
+  airspeedKind: `kinds[s[o + ${PACKED_AIRSPEED_KIND}]]`,
+  airspeedMps: `s[o + ${PACKED_AIRSPEED}]`,
+  value: (rule) => `s[o + ${packedOffset(rule.key)}]${rule.type === 'boolean' ? ' === 1' : ''}`,
+  // NaN marks an absent key.
+  present: (rule) => `s[o + ${packedOffset(rule.key)}] === s[o + ${packedOffset(rule.key)}]`,
+});
+
+/** The mark of a frame that follows a reconnect (a `#link` break in a recording), not a clock restart. */
 export const PACKED_AFTER_RECONNECT = 2;
 
 /** Write the frame at slot `index` of `target`; `newSegment` marks a restart of the computation before it. */
@@ -19,72 +46,60 @@ export function packFrame(
   frame: Frame,
   newSegment: boolean | typeof PACKED_AFTER_RECONNECT,
 ): void {
-  packFrameValues(
-    target,
-    index,
-    frame.tS,
-    frame.airspeedKind,
-    frame.airspeedMps,
-    frame.altM,
-    frame.bankDeg ?? NaN,
-    frame.nz ?? NaN,
-    frame.oatC ?? NaN,
-    frame.massKg ?? NaN,
-    newSegment,
-  );
-}
-
-/** packFrame from the frame's values, NaN for an absent optional key. */
-export function packFrameValues(
-  target: Float64Array,
-  index: number,
-  tS: number,
-  airspeedKind: AirspeedKind,
-  airspeedMps: number,
-  altM: number,
-  bankDeg: number,
-  nz: number,
-  oatC: number,
-  massKg: number,
-  newSegment: boolean | typeof PACKED_AFTER_RECONNECT,
-): void {
   const o = index * FRAME_SLOTS;
-  target[o] = tS;
-  target[o + 1] = KINDS.indexOf(airspeedKind);
-  target[o + 2] = airspeedMps;
-  target[o + 3] = altM;
-  target[o + 4] = bankDeg;
-  target[o + 5] = nz;
-  target[o + 6] = oatC;
-  target[o + 7] = massKg;
-  target[o + 8] = newSegment === PACKED_AFTER_RECONNECT ? PACKED_AFTER_RECONNECT : newSegment ? 1 : 0;
+  target[o + PACKED_AIRSPEED_KIND] = AIRSPEED_KINDS.indexOf(frame.airspeedKind);
+  target[o + PACKED_AIRSPEED] = frame.airspeedMps;
+  const values = frame as unknown as Record<string, number | boolean | undefined>;
+  const first = o + PACKED_AIRSPEED + 1;
+  for (let p = 0; p < PACKED_FIELDS.length; p++) {
+    const v = values[PACKED_FIELDS[p]!];
+    target[first + p] = v === undefined ? NaN : v === true ? 1 : v === false ? 0 : v;
+  }
+  target[o + FRAME_SLOTS - 1] = newSegment === PACKED_AFTER_RECONNECT ? PACKED_AFTER_RECONNECT : newSegment ? 1 : 0;
 }
 
-/** The frame at slot `index`, with its keys in the order validation builds them. */
+/** The frame at slot `index`, with its keys in the order validation builds them (table order). */
 export function unpackFrame(source: Float64Array, index: number): Frame {
-  const o = index * FRAME_SLOTS;
-  const frame: Frame = {
-    tS: source[o]!,
-    airspeedKind: KINDS[source[o + 1]!]!,
-    airspeedMps: source[o + 2]!,
-    altM: source[o + 3]!,
-  };
-  const bankDeg = source[o + 4]!;
-  const nz = source[o + 5]!;
-  const oatC = source[o + 6]!;
-  const massKg = source[o + 7]!;
-  if (bankDeg === bankDeg) frame.bankDeg = bankDeg;
-  if (nz === nz) frame.nz = nz;
-  if (oatC === oatC) frame.oatC = oatC;
-  if (massKg === massKg) frame.massKg = massKg;
-  return frame;
+  return buildUnpacked(source, index * FRAME_SLOTS, AIRSPEED_KINDS);
 }
 
+/** The computation restarts before this frame (a clock restart or a reconnect). */
 export function packedNewSegment(source: Float64Array, index: number): boolean {
-  return source[index * FRAME_SLOTS + 8] !== 0;
+  return source[index * FRAME_SLOTS + FRAME_SLOTS - 1] !== 0;
 }
 
 /** The frame follows a reconnect (packed with PACKED_AFTER_RECONNECT), not a clock restart. */
 export function packedAfterReconnect(source: Float64Array, index: number): boolean {
-  return source[index * FRAME_SLOTS + 8] === PACKED_AFTER_RECONNECT;
+  return source[index * FRAME_SLOTS + FRAME_SLOTS - 1] === PACKED_AFTER_RECONNECT;
+}
+
+/**
+ * The accepted frames of a batch of lines packed for another thread, and its rejected lines: what the reader of a
+ * long file hands to the review worker.
+ */
+export interface PackedFrameBatch {
+  frames: Float64Array<ArrayBuffer>;
+  count: number;
+  /** Rejected lines in order, REJECT_STRIDE entries each: line number, words, code, key ('' if none), got ('' if none). */
+  rejects: Array<number | string>;
+}
+
+const REJECT_STRIDE = 5;
+
+export function packReject(rejects: Array<number | string>, lineNo: number, r: Rejected): void {
+  rejects.push(lineNo, r.reason, r.code, r.key ?? '', r.got ?? '');
+}
+
+/** The rejected lines of a packed batch, in order. */
+export function unpackRejects(rejects: ReadonlyArray<number | string>): Array<{ lineNo: number; rejected: Rejected }> {
+  const out: Array<{ lineNo: number; rejected: Rejected }> = [];
+  for (let i = 0; i + REJECT_STRIDE <= rejects.length; i += REJECT_STRIDE) {
+    const r: Rejected = { ok: false, reason: rejects[i + 1] as string, code: rejects[i + 2] as RejectCode };
+    const key = rejects[i + 3] as string;
+    const got = rejects[i + 4] as string;
+    if (key !== '') r.key = key;
+    if (got !== '') r.got = got;
+    out.push({ lineNo: rejects[i] as number, rejected: r });
+  }
+  return out;
 }

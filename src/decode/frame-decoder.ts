@@ -1,10 +1,11 @@
 /**
  * The stateful decoder: bytes or strings in any split → numbered, judged lines. It joins lines split across reads,
  * cuts runaway lines (64 KiB), skips blank lines (not counted), ignores CRLF endings and a UTF-8 BOM, and applies the
- * time gate so that "time not increasing" arrives as a rejected verdict.
+ * time gate so that "time not increasing" arrives as a rejected verdict (code `time_not_increasing`).
  */
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
 import { parseFrameLine, type FrameVerdict, type LineVerdict } from './frame-line.js';
+import { lineTooLong, type Rejected } from './rejections.js';
 import { createTimeGate, type TimeGate } from './time-gate.js';
 
 export interface DecodedLine {
@@ -37,7 +38,7 @@ export function isBlank(text: string): boolean {
 /** Validation plus the time gate, shared by the live decoder and the file readers. */
 export interface LineJudge {
   /** Judge an already validated (or rejected) verdict against the time order. */
-  gate<V extends FrameVerdict>(verdict: V): { verdict: V | { ok: false; reason: string }; newSegment: boolean };
+  gate<V extends FrameVerdict>(verdict: V): { verdict: V | Rejected; newSegment: boolean };
   /** The time check alone, for an accepted frame's t_s (what gate applies to an accepted verdict). */
   checkTime(tS: number): ReturnType<TimeGate['check']>;
   reset(): void;
@@ -49,16 +50,12 @@ export function createLineJudge(): LineJudge {
     gate(verdict) {
       if (!verdict.ok) return { verdict, newSegment: false };
       const order = timeGate.check(verdict.frame.tS);
-      if (!order.ok) return { verdict: { ok: false, reason: order.reason }, newSegment: false };
+      if (!order.ok) return { verdict: order, newSegment: false };
       return { verdict, newSegment: order.newSegment };
     },
     checkTime: (tS) => timeGate.check(tS),
     reset: () => timeGate.reset(),
   };
-}
-
-export function cutReason(maxLineBytes: number): string {
-  return `line longer than ${maxLineBytes} bytes (cut)`;
 }
 
 export interface FrameDecoder {
@@ -82,7 +79,7 @@ export function createFrameDecoder(options: { maxLineBytes?: number } = {}): Fra
     const text = lineText(line.bytes);
     if (!line.cut && isBlank(text)) return null;
     lineNo += 1;
-    const parsed: LineVerdict = line.cut ? { ok: false, reason: cutReason(maxLineBytes) } : parseFrameLine(text);
+    const parsed: LineVerdict = line.cut ? lineTooLong(maxLineBytes) : parseFrameLine(text);
     const { verdict, newSegment } = judge.gate(parsed);
     const decoded: DecodedLine = { lineNo, text, verdict };
     if (newSegment) decoded.newSegment = true;

@@ -1,194 +1,129 @@
 /**
- * Validation of one telemetry line (NDJSON object text) into a Frame, with a zod schema. Pure and stateless: the time-order rule
- * lives in time-gate.ts and is applied by the stateful decoder.
+ * Validation of one telemetry line (NDJSON object text) into a Frame. Pure and stateless: the time-order rule lives
+ * in time-gate.ts and is applied by the stateful decoder. What a frame may hold is the frame-key table
+ * (frame-keys.ts); the zod schema and the fast checks below are both derived from it.
  *
- * Speed: a hand-written check (`acceptFrameFast`) passes the frames the schema accepts without building zod's result;
- * anything it does not pass goes through the schema, which names the reason. Tests hold the two to the same verdicts.
+ * Speed: a table-driven check (`acceptFrameFast`, and `judgeAsciiFrameBytes` straight from a line's bytes) passes
+ * the frames the schema accepts without building zod's result; anything it does not pass goes through the schema,
+ * which names the reason. Tests hold the two to the same verdicts, key by key.
  *
- * Reasons are short, stable and human: they are shown per line, counted in link health and listed by review.
+ * A rejection is data with a stable code (rejections.ts, where its words are made): shown per line, counted in link
+ * health and listed by review.
  */
 import { z } from 'zod';
 import type { AirspeedKind, Frame } from '../core/frame.js';
-import { packFrameValues } from './frame-batch.js';
+import { AIRSPEED_KINDS, FRAME_SLOTS, PACKED_AIRSPEED, PACKED_AIRSPEED_KIND, PACKED_KEYS } from './frame-batch.js';
+import {
+  AIRSPEED_KEYS,
+  ATTITUDE_KEYS,
+  compileFrameBuilder,
+  FRAME_KEYS,
+  frameKeyRule,
+  type FrameKeyRule,
+} from './frame-keys.js';
+import {
+  BINARY_NOISE,
+  EMPTY_LINE,
+  INVALID_JSON,
+  NO_AIRSPEED,
+  NO_ATTITUDE,
+  NOT_FINITE_JSON,
+  rejected,
+  shownValue,
+  TRUNCATED_JSON,
+  type Rejected,
+} from './rejections.js';
 
-export type LineVerdict = { ok: true; frame: Frame; raw: Record<string, unknown> } | { ok: false; reason: string };
+export type LineVerdict = { ok: true; frame: Frame; raw: Record<string, unknown> } | Rejected;
 
 /** A verdict for readers that need only the frame (review): an accepted frame may come without its raw object. */
-export type FrameVerdict = { ok: true; frame: Frame; raw?: Record<string, unknown> } | { ok: false; reason: string };
-
-/** Plausibility bounds: values outside are taken as corrupt data, not as flight conditions. */
-export const FRAME_BOUNDS = {
-  // |t_s| up to about 31 years: room for any clock epoch a sender counts in seconds, while a value such as 1e308
-  // (which would make every later frame "time not increasing") is refused.
-  timeMaxAbsS: 1e9,
-  // Subsonic: the airspeed relations the tool uses (incompressible-flow corrections) hold well below Mach 1, and a
-  // small UAV never comes near 300 m/s.
-  airspeedMaxMps: 300,
-  altMinM: -500,
-  altMaxM: 20_000,
-  bankMaxAbsDeg: 180,
-  nzMaxAbs: 20,
-  oatMinC: -90,
-  oatMaxC: 70,
-  massMaxKg: 10_000,
-} as const;
-
-const AIRSPEED_KEYS: ReadonlyArray<readonly [string, AirspeedKind]> = [
-  ['ias_mps', 'ias'],
-  ['cas_mps', 'cas'],
-  ['tas_mps', 'tas'],
-];
+export type FrameVerdict = { ok: true; frame: Frame; raw?: Record<string, unknown> } | Rejected;
 
 // Control characters other than tab, CR and LF mean line noise rather than a malformed frame.
 // eslint-disable-next-line no-control-regex
 const CONTROL_BYTES = /[\u0000-\u0008\u000B\u000C\u000E-\u001F\u007F\uFFFD]/;
 
-function show(value: unknown): string {
-  let text: string;
-  if (typeof value === 'string') text = JSON.stringify(value);
-  else if (value === undefined) text = 'nothing';
-  // JSON.parse turns an overflowing literal such as 1e999 into ±Infinity, which JSON.stringify would print as null.
-  else if (typeof value === 'number' && !Number.isFinite(value)) text = `${value} (number too large)`;
-  else text = JSON.stringify(value) ?? String(value);
-  return text.length > 40 ? `${text.slice(0, 37)}...` : text;
+function keySchema(rule: FrameKeyRule): z.ZodType {
+  if (rule.type === 'boolean') return z.boolean().nullish();
+  // zod numbers are finite: NaN and ±Infinity fail.
+  const n = z.number().min(rule.min).max(rule.max);
+  return rule.presence === 'required' ? n : n.nullish();
 }
 
-/** What each key must be, in the words of the rejection reason. */
-const RULE_TEXT: Readonly<Record<string, string>> = {
-  t_s: `a number from -${FRAME_BOUNDS.timeMaxAbsS} to ${FRAME_BOUNDS.timeMaxAbsS} s`,
-  ias_mps: 'a finite number ≥ 0',
-  cas_mps: 'a finite number ≥ 0',
-  tas_mps: 'a finite number ≥ 0',
-  alt_m: `a number from ${FRAME_BOUNDS.altMinM} to ${FRAME_BOUNDS.altMaxM} m`,
-  bank_deg: `a number from -${FRAME_BOUNDS.bankMaxAbsDeg} to ${FRAME_BOUNDS.bankMaxAbsDeg} deg`,
-  nz: `a number from -${FRAME_BOUNDS.nzMaxAbs} to ${FRAME_BOUNDS.nzMaxAbs} g`,
-  oat_c: `a number from ${FRAME_BOUNDS.oatMinC} to ${FRAME_BOUNDS.oatMaxC} °C`,
-  mass_kg: `a number above 0 and up to ${FRAME_BOUNDS.massMaxKg} kg`,
-};
-
-/** An airspeed above the bound gets this rule in its reason (a wrong type or a negative one gets RULE_TEXT's). */
-const AIRSPEED_RANGE_TEXT = `a number from 0 to ${FRAME_BOUNDS.airspeedMaxMps} m/s`;
-
-const speed = z.number().min(0).max(FRAME_BOUNDS.airspeedMaxMps).nullish();
-/**
- * The frame keys (zod numbers are finite: NaN and ±Infinity fail). Optional keys may be null (many senders write
- * null for a missing sensor); other keys pass through untouched.
- */
-export const FrameSchema = z.looseObject({
-  t_s: z.number().min(-FRAME_BOUNDS.timeMaxAbsS).max(FRAME_BOUNDS.timeMaxAbsS),
-  ias_mps: speed,
-  cas_mps: speed,
-  tas_mps: speed,
-  alt_m: z.number().min(FRAME_BOUNDS.altMinM).max(FRAME_BOUNDS.altMaxM),
-  bank_deg: z.number().min(-FRAME_BOUNDS.bankMaxAbsDeg).max(FRAME_BOUNDS.bankMaxAbsDeg).nullish(),
-  nz: z.number().min(-FRAME_BOUNDS.nzMaxAbs).max(FRAME_BOUNDS.nzMaxAbs).nullish(),
-  oat_c: z.number().min(FRAME_BOUNDS.oatMinC).max(FRAME_BOUNDS.oatMaxC).nullish(),
-  mass_kg: z.number().positive().max(FRAME_BOUNDS.massMaxKg).nullish(),
-});
+/** The frame keys of the table as a zod schema; other keys pass through untouched. */
+const FrameSchema = z.looseObject(Object.fromEntries(FRAME_KEYS.map((rule) => [rule.key, keySchema(rule)])));
 
 /**
- * The frame keys' values as the fast check sees them, one slot per key in FRAME_KEY_NAMES order: a kind
- * (absent or null, a number, anything else) and, for a number, its value. Filled from an object
- * (acceptFrameFast) or straight from the bytes of a line (scanFlatFrameBytes); checked by frameFromSlots.
+ * The frame keys' values as the fast check sees them, one slot per row of the table: a kind and, for a number, its
+ * value. Filled from an object (acceptFrameFast) or straight from the bytes of a line (scanFlatFrameBytes); checked
+ * by slotsAccepted.
  */
-const FRAME_KEY_NAMES = [
-  't_s',
-  'ias_mps',
-  'cas_mps',
-  'tas_mps',
-  'alt_m',
-  'bank_deg',
-  'nz',
-  'oat_c',
-  'mass_kg',
-] as const;
-const SLOT_T = 0;
-const SLOT_IAS = 1;
-const SLOT_CAS = 2;
-const SLOT_TAS = 3;
-const SLOT_ALT = 4;
-const SLOT_BANK = 5;
-const SLOT_NZ = 6;
-const SLOT_OAT = 7;
-const SLOT_MASS = 8;
+const KEY_COUNT = FRAME_KEYS.length;
 const KIND_NULLISH = 0;
 const KIND_NUMBER = 1;
-const KIND_OTHER = 2;
-const slotKinds = new Uint8Array(FRAME_KEY_NAMES.length);
-const slotNumbers = new Float64Array(FRAME_KEY_NAMES.length);
+const KIND_TRUE = 2;
+const KIND_FALSE = 3;
+const KIND_OTHER = 4;
+const slotKinds = new Uint8Array(KEY_COUNT);
+const slotNumbers = new Float64Array(KEY_COUNT);
 
-/** A slot holding a finite number (what a zod number accepts). */
-function finiteAt(slot: number): boolean {
-  const v = slotNumbers[slot]!;
-  return slotKinds[slot] === KIND_NUMBER && v - v === 0;
-}
-
-/** An optional key: absent or null, or a finite number from min to max. */
-function optionalInRange(slot: number, min: number, max: number): boolean {
-  if (slotKinds[slot] === KIND_NULLISH) return true;
-  const v = slotNumbers[slot]!;
-  return finiteAt(slot) && v >= min && v <= max;
-}
-
-/** The airspeed slot of the slots last accepted by slotsAccepted. */
-let acceptedSpeedSlot = SLOT_TAS;
+/** The airspeed kind of each row (airspeed rows only). */
+const ruleAirspeedKind = FRAME_KEYS.map((r) => (r.presence === 'airspeed' ? (r.field as AirspeedKind) : 'tas'));
+/** The packed code of each row's airspeed kind (frame-batch.ts). */
+const ruleAirspeedCode = Float64Array.from(ruleAirspeedKind, (kind) => AIRSPEED_KINDS.indexOf(kind));
 
 /**
- * Whether the slots pass FrameSchema with exactly one airspeed and a bank or nz (then acceptedSpeedSlot names the
- * airspeed); false for anything else (the caller then lets the schema name the reason).
+ * The fast check, compiled from the table into straight-line code (one test per key with its bounds inline: the
+ * same speed as a hand-written check, and nothing to keep in step by hand). Returns the row of the frame's airspeed
+ * when the slots pass the schema with exactly one airspeed and at least one attitude key, else -1 (the caller then
+ * lets the schema name the reason).
  */
+const checkSlots = ((): ((kinds: Uint8Array, numbers: Float64Array) => number) => {
+  const lines = ['let speed = -1, speeds = 0, attitudes = 0, v = 0;'];
+  FRAME_KEYS.forEach((rule, row) => {
+    const kind = `kinds[${row}]`;
+    const valid =
+      rule.type === 'boolean'
+        ? `if (${kind} !== ${KIND_TRUE} && ${kind} !== ${KIND_FALSE}) return -1;`
+        : // Finite bounds: NaN and ±Infinity fail, as in zod. String(x) of a double reads back as the same double.
+          `if (${kind} !== ${KIND_NUMBER}) return -1; v = numbers[${row}]; ` +
+          `if (!(v >= ${String(rule.min)} && v <= ${String(rule.max)})) return -1;`;
+    const counted =
+      rule.presence === 'airspeed' ? ` speeds++; speed = ${row};` : rule.presence === 'attitude' ? ' attitudes++;' : '';
+    lines.push(
+      rule.presence === 'required' ? `${valid}${counted}` : `if (${kind} !== ${KIND_NULLISH}) { ${valid}${counted} }`,
+    );
+  });
+  lines.push(`if (speeds !== 1${ATTITUDE_KEYS.length > 0 ? ' || attitudes === 0' : ''}) return -1;`, 'return speed;');
+  return new Function('kinds', 'numbers', `'use strict'; ${lines.join('\n')}`) as (
+    kinds: Uint8Array,
+    numbers: Float64Array,
+  ) => number;
+})();
+
+/** The airspeed row of the slots last accepted by slotsAccepted. */
+let acceptedSpeedSlot = -1;
+
+/** Whether the slots pass the fast check (then acceptedSpeedSlot names the airspeed). */
 function slotsAccepted(): boolean {
-  if (!finiteAt(SLOT_T) || !finiteAt(SLOT_ALT)) return false;
-  const tS = slotNumbers[SLOT_T]!;
-  if (!(tS >= -FRAME_BOUNDS.timeMaxAbsS && tS <= FRAME_BOUNDS.timeMaxAbsS)) return false;
-  const altM = slotNumbers[SLOT_ALT]!;
-  if (!(altM >= FRAME_BOUNDS.altMinM && altM <= FRAME_BOUNDS.altMaxM)) return false;
-  const hasIas = slotKinds[SLOT_IAS] !== KIND_NULLISH;
-  const hasCas = slotKinds[SLOT_CAS] !== KIND_NULLISH;
-  const hasTas = slotKinds[SLOT_TAS] !== KIND_NULLISH;
-  if ((hasIas ? 1 : 0) + (hasCas ? 1 : 0) + (hasTas ? 1 : 0) !== 1) return false;
-  const speedSlot = hasTas ? SLOT_TAS : hasCas ? SLOT_CAS : SLOT_IAS;
-  const speedMps = slotNumbers[speedSlot]!;
-  if (!finiteAt(speedSlot) || !(speedMps >= 0 && speedMps <= FRAME_BOUNDS.airspeedMaxMps)) return false;
-  if (slotKinds[SLOT_BANK] === KIND_NULLISH && slotKinds[SLOT_NZ] === KIND_NULLISH) return false;
-  if (
-    !optionalInRange(SLOT_BANK, -FRAME_BOUNDS.bankMaxAbsDeg, FRAME_BOUNDS.bankMaxAbsDeg) ||
-    !optionalInRange(SLOT_NZ, -FRAME_BOUNDS.nzMaxAbs, FRAME_BOUNDS.nzMaxAbs) ||
-    !optionalInRange(SLOT_OAT, FRAME_BOUNDS.oatMinC, FRAME_BOUNDS.oatMaxC) ||
-    !(
-      slotKinds[SLOT_MASS] === KIND_NULLISH ||
-      (finiteAt(SLOT_MASS) && slotNumbers[SLOT_MASS]! > 0 && slotNumbers[SLOT_MASS]! <= FRAME_BOUNDS.massMaxKg)
-    )
-  ) {
-    return false;
-  }
-  acceptedSpeedSlot = speedSlot;
+  const speed = checkSlots(slotKinds, slotNumbers);
+  if (speed < 0) return false;
+  acceptedSpeedSlot = speed;
   return true;
 }
 
-function airspeedKindOfSlot(slot: number): AirspeedKind {
-  return slot === SLOT_TAS ? 'tas' : slot === SLOT_CAS ? 'cas' : 'ias';
-}
+const buildFromSlots = compileFrameBuilder<[Uint8Array, Float64Array, number, readonly AirspeedKind[]]>({
+  params: ['kinds', 'numbers', 'speed', 'speedKinds'],
+  airspeedKind: 'speedKinds[speed]',
+  airspeedMps: 'numbers[speed]',
+  value: (rule, row) => (rule.type === 'boolean' ? `kinds[${row}] === ${KIND_TRUE}` : `numbers[${row}]`),
+  present: (_rule, row) => `kinds[${row}] !== ${KIND_NULLISH}`,
+});
 
-/** The frame of the slots when slotsAccepted, else null. */
+/** The frame of the slots when slotsAccepted, else null. Its keys come in table order. */
 function frameFromSlots(): Frame | null {
   if (!slotsAccepted()) return null;
-  const frame: Frame = {
-    tS: slotNumbers[SLOT_T]!,
-    airspeedKind: airspeedKindOfSlot(acceptedSpeedSlot),
-    airspeedMps: slotNumbers[acceptedSpeedSlot]!,
-    altM: slotNumbers[SLOT_ALT]!,
-  };
-  if (slotKinds[SLOT_BANK] !== KIND_NULLISH) frame.bankDeg = slotNumbers[SLOT_BANK]!;
-  if (slotKinds[SLOT_NZ] !== KIND_NULLISH) frame.nz = slotNumbers[SLOT_NZ]!;
-  if (slotKinds[SLOT_OAT] !== KIND_NULLISH) frame.oatC = slotNumbers[SLOT_OAT]!;
-  if (slotKinds[SLOT_MASS] !== KIND_NULLISH) frame.massKg = slotNumbers[SLOT_MASS]!;
-  return frame;
-}
-
-/** A slot's number, or NaN when the key is absent or null. */
-function slotOrNaN(slot: number): number {
-  return slotKinds[slot] === KIND_NULLISH ? NaN : slotNumbers[slot]!;
+  return buildFromSlots(slotKinds, slotNumbers, acceptedSpeedSlot, ruleAirspeedKind);
 }
 
 function setSlot(slot: number, value: unknown): void {
@@ -196,15 +131,17 @@ function setSlot(slot: number, value: unknown): void {
   else if (typeof value === 'number') {
     slotKinds[slot] = KIND_NUMBER;
     slotNumbers[slot] = value;
-  } else slotKinds[slot] = KIND_OTHER;
+  } else if (value === true) slotKinds[slot] = KIND_TRUE;
+  else if (value === false) slotKinds[slot] = KIND_FALSE;
+  else slotKinds[slot] = KIND_OTHER;
 }
 
 /**
- * The frame of an object that passes FrameSchema with exactly one airspeed and a bank or nz, or null for anything
+ * The frame of an object that passes the schema with exactly one airspeed and an attitude key, or null for anything
  * else (the caller then lets the schema name the reason). Same verdicts as the schema path, without its cost.
  */
 export function acceptFrameFast(raw: Record<string, unknown>): Frame | null {
-  for (let k = 0; k < FRAME_KEY_NAMES.length; k++) setSlot(k, raw[FRAME_KEY_NAMES[k]!]);
+  for (let k = 0; k < KEY_COUNT; k++) setSlot(k, raw[FRAME_KEYS[k]!.key]);
   return frameFromSlots();
 }
 
@@ -217,10 +154,10 @@ export function validateFrameObject(input: unknown): LineVerdict {
   return validateWithSchema(input);
 }
 
-/** The schema path: the verdict and, for a rejection, the reason naming the first problem. */
+/** The schema path: the verdict and, for a rejection, the first problem in the table's key order. */
 export function validateWithSchema(input: unknown): LineVerdict {
   if (input === null || typeof input !== 'object' || Array.isArray(input)) {
-    return { ok: false, reason: `not a JSON object (got ${Array.isArray(input) ? 'an array' : show(input)})` };
+    return rejected({ code: 'not_an_object', got: Array.isArray(input) ? 'an array' : shownValue(input) });
   }
   const raw = input as Record<string, unknown>;
   const result = FrameSchema.safeParse(raw);
@@ -228,30 +165,26 @@ export function validateWithSchema(input: unknown): LineVerdict {
     // One reason per line: the first problem, in the key order of the schema.
     const key = String(result.error.issues[0]?.path[0] ?? '');
     const value = raw[key];
-    if (value === undefined) return { ok: false, reason: `${key} is required` };
-    if (
-      Number.isFinite(value) &&
-      (value as number) > FRAME_BOUNDS.airspeedMaxMps &&
-      AIRSPEED_KEYS.some(([k]) => k === key)
-    ) {
-      return { ok: false, reason: `${key} must be ${AIRSPEED_RANGE_TEXT} (got ${show(value)})` };
-    }
-    return { ok: false, reason: `${key} must be ${RULE_TEXT[key] ?? 'valid'} (got ${show(value)})` };
+    if (value === undefined) return rejected({ code: 'missing_key', key });
+    // A number where a number belongs is out of its range; anything else is of the wrong type.
+    const outOfRange = typeof value === 'number' && frameKeyRule(key)?.type === 'number';
+    return rejected({ code: outOfRange ? 'out_of_range' : 'wrong_type', key, got: shownValue(value) });
   }
-  const f = result.data;
-  const present = AIRSPEED_KEYS.filter(([key]) => f[key as 'tas_mps'] != null);
-  if (present.length === 0) return { ok: false, reason: 'an airspeed is required (one of ias_mps, cas_mps, tas_mps)' };
-  if (present.length > 1) {
-    return { ok: false, reason: `exactly one airspeed key is allowed (got ${present.map(([k]) => k).join(' and ')})` };
+  const data = result.data as Record<string, unknown>;
+  const present = AIRSPEED_KEYS.filter((key) => data[key] != null);
+  if (present.length === 0) return NO_AIRSPEED;
+  if (present.length > 1) return rejected({ code: 'conflicting_keys', got: present.join(' and ') });
+  if (ATTITUDE_KEYS.every((key) => data[key] == null)) return NO_ATTITUDE;
+  const frame: Record<string, unknown> = {};
+  for (const rule of FRAME_KEYS) {
+    const value = data[rule.key];
+    if (value == null) continue;
+    if (rule.presence === 'airspeed') {
+      frame['airspeedKind'] = rule.field;
+      frame['airspeedMps'] = value;
+    } else frame[rule.field] = value;
   }
-  if (f.bank_deg == null && f.nz == null) return { ok: false, reason: 'bank_deg or nz is required' };
-  const [speedKey, airspeedKind] = present[0]!;
-  const frame: Frame = { tS: f.t_s, airspeedKind, airspeedMps: f[speedKey as 'tas_mps']!, altM: f.alt_m };
-  if (f.bank_deg != null) frame.bankDeg = f.bank_deg;
-  if (f.nz != null) frame.nz = f.nz;
-  if (f.oat_c != null) frame.oatC = f.oat_c;
-  if (f.mass_kg != null) frame.massKg = f.mass_kg;
-  return { ok: true, frame, raw };
+  return { ok: true, frame: frame as unknown as Frame, raw };
 }
 
 /** Validate one line of text (without its newline). A leading UTF-8 BOM and surrounding whitespace (CR) are ignored. */
@@ -268,23 +201,17 @@ export function parseAsciiFrameLine(line: string): LineVerdict {
   return judgeLineText(line, false);
 }
 
-const noise = (): LineVerdict => ({ ok: false, reason: 'binary noise (control or invalid bytes)' });
-
 function judgeLineText(line: string, mayHoldDelOrReplacement: boolean): LineVerdict {
   const text = (line.charCodeAt(0) === 0xfeff ? line.slice(1) : line).trim();
-  if (text === '') return { ok: false, reason: 'empty line' };
-  if (mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return noise();
+  if (text === '') return EMPTY_LINE;
+  if (mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return BINARY_NOISE;
   let parsed: unknown;
   try {
     parsed = JSON.parse(text);
   } catch {
-    if (!mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return noise();
-    if (/(?<![\w"])(NaN|-?Infinity)(?![\w"])/.test(text))
-      return { ok: false, reason: 'NaN or Infinity is not a finite number' };
-    return {
-      ok: false,
-      reason: text.startsWith('{') && !text.endsWith('}') ? 'invalid JSON (truncated line?)' : 'invalid JSON',
-    };
+    if (!mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return BINARY_NOISE;
+    if (/(?<![\w"])(NaN|-?Infinity)(?![\w"])/.test(text)) return NOT_FINITE_JSON;
+    return text.startsWith('{') && !text.endsWith('}') ? TRUNCATED_JSON : INVALID_JSON;
   }
   return validateFrameObject(parsed);
 }
@@ -319,26 +246,51 @@ export function acceptAsciiFrameBytes(bytes: Uint8Array, start: number, end: num
   );
 }
 
+const T_SLOT = FRAME_KEYS.findIndex((r) => r.key === 't_s');
+
 /** t_s of the frame last accepted by acceptAsciiFrameBytes. */
 export function acceptedFrameTime(): number {
-  return slotNumbers[SLOT_T]!;
+  return slotNumbers[T_SLOT]!;
 }
+
+type PackSlots = (
+  target: Float64Array,
+  o: number,
+  kinds: Uint8Array,
+  numbers: Float64Array,
+  speed: number,
+  speedCodes: Float64Array,
+  newSegment: boolean,
+) => void;
+
+/** Packs the slots into frame-batch.ts's layout, compiled from the table like checkSlots. */
+const packSlots = ((): PackSlots => {
+  const lines = [
+    `target[o + ${PACKED_AIRSPEED_KIND}] = speedCodes[speed];`,
+    `target[o + ${PACKED_AIRSPEED}] = numbers[speed];`,
+  ];
+  PACKED_KEYS.forEach((key, p) => {
+    const row = FRAME_KEYS.findIndex((r) => r.key === key);
+    const kind = `kinds[${row}]`;
+    const value = FRAME_KEYS[row]!.type === 'boolean' ? `${kind} === ${KIND_TRUE} ? 1 : 0` : `numbers[${row}]`;
+    lines.push(`target[o + ${PACKED_AIRSPEED + 1 + p}] = ${kind} === ${KIND_NULLISH} ? NaN : ${value};`);
+  });
+  lines.push(`target[o + ${FRAME_SLOTS - 1}] = newSegment ? 1 : 0;`);
+  return new Function(
+    'target',
+    'o',
+    'kinds',
+    'numbers',
+    'speed',
+    'speedCodes',
+    'newSegment',
+    `'use strict'; ${lines.join('\n')}`,
+  ) as PackSlots;
+})();
 
 /** Packs the frame last accepted by acceptAsciiFrameBytes at slot `index` (frame-batch.ts), as packFrame would. */
 export function packAcceptedFrame(target: Float64Array, index: number, newSegment: boolean): void {
-  packFrameValues(
-    target,
-    index,
-    slotNumbers[SLOT_T]!,
-    airspeedKindOfSlot(acceptedSpeedSlot),
-    slotNumbers[acceptedSpeedSlot]!,
-    slotNumbers[SLOT_ALT]!,
-    slotOrNaN(SLOT_BANK),
-    slotOrNaN(SLOT_NZ),
-    slotOrNaN(SLOT_OAT),
-    slotOrNaN(SLOT_MASS),
-    newSegment,
-  );
+  packSlots(target, index * FRAME_SLOTS, slotKinds, slotNumbers, acceptedSpeedSlot, ruleAirspeedCode, newSegment);
 }
 
 const SPACE = 0x20;
@@ -440,23 +392,34 @@ function plainJsonStringEnd(bytes: Uint8Array, i: number, end: number): number {
   return -1;
 }
 
-const FRAME_KEY_BYTES = FRAME_KEY_NAMES.map((name) => Buffer.from(name, 'latin1'));
+const FRAME_KEY_BYTES = FRAME_KEYS.map((rule) => Buffer.from(rule.key, 'latin1'));
+const LONGEST_KEY = Math.max(...FRAME_KEY_BYTES.map((b) => b.length));
+const NO_KEY = -1;
+const SEVERAL_KEYS = -2;
+/** The table row of a key by (length, first byte): NO_KEY, the row, or SEVERAL_KEYS (then every row is tried). */
+const KEY_BY_LENGTH_AND_FIRST = new Int16Array((LONGEST_KEY + 1) * 256).fill(NO_KEY);
+FRAME_KEY_BYTES.forEach((name, k) => {
+  const at = name.length * 256 + name[0]!;
+  KEY_BY_LENGTH_AND_FIRST[at] = KEY_BY_LENGTH_AND_FIRST[at] === NO_KEY ? k : SEVERAL_KEYS;
+});
 
-/** Which frame key the bytes from start (length bytes) name: its index in FRAME_KEY_NAMES, or -1. */
+function sameBytes(bytes: Uint8Array, start: number, name: Buffer): boolean {
+  for (let j = 0; j < name.length; j++) if (bytes[start + j] !== name[j]) return false;
+  return true;
+}
+
+/** Which frame key the bytes from start (length bytes) name: its row in the table, or -1. */
 function frameKeyAt(bytes: Uint8Array, start: number, length: number): number {
   // The candidate from the length and the first letter, then a check of every byte.
-  const first = bytes[start];
-  let k = -1;
-  if (length === 2) k = 6;
-  else if (length === 3) k = 0;
-  else if (length === 5) k = first === 0x61 /* a */ ? 4 : 7;
-  else if (length === 7) k = first === 0x69 /* i */ ? 1 : first === 0x63 /* c */ ? 2 : first === 0x74 /* t */ ? 3 : 8;
-  else if (length === 8) k = 5;
-  if (k < 0) return -1;
-  const name = FRAME_KEY_BYTES[k]!;
-  if (name.length !== length) return -1;
-  for (let j = 0; j < length; j++) if (bytes[start + j] !== name[j]) return -1;
-  return k;
+  if (length > LONGEST_KEY || length === 0) return -1;
+  const k = KEY_BY_LENGTH_AND_FIRST[length * 256 + bytes[start]!]!;
+  if (k === NO_KEY) return -1;
+  if (k !== SEVERAL_KEYS) return sameBytes(bytes, start, FRAME_KEY_BYTES[k]!) ? k : -1;
+  for (let row = 0; row < FRAME_KEY_BYTES.length; row++) {
+    const name = FRAME_KEY_BYTES[row]!;
+    if (name.length === length && sameBytes(bytes, start, name)) return row;
+  }
+  return -1;
 }
 
 function matchesWord(bytes: Uint8Array, i: number, end: number, word: string): boolean {
@@ -469,7 +432,7 @@ function matchesWord(bytes: Uint8Array, i: number, end: number, word: string): b
  * Reads ASCII JSON text bytes[start, end) that is exactly one flat object of plain values (numbers, null, true,
  * false, strings without escapes) into the frame-key slots and returns true; false for any other text — which
  * then takes the JSON.parse path. For the texts it reads, numbers and nulls are those JSON.parse gives, a later
- * duplicate key winning as there; strings and booleans count as "anything else".
+ * duplicate key winning as there; strings count as "anything else".
  */
 function scanFlatFrameBytes(bytes: Uint8Array, start: number, end: number): boolean {
   if (bytes[start] !== OPEN_BRACE) return false;
@@ -498,11 +461,11 @@ function scanFlatFrameBytes(bytes: Uint8Array, start: number, end: number): bool
       i += 4;
     } else if (c === 0x74 /* t */) {
       if (!matchesWord(bytes, i, end, 'true')) return false;
-      kind = KIND_OTHER;
+      kind = KIND_TRUE;
       i += 4;
     } else if (c === 0x66 /* f */) {
       if (!matchesWord(bytes, i, end, 'false')) return false;
-      kind = KIND_OTHER;
+      kind = KIND_FALSE;
       i += 5;
     } else {
       i = scanJsonNumber(bytes, i, end, slot);

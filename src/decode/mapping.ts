@@ -13,45 +13,8 @@
  * Columns not named in "keys" pass through unchanged (a column already called tas_mps is used as is).
  */
 import { z } from 'zod';
-import { DEG_PER_RAD, FOOT_M, G0_MPS2, KELVIN_OFFSET, KMH_MPS, KNOT_MPS, MPH_MPS, POUND_KG } from '../core/units.js';
 import { describeIssues } from '../core/validation.js';
-
-type Convert = (x: number) => number;
-const linear =
-  (factor: number): Convert =>
-  (x) =>
-    x * factor;
-
-/** Units accepted per frame key, each with its conversion to the key's own unit. */
-const UNITS_BY_KIND = {
-  time: { s: linear(1), ms: linear(0.001) },
-  speed: { 'm/s': linear(1), kt: linear(KNOT_MPS), 'km/h': linear(KMH_MPS), mph: linear(MPH_MPS) },
-  length: { m: linear(1), ft: linear(FOOT_M) },
-  angle: { deg: linear(1), rad: linear(DEG_PER_RAD) },
-  load: { g: linear(1), 'm/s²': linear(1 / G0_MPS2), 'm/s2': linear(1 / G0_MPS2) },
-  temperature: {
-    '°C': linear(1),
-    C: linear(1),
-    '°F': (x: number) => ((x - 32) * 5) / 9,
-    F: (x: number) => ((x - 32) * 5) / 9,
-    K: (x: number) => x - KELVIN_OFFSET,
-  },
-  mass: { kg: linear(1), lb: linear(POUND_KG) },
-} as const satisfies Record<string, Record<string, Convert>>;
-
-type Kind = keyof typeof UNITS_BY_KIND;
-
-export const FRAME_KEY_KINDS: Readonly<Record<string, Kind>> = {
-  t_s: 'time',
-  ias_mps: 'speed',
-  cas_mps: 'speed',
-  tas_mps: 'speed',
-  alt_m: 'length',
-  bank_deg: 'angle',
-  nz: 'load',
-  oat_c: 'temperature',
-  mass_kg: 'mass',
-};
+import { FRAME_KEYS, frameKeyRule, type UnitConversion } from './frame-keys.js';
 
 const KeyMappingSchema = z.strictObject({
   column: z.string({ error: 'must be the column name in the log (text)' }).min(1, { error: 'must not be empty' }),
@@ -60,7 +23,7 @@ const KeyMappingSchema = z.strictObject({
   offset: z.number({ error: 'must be a number' }).optional(),
 });
 
-export const MappingSchema = z
+const MappingSchema = z
   .strictObject({
     description: z.string().optional(),
     delimiter: z.enum([',', ';', '\t'], { error: 'must be ",", ";" or "\\t"' }).optional(),
@@ -68,17 +31,17 @@ export const MappingSchema = z
   })
   .check((ctx) => {
     for (const [key, entry] of Object.entries(ctx.value.keys)) {
-      const kind = FRAME_KEY_KINDS[key];
-      if (!kind) {
+      const rule = frameKeyRule(key);
+      if (!rule) {
         ctx.issues.push({
           code: 'custom',
           input: key,
           path: ['keys', key],
-          message: `is not a frame key (frame keys: ${Object.keys(FRAME_KEY_KINDS).join(', ')})`,
+          message: `is not a frame key (frame keys: ${FRAME_KEYS.map((r) => r.key).join(', ')})`,
         });
         continue;
       }
-      const units = Object.keys(UNITS_BY_KIND[kind]);
+      const units = Object.keys(rule.units);
       if (!units.includes(entry.unit)) {
         ctx.issues.push({
           code: 'custom',
@@ -93,7 +56,7 @@ export const MappingSchema = z
 export interface ColumnMapping {
   delimiter: string;
   /** Frame key → how to compute it. */
-  keys: ReadonlyArray<{ key: string; column: string; convert: Convert }>;
+  keys: ReadonlyArray<{ key: string; column: string; convert: UnitConversion }>;
 }
 
 export type MappingResult = { ok: true; mapping: ColumnMapping } | { ok: false; problems: string[] };
@@ -102,7 +65,7 @@ export function parseMapping(input: unknown, label: string): MappingResult {
   const result = MappingSchema.safeParse(input);
   if (!result.success) return { ok: false, problems: describeIssues(label, input, result.error.issues) };
   const keys = Object.entries(result.data.keys).map(([key, entry]) => {
-    const toUnit = (UNITS_BY_KIND[FRAME_KEY_KINDS[key]!] as Record<string, Convert>)[entry.unit]!;
+    const toUnit = frameKeyRule(key)!.units[entry.unit]!;
     const scale = entry.scale ?? 1;
     const offset = entry.offset ?? 0;
     return { key, column: entry.column, convert: (x: number) => toUnit(x * scale + offset) };

@@ -9,9 +9,9 @@ import { createReadStream, readFileSync, statSync } from 'node:fs';
 import { basename, extname } from 'node:path';
 import { InputError } from '../errors.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
-import { FRAME_SLOTS, PACKED_AFTER_RECONNECT, packFrame } from './frame-batch.js';
+import { FRAME_SLOTS, PACKED_AFTER_RECONNECT, packFrame, packReject, type PackedFrameBatch } from './frame-batch.js';
 import { csvRow, splitCsvLine } from './csv.js';
-import { createLineJudge, cutReason, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
+import { createLineJudge, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
 import {
   acceptAsciiFrameBytes,
   acceptedFrameTime,
@@ -25,6 +25,8 @@ import {
 } from './frame-line.js';
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
 import { applyMapping, missingColumnProblems, parseMapping, type ColumnMapping } from './mapping.js';
+import { lineTooLong, rejected } from './rejections.js';
+import { systemErrorWords } from '../system-errors.js';
 
 export interface FileLine extends DecodedLine {
   /** Receive time (ms since the epoch) for lines read from a recording. */
@@ -44,22 +46,14 @@ export interface ReadFrameOptions {
   onProgress?(bytesRead: number, totalBytes: number): void;
 }
 
-function describeErrno(err: unknown): string {
-  const code = (err as NodeJS.ErrnoException).code;
-  if (code === 'ENOENT') return 'no such file';
-  if (code === 'EISDIR') return 'is a directory';
-  if (code === 'EACCES') return 'permission denied';
-  return (err as Error).message;
-}
-
-export function loadMappingFile(path: string): ColumnMapping {
+function loadMappingFile(path: string): ColumnMapping {
   let json: unknown;
   try {
     json = JSON.parse(readFileSync(path, 'utf8').replace(/^\uFEFF/, ''));
   } catch (err) {
     if (err instanceof SyntaxError)
       throw new InputError([`${basename(path)}: the mapping file is not valid JSON (${err.message})`]);
-    throw new InputError([`${path}: cannot read the mapping file (${describeErrno(err)})`]);
+    throw new InputError([`${path}: cannot read the mapping file (${systemErrorWords(err)})`]);
   }
   const result = parseMapping(json, basename(path));
   if (!result.ok) throw new InputError(result.problems);
@@ -135,7 +129,7 @@ export async function* physicalBatches(
     if (st.isDirectory()) throw Object.assign(new Error('is a directory'), { code: 'EISDIR' });
     size = st.size;
   } catch (err) {
-    throw new InputError([`${path}: cannot read the telemetry file (${describeErrno(err)})`]);
+    throw new InputError([`${path}: cannot read the telemetry file (${systemErrorWords(err)})`]);
   }
   const splitter = createLineSplitter(FILE_LINE_CAP_BYTES);
   const stream = createReadStream(path, { highWaterMark: 64 * 1024 });
@@ -237,7 +231,7 @@ export async function* physicalBatches(
     }
   } catch (err) {
     if (err instanceof InputError) throw err;
-    throw new InputError([`${path}: read error after ${physicalNo} lines (${describeErrno(err)})`]);
+    throw new InputError([`${path}: read error after ${physicalNo} lines (${systemErrorWords(err)})`]);
   }
   const last: PhysicalLine[] = [];
   fromSplitter(splitter.end(), last);
@@ -278,18 +272,10 @@ export async function* readFrameBatches(
   }
 }
 
-/** The accepted frames of a batch of lines packed for another thread (frame-batch.ts), and the rejected lines. */
-export interface PackedFrameBatch {
-  frames: Float64Array<ArrayBuffer>;
-  count: number;
-  /** Rejected lines in order: line number, reason, line number, reason, … */
-  rejects: Array<number | string>;
-}
-
 /**
  * readFrameBatches for a reader that hands the frames to another thread: each batch's accepted frames packed
  * (packFrame, with the new-segment mark of a clock restart or a reconnect) and its rejected lines with their
- * reasons. A plain NDJSON frame line is read from its bytes straight into the batch, without objects.
+ * codes and words (packReject). A plain NDJSON frame line is read from its bytes straight into the batch, without objects.
  */
 export async function* readFramePackedBatches(
   path: string,
@@ -315,7 +301,7 @@ export async function* readFramePackedBatches(
       if (order.ok) {
         room();
         packAcceptedFrame(frames, count++, order.newSegment);
-      } else rejects.push(physicalNo, order.reason);
+      } else packReject(rejects, physicalNo, order);
       return true;
     },
     line(physical) {
@@ -329,7 +315,7 @@ export async function* readFramePackedBatches(
           line.verdict.frame,
           line.afterReconnect === true ? PACKED_AFTER_RECONNECT : line.newSegment === true,
         );
-      } else rejects.push(line.lineNo, line.verdict.reason);
+      } else packReject(rejects, line.lineNo, line.verdict);
     },
   };
   for await (const _chunk of physicalBatches(path, options, sink)) {
@@ -420,15 +406,15 @@ export function createLineReader(path: string, mappingPath: string | undefined, 
         return null;
       }
       if (entry.kind === 'bad') {
-        verdict = { ok: false, reason: entry.reason };
+        verdict = rejected({ code: 'bad_record', detail: entry.reason });
       } else {
         shown = lineText(entry.bytes);
         receivedAtMs = entry.receivedAtMs;
         if (!entry.cut && isBlank(shown)) return null;
-        verdict = entry.cut ? { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) } : jsonVerdict(shown);
+        verdict = entry.cut ? lineTooLong(DEFAULT_MAX_LINE_BYTES) : jsonVerdict(shown);
       }
     } else if (cut) {
-      verdict = { ok: false, reason: cutReason(DEFAULT_MAX_LINE_BYTES) };
+      verdict = lineTooLong(DEFAULT_MAX_LINE_BYTES);
     } else if (isBlank(text)) {
       return null;
     } else if (format === 'csv') {

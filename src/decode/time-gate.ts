@@ -6,8 +6,10 @@
  */
 export const RESTART_RUN = 5;
 
+import { TIME_NOT_INCREASING, type Rejected } from './rejections.js';
+
 export interface TimeGate {
-  check(tS: number): { ok: true; newSegment: boolean } | { ok: false; reason: 'time not increasing' };
+  check(tS: number): { ok: true; newSegment: boolean } | Rejected;
   reset(): void;
 }
 
@@ -31,7 +33,7 @@ export function createTimeGate(): TimeGate {
         runLength = 0;
         return { ok: true, newSegment: true };
       }
-      return { ok: false, reason: 'time not increasing' };
+      return TIME_NOT_INCREASING;
     },
     reset() {
       lastS = undefined;

@@ -65,12 +65,6 @@ function isoTime(ms: number): string {
   return new Date(ms).toISOString();
 }
 
-/** The stable code of a rejection, when the decoder gives one. */
-function codeOf(verdict: { reason: string }): string | undefined {
-  const code = (verdict as { code?: unknown }).code;
-  return typeof code === 'string' ? code : undefined;
-}
-
 export function createPipeline(options: PipelineOptions): Pipeline {
   const clock = options.clock ?? systemClock;
   const { source, recorder, sinks } = options;
@@ -115,14 +109,14 @@ export function createPipeline(options: PipelineOptions): Pipeline {
           ? `line ${decoded.lineNo} (received ${isoTime(decoded.receivedAtMs)})`
           : `line ${decoded.lineNo}`;
     if (!verdict.ok) {
-      health.rejected(verdict.reason);
-      sinks.rejected(decoded, where(), verdict.reason, codeOf(verdict));
+      health.rejected(verdict);
+      sinks.rejected(decoded, where(), verdict.reason, verdict.code);
       return;
     }
     const rec = engine.push(verdict.frame, decoded);
     if (rec === null) {
       const why = engine.rejection()!;
-      health.rejected(why.reason);
+      health.rejected(why);
       sinks.rejected(decoded, where(), why.reason, why.code);
       return;
     }

@@ -9,6 +9,7 @@ import { closeSync, fsyncSync, openSync, writeSync } from 'node:fs';
 import { InputError } from '../errors.js';
 import type { ReceivedLine, SourceStatus } from '../sources/source.js';
 import { encodeHeader, encodeLine, encodeLinkEvent } from './format.js';
+import { systemErrorWords } from '../system-errors.js';
 
 export const FLUSH_INTERVAL_MS = 500;
 /** Data held while the disk refuses writes; beyond it the oldest lines are dropped (and counted). */
@@ -49,14 +50,7 @@ export function openRecorder(options: RecorderOptions): Recorder {
       throw new InputError([
         `${options.path}: the recording file exists; choose another name or add --force to overwrite it`,
       ]);
-    const why =
-      code === 'ENOENT'
-        ? 'no such directory'
-        : code === 'EACCES'
-          ? 'permission denied'
-          : code === 'EISDIR'
-            ? 'is a directory'
-            : (err as Error).message;
+    const why = systemErrorWords(err, { ENOENT: 'no such directory' });
     throw new InputError([`${options.path}: cannot create the recording file (${why})`]);
   }
   let pending: Buffer[] = [encodeHeader(options.sourceLabel, clock())];
@@ -89,8 +83,7 @@ export function openRecorder(options: RecorderOptions): Recorder {
       // Keep what was not written for the next attempt.
       pending = [data.subarray(offset)];
       pendingBytes = data.length - offset;
-      const code = (err as NodeJS.ErrnoException).code;
-      const why = code === 'ENOSPC' ? 'disk full' : (err as Error).message;
+      const why = systemErrorWords(err);
       lastError = `recording write failed: ${why}${droppedLines ? ` (${droppedLines} lines dropped)` : ''}`;
     }
     written += offset;

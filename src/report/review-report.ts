@@ -56,7 +56,7 @@ export function reviewToJson(review: FlightReview, ctx: ReviewContext) {
     frames: review.frames,
     accepted: review.accepted,
     rejected: review.rejected,
-    rejects: review.rejects.map((r) => ({ line: r.line, reason: r.reason })),
+    rejects: review.rejects.map((r) => ({ line: r.line, reason: r.reason, code: r.code, key: r.key, got: r.got })),
     duration_s: roundTo(review.durationS, 6),
     events: review.events.map(eventJson),
     peaks: {
@@ -318,9 +318,9 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
     out.push(`${review.rejected} line${review.rejected === 1 ? '' : 's'} rejected (not used in the computation):`, '');
     out.push(
       ...mdTable(
-        ['Line', 'Reason'],
-        review.rejects.map((r) => [String(r.line), r.reason]),
-        [true, false],
+        ['Line', 'Code', 'Reason'],
+        review.rejects.map((r) => [String(r.line), r.code, r.reason]),
+        [true, false, false],
       ),
     );
     if (review.rejected > review.rejects.length)

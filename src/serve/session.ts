@@ -13,18 +13,19 @@ import type { MarginOptions } from '../core/margins.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import { createFrameDecoder } from '../decode/frame-decoder.js';
 import { createLineSplitter } from '../decode/line-splitter.js';
+import { rejectionWords, type RejectCode } from '../decode/rejections.js';
 import type { ReceivedLine } from '../sources/source.js';
 
 /** The answer to a line that is not an accepted frame. */
 export interface ServeErrorAnswer {
   /** Why the line was refused (the same reasons the monitor shows). */
   error: string;
+  /** The stable code of the reason (README lists them). */
+  code: RejectCode;
   /** The line's number on this connection (1-based, blank lines not counted); absent for an empty message. */
   line?: number;
   /** The line's t_s when it could be read, so the client can match the answer. */
   t_s?: number;
-  /** The stable rejection code, when there is one. */
-  code?: string;
 }
 
 export type ServeAnswer = MarginRecord | ServeErrorAnswer;
@@ -56,7 +57,7 @@ export interface ServeSession {
   finish(): LimitEvent[];
 }
 
-export const EMPTY_MESSAGE_REASON = 'empty message (no frame in it)';
+export const EMPTY_MESSAGE_REASON = rejectionWords({ code: 'empty_message' });
 
 export function createServeSession(aircraft: Aircraft, options: ServeSessionOptions): ServeSession {
   const clock = options.clock ?? Date.now;
@@ -78,7 +79,7 @@ export function createServeSession(aircraft: Aircraft, options: ServeSessionOpti
         stats.lines++;
         const verdict = decoded.verdict;
         if (!verdict.ok) {
-          const answer: ServeErrorAnswer = { error: verdict.reason, line: decoded.lineNo };
+          const answer: ServeErrorAnswer = { error: verdict.reason, code: verdict.code, line: decoded.lineNo };
           const tS = readTime(decoded.text);
           if (tS !== undefined) answer.t_s = tS;
           answers.push(answer);
@@ -97,7 +98,7 @@ export function createServeSession(aircraft: Aircraft, options: ServeSessionOpti
       }
       if (answers.length === 0 && rawLines.every((l) => l.bytes.toString('utf8').trim() === '')) {
         stats.errors++;
-        answers.push({ error: EMPTY_MESSAGE_REASON });
+        answers.push({ error: EMPTY_MESSAGE_REASON, code: 'empty_message' });
       }
       return answers;
     },

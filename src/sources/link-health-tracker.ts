@@ -2,28 +2,22 @@
  * Builds LinkHealth from what the pipeline sees. Pure bookkeeping: every call carries the time (receive clock, ms),
  * nothing here reads a clock.
  */
-import type { LinkHealth, LinkState } from './link-health.js';
+import { rejectionGroupWords, type Rejection } from '../decode/rejections.js';
+import { STALE_AFTER_S, type LinkHealth, type LinkState, type RejectCount } from './link-health.js';
 import type { SourceStatus } from './source.js';
 
-/** No accepted frame for this long on an open link → "stale". */
-export const STALE_AFTER_MS = 1000;
 /** A t_s jump above this between accepted frames counts as a gap. */
-export const GAP_S = 0.5;
+const GAP_S = 0.5;
 const BUCKET_MS = 100;
 const WINDOW_BUCKETS = 10;
-const MAX_REASON_KINDS = 40;
-
-/** Reason without the offending value, so that counts group ("tas_mps must be … (got "x")" → "tas_mps must be …"). */
-export function reasonKind(reason: string): string {
-  return reason.replace(/ \(got .*\)$/, '');
-}
 
 export interface LinkHealthTracker {
   status(s: SourceStatus): void;
   /** A line arrived (before judging): counts its bytes. Blank lines count as bytes, not as lines. */
   line(byteCount: number, atMs: number): void;
   accepted(tS: number, atMs: number, newSegment: boolean): void;
-  rejected(reason: string): void;
+  /** A line was rejected: counted by its code (and key). */
+  rejected(rejection: Rejection): void;
   /** Recording facts, supplied by the recorder's owner at snapshot time. */
   snapshot(nowMs: number, recording?: { file: string; bytes: number; error: string | null }): LinkHealth;
 }
@@ -33,7 +27,8 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
   let opens = 0;
   let accepted = 0;
   let rejected = 0;
-  const rejectedByReason: Record<string, number> = {};
+  // Keyed by code and frame key: codes and keys are finite sets, so the map stays small.
+  const rejectedByCode = new Map<string, RejectCount>();
   let gaps = 0;
   let clockRestarts = 0;
   let lastTS: number | undefined;
@@ -94,11 +89,12 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
       lastFrameMs = atMs;
       bucketFrames[bucket(atMs)]! += 1;
     },
-    rejected(reason) {
+    rejected(r) {
       rejected += 1;
-      let kind = reasonKind(reason);
-      if (!(kind in rejectedByReason) && Object.keys(rejectedByReason).length >= MAX_REASON_KINDS) kind = 'other';
-      rejectedByReason[kind] = (rejectedByReason[kind] ?? 0) + 1;
+      const id = r.key === undefined ? r.code : `${r.code} ${r.key}`;
+      const group = rejectedByCode.get(id);
+      if (group) group.count += 1;
+      else rejectedByCode.set(id, { code: r.code, key: r.key ?? null, count: 1, words: rejectionGroupWords(r) });
     },
     snapshot(nowMs, recording) {
       // Rates over the last whole buckets only (the current one is still filling): a steady stream reads its true
@@ -117,7 +113,7 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
       const windowS = (fullBuckets * BUCKET_MS) / 1000;
       let shown = state;
       const quietSinceMs = Math.max(lastFrameMs ?? openedMs, openedMs);
-      if (state === 'live' && nowMs - quietSinceMs > STALE_AFTER_MS) shown = 'stale';
+      if (state === 'live' && nowMs - quietSinceMs > STALE_AFTER_S * 1000) shown = 'stale';
       return {
         source,
         state: shown,
@@ -126,7 +122,7 @@ export function createLinkHealthTracker(source: string, startMs: number): LinkHe
         lines: accepted + rejected,
         accepted,
         rejected,
-        rejectedByReason: { ...rejectedByReason },
+        rejectedByCode: [...rejectedByCode.values()].map((g) => ({ ...g })).sort((a, b) => b.count - a.count),
         gaps,
         clockRestarts,
         sinceLastFrameS: lastFrameMs === undefined ? null : Math.max(0, (nowMs - lastFrameMs) / 1000),
@@ -148,8 +144,7 @@ export function formatLinkSummary(h: LinkHealth): string {
     `  ${h.framesPerS.toFixed(1)} frames/s, ${h.bytesPerS.toFixed(0)} bytes/s (last seconds); ` +
       (h.sinceLastFrameS === null ? 'no frame received' : `last frame ${h.sinceLastFrameS.toFixed(2)} s ago`),
   ];
-  const reasons = Object.entries(h.rejectedByReason).sort((a, b) => b[1] - a[1]);
-  for (const [reason, count] of reasons) lines.push(`  rejected ${count}× ${reason}`);
+  for (const g of h.rejectedByCode) lines.push(`  rejected ${g.count}× [${g.code}] ${g.words}`);
   if (h.recordingFile)
     lines.push(
       `  recording ${h.recordingFile}: ${h.recordingBytes} bytes${h.recordingError ? ` — ${h.recordingError}` : ''}`,

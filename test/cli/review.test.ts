@@ -74,13 +74,25 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(out.frames).toBe(307);
     expect(out.accepted).toBe(301);
     expect(out.rejected).toBe(6);
+    // Each rejected line with its stable code, the key at fault and the offending value (README's codes table).
     expect(out.rejects).toEqual([
-      { line: 32, reason: expect.any(String) },
-      { line: 43, reason: 'time not increasing' },
-      { line: 95, reason: expect.stringContaining('tas_mps') },
-      { line: 156, reason: expect.stringContaining('alt_m') },
-      { line: 202, reason: expect.stringContaining('airspeed') },
-      { line: 273, reason: expect.any(String) },
+      { line: 32, reason: 'invalid JSON', code: 'invalid_json' },
+      { line: 43, reason: 'time not increasing', code: 'time_not_increasing' },
+      {
+        line: 95,
+        reason: 'tas_mps must be a number from 0 to 300 m/s (got "fast")',
+        code: 'wrong_type',
+        key: 'tas_mps',
+        got: '"fast"',
+      },
+      { line: 156, reason: 'alt_m is required', code: 'missing_key', key: 'alt_m' },
+      {
+        line: 202,
+        reason: 'exactly one airspeed key is allowed (got ias_mps and tas_mps)',
+        code: 'conflicting_keys',
+        got: 'ias_mps and tas_mps',
+      },
+      { line: 273, reason: 'invalid JSON (NaN or Infinity is not a finite number)', code: 'invalid_json' },
     ]);
     expect(out.duration_s).toBeCloseTo(30, 9);
 
@@ -150,7 +162,7 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     expect(md).toContain('**Example airframe**');
     expect(md).toContain('2 warning events and 6 caution events');
     expect(md).toMatch(/\| 2 \| stall \| WARNING \| 11\.00 \| 13\.00 \| 2\.00 \| 94\.3 % \|/);
-    expect(md).toContain('| 43 | time not increasing |');
+    expect(md).toContain('| 43 | time_not_increasing | time not increasing |');
     // the last stall caution is still on when the data end; the one closed at 18.00 is not marked
     expect(md).toMatch(/\| 8 \| stall \| CAUTION \| 29\.50 \| 30\.00 \(end of data\) \|/);
     expect(md).toMatch(/\| 3 \| stall \| CAUTION \| 16\.00 \| 18\.00 \|/);

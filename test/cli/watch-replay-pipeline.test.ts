@@ -66,7 +66,7 @@ describe('live pipeline (memory source)', () => {
     p.source.emitData(frameLine({ t_s: 0, tas_mps: -1 }) + '\n');
     expect(p.rejected).toEqual([
       'line 1 at 2026-01-01T12:00:00.000Z: invalid JSON',
-      'line 2 at 2026-01-01T12:00:01.500Z: tas_mps must be a finite number ≥ 0 (got -1)',
+      'line 2 at 2026-01-01T12:00:01.500Z: tas_mps must be a number from 0 to 300 m/s (got -1)',
     ]);
     const h = p.pipeline.health();
     expect(h.rejected).toBe(2);

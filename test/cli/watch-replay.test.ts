@@ -69,8 +69,8 @@ describe.skipIf(!existsSync(CLI))('watch and replay, end to end (built CLI)', ()
     ]) {
       expect(records[0]).toHaveProperty(key);
     }
-    expect(r.stderr).toContain('rejected line 2: invalid JSON: "oops"');
-    expect(r.stderr).toContain('rejected line 4: tas_mps must be a finite number ≥ 0 (got "fast")');
+    expect(r.stderr).toContain('rejected line 2 [invalid_json]: invalid JSON: "oops"');
+    expect(r.stderr).toContain('rejected line 4 [wrong_type]: tas_mps must be a number from 0 to 300 m/s (got "fast")');
     expect(r.stderr).toMatch(/link summary — file .*flight\.ndjson: ended\n\s+lines 4, accepted 2, rejected 2/);
   });
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { createRateEstimator, leastSquaresSlope } from '../../src/core/rate-estimator.js';
+import { createEnergyRateTracker, createRateEstimator, leastSquaresSlope } from '../../src/core/rate-estimator.js';
 
 /** A seeded normal generator (Box–Muller over a 32-bit LCG; Numerical Recipes constants), for reproducible noise. */
 function gaussian(seed: number): () => number {
@@ -119,5 +119,26 @@ describe('the rate estimator', () => {
   it('refuses a window that is not a positive number of seconds', () => {
     expect(() => createRateEstimator(0)).toThrow(/positive/);
     expect(() => createRateEstimator(Number.NaN)).toThrow(/positive/);
+  });
+});
+
+describe('the energy rate tracker', () => {
+  it('gives dV/dt and dh/dt of straight lines together and restarts both at a break', () => {
+    // Straight lines have exact least-squares slopes (normal equations of linear regression).
+    const rates = createEnergyRateTracker(1.0);
+    let last = rates.push(0, 20, 100);
+    for (let i = 1; i <= 20; i++) last = rates.push(i * 0.1, 20 - 0.4 * i * 0.1, 100 + 3 * i * 0.1);
+    expect(last.dvdtMps2).toBeCloseTo(-0.4, 9);
+    expect(last.dhdtMps).toBeCloseTo(3, 9);
+    rates.reset();
+    expect(rates.push(2.1, 19, 106)).toEqual({ dvdtMps2: null, dhdtMps: null });
+  });
+
+  it('keeps each rate to its own key: a frame without altitude still counts for the speed', () => {
+    const rates = createEnergyRateTracker(1.0);
+    let last = rates.push(0, 20, null);
+    for (let i = 1; i <= 10; i++) last = rates.push(i * 0.1, 20 + i * 0.1, null);
+    expect(last.dvdtMps2).toBeCloseTo(1, 9);
+    expect(last.dhdtMps).toBeNull();
   });
 });

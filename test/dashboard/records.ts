@@ -32,7 +32,7 @@ export function link(overrides: Partial<LinkHealth> = {}): LinkHealth {
     lines: 100,
     accepted: 98,
     rejected: 2,
-    rejectedByReason: { 'time not increasing': 2 },
+    rejectedByCode: [{ code: 'time_not_increasing', key: null, count: 2, words: 'time not increasing' }],
     gaps: 0,
     clockRestarts: 0,
     sinceLastFrameS: 0.05,

@@ -19,11 +19,16 @@ const MIXED_STREAM = Buffer.concat([
   Buffer.from('{"t_s":0.7,"alt_m":5,"nz":1}\n'), // missing airspeed
   Buffer.from(frameLine({ t_s: 0.8 }) + '\n' + frameLine({ t_s: 0.9 }) + '\r\n'), // several frames in one read
   Buffer.from(frameLine({ t_s: 1.0, alt_m: 30000 }) + '\n'),
+  Buffer.from(frameLine({ t_s: 1.05, throttle: 0.5, simulated: true }) + '\n'), // the newer keys
+  Buffer.from(frameLine({ t_s: 1.06, throttle: 1.5 }) + '\n'),
+  Buffer.from(frameLine({ t_s: 1.07, simulated: 'yes' }) + '\n'),
   Buffer.from('{"t_s":1.1,"tas_mps":20,"al'), // truncated last line
 ]);
 
 function summarize(lines: DecodedLine[]): string[] {
-  return lines.map((l) => `${l.lineNo}:${l.verdict.ok ? `ok ${l.verdict.frame.tS}` : l.verdict.reason}`);
+  return lines.map(
+    (l) => `${l.lineNo}:${l.verdict.ok ? `ok ${l.verdict.frame.tS}` : `[${l.verdict.code}] ${l.verdict.reason}`}`,
+  );
 }
 
 function decodeInChunks(bytes: Buffer, cuts: number[]): DecodedLine[] {
@@ -44,20 +49,23 @@ describe('frame decoder', () => {
   it('judges every bad input with its reason and keeps the good frames', () => {
     expect(whole).toEqual([
       '1:ok 0',
-      '2:invalid JSON',
-      '3:binary noise (control or invalid bytes)',
-      '4:tas_mps must be a finite number ≥ 0 (got "fast")',
-      '5:NaN or Infinity is not a finite number',
-      '6:tas_mps must be a finite number ≥ 0 (got -1)',
-      '7:exactly one airspeed key is allowed (got ias_mps and tas_mps)',
-      '8:bank_deg must be a number from -180 to 180 deg (got 200)',
+      '2:[invalid_json] invalid JSON',
+      '3:[binary_noise] binary noise (control or invalid bytes)',
+      '4:[wrong_type] tas_mps must be a number from 0 to 300 m/s (got "fast")',
+      '5:[invalid_json] invalid JSON (NaN or Infinity is not a finite number)',
+      '6:[out_of_range] tas_mps must be a number from 0 to 300 m/s (got -1)',
+      '7:[conflicting_keys] exactly one airspeed key is allowed (got ias_mps and tas_mps)',
+      '8:[out_of_range] bank_deg must be a number from -180 to 180 deg (got 200)',
       '9:ok 0.6',
-      '10:time not increasing',
-      '11:an airspeed is required (one of ias_mps, cas_mps, tas_mps)',
+      '10:[time_not_increasing] time not increasing',
+      '11:[missing_key] an airspeed is required (one of ias_mps, cas_mps, tas_mps)',
       '12:ok 0.8',
       '13:ok 0.9',
-      '14:alt_m must be a number from -500 to 20000 m (got 30000)',
-      '15:invalid JSON (truncated line?)',
+      '14:[out_of_range] alt_m must be a number from -500 to 20000 m (got 30000)',
+      '15:ok 1.05',
+      '16:[out_of_range] throttle must be a number from 0 to 1 (got 1.5)',
+      '17:[wrong_type] simulated must be true or false (got "yes")',
+      '18:[invalid_json] invalid JSON (truncated line?)',
     ]);
   });
 
@@ -91,14 +99,14 @@ describe('frame decoder', () => {
     const out: DecodedLine[] = [];
     for (let i = 0; i < 50; i++) out.push(...decoder.push('x'.repeat(40))); // 2 000 bytes, no newline
     out.push(...decoder.push('\n' + frameLine({ t_s: 5 }) + '\n'));
-    expect(summarize(out)).toEqual(['1:line longer than 100 bytes (cut)', '2:ok 5']);
+    expect(summarize(out)).toEqual(['1:[line_too_long] line longer than 100 bytes (cut)', '2:ok 5']);
     expect(out[0]!.text).toHaveLength(100);
   });
 
   it('caps lines at 64 KiB by default', () => {
     const decoder = createFrameDecoder();
     const out = [...decoder.push(Buffer.alloc(70 * 1024, 0x41)), ...decoder.push('\n')];
-    expect(summarize(out)).toEqual(['1:line longer than 65536 bytes (cut)']);
+    expect(summarize(out)).toEqual(['1:[line_too_long] line longer than 65536 bytes (cut)']);
   });
 
   it('marks the frame that starts a new clock segment', () => {

@@ -6,7 +6,6 @@ import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import {
   acceptFrameFast,
-  FRAME_BOUNDS,
   judgeAsciiFrameBytes,
   parseAsciiFrameLine,
   parseFrameLine,
@@ -14,10 +13,17 @@ import {
   validateWithSchema,
   type FrameVerdict,
 } from '../../src/decode/frame-line.js';
+import { FRAME_KEYS as FRAME_KEY_TABLE } from '../../src/decode/frame-keys.js';
 
-const FRAME_KEYS = ['t_s', 'ias_mps', 'cas_mps', 'tas_mps', 'alt_m', 'bank_deg', 'nz', 'oat_c', 'mass_kg'] as const;
+const FRAME_KEYS = FRAME_KEY_TABLE.map((r) => r.key);
 
-/** Numbers at and just beyond every bound, and the awkward ones (−0, NaN, ±Infinity, the smallest positive). */
+/** Just beyond x (a step well above the rounding of x, so that the neighbour is a different double). */
+const beyond = (x: number, sign: 1 | -1): number => x + sign * Math.max(Math.abs(x) * 1e-15, 1e-9);
+
+/**
+ * Numbers at and just beyond every bound of the table, and the awkward ones (−0, NaN, ±Infinity, the smallest
+ * positive).
+ */
 const EDGE_NUMBERS = [
   0,
   -0,
@@ -30,34 +36,13 @@ const EDGE_NUMBERS = [
   Infinity,
   -Infinity,
   Number.MAX_VALUE,
-  FRAME_BOUNDS.altMinM,
-  FRAME_BOUNDS.altMinM - 1e-9,
-  FRAME_BOUNDS.altMaxM,
-  FRAME_BOUNDS.altMaxM + 1e-9,
-  FRAME_BOUNDS.bankMaxAbsDeg,
-  -FRAME_BOUNDS.bankMaxAbsDeg,
-  FRAME_BOUNDS.bankMaxAbsDeg + 1e-9,
-  -FRAME_BOUNDS.bankMaxAbsDeg - 1e-9,
-  FRAME_BOUNDS.nzMaxAbs,
-  -FRAME_BOUNDS.nzMaxAbs,
-  FRAME_BOUNDS.nzMaxAbs + 1e-9,
-  -FRAME_BOUNDS.nzMaxAbs - 1e-9,
-  FRAME_BOUNDS.oatMinC,
-  FRAME_BOUNDS.oatMaxC,
-  FRAME_BOUNDS.oatMinC - 1e-9,
-  FRAME_BOUNDS.oatMaxC + 1e-9,
-  FRAME_BOUNDS.massMaxKg,
-  FRAME_BOUNDS.massMaxKg + 1e-9,
-  FRAME_BOUNDS.timeMaxAbsS,
-  -FRAME_BOUNDS.timeMaxAbsS,
-  FRAME_BOUNDS.timeMaxAbsS + 1e-6,
-  -FRAME_BOUNDS.timeMaxAbsS - 1e-6,
   1e308,
   -1e308,
-  FRAME_BOUNDS.airspeedMaxMps,
-  FRAME_BOUNDS.airspeedMaxMps + 1e-9,
   500,
   1000,
+  ...FRAME_KEY_TABLE.flatMap((r) =>
+    r.type === 'number' ? [r.min, r.max, beyond(r.min, -1), beyond(r.max, 1), -r.max, beyond(-r.max, -1)] : [],
+  ),
 ];
 
 const anyValue: fc.Arbitrary<unknown> = fc.oneof(
@@ -89,13 +74,15 @@ const nearlyValidFrame: fc.Arbitrary<Record<string, unknown>> = fc
     fc.constantFrom('ias_mps', 'cas_mps', 'tas_mps'),
     fc.constantFrom<ReadonlyArray<string>>(['bank_deg'], ['nz'], ['bank_deg', 'nz']),
     fc.constantFrom(...FRAME_KEYS, 'none'),
+    fc.constantFrom<unknown>(undefined, true, false),
     anyValue,
     fc.boolean(),
   )
-  .map(([speedKey, attitude, disturbed, value, withOptional]) => {
+  .map(([speedKey, attitude, disturbed, simulated, value, withOptional]) => {
     const obj: Record<string, unknown> = { t_s: 12.5, [speedKey]: 18, alt_m: 120 };
     for (const k of attitude) obj[k] = k === 'nz' ? 1.3 : -35;
-    if (withOptional) Object.assign(obj, { oat_c: 11, mass_kg: 3.2 });
+    if (withOptional) Object.assign(obj, { oat_c: 11, mass_kg: 3.2, throttle: 0.75 });
+    if (simulated !== undefined) obj['simulated'] = simulated;
     if (disturbed !== 'none') obj[disturbed] = value;
     return obj;
   });
@@ -144,6 +131,17 @@ describe('frame validation fast path', () => {
       { t_s: 1, cas_mps: 500, alt_m: 15_000, bank_deg: 10 },
       { t_s: 1, tas_mps: 20, ias_mps: 1000, alt_m: 0, nz: 1 },
       { t_s: 1, tas_mps: Infinity, alt_m: 0, nz: 1 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, throttle: 0, simulated: true },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, throttle: 1, simulated: false },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, throttle: null, simulated: null },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, throttle: 1.01 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, throttle: -0.01 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, throttle: true },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, simulated: 1 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, simulated: 'true' },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: true },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, mass_kg: 0.05 },
+      { t_s: 1, tas_mps: 20, alt_m: 0, nz: 1, mass_kg: 0.0499 },
       JSON.parse('{"__proto__":{"t_s":1},"tas_mps":20,"alt_m":0,"nz":1}'),
       {},
       [],
@@ -320,6 +318,11 @@ const keyText = fc.constantFrom(
   't\\u005fs',
   'oat_m',
   'tas_kgs',
+  'throttle',
+  'simulated',
+  'throttlE',
+  'simulate',
+  'bank_dex',
 );
 
 /** Flat objects of frame keys in any order with any spacing, sometimes broken. */
@@ -359,7 +362,7 @@ describe('reading a frame straight from the bytes of an ASCII line', () => {
         expect(withoutRaw(v)).toEqual(expected);
         if (v.ok && expected.ok) {
           // −0 and the exact doubles of JSON.parse, key by key.
-          for (const key of ['tS', 'airspeedMps', 'altM', 'bankDeg', 'nz', 'oatC', 'massKg'] as const) {
+          for (const key of ['tS', 'airspeedMps', 'altM', 'bankDeg', 'nz', 'oatC', 'massKg', 'throttle'] as const) {
             expect(Object.is(v.frame[key], expected.frame[key])).toBe(true);
           }
         }

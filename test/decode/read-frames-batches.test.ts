@@ -9,7 +9,8 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { createFrameDecoder } from '../../src/decode/frame-decoder.js';
 import { DEFAULT_MAX_LINE_BYTES } from '../../src/decode/line-splitter.js';
-import { FRAME_SLOTS, packedNewSegment, packFrame, unpackFrame } from '../../src/decode/frame-batch.js';
+import { FRAME_SLOTS, packedNewSegment, packFrame, unpackFrame, unpackRejects } from '../../src/decode/frame-batch.js';
+import type { Rejected } from '../../src/decode/rejections.js';
 import { readFrameBatches, readFramePackedBatches, readFrameFile } from '../../src/decode/read-frames.js';
 import type { Frame } from '../../src/core/frame.js';
 import { encodeHeader, encodeLine, encodeLinkEvent } from '../../src/recording/format.js';
@@ -196,27 +197,30 @@ describe('readFrameFile reading by chunks', () => {
 /** Accepted frames (with the restart mark) and rejected lines, as readFrameFile gives them. */
 async function framesAndRejects(
   path: string,
-): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, string]> }> {
+): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, Rejected]> }> {
   const frames: Array<[Frame, boolean]> = [];
-  const rejects: Array<[number, string]> = [];
+  const rejects: Array<[number, Rejected]> = [];
   for await (const l of readFrameFile(path)) {
     if (l.verdict.ok) frames.push([l.verdict.frame, l.newSegment === true || l.afterReconnect === true]);
-    else rejects.push([l.lineNo, l.verdict.reason]);
+    else {
+      // The packed batch carries what every output shows: words, code, key, value (not the words' inner detail).
+      const { detail: _detail, ...carried } = l.verdict;
+      rejects.push([l.lineNo, carried]);
+    }
   }
   return { frames, rejects };
 }
 
 async function packedFramesAndRejects(
   path: string,
-): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, string]> }> {
+): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, Rejected]> }> {
   const frames: Array<[Frame, boolean]> = [];
-  const rejects: Array<[number, string]> = [];
+  const rejects: Array<[number, Rejected]> = [];
   for await (const batch of readFramePackedBatches(path)) {
     expect(batch.frames.length).toBeGreaterThanOrEqual(batch.count * FRAME_SLOTS);
     for (let i = 0; i < batch.count; i++)
       frames.push([unpackFrame(batch.frames, i), packedNewSegment(batch.frames, i)]);
-    for (let i = 0; i < batch.rejects.length; i += 2)
-      rejects.push([batch.rejects[i] as number, batch.rejects[i + 1] as string]);
+    for (const { lineNo, rejected } of unpackRejects(batch.rejects)) rejects.push([lineNo, rejected]);
     // As the review does: the batch's array goes to another thread, leaving it detached here.
     structuredClone(batch.frames.buffer, { transfer: [batch.frames.buffer] });
   }

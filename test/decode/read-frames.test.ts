@@ -53,7 +53,7 @@ describe('readFrameFile', () => {
     expect(brief(lines)).toEqual([
       '4:ok 0',
       '6:ok 0.1',
-      '7:tas_mps must be a finite number ≥ 0 (got "fast")',
+      '7:tas_mps must be a number from 0 to 300 m/s (got "fast")',
       '8:expected 6 columns (got 5)',
       '9:ok 0.4',
     ]);

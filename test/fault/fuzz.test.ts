@@ -10,7 +10,9 @@ import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createMarginTracker } from '../../src/core/margins.js';
 import { createFrameDecoder, type DecodedLine } from '../../src/decode/frame-decoder.js';
-import { FRAME_BOUNDS, parseFrameLine } from '../../src/decode/frame-line.js';
+import { REJECT_CODES, rejectionWords } from '../../src/decode/rejections.js';
+import { parseFrameLine } from '../../src/decode/frame-line.js';
+import { FRAME_KEYS } from '../../src/decode/frame-keys.js';
 import { EXAMPLE_AIRFRAME_PATH, exampleAirframe } from '../helpers/airframes.js';
 import { fuzzLines, KNOWN_REASON, seededRandom, type FuzzLine } from '../helpers/fuzz-lines.js';
 import { CLI_PATH, REPO_ROOT } from '../helpers/run-cli.js';
@@ -107,6 +109,7 @@ describe('fuzz: 100 000 random and mutated lines', () => {
 
   it('gives every bad line a known reason, the same as judging the line alone (or time order / the length cap)', () => {
     const reasons = new Map<string, number>();
+    const codes = new Set<string>();
     const wrong: string[] = [];
     for (let i = 0; i < LINE_COUNT; i++) {
       const d = decoded[i]!;
@@ -120,8 +123,14 @@ describe('fuzz: 100 000 random and mutated lines', () => {
       const reason = d.verdict.reason;
       const expected =
         alone === null ? 'line longer than 65536 bytes (cut)' : alone.ok ? 'time not increasing' : alone.reason;
+      const expectedCode = alone === null ? 'line_too_long' : alone.ok ? 'time_not_increasing' : alone.code;
       if (!KNOWN_REASON.test(reason)) wrong.push(`${where}: unknown reason ${JSON.stringify(reason)}`);
       if (reason !== expected) wrong.push(`${where}: ${JSON.stringify(reason)} instead of ${JSON.stringify(expected)}`);
+      if (!REJECT_CODES.includes(d.verdict.code)) wrong.push(`${where}: unknown code ${d.verdict.code}`);
+      if (d.verdict.code !== expectedCode) wrong.push(`${where}: code ${d.verdict.code} instead of ${expectedCode}`);
+      // The words are made from the data: the same code, key and value give the same words.
+      if (rejectionWords(d.verdict) !== reason) wrong.push(`${where}: words not made from the code`);
+      codes.add(d.verdict.code);
       const kind = reason.replace(/ \(got .*\)$/s, '').replace(/^[\w]+ must be .*/s, 'a key out of its rule');
       reasons.set(kind, (reasons.get(kind) ?? 0) + 1);
     }
@@ -130,7 +139,7 @@ describe('fuzz: 100 000 random and mutated lines', () => {
     for (const r of [
       'invalid JSON',
       'binary noise (control or invalid bytes)',
-      'NaN or Infinity is not a finite number',
+      'invalid JSON (NaN or Infinity is not a finite number)',
       'a key out of its rule',
       'time not increasing',
       'line longer than 65536 bytes (cut)',
@@ -140,6 +149,10 @@ describe('fuzz: 100 000 random and mutated lines', () => {
     }
     expect([...reasons.keys()].some((r) => r.startsWith('exactly one airspeed key'))).toBe(true);
     expect([...reasons.keys()].some((r) => r.startsWith('not a JSON object'))).toBe(true);
+    // Every code a stream of frame lines can give was reached (the CSV, recording and serve codes come elsewhere).
+    expect([...codes].sort()).toEqual(
+      REJECT_CODES.filter((c) => !['empty_line', 'column_count', 'bad_record', 'empty_message'].includes(c)).sort(),
+    );
   });
 
   it('accepts only finite, plausible frames, and the margin computation takes every one of them without throwing', () => {
@@ -154,10 +167,17 @@ describe('fuzz: 100 000 random and mutated lines', () => {
       if (![f.tS, f.airspeedMps, f.altM, f.bankDeg ?? 0, f.nz ?? 0, f.oatC ?? 0, f.massKg ?? 1].every(Number.isFinite))
         wrong.push(`${where}: not finite`);
       if (f.airspeedMps < 0) wrong.push(`${where}: negative airspeed`);
-      if (Math.abs(f.bankDeg ?? 0) > FRAME_BOUNDS.bankMaxAbsDeg || Math.abs(f.nz ?? 0) > FRAME_BOUNDS.nzMaxAbs)
-        wrong.push(`${where}: bank or nz out of bounds`);
-      if (f.altM < FRAME_BOUNDS.altMinM || f.altM > FRAME_BOUNDS.altMaxM)
-        wrong.push(`${where}: altitude out of bounds`);
+      for (const rule of FRAME_KEYS) {
+        if (rule.type !== 'number') continue;
+        const value =
+          rule.presence === 'airspeed'
+            ? f.airspeedKind === rule.field
+              ? f.airspeedMps
+              : undefined
+            : (f as unknown as Record<string, number | undefined>)[rule.field];
+        if (value !== undefined && !(value >= rule.min && value <= rule.max))
+          wrong.push(`${where}: ${rule.key} out of bounds`);
+      }
       if (d.newSegment) tracker.reset();
       else if (!(f.tS > lastTS)) wrong.push(`${where}: time not increasing yet accepted`);
       lastTS = f.tS;
@@ -184,9 +204,17 @@ describe('fuzz: 100 000 random and mutated lines', () => {
     // The report lists the first rejected lines with their reason: the same lines, the same reasons.
     expect(report.rejects.length).toBeGreaterThan(0);
     expect(report.rejects).toEqual(
-      bad
-        .slice(0, report.rejects.length)
-        .map((d) => ({ line: d.lineNo, reason: d.verdict.ok ? '' : d.verdict.reason })),
+      bad.slice(0, report.rejects.length).map((d) =>
+        d.verdict.ok
+          ? {}
+          : {
+              line: d.lineNo,
+              reason: d.verdict.reason,
+              code: d.verdict.code,
+              key: d.verdict.key,
+              got: d.verdict.got,
+            },
+      ),
     );
   });
 
@@ -205,7 +233,9 @@ describe('fuzz: 100 000 random and mutated lines', () => {
     expect(r.rejectedLines).toHaveLength(bad.length);
     for (let i = 0; i < bad.length; i += 97) {
       const d = bad[i]!;
-      expect(r.rejectedLines[i]).toContain(`rejected line ${d.lineNo}: ${d.verdict.ok ? '' : d.verdict.reason}`);
+      expect(r.rejectedLines[i]).toContain(
+        d.verdict.ok ? '' : `rejected line ${d.lineNo} [${d.verdict.code}]: ${d.verdict.reason}`,
+      );
     }
     expect(r.stdout.split('\n').filter(Boolean)).toHaveLength(LINE_COUNT - bad.length);
   });

@@ -194,9 +194,8 @@ export function fuzzLines(count: number, seed: number): FuzzLine[] {
 export const KNOWN_REASON = new RegExp(
   '^(' +
     [
-      'invalid JSON( \\(truncated line\\?\\))?',
+      'invalid JSON( \\((truncated line\\?|NaN or Infinity is not a finite number)\\))?',
       'binary noise \\(control or invalid bytes\\)',
-      'NaN or Infinity is not a finite number',
       'not a JSON object \\(got .+\\)',
       '[\\w]+ is required',
       '[\\w]+ must be .+ \\(got .+\\)',

@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { createDecimator, median } from '../../src/core/decimate.js';
 import { createFlightReviewer, MAX_REJECTS_KEPT, PLOT_POINTS_PER_LEVEL } from '../../src/core/flight-review.js';
 import type { Frame } from '../../src/core/frame.js';
+import { INVALID_JSON } from '../../src/decode/rejections.js';
 import { exampleAirframe } from '../helpers/airframes.js';
 
 // The example airframe at 12 m/s TAS, sea level ISA: n_stall = q·S·CLmax/W = 1.85499 (hand computation from
@@ -64,12 +65,12 @@ describe('flight review accumulation', () => {
 
   it('keeps only the first 100 rejected lines but counts all', () => {
     const r = createFlightReviewer(exampleAirframe());
-    for (let i = 1; i <= 250; i++) r.reject(i, 'invalid JSON');
+    for (let i = 1; i <= 250; i++) r.reject(i, INVALID_JSON);
     r.accept(f(0, 1));
     const review = r.finish();
     expect(review.rejected).toBe(250);
     expect(review.rejects).toHaveLength(MAX_REJECTS_KEPT);
-    expect(review.rejects[99]).toEqual({ line: 100, reason: 'invalid JSON' });
+    expect(review.rejects[99]).toEqual({ line: 100, reason: 'invalid JSON', code: 'invalid_json' });
     expect(review.frames).toBe(251);
   });
 

@@ -17,7 +17,7 @@ const f = (tS: number, nz: number, tas = 12): Frame => ({ tS, airspeedKind: 'tas
 function reviewOf(frames: Frame[], rejects = 0, thrustN?: number) {
   const aircraft = exampleAirframe(thrustN !== undefined ? { thrust: { model: 'constant', thrust_n: thrustN } } : {});
   const r = createFlightReviewer(aircraft, { smoothTauS: 0 });
-  for (let i = 1; i <= rejects; i++) r.reject(i, `bad line ${i}`);
+  for (let i = 1; i <= rejects; i++) r.reject(i, { reason: `bad line ${i}`, code: 'invalid_json' });
   for (const fr of frames) r.accept(fr);
   const ctx: ReviewContext = { source: 'flight.ndjson', aircraft, aircraftFile: 'airframe.json' };
   return { review: r.finish(), ctx };
@@ -63,8 +63,8 @@ describe('review renderers', () => {
     const { review, ctx } = reviewOf([f(0, 1)], 130);
     const md = reviewToMarkdown(review, ctx);
     expect(md).toContain('130 lines rejected');
-    expect(md).toContain('| 100 | bad line 100 |');
-    expect(md).not.toContain('| 101 | bad line 101 |');
+    expect(md).toContain('| 100 | invalid_json | bad line 100 |');
+    expect(md).not.toContain('| 101 | invalid_json | bad line 101 |');
     expect(md).toContain('… and 30 more (the first 100 are listed).');
     const json = reviewToJson(review, ctx);
     expect(json.rejected).toBe(130);
@@ -99,9 +99,9 @@ describe('review renderers', () => {
   it('escapes table separators in Markdown cells', () => {
     const aircraft = exampleAirframe();
     const r = createFlightReviewer(aircraft);
-    r.reject(1, 'column a|b is not a number');
+    r.reject(1, { reason: 'column a|b is not a number', code: 'wrong_type', key: 'a|b' });
     r.accept(f(0, 1));
     const md = reviewToMarkdown(r.finish(), { source: 'x', aircraft, aircraftFile: 'y' });
-    expect(md).toContain('| 1 | column a\\|b is not a number |');
+    expect(md).toContain('| 1 | wrong_type | column a\\|b is not a number |');
   });
 });

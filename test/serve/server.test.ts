@@ -124,9 +124,14 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     client.ws.send('\u0000\u0001 line noise');
     client.ws.send(frameLine(0.2));
     const answers = await client.until(5);
-    expect(answers[1]).toEqual({ error: 'tas_mps must be a finite number ≥ 0 (got "fast")', line: 2, t_s: 0.1 });
-    expect(answers[2]).toEqual({ error: 'time not increasing', line: 3, t_s: 0 });
-    expect(answers[3]).toMatchObject({ error: expect.stringMatching(/noise/), line: 4 });
+    expect(answers[1]).toEqual({
+      error: 'tas_mps must be a number from 0 to 300 m/s (got "fast")',
+      code: 'wrong_type',
+      line: 2,
+      t_s: 0.1,
+    });
+    expect(answers[2]).toEqual({ error: 'time not increasing', code: 'time_not_increasing', line: 3, t_s: 0 });
+    expect(answers[3]).toMatchObject({ error: expect.stringMatching(/noise/), code: 'binary_noise', line: 4 });
     expect(answers[4]).toMatchObject({ t_s: 0.2, level: 'normal' });
     expect(client.ws.readyState).toBe(WebSocket.OPEN);
   });
@@ -146,7 +151,10 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     expect((await late.until(1))[0]).toMatchObject({ t_s: 5 });
     // Exactly 1 MiB is still accepted (answered as one bad line, cut at the 64 KiB line cap).
     late.ws.send('y'.repeat(1024 * 1024));
-    expect((await late.until(2))[1]).toMatchObject({ error: expect.stringMatching(/longer than 65536 bytes/) });
+    expect((await late.until(2))[1]).toMatchObject({
+      error: expect.stringMatching(/longer than 65536 bytes/),
+      code: 'line_too_long',
+    });
   });
 
   it('keeps smoothing and time order per connection when two clients interleave', async () => {
@@ -255,8 +263,8 @@ describe('serve over a real websocket on 127.0.0.1', () => {
     client.ws.send('');
     client.ws.send('\n\n');
     expect(await client.until(2)).toEqual([
-      { error: 'empty message (no frame in it)' },
-      { error: 'empty message (no frame in it)' },
+      { error: 'empty message (no frame in it)', code: 'empty_message' },
+      { error: 'empty message (no frame in it)', code: 'empty_message' },
     ]);
   });
 });

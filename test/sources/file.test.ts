@@ -34,7 +34,7 @@ describe('file source', () => {
     await expect.poll(p.ended, { timeout: 5000 }).toBe(true);
     expect(p.lines).toHaveLength(502);
     expect(p.lines.slice(0, 500).map(seqOf)).toEqual(Array.from({ length: 500 }, (_, i) => i));
-    expect(p.lines[500]!.decoded!.verdict).toEqual({ ok: false, reason: 'invalid JSON' });
+    expect(p.lines[500]!.decoded!.verdict).toMatchObject({ ok: false, code: 'invalid_json', reason: 'invalid JSON' });
     expect(p.lines[500]!.decoded!.lineNo).toBe(501);
     expect(p.source.state().positionS).toBeCloseTo(4.99, 9);
     await p.source.stop();

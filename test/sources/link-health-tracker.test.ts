@@ -1,5 +1,13 @@
 import { describe, expect, it } from 'vitest';
-import { createLinkHealthTracker, formatLinkSummary, reasonKind } from '../../src/sources/link-health-tracker.js';
+import { parseFrameLine } from '../../src/decode/frame-line.js';
+import { INVALID_JSON, type Rejected } from '../../src/decode/rejections.js';
+import { createLinkHealthTracker, formatLinkSummary } from '../../src/sources/link-health-tracker.js';
+
+function rejectionOf(line: string): Rejected {
+  const v = parseFrameLine(line);
+  if (v.ok) throw new Error('expected a rejection');
+  return v;
+}
 
 describe('link health tracker', () => {
   it('goes connecting → live → stale after 1 s without frames → lost → live again, counting reconnects', () => {
@@ -49,28 +57,37 @@ describe('link health tracker', () => {
     }
   });
 
-  it('counts gaps over 0.5 s, clock restarts and rejections grouped by reason', () => {
+  it('counts gaps over 0.5 s, clock restarts and rejections grouped by code and key, not by text', () => {
     const h = createLinkHealthTracker('test', 0);
     h.accepted(0, 0, false);
     h.accepted(0.5, 1, false);
     h.accepted(1.2, 2, false); // gap
     h.accepted(0.1, 3, true); // restart, not a gap
-    h.rejected('tas_mps must be a finite number ≥ 0 (got "fast")');
-    h.rejected('tas_mps must be a finite number ≥ 0 (got -2)');
-    h.rejected('invalid JSON');
+    h.rejected(rejectionOf('{"t_s":1,"tas_mps":400,"alt_m":0,"nz":1}'));
+    h.rejected(rejectionOf('{"t_s":1,"tas_mps":-2,"alt_m":0,"nz":1}'));
+    h.rejected(INVALID_JSON);
     const s = h.snapshot(4, { file: 'r.tmrec', bytes: 123, error: null });
     expect(s.gaps).toBe(1);
     expect(s.clockRestarts).toBe(1);
     expect(s.rejected).toBe(3);
-    expect(s.rejectedByReason).toEqual({ 'tas_mps must be a finite number ≥ 0': 2, 'invalid JSON': 1 });
+    expect(s.rejectedByCode).toEqual([
+      { code: 'out_of_range', key: 'tas_mps', count: 2, words: 'tas_mps must be a number from 0 to 300 m/s' },
+      { code: 'invalid_json', key: null, count: 1, words: 'invalid JSON' },
+    ]);
     expect(s.recordingFile).toBe('r.tmrec');
-    expect(formatLinkSummary(s)).toContain('rejected 2× tas_mps must be a finite number ≥ 0');
+    expect(formatLinkSummary(s)).toContain('rejected 2× [out_of_range] tas_mps must be a number from 0 to 300 m/s');
   });
 
-  it('groups reasons without the offending value', () => {
-    expect(reasonKind('alt_m must be a number from -500 to 20000 m (got 25000)')).toBe(
-      'alt_m must be a number from -500 to 20000 m',
-    );
-    expect(reasonKind('line longer than 65536 bytes (cut)')).toBe('line longer than 65536 bytes (cut)');
+  it('counts the same code on different keys apart, and a wrong type apart from a value out of range', () => {
+    const h = createLinkHealthTracker('test', 0);
+    h.rejected(rejectionOf('{"t_s":1,"tas_mps":400,"alt_m":0,"nz":1}'));
+    h.rejected(rejectionOf('{"t_s":1,"tas_mps":20,"alt_m":25000,"nz":1}'));
+    h.rejected(rejectionOf('{"t_s":1,"tas_mps":"fast","alt_m":0,"nz":1}'));
+    h.rejected(rejectionOf('{"t_s":1,"tas_mps":20,"alt_m":25001,"nz":1}'));
+    expect(h.snapshot(1).rejectedByCode.map((g) => [g.code, g.key, g.count])).toEqual([
+      ['out_of_range', 'alt_m', 2],
+      ['out_of_range', 'tas_mps', 1],
+      ['wrong_type', 'tas_mps', 1],
+    ]);
   });
 });

@@ -5,6 +5,7 @@ import { createReplay } from '../../engine/replay.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { InputError, UsageError } from '../../errors.js';
 import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js';
+import { systemErrorWords } from '../../system-errors.js';
 
 export const spec: CommandSpec = {
   name: 'replay',
@@ -45,10 +46,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     if (statSync(path).isDirectory()) throw new InputError([`${path}: cannot read the flight file (is a directory)`]);
   } catch (err) {
     if (err instanceof InputError) throw err;
-    const code = (err as NodeJS.ErrnoException).code;
-    throw new InputError([
-      `${path}: cannot read the flight file (${code === 'ENOENT' ? 'no such file' : (err as Error).message})`,
-    ]);
+    throw new InputError([`${path}: cannot read the flight file (${systemErrorWords(err)})`]);
   }
   const speed = numberOption(args, 'speed', 1, { min: 0, max: 1000 });
   const mappingPath = stringOption(args, 'mapping');

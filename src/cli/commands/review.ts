@@ -26,7 +26,9 @@ import {
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
 import { DEFAULT_THRESHOLDS, describeDefaultThresholds } from '../../core/thresholds.js';
-import type { FrameBatchMessage, ReviewWorkerData } from '../review-worker.js';
+import type { ReviewWorkerData } from '../review-worker.js';
+import type { PackedFrameBatch } from '../../decode/frame-batch.js';
+import { systemErrorWords } from '../../system-errors.js';
 import { CARD_OPTION, openCardReview } from './card.js';
 
 /** Options shared by review and check. */
@@ -154,19 +156,7 @@ function createProgress(file: string): { update(bytes: number, total: number): v
  * The file is created (or replaced: it is derived output) at the first write.
  */
 function describeWriteError(err: unknown): string {
-  switch ((err as NodeJS.ErrnoException).code) {
-    case 'ENOENT':
-      return 'no such directory';
-    case 'EISDIR':
-      return 'is a directory';
-    case 'EACCES':
-    case 'EPERM':
-      return 'permission denied';
-    case 'ENOSPC':
-      return 'disk full';
-    default:
-      return (err as Error).message;
-  }
+  return systemErrorWords(err, { ENOENT: 'no such directory' });
 }
 
 function createBlockWriter(path: string): { write(text: string): void; close(): void } {
@@ -212,11 +202,6 @@ function workerMinFileBytes(): number {
     : 8 * 1024 * 1024;
 }
 
-/** The rejection code of a verdict, once the decoder gives one. */
-function rejectionCode(verdict: { reason: string }): string | undefined {
-  const code = (verdict as { code?: unknown }).code;
-  return typeof code === 'string' ? code : undefined;
-}
 /** Batches read ahead of the worker at most: bounds the memory when the computation is the slower side. */
 const MAX_BATCHES_IN_FLIGHT = 128;
 
@@ -248,7 +233,7 @@ async function reviewInThread(
       } else {
         // A reconnect marked on a rejected line is still a break.
         if (line.afterReconnect === true) reviewer.breakData('link_lost');
-        reviewer.reject(line.lineNo, line.verdict.reason, rejectionCode(line.verdict));
+        reviewer.reject(line.lineNo, line.verdict);
       }
     }
   }
@@ -289,7 +274,7 @@ async function reviewInWorker(script: URL, input: FlightInput, readOptions: Read
   result.catch(() => undefined); // awaited below; failures also stop the reading loop
   try {
     for await (const batch of readFramePackedBatches(input.file, readOptions)) {
-      const message: FrameBatchMessage = batch;
+      const message: PackedFrameBatch = batch;
       worker.postMessage(message, [batch.frames.buffer]);
       inFlight += 1;
       while (inFlight >= MAX_BATCHES_IN_FLIGHT && failure === undefined)

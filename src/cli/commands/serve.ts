@@ -7,6 +7,7 @@ import type { MarginOptions } from '../../core/margins.js';
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
+import { systemErrorWords } from '../../system-errors.js';
 
 export const DEFAULT_LISTEN = '127.0.0.1:8765';
 
@@ -73,12 +74,12 @@ export const spec: CommandSpec = {
   ],
   notes: [
     'Protocol: send text messages, each holding one frame (the telemetry keys: t_s, tas_mps | cas_mps | ias_mps,\n' +
-      'alt_m, bank_deg and/or nz, oat_c?, mass_kg?) or several frames one per line. Every frame is answered, in\n' +
-      'order, with one JSON text message: the margin record (t_s, tas_mps, eas_mps, density_kg_m3, n_measured,\n' +
-      'n_stall, n_thrust, n_structural, utilization {stall, thrust, structure}, bank_limit_deg, bank_sustained_deg,\n' +
-      'level, alerts [{limit, level}], and more). A bad line is answered with {"error": "<reason>", "line": N,\n' +
-      '"t_s"?} and the connection goes on. t_s must increase on each connection; smoothing and alert hysteresis\n' +
-      'are per connection.',
+      'alt_m, bank_deg and/or nz, oat_c?, mass_kg?, throttle?, simulated?) or several frames one per line. Every\n' +
+      'frame is answered, in order, with one JSON text message: the margin record (t_s, tas_mps, eas_mps,\n' +
+      'density_kg_m3, n_measured, n_stall, n_thrust, n_structural, utilization {stall, thrust, structure},\n' +
+      'bank_limit_deg, bank_sustained_deg, level, alerts [{limit, level}], and more). A bad line is answered with\n' +
+      '{"error": "<reason>", "code": "<code>", "line": N, "t_s"?} (the codes are listed in README) and the\n' +
+      'connection goes on. t_s must increase on each connection; smoothing and alert hysteresis are per connection.',
     'A message over 1 MiB closes that connection with code 1009; other clients are not affected. A client that\n' +
       'does not read its answers (8 MiB pending) is closed with 1008. With --token, a client without the token\n' +
       'is refused with HTTP 401 before the websocket opens.',
@@ -136,13 +137,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     try {
       makeDirectory(recordDir);
     } catch (err) {
-      const code = (err as NodeJS.ErrnoException).code;
-      const why =
-        code === 'EEXIST' || code === 'ENOTDIR'
-          ? 'not a directory'
-          : code === 'EACCES'
-            ? 'permission denied'
-            : (err as Error).message;
+      const why = systemErrorWords(err, { EEXIST: 'not a directory' });
       throw new InputError([`--record ${recordDir}: cannot use it for recordings (${why})`]);
     }
   }
@@ -164,15 +159,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   try {
     server = await startServeServer(options);
   } catch (err) {
-    const e = err as NodeJS.ErrnoException;
-    const why =
-      e.code === 'EADDRINUSE'
-        ? 'the port is in use'
-        : e.code === 'EADDRNOTAVAIL'
-          ? 'no such address on this machine'
-          : e.code === 'EACCES'
-            ? 'permission denied'
-            : e.message;
+    const why = systemErrorWords(err);
     throw new InputError([`--listen ${listenText}: cannot listen (${why})`]);
   }
   // The handlers are in place before the address is printed: a client script may signal as soon as it reads it.

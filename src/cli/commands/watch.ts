@@ -45,7 +45,8 @@ export const spec: CommandSpec = {
   ],
   notes: [
     'Telemetry: one JSON object per line with t_s, one of ias_mps/cas_mps/tas_mps, alt_m, bank_deg and/or nz,\n' +
-      'optionally oat_c and mass_kg. Bad lines are rejected with a reason, counted, and kept in the recording.',
+      'optionally oat_c, mass_kg, throttle and simulated. Bad lines are rejected with a code and a reason,\n' +
+      'counted, and kept in the recording.',
     'When the link drops the monitor reports "link lost" and reconnects by itself (first retry within 0.5 s,\n' +
       'then every 2 s at most). Ctrl-C (or q on the dashboard) flushes the recording and exits.',
   ],
