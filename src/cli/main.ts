@@ -39,6 +39,10 @@ const COMMANDS: Record<string, CommandEntry> = {
     summary: 'answer an autopilot on the bench with margins over a websocket',
     load: () => import('./commands/serve.js'),
   },
+  card: {
+    summary: 'plan a build-up of turn test points (a test card) from the airframe model',
+    load: () => import('./commands/card.js'),
+  },
   simulate: {
     summary: 'fly a turn plan with a point-mass model and emit telemetry',
     load: () => import('./commands/simulate.js'),

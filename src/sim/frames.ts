@@ -10,7 +10,7 @@ import type { FlightPlan } from './plan.js';
 import type { SimSample } from './point-mass.js';
 
 /** One frame as written: wire keys in a fixed order. */
-export type SimFrame = Record<string, number | string>;
+export type SimFrame = Record<string, number | string | boolean>;
 
 /**
  * CAS from TAS: the inverse of the subsonic compressible relations the monitor uses (M = TAS/a;
@@ -46,7 +46,8 @@ export interface FrameWriterOptions {
 
 /**
  * A stateful writer (it draws noise in order): sample → frame. Keys: t_s, the plan's airspeed key, alt_m, bank_deg,
- * nz, oat_c (when the plan sets an ISA deviation), mass_kg (when the plan sets a mass), heading_deg, segment.
+ * nz, oat_c (when the plan sets an ISA deviation), mass_kg (when the plan sets a mass), heading_deg, throttle (the
+ * fraction of the thrust available in use, 0…1), segment and `simulated: true`.
  */
 export function createFrameWriter(
   aircraft: Aircraft,
@@ -81,7 +82,10 @@ export function createFrameWriter(
     if (plan.massKg !== undefined) frame['mass_kg'] = plan.massKg;
     const heading = round(s.headingDeg, 1);
     frame['heading_deg'] = heading >= 360 ? 0 : heading;
+    frame['throttle'] = round(s.throttle, 3);
     frame['segment'] = plan.segments[s.segmentIndex]!.label;
+    // Marks simulated data, so a file made by the simulator is never taken for a flight.
+    frame['simulated'] = true;
     return frame;
   };
 }

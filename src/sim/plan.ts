@@ -10,6 +10,8 @@
  * - `speed_change`  the autothrottle flies to `to_tas_mps` (thrust between idle and full; no airbrake), with an
  *                   optional `bank_deg`.
  * - `pull_up`       wings level, the load factor held at `load_factor` (the flight path curves up).
+ * - `glide`         throttle at 0; the flight path (not the throttle) holds `tas_mps` (default: the speed the
+ *                   segment started at), so the aircraft descends; optional `bank_deg` for a gliding turn.
  * Every segment may carry `label` (written into each frame as `segment`) and either `throttle` (a fixed fraction
  * of the thrust available, 0…1) or `tas_mps` (the speed the autothrottle holds); without both the autothrottle
  * holds the speed the segment started at.
@@ -81,9 +83,17 @@ const PullUp = z.strictObject({
   load_factor: between(1, MAX_LOAD_FACTOR),
 });
 
+const Glide = z.strictObject({
+  type: z.literal('glide'),
+  duration_s: duration,
+  label: common.label,
+  tas_mps: positive().optional(),
+  bank_deg: bank.optional(),
+});
+
 const Segment = z
-  .discriminatedUnion('type', [Straight, Turn, SpeedChange, PullUp], {
-    error: 'must be an object whose "type" is "straight", "turn", "speed_change" or "pull_up"',
+  .discriminatedUnion('type', [Straight, Turn, SpeedChange, PullUp, Glide], {
+    error: 'must be an object whose "type" is "straight", "turn", "speed_change", "pull_up" or "glide"',
   })
   .check((ctx) => {
     const s = ctx.value;
@@ -171,8 +181,10 @@ export interface PlanSegment {
   durationS: number;
   turn: TurnCommand;
   speed: SpeedCommand;
-  /** Commanded vertical speed, m/s (0 = hold the altitude the segment started at); unused for pull_up. */
+  /** Commanded vertical speed, m/s (0 = hold the altitude the segment started at); unused for pull_up and glide. */
   verticalSpeedMps: number;
+  /** Glide: the flight path holds this speed (null: the speed the segment started at) instead of the altitude. */
+  glide?: { tasMps: number | null };
 }
 
 export interface FlightPlan {
@@ -199,6 +211,7 @@ function toSegment(s: SegmentJson, index: number): PlanSegment {
   const label = s.label ?? `${index + 1}:${s.type}`;
   let speed: SpeedCommand = { kind: 'hold-entry' };
   if (s.type === 'speed_change') speed = { kind: 'hold', tasMps: s.to_tas_mps };
+  else if (s.type === 'glide') speed = { kind: 'throttle', fraction: 0 };
   else if (s.throttle !== undefined) speed = { kind: 'throttle', fraction: s.throttle };
   else if (s.tas_mps !== undefined) speed = { kind: 'hold', tasMps: s.tas_mps };
   let turn: TurnCommand;
@@ -207,6 +220,7 @@ function toSegment(s: SegmentJson, index: number): PlanSegment {
       turn = { kind: 'bank', bankDeg: 0 };
       break;
     case 'speed_change':
+    case 'glide':
       turn = { kind: 'bank', bankDeg: s.bank_deg ?? 0 };
       break;
     case 'pull_up':
@@ -220,7 +234,9 @@ function toSegment(s: SegmentJson, index: number): PlanSegment {
       break;
   }
   const verticalSpeedMps = s.type === 'straight' || s.type === 'turn' ? (s.vertical_speed_mps ?? 0) : 0;
-  return { type: s.type, label, durationS: s.duration_s, turn, speed, verticalSpeedMps };
+  const segment: PlanSegment = { type: s.type, label, durationS: s.duration_s, turn, speed, verticalSpeedMps };
+  if (s.type === 'glide') segment.glide = { tasMps: s.tas_mps ?? null };
+  return segment;
 }
 
 export function toFlightPlan(json: FlightPlanJson, fallbackName: string): FlightPlan {

@@ -81,6 +81,8 @@ export interface SimSample {
   headingDeg: number;
   flightPathDeg: number;
   thrustN: number;
+  /** Fraction of the thrust available in use, 0…1 (the throttle a frame reports). */
+  throttle: number;
   dragN: number;
   cl: number;
   densityKgM3: number;
@@ -96,6 +98,8 @@ interface Forces {
   loadFactor: number;
   bankCmdRad: number;
   thrustN: number;
+  /** Fraction of the thrust available in use, 0…1. */
+  throttle: number;
   dragN: number;
   cl: number;
   liftLimited: boolean;
@@ -130,10 +134,25 @@ function computeForces(
   const weightN = massKg * G0_MPS2;
   const qS = dynamicPressurePa(rho, s.tasMps) * aircraft.wingAreaM2;
 
-  // Vertical path: hold the altitude reference (which moves at the commanded vertical speed).
-  const altRefM = entry.altM + seg.verticalSpeedMps * (tS - entry.tS);
-  const vsCmd = seg.verticalSpeedMps + ALTITUDE_GAIN_PER_S * (altRefM - s.altM);
-  const pathCmd = Math.asin(clamp(vsCmd / s.tasMps, -Math.sin(MAX_GUIDANCE_PATH_RAD), Math.sin(MAX_GUIDANCE_PATH_RAD)));
+  const availableN = simThrustAvailableN(aircraft, s.tasMps, rho);
+  const maxSinPath = Math.sin(MAX_GUIDANCE_PATH_RAD);
+  let pathCmd: number;
+  if (seg.glide) {
+    // Glide: the path holds the speed. From dV/dt = (T − D)/m − g·sin γ, the path giving the autothrottle's
+    // acceleration law, with the drag estimated at the load factor of the present path and bank.
+    const target = seg.glide.tasMps ?? entry.tasMps;
+    const thrustN = seg.speed.kind === 'throttle' ? seg.speed.fraction * availableN : 0;
+    const nEst = Math.cos(s.pathRad) / Math.max(Math.cos(s.bankRad), 0.1);
+    const clEst = qS > 0 ? (nEst * weightN) / qS : 0;
+    const dragEstN = qS * (aircraft.cd0 + aircraft.k * clEst * clEst);
+    const sinPath = ((thrustN - dragEstN) / massKg - SPEED_GAIN_PER_S * (target - s.tasMps)) / G0_MPS2;
+    pathCmd = Math.asin(clamp(sinPath, -maxSinPath, maxSinPath));
+  } else {
+    // Vertical path: hold the altitude reference (which moves at the commanded vertical speed).
+    const altRefM = entry.altM + seg.verticalSpeedMps * (tS - entry.tS);
+    const vsCmd = seg.verticalSpeedMps + ALTITUDE_GAIN_PER_S * (altRefM - s.altM);
+    pathCmd = Math.asin(clamp(vsCmd / s.tasMps, -maxSinPath, maxSinPath));
+  }
   const correction = clamp(
     (s.tasMps / G0_MPS2) * PATH_GAIN_PER_S * (pathCmd - s.pathRad),
     -MAX_PATH_CORRECTION_G,
@@ -171,7 +190,6 @@ function computeForces(
   const cl = qS > 0 ? (loadFactor * weightN) / qS : 0;
   const dragN = qS * (aircraft.cd0 + aircraft.k * cl * cl);
 
-  const availableN = simThrustAvailableN(aircraft, s.tasMps, rho);
   let thrustN: number;
   if (seg.speed.kind === 'throttle') {
     thrustN = seg.speed.fraction * availableN;
@@ -184,6 +202,7 @@ function computeForces(
     loadFactor,
     bankCmdRad,
     thrustN,
+    throttle: seg.speed.kind === 'throttle' ? seg.speed.fraction : availableN > 0 ? thrustN / availableN : 0,
     dragN,
     cl,
     liftLimited,
@@ -265,6 +284,7 @@ export function* simulateFlight(
       headingDeg: ((radToDeg(state.headingRad) % 360) + 360) % 360,
       flightPathDeg: radToDeg(state.pathRad),
       thrustN: f.thrustN,
+      throttle: f.throttle,
       dragN: f.dragN,
       cl: f.cl,
       densityKgM3: f.densityKgM3,

@@ -19,6 +19,7 @@ describe('turnmargin demo', () => {
       cwd: ROOT,
       encoding: 'utf8',
       timeout: 20_000,
+      maxBuffer: 64 * 1024 * 1024, // the records of the whole demo flight pass spawnSync's 1 MiB default
     });
     expect(out.status).toBe(0);
     expect(out.stderr).toMatch(/stdout is not a terminal, so no dashboard/);

@@ -36,7 +36,9 @@ describe('flight plan validation', () => {
       expect.arrayContaining([
         'card.json: start.tas_mps must be a positive number (got "fast")',
         'card.json: segments[0].bank_deg must be a number from -80 to 80 (got 95)',
-        expect.stringMatching(/^card\.json: segments\[1\]\.type .*"straight", "turn", "speed_change" or "pull_up"/),
+        expect.stringMatching(
+          /^card\.json: segments\[1\]\.type .*"straight", "turn", "speed_change", "pull_up" or "glide"/,
+        ),
         'card.json: segments[2].duration_s must be a number above 0 and at most 3600 (got 0)',
         expect.stringMatching(/^card\.json: segments\[3\]\.throttle must not be given together with tas_mps/),
         expect.stringMatching(/^card\.json: segments\[4\] a turn needs exactly one of bank_deg and load_factor/),
@@ -149,8 +151,11 @@ describe('noise and frames', () => {
       'oat_c',
       'mass_kg',
       'heading_deg',
+      'throttle',
       'segment',
+      'simulated',
     ]);
+    expect(first!['simulated']).toBe(true);
     // ISA at 200 m is 286.85 K = 13.70 °C (15 °C − 0.0065 K/m · 200 m, USSA 1976 lapse rate); +10 K → 23.70 °C.
     expect(first!['oat_c']).toBeCloseTo(23.7, 2);
     expect(first!['nz']).toBe(1);

@@ -3,17 +3,21 @@
  * autopilot's CI. Exit 0 when no event reaches the level, 1 when one does, 2 for unusable input.
  */
 import { checkSummary, failingEvents, type FailLevel } from '../../report/review-report.js';
-import { choiceOption, type CommandSpec, type ParsedArgs } from '../args.js';
-import { EXIT_CHECK_FAILED, EXIT_OK } from '../../errors.js';
+import { choiceOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
+import { EXIT_CHECK_FAILED, EXIT_OK, UsageError } from '../../errors.js';
+import { testPointSummary } from '../../report/card-report.js';
+import { CARD_OPTION, openCardReview } from './card.js';
 import { FLIGHT_INPUT_OPTIONS, parseFlightInput, reviewFlight } from './review.js';
 
 export const spec: CommandSpec = {
   name: 'check',
   summary: 'pass/fail a recorded flight against the alert levels (for CI)',
   usage:
-    'turnmargin check FILE --aircraft FILE [--fail-on caution|warning] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+    'turnmargin check FILE --aircraft FILE [--fail-on caution|warning] [--card CARD.json [--require-points]] [--thresholds FILE] [--smooth S] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
+    CARD_OPTION,
+    { name: 'require-points', type: 'boolean', description: 'with --card: fail (exit 1) when a point is not achieved' },
     {
       name: 'fail-on',
       type: 'string',
@@ -34,9 +38,15 @@ export const spec: CommandSpec = {
 export async function run(args: ParsedArgs): Promise<number> {
   const failOn = choiceOption<FailLevel>(args, 'fail-on', ['caution', 'warning'], 'warning');
   const input = parseFlightInput(args, 'check');
-  const review = await reviewFlight(input);
+  if (args.values['require-points'] === true && args.values['card'] === undefined)
+    throw new UsageError('--require-points needs --card FILE');
+  const card = openCardReview(stringOption(args, 'card'), input.aircraft, input.file);
+  const review = await reviewFlight(input, card?.onRecord, card?.onBreak);
   process.stdout.write(
     checkSummary(review, { source: input.file, aircraft: input.aircraft, aircraftFile: input.aircraftFile }, failOn),
   );
-  return failingEvents(review, failOn).length > 0 ? EXIT_CHECK_FAILED : EXIT_OK;
+  const missed = card ? card.results().filter((p) => p.status !== 'achieved') : [];
+  if (card) process.stdout.write(testPointSummary(card.results()));
+  const pointsFail = args.values['require-points'] === true && missed.length > 0;
+  return failingEvents(review, failOn).length > 0 || pointsFail ? EXIT_CHECK_FAILED : EXIT_OK;
 }

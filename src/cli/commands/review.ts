@@ -32,6 +32,7 @@ import { checkOutputPath, createOutputFile, inputFilesOf } from '../output-path.
 import { DEFAULT_THRESHOLDS, describeDefaultThresholds } from '../../core/thresholds.js';
 import type { ReviewWorkerData } from '../review-worker.js';
 import type { PackedFrameBatch } from '../../decode/frame-batch.js';
+import { CARD_OPTION, openCardReview } from './card.js';
 
 /** Options shared by review and check. */
 export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
@@ -70,9 +71,10 @@ export const spec: CommandSpec = {
   name: 'review',
   summary: 'report the limit events, peaks and time in each alert level of a recorded flight',
   usage:
-    'turnmargin review FILE --aircraft FILE [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+    'turnmargin review FILE --aircraft FILE [--card CARD.json] [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
+    CARD_OPTION,
     {
       name: 'format',
       type: 'string',
@@ -204,8 +206,9 @@ async function reviewInThread(
   input: FlightInput,
   readOptions: ReadFrameOptions,
   onRecord?: (rec: MarginRecord) => void,
+  onBreak?: () => void,
 ): Promise<FlightReview> {
-  const reviewer = createFlightReviewer(input.aircraft, input.margins);
+  const reviewer = createFlightReviewer(input.aircraft, input.margins, onBreak ? { dataBreak: onBreak } : {});
   for await (const batch of readFramePackedBatches(input.file, readOptions)) {
     feedPackedBatch(reviewer, batch, onRecord);
   }
@@ -264,7 +267,11 @@ async function reviewInWorker(script: URL, input: FlightInput, readOptions: Read
  * Read the flight file through the margin computation. `onRecord` sees each margin record (for --per-frame).
  * Throws InputError when the file cannot be read or has no accepted frame.
  */
-export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRecord) => void): Promise<FlightReview> {
+export async function reviewFlight(
+  input: FlightInput,
+  onRecord?: (rec: MarginRecord) => void,
+  onBreak?: () => void,
+): Promise<FlightReview> {
   const progress = createProgress(input.file);
   const readOptions: ReadFrameOptions = { onProgress: progress.update };
   if (input.mappingPath !== undefined) readOptions.mappingPath = input.mappingPath;
@@ -273,7 +280,7 @@ export async function reviewFlight(input: FlightInput, onRecord?: (rec: MarginRe
     const worker = onRecord === undefined ? reviewWorkerUrl(input.file) : undefined;
     review = worker
       ? await reviewInWorker(worker, input, readOptions)
-      : await reviewInThread(input, readOptions, onRecord);
+      : await reviewInThread(input, readOptions, onRecord, onBreak);
   } finally {
     progress.done();
   }
@@ -307,10 +314,16 @@ export async function run(args: ParsedArgs): Promise<number> {
     checkOutputPath({ option: 'plot', path: plotPath, force, inputs: inputFilesOf(args), extension: '.svg' });
   if (outPath !== undefined) checkOutputPath({ option: 'out', path: outPath, force, inputs: inputFilesOf(args) });
 
+  const card = openCardReview(stringOption(args, 'card'), input.aircraft, input.file);
   const perFrame = perFramePath !== undefined ? createOutputFile(perFramePath) : undefined;
+  const onRecord = perFrame ? (rec: MarginRecord) => perFrame.write(JSON.stringify(rec) + '\n') : undefined;
   let review: FlightReview;
   try {
-    review = await reviewFlight(input, perFrame ? (rec) => perFrame.write(JSON.stringify(rec) + '\n') : undefined);
+    review = await reviewFlight(
+      input,
+      card ? (rec) => (onRecord?.(rec), card.onRecord(rec)) : onRecord,
+      card ? card.onBreak : undefined,
+    );
     perFrame?.commit();
   } finally {
     perFrame?.discard();
@@ -332,12 +345,13 @@ export async function run(args: ParsedArgs): Promise<number> {
         : format === 'html'
           ? renderHtmlReport({ flights: [htmlFlightFrom(review, ctx)], command: reviewCommandLine(args) })
           : reviewToMarkdown(review, ctx);
+  const output = card && format !== 'html' ? card.render(format, reviewToJson(review, ctx), text) : text;
   if (outPath !== undefined) {
     const writer = createOutputFile(outPath);
-    writer.write(text);
+    writer.write(output);
     writer.commit();
   } else {
-    process.stdout.write(text);
+    process.stdout.write(output);
   }
   return EXIT_OK;
 }

@@ -21,6 +21,8 @@ import { DEFAULT_BAUD } from '../../sources/serial.js';
 import { formatUdpAddress } from '../../sources/udp.js';
 import { EXIT_OK, EXIT_UNUSABLE, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, readJson } from '../load.js';
+import { cardToFlightPlan } from '../../sim/card-plan.js';
+import { loadCardFile } from './card.js';
 
 const DEFAULT_RATE_HZ = 10;
 
@@ -28,7 +30,7 @@ export const spec: CommandSpec = {
   name: 'simulate',
   summary: 'fly a turn plan with a point-mass model and emit telemetry frames',
   usage:
-    'turnmargin simulate --aircraft FILE --plan PLAN.json [--rate HZ] [--seed N]\n' +
+    'turnmargin simulate --aircraft FILE (--plan PLAN.json | --card CARD.json) [--rate HZ] [--seed N]\n' +
     '                           [--out FILE [--force] | --serial PATH [--baud N] | --pty | --ws-listen HOST:PORT\n' +
     '                            | --udp HOST:PORT] [--speed X] [--start-delay S] [--loop] [--quiet]',
   options: [
@@ -37,7 +39,13 @@ export const spec: CommandSpec = {
       name: 'plan',
       type: 'string',
       valueName: 'FILE',
-      description: 'flight plan (JSON): start state and segments (see below); required',
+      description: 'flight plan (JSON): start state and segments (see below); this or --card is required',
+    },
+    {
+      name: 'card',
+      type: 'string',
+      valueName: 'FILE',
+      description: 'fly a test card (JSON from `turnmargin card`) in its order instead of a plan',
     },
     {
       name: 'rate',
@@ -132,12 +140,17 @@ export const spec: CommandSpec = {
       '                "vertical_speed_mps"? makes it a climbing or descending turn\n' +
       '  speed_change  "to_tas_mps" (autothrottle, idle to full thrust, no airbrake); "bank_deg"?\n' +
       '  pull_up       wings level at "load_factor"\n' +
+      '  glide         throttle 0, the path holds "tas_mps"? (default: the entry speed) by descending; "bank_deg"?\n' +
       'Any segment: "label" (written as "segment" in each frame), and "throttle" (0…1 of the thrust available)\n' +
       'or "tas_mps" (speed to hold); by default the autothrottle holds the speed the segment began with.',
     "The model: a point mass with dV/dt = (T − D)/m − g·sin γ, the airframe's thrust model and drag polar at the\n" +
       'flown CL = n·W/(q·S), density from ISA at the flown altitude, a simple autopilot (roll-rate-limited bank,\n' +
       'load factor to hold the vertical path, autothrottle), lift capped at CLmax. Frames carry t_s, the airspeed,\n' +
-      'alt_m, bank_deg, nz (with seeded noise on nz and on the airspeed), heading_deg and segment.',
+      'alt_m, bank_deg, nz (with seeded noise on nz and on the airspeed), heading_deg, throttle (fraction of the\n' +
+      'thrust available in use), segment and "simulated": true.',
+    'With --card, the points of a test card (`turnmargin card --format json`) are flown in order: straight at the\n' +
+      "target speed, roll in, hold hold_s + 1 s (full throttle where the card's turn is not sustainable: the speed\n" +
+      'bleeds), roll out; each frame carries segment = the point id.',
     'The model ignores: pitch dynamics (the load factor changes at once), sideslip and uncoordinated flight, wind\n' +
       'and turbulence, the stall itself (the wing holds CLmax instead of departing), engine and propeller lag,\n' +
       "battery or fuel mass change, ground effect and the Earth's curvature. It is a test stimulus, not a flight\n" +
@@ -149,6 +162,12 @@ export const spec: CommandSpec = {
 function loadPlanFile(path: string): FlightPlan {
   const json = readJson(path, 'plan');
   const result = parseFlightPlan(json, basename(path));
+  if (!result.ok) throw new InputError(result.problems);
+  return result.value;
+}
+
+function loadCardPlan(path: string, aircraft: Aircraft): FlightPlan {
+  const result = cardToFlightPlan(loadCardFile(path, aircraft), aircraft, { name: basename(path) });
   if (!result.ok) throw new InputError(result.problems);
   return result.value;
 }
@@ -541,7 +560,10 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0)
     throw new UsageError(`unexpected argument "${args.positionals[0]}" (the plan is given with --plan FILE)`);
   const aircraft = loadAircraftFile(requireOption(args, 'aircraft'));
-  const plan = loadPlanFile(requireOption(args, 'plan'));
+  const cardPath = stringOption(args, 'card');
+  if (cardPath !== undefined && args.values['plan'] !== undefined)
+    throw new UsageError('give --plan or --card, not both');
+  const plan = cardPath !== undefined ? loadCardPlan(cardPath, aircraft) : loadPlanFile(requireOption(args, 'plan'));
   const rateHz = numberOption(args, 'rate', DEFAULT_RATE_HZ, { above: 0, max: 1000 });
   const seed = numberOption(args, 'seed', 1, { integer: true, min: 0, max: 4294967295 });
   const speed = numberOption(args, 'speed', 1, { above: 0, max: 1000 });

@@ -1,0 +1,248 @@
+/** `turnmargin card`: plan a build-up of level-turn test points from the airframe model at one condition. */
+import { existsSync, writeFileSync } from 'node:fs';
+import { basename, resolve as resolvePath } from 'node:path';
+import type { Aircraft } from '../../core/aircraft.js';
+import { MAX_ALTITUDE_M, MIN_ALTITUDE_M, type TemperatureOptions } from '../../core/atmosphere.js';
+import {
+  buildCard,
+  cardAirframeWarnings,
+  parseCard,
+  DEFAULT_HOLD_S,
+  type LoadedCard,
+  DEFAULT_TOLERANCE_BANK_DEG,
+  DEFAULT_TOLERANCE_TAS_MPS,
+  MIN_CARD_LOAD_FACTOR,
+} from '../../core/card.js';
+import { MASS_MAX_KG, MASS_MIN_KG } from '../../core/units.js';
+import { cardToCsv, cardToJson, cardToMarkdown } from '../../report/card-report.js';
+import {
+  choiceOption,
+  numberListOption,
+  numberOption,
+  requireOption,
+  stringOption,
+  type CommandSpec,
+  type OptionSpec,
+  type ParsedArgs,
+} from '../args.js';
+import { EXIT_OK, InputError, UsageError } from '../../errors.js';
+import { describeOutputError } from '../output-errors.js';
+import { loadAircraftFile, readJson } from '../load.js';
+import { createTestPointTracker, type TestPointResult } from '../../core/test-point.js';
+import type { MarginRecord } from '../../core/margin-record.js';
+import { testPointsToCsv, testPointsToMarkdown } from '../../report/card-report.js';
+
+/**
+ * Read a card file for simulate, review or check: a malformed card is refused with every problem listed; a card
+ * made for another airframe name or mass gives a warning on stderr.
+ */
+export function loadCardFile(path: string, aircraft: Aircraft, massKg: number = aircraft.massKg): LoadedCard {
+  const label = basename(path);
+  const result = parseCard(readJson(path, 'card'), label);
+  if (!result.ok) throw new InputError(result.problems);
+  for (const line of cardAirframeWarnings(result.value, aircraft, massKg, label)) {
+    process.stderr.write(`turnmargin: warning: ${line}\n`);
+  }
+  return result.value;
+}
+
+/** The --card option of review and check. */
+export const CARD_OPTION: OptionSpec = {
+  name: 'card',
+  type: 'string',
+  valueName: 'FILE',
+  description: 'a test card (JSON from `turnmargin card`): report which of its points were achieved (test_points)',
+};
+
+/** A card followed through a review: feed it records and breaks, then read the points' results or render them. */
+export interface CardReview {
+  onRecord(rec: MarginRecord): void;
+  onBreak(): void;
+  results(): TestPointResult[];
+  /** The review text with the test points added (JSON: a `test_points` key; Markdown and CSV: a section after). */
+  render(format: 'md' | 'json' | 'csv', reviewJson: object, reviewText: string): string;
+}
+
+/** For review/check: null without --card; the card is read (and refused or warned about) before the flight. */
+export function openCardReview(cardPath: string | undefined, aircraft: Aircraft, file: string): CardReview | null {
+  if (cardPath === undefined) return null;
+  const card = loadCardFile(cardPath, aircraft);
+  const tracker = createTestPointTracker(card.points);
+  tracker.startFile(basename(file));
+  return {
+    onRecord: (rec) => tracker.push(rec),
+    onBreak: () => tracker.breakHere(),
+    results: () => tracker.results(),
+    render(format, reviewJson, reviewText) {
+      const points = tracker.results();
+      if (format === 'json') return JSON.stringify({ ...reviewJson, test_points: points }, null, 2) + '\n';
+      if (format === 'csv') return reviewText + '\n' + testPointsToCsv(points);
+      return reviewText + '\n' + testPointsToMarkdown(points, basename(cardPath));
+    },
+  };
+}
+
+export const spec: CommandSpec = {
+  name: 'card',
+  summary: 'plan a build-up of turn test points (a test card) from the airframe model',
+  usage:
+    'turnmargin card --aircraft FILE [--altitude M] [--isa-dev K | --oat C] [--mass KG] [--speeds LIST]\n' +
+    '                       [--steps LIST] [--hold S] [--tolerance-bank DEG] [--tolerance-speed MPS]\n' +
+    '                       [--format md|json|csv] [--out FILE [--force]]',
+  options: [
+    { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
+    {
+      name: 'altitude',
+      type: 'string',
+      valueName: 'M',
+      unit: 'm, pressure altitude',
+      defaultText: '0',
+      description: 'altitude of the test points',
+    },
+    {
+      name: 'isa-dev',
+      type: 'string',
+      valueName: 'K',
+      unit: 'K (= °C)',
+      defaultText: '0',
+      description: 'temperature deviation from ISA',
+    },
+    {
+      name: 'oat',
+      type: 'string',
+      valueName: 'C',
+      unit: '°C',
+      description: 'outside air temperature (instead of --isa-dev)',
+    },
+    {
+      name: 'mass',
+      type: 'string',
+      valueName: 'KG',
+      unit: 'kg',
+      defaultText: "the file's mass_kg",
+      description: 'mass',
+    },
+    {
+      name: 'speeds',
+      type: 'string',
+      valueName: 'V1,V2,…',
+      unit: 'm/s TAS',
+      defaultText: '5 from 1.3·Vs1 to min(vne as TAS, 2.5·Vs1), rounded to 0.5',
+      description: 'speeds of the points',
+    },
+    {
+      name: 'steps',
+      type: 'string',
+      valueName: 'S1,S2,…',
+      defaultText: '0.5,0.7,0.85',
+      description: 'fractions of min(n_stall, n_structural) to target, each above 0 and below 1',
+    },
+    {
+      name: 'hold',
+      type: 'string',
+      valueName: 'S',
+      unit: 's',
+      defaultText: String(DEFAULT_HOLD_S),
+      description: 'time each point is held',
+    },
+    {
+      name: 'tolerance-bank',
+      type: 'string',
+      valueName: 'DEG',
+      unit: '°',
+      defaultText: String(DEFAULT_TOLERANCE_BANK_DEG),
+      description: 'bank tolerance of a hold',
+    },
+    {
+      name: 'tolerance-speed',
+      type: 'string',
+      valueName: 'MPS',
+      unit: 'm/s TAS',
+      defaultText: String(DEFAULT_TOLERANCE_TAS_MPS),
+      description: 'speed tolerance of a hold',
+    },
+    { name: 'format', type: 'string', valueName: 'FMT', defaultText: 'md', description: 'md (printable), json or csv' },
+    { name: 'out', type: 'string', valueName: 'FILE', defaultText: 'stdout', description: 'write the card to a file' },
+    { name: 'force', type: 'boolean', description: 'overwrite an existing --out file' },
+  ],
+  notes: [
+    'For each speed V and step s the target is n = s·min(n_stall(V), n_structural) in a level coordinated turn,\n' +
+      `bank = acos(1/n). Targets below ${MIN_CARD_LOAD_FACTOR} g, above vne, or at or beyond the stall or structure\n` +
+      'warning threshold are not put on the card: they are listed as excluded with the reason. Points are in\n' +
+      'build-up order: by step ascending, within a step by speed descending (the stall margin is widest at speed).',
+    'Each point predicts the utilization of each limit, whether the turn is sustainable at full thrust, and the\n' +
+      'full-throttle acceleration (T − D)/m in the level turn (negative: the speed bleeds). The JSON card is what\n' +
+      '`simulate --card` flies.',
+    "A test card is a planning aid: the test team's own safety review, build-up rules and the aircraft's approved\n" +
+      "limits prevail, with the operator's procedures and local aviation rules. Advisory, not flight-critical.",
+  ],
+};
+
+function temperatureOptions(args: ParsedArgs): TemperatureOptions {
+  const isaDev = numberOption(args, 'isa-dev', undefined, { min: -100, max: 100 });
+  const oat = numberOption(args, 'oat', undefined, { min: -100, max: 70 });
+  if (isaDev !== undefined && oat !== undefined) throw new UsageError('give --isa-dev or --oat, not both');
+  const t: TemperatureOptions = {};
+  if (isaDev !== undefined) t.isaDeviationK = isaDev;
+  if (oat !== undefined) t.oatC = oat;
+  return t;
+}
+
+export async function run(args: ParsedArgs): Promise<number> {
+  if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
+  const aircraftPath = requireOption(args, 'aircraft');
+  const format = choiceOption(args, 'format', ['md', 'json', 'csv'] as const, 'md');
+  const temperature = temperatureOptions(args);
+  const altitudeM = numberOption(args, 'altitude', 0, { min: MIN_ALTITUDE_M, max: MAX_ALTITUDE_M });
+  const speeds = numberListOption(args, 'speeds', { above: 0, max: 300 });
+  const steps = numberListOption(args, 'steps', { above: 0 });
+  if (steps?.some((s) => s >= 1)) {
+    throw new UsageError(`--steps must be fractions above 0 and below 1 (got "${stringOption(args, 'steps')}")`);
+  }
+  const holdS = numberOption(args, 'hold', DEFAULT_HOLD_S, { above: 0, max: 600 });
+  const tolBank = numberOption(args, 'tolerance-bank', DEFAULT_TOLERANCE_BANK_DEG, { above: 0, max: 30 });
+  const tolTas = numberOption(args, 'tolerance-speed', DEFAULT_TOLERANCE_TAS_MPS, { above: 0, max: 20 });
+  const out = stringOption(args, 'out');
+  if (args.values['force'] && out === undefined) throw new UsageError('--force applies to --out only');
+  if (out !== undefined && resolvePath(out) === resolvePath(aircraftPath)) {
+    throw new UsageError(`--out ${out} is the --aircraft file: writing there would overwrite it`);
+  }
+  if (out !== undefined && existsSync(out) && !args.values['force']) {
+    throw new UsageError(`--out ${out} exists; give --force to overwrite it`);
+  }
+  const aircraft = loadAircraftFile(aircraftPath);
+  const massKg = numberOption(args, 'mass', aircraft.massKg, { min: MASS_MIN_KG, max: MASS_MAX_KG });
+
+  const result = buildCard(aircraft, {
+    altitudeM,
+    temperature,
+    massKg,
+    ...(speeds ? { speedsMps: speeds } : {}),
+    ...(steps ? { steps } : {}),
+    holdS,
+    toleranceBankDeg: tolBank,
+    toleranceTasMps: tolTas,
+  });
+  if (!result.ok) throw new InputError([`${aircraft.name}: ${result.reason}`]);
+  const card = result.card;
+  const text =
+    format === 'json'
+      ? JSON.stringify(cardToJson(card), null, 2) + '\n'
+      : format === 'csv'
+        ? cardToCsv(card)
+        : cardToMarkdown(card);
+  if (card.points.length === 0) {
+    process.stderr.write('turnmargin: warning: no target qualifies: the card holds no point (see the excluded list)\n');
+  }
+  if (out === undefined) {
+    process.stdout.write(text);
+    return EXIT_OK;
+  }
+  try {
+    writeFileSync(out, text);
+  } catch (err) {
+    throw new InputError([`${out}: cannot write (${describeOutputError(err as NodeJS.ErrnoException)})`]);
+  }
+  process.stderr.write(`wrote ${card.points.length} points to ${out}\n`);
+  return EXIT_OK;
+}
