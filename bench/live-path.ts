@@ -6,7 +6,7 @@
 import type { Aircraft } from '../src/core/aircraft.js';
 import type { LimitEvent } from '../src/core/events.js';
 import type { MarginRecord } from '../src/core/margin-record.js';
-import { createPipeline } from '../src/cli/live.js';
+import { createPipeline } from '../src/engine/pipeline.js';
 import { computeLayout } from '../src/dashboard/layout.js';
 import { buildPlotModel } from '../src/dashboard/plot-model.js';
 import { buildScreenModel, type ScreenInput } from '../src/dashboard/screen-model.js';

@@ -6,7 +6,7 @@ import { mkdirSync, mkdtempSync, rmSync, writeFileSync, readFileSync } from 'nod
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { parseAircraft, type Aircraft } from '../src/core/aircraft.js';
-import { createMarginTracker } from '../src/core/margins.js';
+import { createFrameEngine } from '../src/core/frame-engine.js';
 import { createFrameDecoder } from '../src/decode/frame-decoder.js';
 import { parseFrameLine } from '../src/decode/frame-line.js';
 import type { Frame } from '../src/core/frame.js';
@@ -46,7 +46,7 @@ function benchCore(aircraft: Aircraft): void {
     return Number(process.hrtime.bigint() - start) / count;
   };
   const marginNs = time(() => {
-    const tracker = createMarginTracker(aircraft);
+    const tracker = createFrameEngine(aircraft);
     for (const f of frames) tracker.push(f);
   });
   const parseNs = time(() => {
@@ -64,7 +64,7 @@ function benchCore(aircraft: Aircraft): void {
     parse_line_ns: parseNs,
     decode_stream_ns_per_line: decodeNs,
   };
-  rows.push(['per-frame margins (core)', `${marginNs.toFixed(0)} ns/frame`, 'report', '—']);
+  rows.push(['per-frame engine (margins, events, breaks)', `${marginNs.toFixed(0)} ns/frame`, 'report', '—']);
   rows.push(['frame line validation', `${parseNs.toFixed(0)} ns/line`, 'report', '—']);
   rows.push(['stream decode (split+validate+time)', `${decodeNs.toFixed(0)} ns/line`, 'report', '—']);
 }

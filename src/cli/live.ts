@@ -1,147 +1,22 @@
 /**
- * The live pipeline behind `watch` and `replay`: source → recorder → decoder → margin tracker → sinks
- * (one MarginRecord JSON line per accepted frame with --no-ui, or the dashboard), with link health, signals and
- * a clean stop (flush, summary, exit 0).
+ * The monitor behind `watch`, `replay` and `demo`: the live pipeline (src/engine/pipeline.ts) with its outputs —
+ * one MarginRecord JSON line per accepted frame with --no-ui, or the dashboard; the --events file — signals, the
+ * handlers that restore the terminal on a crash, and a clean stop (flush, summary, exit 0).
  */
+import { closeSync, openSync, writeSync } from 'node:fs';
 import type { Aircraft } from '../core/aircraft.js';
 import { numberOption, requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
-import { EXIT_UNUSABLE } from '../errors.js';
+import { EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
-import { createEventTracker, type LimitEvent } from '../core/events.js';
-import type { MarginRecord } from '../core/margin-record.js';
-import { createMarginTracker, type MarginOptions } from '../core/margins.js';
+import type { LimitEvent } from '../core/events.js';
+import type { MarginOptions } from '../core/margins.js';
 import type { AlertThresholds } from '../core/thresholds.js';
-import { createFrameDecoder, type DecodedLine } from '../decode/frame-decoder.js';
-import type { FileLine } from '../decode/read-frames.js';
+import { createPipeline, type PipelineSinks } from '../engine/pipeline.js';
+import { eventJson } from '../report/review-report.js';
 import type { Recorder } from '../recording/recorder.js';
-import type { LinkHealth } from '../sources/link-health.js';
-import { createLinkHealthTracker, formatLinkSummary } from '../sources/link-health-tracker.js';
-import {
-  systemClock,
-  type Clock,
-  type ReceivedLine,
-  type ReplayTransport,
-  type SourceStatus,
-  type TelemetrySource,
-} from '../sources/source.js';
-
-export interface PipelineSinks {
-  record(rec: MarginRecord, line: DecodedLine): void;
-  /** `where`: "line N" for a file, "line N (received <time>)" for a recording, "line N at <receive time>" live. */
-  rejected(line: DecodedLine, where: string, reason: string): void;
-  eventStarted?(ev: LimitEvent): void;
-  eventEnded?(ev: LimitEvent): void;
-  status?(s: SourceStatus): void;
-}
-
-export interface PipelineOptions {
-  source: TelemetrySource;
-  aircraft: Aircraft;
-  margins?: Partial<MarginOptions>;
-  recorder?: Recorder;
-  sinks: PipelineSinks;
-  clock?: Clock;
-}
-
-export interface Pipeline {
-  start(): void;
-  /** Resolves when a finite source has ended. */
-  readonly ended: Promise<void>;
-  /** Stop the source, flush and close the recording; returns every limit event (open ones closed). */
-  stop(): Promise<LimitEvent[]>;
-  health(): LinkHealth;
-}
-
-function isoTime(ms: number): string {
-  return new Date(ms).toISOString();
-}
-
-export function createPipeline(options: PipelineOptions): Pipeline {
-  const clock = options.clock ?? systemClock;
-  const { source, recorder, sinks } = options;
-  const decoder = createFrameDecoder();
-  const margins = createMarginTracker(options.aircraft, options.margins);
-  const events = createEventTracker();
-  const health = createLinkHealthTracker(source.label, clock());
-  let opens = 0;
-  let resolveEnded!: () => void;
-  const ended = new Promise<void>((resolve) => (resolveEnded = resolve));
-  let stopped = false;
-
-  const breakData = (): void => {
-    // A break in the data (reconnect, seek, clock restart): filters restart, open events close at their last frame.
-    margins.reset();
-    for (const ev of events.closeOpen()) sinks.eventEnded?.(ev);
-  };
-
-  function onLine(line: ReceivedLine): void {
-    recorder?.writeLine(line); // before parsing: the recording holds every line received
-    health.line(line.bytes.length, line.receivedAtMs);
-    const decoded: (DecodedLine & Partial<Pick<FileLine, 'afterReconnect'>>) | null =
-      line.decoded ?? decoder.judgeLine(line);
-    if (!decoded) return;
-    const verdict = decoded.verdict;
-    if (!verdict.ok) {
-      health.rejected(verdict.reason);
-      const recordedAtMs = (decoded as FileLine).receivedAtMs; // a line replayed from a recording keeps its receive time
-      const where = !line.decoded
-        ? `line ${decoded.lineNo} at ${isoTime(line.receivedAtMs)}`
-        : recordedAtMs !== undefined
-          ? `line ${decoded.lineNo} (received ${isoTime(recordedAtMs)})`
-          : `line ${decoded.lineNo}`;
-      sinks.rejected(decoded, where, verdict.reason);
-      return;
-    }
-    if (decoded.newSegment || decoded.afterReconnect) breakData();
-    health.accepted(verdict.frame.tS, line.receivedAtMs, decoded.newSegment === true);
-    const rec = margins.push(verdict.frame);
-    const change = events.push(rec);
-    for (const ev of change.ended) sinks.eventEnded?.(ev);
-    sinks.record(rec, decoded);
-    for (const ev of change.started) sinks.eventStarted?.(ev);
-  }
-
-  function onStatus(status: SourceStatus): void {
-    recorder?.writeStatus(status);
-    health.status(status);
-    if (status.kind === 'open') {
-      opens += 1;
-      if (opens > 1) {
-        decoder.resetTime(); // the time check starts afresh after a reconnect
-        breakData();
-      }
-    } else if (status.kind === 'seek') {
-      breakData();
-    } else if (status.kind === 'lost') {
-      breakData();
-    }
-    sinks.status?.(status);
-    if (status.kind === 'ended') resolveEnded();
-  }
-
-  return {
-    start() {
-      source.start({ onLine, onStatus });
-    },
-    ended,
-    async stop() {
-      if (!stopped) {
-        stopped = true;
-        await source.stop();
-        recorder?.writeStatus({ kind: 'ended', atMs: clock(), detail: 'monitor stopped' });
-        recorder?.close();
-      }
-      return events.finish();
-    },
-    health() {
-      return health.snapshot(
-        clock(),
-        recorder ? { file: recorder.path, bytes: recorder.bytesWritten(), error: recorder.error() } : undefined,
-      );
-    },
-  };
-}
+import { formatLinkSummary } from '../sources/link-health-tracker.js';
+import type { ReplayTransport, TelemetrySource } from '../sources/source.js';
 
 // ---------------------------------------------------------------------------------------------------------------
 // The monitor: a pipeline plus its output (headless lines or the dashboard), signals and the exit summary.
@@ -161,6 +36,8 @@ export interface MonitorOptions {
   replay?: { transport: ReplayTransport; length: Promise<number | null> };
   /** Exit when the source ends (headless replay). Default: true when headless. */
   exitOnEnd?: boolean;
+  /** --events: each limit event as one JSON line when it ends. */
+  events?: EventsWriter;
   stdout?: NodeJS.WritableStream & { isTTY?: boolean };
   stderr?: NodeJS.WritableStream;
 }
@@ -168,6 +45,65 @@ export interface MonitorOptions {
 const UI_REFRESH_MS = 250;
 const SPEED_MIN = 1 / 64;
 const SPEED_MAX = 256;
+
+/** The --events file: one JSON line per event when it ends, with the keys of an event in `review --format json`. */
+export interface EventsWriter {
+  readonly path: string;
+  write(ev: LimitEvent): void;
+  close(): void;
+  /** The first write failure, in words, or null. */
+  error(): string | null;
+}
+
+/** Open the --events file; refuses an existing one unless `force` (InputError, exit 2). */
+export function openEventsFile(path: string, force: boolean): EventsWriter {
+  let fd: number | null;
+  try {
+    fd = openSync(path, force ? 'w' : 'wx');
+  } catch (err) {
+    if ((err as NodeJS.ErrnoException).code === 'EEXIST')
+      throw new InputError([`${path}: the events file exists; choose another name or add --force to overwrite it`]);
+    throw new InputError([
+      `${path}: cannot create the events file (${describeOutputError(err as NodeJS.ErrnoException)})`,
+    ]);
+  }
+  let failure: string | null = null;
+  return {
+    path,
+    write(ev) {
+      if (fd === null || failure !== null) return;
+      try {
+        writeSync(fd, JSON.stringify(eventJson(ev)) + '\n');
+      } catch (err) {
+        failure = `${path}: cannot write an event (${describeOutputError(err as NodeJS.ErrnoException)})`;
+      }
+    },
+    close() {
+      if (fd !== null) closeSync(fd);
+      fd = null;
+    },
+    error: () => failure,
+  };
+}
+
+/**
+ * While the dashboard holds the terminal, an uncaught exception must restore it before the error is printed.
+ * Returns the function that takes the handlers off again.
+ */
+export function installCrashHandlers(restore: () => void, stderr: NodeJS.WritableStream = process.stderr): () => void {
+  const onFatal = (err: unknown): void => {
+    restore();
+    const text = err instanceof Error ? (err.stack ?? err.message) : String(err);
+    stderr.write(`turnmargin: unexpected error: ${text}\n`);
+    process.exit(EXIT_UNUSABLE);
+  };
+  process.on('uncaughtException', onFatal);
+  process.on('unhandledRejection', onFatal);
+  return () => {
+    process.off('uncaughtException', onFatal);
+    process.off('unhandledRejection', onFatal);
+  };
+}
 
 function excerpt(text: string): string {
   const cut = text.length > 60 ? `${text.slice(0, 57)}...` : text;
@@ -214,12 +150,17 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
           else if (s.kind === 'open' && s.detail && !options.replay)
             stderr.write(`turnmargin: link open: ${s.detail}\n`);
         },
+        eventEnded: (ev) => options.events?.write(ev),
       }
     : {
         record: (rec) => dashboard?.pushRecord(rec),
         rejected: () => undefined, // counted in link health, shown by the dashboard
         eventStarted: (ev) => dashboard?.pushEvent(ev),
-        eventEnded: (ev) => dashboard?.pushEvent(ev),
+        eventEnded: (ev) => {
+          dashboard?.pushEvent(ev);
+          options.events?.write(ev);
+        },
+        eventsReset: (events) => dashboard?.resetEvents(events),
       };
 
   const pipeline = createPipeline({
@@ -269,10 +210,7 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
       dashboard?.setLink(h);
       if (h.recordingError && h.recordingError !== lastRecordingError) dashboard?.showError(h.recordingError);
       lastRecordingError = h.recordingError;
-      if (transport) {
-        const st = transport.state();
-        dashboard?.setReplay({ positionS: st.positionS, lengthS: st.lengthS ?? 0, speed: st.speed, paused: st.paused });
-      }
+      if (transport) dashboard?.setReplay(transport.state());
     }, UI_REFRESH_MS);
   } else if (options.recorder) {
     refresh = setInterval(() => {
@@ -284,6 +222,7 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
   }
 
   // Handlers go on once the dashboard (if any) is up, and come off in the finally below.
+  const removeCrashHandlers = dashboard ? installCrashHandlers(() => dashboard?.destroy(), stderr) : undefined;
   let outputFailure: string | null = null;
   const onOutputError = (err: NodeJS.ErrnoException): void => {
     // The reader went away (`| head`): stop cleanly rather than crash. Any other failure (disk full) is reported.
@@ -312,10 +251,14 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     process.off('SIGHUP', onSignal);
     stdout.off('error', onOutputError);
     await pipeline.stop();
+    options.events?.close();
     dashboard?.destroy();
+    removeCrashHandlers?.();
   }
   // After the dashboard has restored the terminal, the summary goes to stderr in both modes.
   stderr.write(formatLinkSummary(pipeline.health()));
+  const eventsFailure = options.events?.error();
+  if (eventsFailure) stderr.write(`turnmargin: ${eventsFailure}; later events were not written\n`);
   if (outputFailure !== null) {
     stderr.write(`turnmargin: cannot write the margin records to standard output (${outputFailure}); stopped\n`);
     return EXIT_UNUSABLE;
@@ -349,6 +292,14 @@ export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
     description:
       'no dashboard: one margin record (JSON) per accepted frame on stdout, rejected lines and a link summary on stderr',
   },
+  {
+    name: 'events',
+    type: 'string',
+    valueName: 'FILE',
+    description:
+      'write each limit event to FILE as one JSON line when it ends (keys as in review --format json, with ended_by)',
+  },
+  { name: 'force', type: 'boolean', description: 'overwrite an existing --events (or --record) file' },
 ];
 
 export interface MonitorSetup {
@@ -356,6 +307,8 @@ export interface MonitorSetup {
   thresholds: AlertThresholds;
   smoothTauS?: number;
   noUi: boolean;
+  /** --events, opened (call after every other check of the arguments: it creates the file). */
+  events?: EventsWriter;
 }
 
 export function loadMonitorSetup(args: ParsedArgs): MonitorSetup {
@@ -366,5 +319,10 @@ export function loadMonitorSetup(args: ParsedArgs): MonitorSetup {
   const smoothTauS = numberOption(args, 'smooth', undefined, { min: 0, max: 10 });
   const setup: MonitorSetup = { aircraft, thresholds, noUi: args.values['no-ui'] === true };
   if (smoothTauS !== undefined) setup.smoothTauS = smoothTauS;
+  const eventsPath = stringOption(args, 'events');
+  if (eventsPath !== undefined) {
+    if (eventsPath === '') throw new UsageError('--events FILE must not be empty');
+    setup.events = openEventsFile(eventsPath, args.values['force'] === true);
+  }
   return setup;
 }

@@ -3,12 +3,14 @@
  * The JSON file uses SI keys with the unit in the name; `parseAircraft` validates it and lists every problem.
  */
 import { z } from 'zod';
-import { G0_MPS2, POUND_KG } from './units.js';
+import { MASS_MAX_KG, MASS_MIN_KG, POUND_KG } from './units.js';
 import { ThresholdsSchema, type AlertThresholds, resolveThresholds } from './thresholds.js';
 import { parseLenient, type Checked } from './validation.js';
 
 const positive = (what = 'a positive number') =>
   z.number({ error: `must be ${what}` }).gt(0, { error: `must be ${what}` });
+
+const MASS_RULE = `must be a mass from ${MASS_MIN_KG} to ${MASS_MAX_KG} kg`;
 
 const speedPoint = z.tuple([positive(), positive()], { error: 'must be a pair [speed_mps, value]' });
 
@@ -105,7 +107,10 @@ export const AircraftSchema = z.strictObject(
   {
     name: z.string({ error: 'must be a text' }).min(1, { error: 'must not be empty' }),
     description: z.string({ error: 'must be a text' }).optional(),
-    mass_kg: positive(),
+    mass_kg: z
+      .number({ error: MASS_RULE })
+      .gte(MASS_MIN_KG, { error: MASS_RULE })
+      .lte(MASS_MAX_KG, { error: MASS_RULE }),
     wing_area_m2: positive(),
     cl_max: positive(),
     cl_min: z.number({ error: 'must be a negative number' }).lt(0, { error: 'must be a negative number' }).optional(),
@@ -119,18 +124,28 @@ export const AircraftSchema = z.strictObject(
       .number({ error: 'must be a negative number' })
       .lt(0, { error: 'must be a negative number' })
       .optional(),
-    vne_mps: positive().optional(),
+    vne_mps: positive('a positive calibrated airspeed (CAS), m/s').optional(),
     airspeed_calibration: z
       .array(speedPoint, { error: 'must be a list of [ias_mps, cas_mps] pairs' })
       .min(1, { error: 'must hold at least one [ias_mps, cas_mps] pair' })
       .check((ctx) => {
+        // Both columns strictly increasing: one CAS per IAS and one IAS per CAS, so the table can be read both ways
+        // (the monitor reads IAS → CAS, the simulator CAS → IAS).
         for (let i = 1; i < ctx.value.length; i++) {
           if (ctx.value[i]![0] <= ctx.value[i - 1]![0]) {
             ctx.issues.push({
               code: 'custom',
               input: ctx.value,
               path: [i, 0],
-              message: 'must increase (IAS sorted ascending)',
+              message: 'must increase (IAS strictly increasing down the table)',
+            });
+          }
+          if (ctx.value[i]![1] <= ctx.value[i - 1]![1]) {
+            ctx.issues.push({
+              code: 'custom',
+              input: ctx.value,
+              path: [i, 1],
+              message: 'must increase (CAS strictly increasing down the table)',
             });
           }
         }
@@ -166,6 +181,7 @@ export interface Aircraft {
   /** How the limits were obtained, for output. */
   nLimitPosSource: 'file' | '14 CFR 23.337(a) default';
   nLimitNegSource: 'file' | '14 CFR 23.337(b) default';
+  /** Never-exceed speed, CAS (a calibrated airspeed, as in the trade); convert to TAS at the conditions. */
   vneMps?: number;
   airspeedCalibration?: ReadonlyArray<readonly [number, number]>;
   thresholds: AlertThresholds;
@@ -239,9 +255,4 @@ export function parseAircraft(input: unknown, label: string): ParseResult<Aircra
   const result = parseLenient(AircraftSchema, input, label);
   if (!result.ok) return result;
   return { ok: true, value: toAircraft(result.value), warnings: result.warnings };
-}
-
-/** Weight W = m·g0, N. */
-export function weightN(massKg: number): number {
-  return massKg * G0_MPS2;
 }

@@ -1,16 +1,21 @@
-/** Airspeed conversions: IAS → CAS (position-error table), CAS → TAS (subsonic compressible), EAS. */
+/** Airspeed conversions: IAS → CAS (position-error table), CAS ↔ TAS (subsonic compressible), EAS. */
 import { A0_MPS, GAMMA_AIR, P0_PA, R_AIR, RHO0_KG_M3 } from './units.js';
 
-/** A position-error table: pairs [ias_mps, cas_mps], sorted by IAS. */
+/** A position-error table: pairs [ias_mps, cas_mps], both columns strictly increasing (the airframe schema checks). */
 export type CalibrationTable = ReadonlyArray<readonly [number, number]>;
 
 /**
- * Linear interpolation in a table of [x, y] pairs sorted by x; beyond the ends the end segments are
- * extended (a position-error correction is a small offset, so extending it is the sensible choice).
+ * Linear interpolation in a table of [x, y] pairs sorted by x. Outside the table the correction (y − x) of the
+ * nearest end is applied: a position error is a small offset, and extending the end segment's slope instead can
+ * carry a low IAS into a negative CAS. The result is never below 0. Read backwards ([cas, ias] pairs) it gives the
+ * exact inverse, ends included.
  */
 export function interpolateTable(table: ReadonlyArray<readonly [number, number]>, x: number): number {
   if (table.length === 0) return x;
-  if (table.length === 1) return table[0]![1];
+  const first = table[0]!;
+  const last = table[table.length - 1]!;
+  if (x <= first[0]) return Math.max(0, x + (first[1] - first[0]));
+  if (x >= last[0]) return Math.max(0, x + (last[1] - last[0]));
   let i = 1;
   while (i < table.length - 1 && x > table[i]![0]) i++;
   const [x0, y0] = table[i - 1]!;
@@ -32,6 +37,16 @@ export function casToTasMps(casMps: number, pressurePa: number, temperatureK: nu
   const impactPressurePa = P0_PA * ((1 + 0.2 * (casMps / A0_MPS) ** 2) ** 3.5 - 1);
   const mach = Math.sqrt(5 * ((impactPressurePa / pressurePa + 1) ** (2 / 7) - 1));
   return mach * Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
+}
+
+/**
+ * CAS from TAS, the exact inverse of `casToTasMps`: M = TAS/√(γRT); qc = p[(1 + 0.2M²)^3.5 − 1];
+ * CAS = a0·√(5[(qc/p0 + 1)^(2/7) − 1]).
+ */
+export function tasToCasMps(tasMps: number, pressurePa: number, temperatureK: number): number {
+  const mach = tasMps / Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
+  const impactPressurePa = pressurePa * ((1 + 0.2 * mach * mach) ** 3.5 - 1);
+  return A0_MPS * Math.sqrt(5 * ((impactPressurePa / P0_PA + 1) ** (2 / 7) - 1));
 }
 
 /** EAS = TAS·√σ. */

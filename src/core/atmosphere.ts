@@ -1,6 +1,7 @@
 /**
- * International Standard Atmosphere (U.S. Standard Atmosphere 1976 / ICAO Doc 7488) below 20 km
- * geopotential, with an optional temperature deviation or a measured outside air temperature.
+ * International Standard Atmosphere below 20 km geopotential (ICAO Doc 7488 / ISO 2533 constants; the same layers
+ * as the U.S. Standard Atmosphere 1976), with an optional temperature deviation or a measured outside air
+ * temperature. Held to the `fluids` library's USSA 1976 to 5e-6 by test/golden/atmosphere-fluids.json.
  */
 import { G0_MPS2, GAMMA_AIR, P0_PA, R_AIR, RHO0_KG_M3, T0_K, celsiusToKelvin } from './units.js';
 

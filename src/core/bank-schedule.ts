@@ -5,7 +5,7 @@
 import type { Aircraft } from './aircraft.js';
 import { computeAirState, type TemperatureOptions } from './atmosphere.js';
 import { computeBankLimits } from './bank-limits.js';
-import { computeLimits, stallSpeedMps } from './performance.js';
+import { computeLimits, stallSpeedMps, vneTasMps } from './performance.js';
 import type { AlertThresholds } from './thresholds.js';
 
 export interface BankScheduleRow {
@@ -24,7 +24,10 @@ export interface BankScheduleRequest {
   altitudesM: readonly number[];
   massesKg: readonly number[];
   temperature: TemperatureOptions;
-  /** Speeds (TAS); when absent, from the lowest Vs1 of all conditions to vne (4·Vs1 without vne) in 30 steps. */
+  /**
+   * Speeds (TAS); when absent, from the lowest Vs1 of all conditions to the highest vne as TAS (4·Vs1 without vne)
+   * in 30 steps.
+   */
   speedsMps?: readonly number[];
 }
 
@@ -44,12 +47,17 @@ export function computeBankSchedule(
   if (!speeds) {
     let lo = Infinity;
     let highestStall = 0;
+    let highestVneTas: number | null = null;
     for (const c of conditions) {
       const vs1 = stallSpeedMps(aircraft, c.rho, c.massKg);
       lo = Math.min(lo, vs1);
       highestStall = Math.max(highestStall, vs1);
+      // vne_mps is CAS: as TAS it is highest at the lowest density.
+      const air = computeAirState(c.altitudeM, request.temperature);
+      const vneTas = vneTasMps(aircraft, air.pressurePa, air.temperatureK);
+      if (vneTas !== null) highestVneTas = Math.max(highestVneTas ?? 0, vneTas);
     }
-    const hi = aircraft.vneMps ?? 4 * highestStall;
+    const hi = highestVneTas ?? 4 * highestStall;
     speeds = Array.from({ length: 31 }, (_, i) => lo + ((hi - lo) * i) / 30);
   }
   const rows: BankScheduleRow[] = [];

@@ -9,10 +9,14 @@ import {
   computeLimits,
   cornerSpeedMps,
   levelTurnAt,
+  loadFactorForBank,
   stallSpeedMps,
+  topSpeedMps,
+  vneTasMps,
   type LimitName,
   type TurnGeometry,
 } from './performance.js';
+import { sustainedBandMps } from './sustained-band.js';
 
 export interface EnvelopeConditions {
   altitudeM: number;
@@ -39,6 +43,28 @@ export interface Optimum {
   speedMps: number;
 }
 
+/**
+ * An optimum sitting on an end of the thrust table: beyond it the thrust is unknown, so the true optimum may lie
+ * outside the table.
+ */
+export interface TableEdgeOptimum {
+  optimum: 'max_sustained' | 'max_sustained_turn_rate' | 'min_sustained_radius';
+  speedMps: number;
+  /** The table's first or last speed. */
+  edgeMps: number;
+}
+
+/** One row of the turn table (`envelope --banks`): a level coordinated turn at a bank angle. */
+export interface BankTurn {
+  bankDeg: number;
+  /** n = 1/cos(bank). */
+  loadFactor: number;
+  /** Vs1·√n, TAS. */
+  stallSpeedMps: number;
+  /** The sustainable speed band at n, with the turn rate and radius at its lowest speed; null when none. */
+  sustained: { minSpeedMps: number; maxSpeedMps: number; turnRateDps: number; radiusM: number | null } | null;
+}
+
 export interface Envelope {
   aircraftName: string;
   altitudeM: number;
@@ -49,12 +75,20 @@ export interface Envelope {
   weightN: number;
   stallSpeedMps: number;
   cornerSpeedMps: number;
-  /** Speed range searched for the optima: Vs1 to vne (4·Vs1 without vne). */
+  /** vne_mps from the file, CAS; null without vne. */
+  vneCasMps: number | null;
+  /** vne_mps (CAS) as TAS at these conditions; null without vne. */
+  vneTasMps: number | null;
+  /** Speed range searched for the optima: Vs1 to vne as TAS (4·Vs1 without vne). */
   searchFromMps: number;
   searchToMps: number;
   maxSustainedLoadFactor: Optimum | null;
   maxSustainedTurnRateDps: Optimum | null;
   minSustainedRadiusM: Optimum | null;
+  /** Optima lying on an end of the thrust table (empty unless the thrust comes from a table). */
+  tableEdgeOptima: TableEdgeOptimum[];
+  /** The turn table, one row per bank asked for (empty when none). */
+  turns: BankTurn[];
   points: EnvelopePoint[];
 }
 
@@ -127,23 +161,71 @@ function nearWindow(speedMps: number, lo: number, hi: number): { lo: number; hi:
   return { lo: Math.max(lo, speedMps - half), hi: Math.min(hi, speedMps + half) };
 }
 
-/** Default speeds for a table: Vs1 to vne (4·Vs1 without vne) in 30 steps. */
+/** Default speeds for a table: Vs1 to vne as TAS (4·Vs1 without vne) in 30 steps. */
 export function defaultSpeeds(stallSpeed: number, topSpeed: number, steps = 30): number[] {
   const speeds: number[] = [];
   for (let i = 0; i <= steps; i++) speeds.push(stallSpeed + ((topSpeed - stallSpeed) * i) / steps);
   return speeds;
 }
 
+/** A speed this close (relative) to a table end counts as on it: the optimum search resolves far finer. */
+const TABLE_EDGE_REL = 1e-4;
+
+function tableEdgeOptima(
+  aircraft: Aircraft,
+  optima: Array<[TableEdgeOptimum['optimum'], Optimum | null]>,
+): TableEdgeOptimum[] {
+  if (aircraft.thrust.model !== 'table') return [];
+  const pts = aircraft.thrust.points;
+  const ends = [pts[0]![0], pts[pts.length - 1]![0]];
+  const out: TableEdgeOptimum[] = [];
+  for (const [optimum, o] of optima) {
+    if (o === null) continue;
+    const end = ends.find((e) => Math.abs(o.speedMps - e) <= TABLE_EDGE_REL * Math.max(e, 1));
+    if (end !== undefined) out.push({ optimum, speedMps: o.speedMps, edgeMps: end });
+  }
+  return out;
+}
+
+/** The turn at each bank: n = 1/cos(bank), Vs1·√n, and the sustainable band at n (rate and radius at its low end). */
+export function bankTurns(
+  aircraft: Aircraft,
+  densityKgM3: number,
+  massKg: number,
+  topMps: number,
+  banksDeg: readonly number[],
+): BankTurn[] {
+  const vs1 = stallSpeedMps(aircraft, densityKgM3, massKg);
+  return banksDeg.map((bankDeg) => {
+    const n = loadFactorForBank(bankDeg);
+    const band = sustainedBandMps(aircraft, densityKgM3, massKg, n, topMps);
+    let sustained: BankTurn['sustained'] = null;
+    if (band) {
+      const turn = levelTurnAt(n, band.loMps);
+      sustained = {
+        minSpeedMps: band.loMps,
+        maxSpeedMps: band.hiMps,
+        turnRateDps: turn.turnRateDps ?? 0,
+        // Bank 0 is straight flight: rate 0 and no radius.
+        radiusM: turn.radiusM,
+      };
+    }
+    return { bankDeg, loadFactor: n, stallSpeedMps: vs1 * Math.sqrt(n), sustained };
+  });
+}
+
 export function computeEnvelope(
   aircraft: Aircraft,
   conditions: EnvelopeConditions,
   speeds?: readonly number[],
+  banksDeg: readonly number[] = [],
 ): Envelope {
   const air = computeAirState(conditions.altitudeM, conditions.temperature);
   const rho = air.densityKgM3;
   const mass = conditions.massKg;
   const vs1 = stallSpeedMps(aircraft, rho, mass);
-  const top = aircraft.vneMps ?? 4 * vs1;
+  const vneTas = vneTasMps(aircraft, air.pressurePa, air.temperatureK);
+  const top = topSpeedMps(vneTas, vs1);
 
   const sustainedN = (v: number): number | null => computeLimits(aircraft, v, rho, mass).sustained;
   const maxN = maximizeByScan(sustainedN, vs1, top);
@@ -179,11 +261,19 @@ export function computeEnvelope(
     weightN: mass * G0_MPS2,
     stallSpeedMps: vs1,
     cornerSpeedMps: cornerSpeedMps(aircraft, rho, mass),
+    vneCasMps: aircraft.vneMps ?? null,
+    vneTasMps: vneTas,
     searchFromMps: vs1,
     searchToMps: top,
     maxSustainedLoadFactor: turnExists ? maxN : null,
     maxSustainedTurnRateDps: maxRate,
     minSustainedRadiusM: minRadius,
+    tableEdgeOptima: tableEdgeOptima(aircraft, [
+      ['max_sustained', turnExists ? maxN : null],
+      ['max_sustained_turn_rate', maxRate],
+      ['min_sustained_radius', minRadius],
+    ]),
+    turns: bankTurns(aircraft, rho, mass, top, banksDeg),
     // Above vne there is no flyable speed left: the default table then holds Vs1 alone.
     points: (speeds ?? (top > vs1 ? defaultSpeeds(vs1, top) : [vs1])).map((v) =>
       envelopePointAt(aircraft, v, rho, mass),

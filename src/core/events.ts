@@ -1,10 +1,22 @@
 /**
  * Limit events: one contiguous interval in which one (limit, level) alert is on. start_s is the time of the first
- * frame on; end_s the time of the first frame off, or of the last frame when the data end with the alert on.
- * A warning interval lies inside its caution interval; both are reported as separate events.
+ * frame on. An event ends in one of two ways, recorded in `ended_by`:
+ * - "cleared": the alert went off. end_s is the start of the clear stretch that turned it off (`clear_since_s` of
+ *   the alert on the record before), or, without one, the time of the first frame off.
+ * - a break in the data ("data_gap", "link_lost", "seek", "clock_restart", "end_of_data"): end_s is the start of an
+ *   unfinished clear stretch if one was running, else the time of the last frame before the break.
+ * A warning interval lies inside its caution interval; both are reported as separate events. Events never span a
+ * break: the frame engine (src/engine/frame-engine.ts) decides where breaks are and calls closeOpen.
  */
-import type { AlertLevel, MarginRecord } from './margin-record.js';
+import type { ActiveAlert, AlertLevel, MarginRecord } from './margin-record.js';
 import type { LimitName } from './performance.js';
+
+/** What ended a data stretch (a break): every open event ends there. */
+export type BreakKind = 'data_gap' | 'link_lost' | 'seek' | 'clock_restart' | 'end_of_data';
+/** What ended an event: its alert went off, or a break. */
+export type EndedBy = 'cleared' | BreakKind;
+
+export const BREAK_KINDS: readonly BreakKind[] = ['data_gap', 'link_lost', 'seek', 'clock_restart', 'end_of_data'];
 
 export interface LimitEvent {
   limit: LimitName;
@@ -24,18 +36,31 @@ export interface LimitEvent {
   n_at_peak: number;
   /** true while the alert is still on (end_s and duration_s are then those of the latest frame). */
   open: boolean;
+  /** What ended the event; null while it is open. */
+  ended_by: EndedBy | null;
+}
+
+/**
+ * An alert as the margin tracker reports it. `clear_since_s` (the t_s of the first frame of a clear stretch that is
+ * running) is present only while such a stretch runs; read here when present.
+ */
+type AlertWithClear = ActiveAlert & { clear_since_s?: number };
+
+export interface EventChanges {
+  started: LimitEvent[];
+  ended: LimitEvent[];
 }
 
 export interface EventTracker {
-  /** Feed the next record; returns the events that started and ended at it. */
-  push(rec: MarginRecord): { started: LimitEvent[]; ended: LimitEvent[] };
-  /** Closes open events at the last frame and returns all events. */
-  finish(): LimitEvent[];
+  /** Feed the next record; returns the events that started and ended at it (the same empty object when none). */
+  push(rec: MarginRecord): Readonly<EventChanges>;
+  /** Closes open events at a break (see the rules above) and returns all events. */
+  finish(endedBy?: BreakKind): LimitEvent[];
   /**
-   * Closes open events at the last frame pushed and returns them, but keeps tracking: for a break in the data
-   * (a reconnect, a restart of the sender's clock, a gap). An alert still on after the break starts a new event.
+   * Closes open events at a break and returns them, but keeps tracking. An alert still on after the break starts a
+   * new event.
    */
-  closeOpen(): LimitEvent[];
+  closeOpen(endedBy: BreakKind): LimitEvent[];
   /** All events so far, in order of start (open ones included). */
   events(): readonly LimitEvent[];
 }
@@ -46,10 +71,6 @@ export function eventUtilization(rec: MarginRecord, limit: LimitName): number | 
   if (u !== null) return u;
   if (limit === 'thrust' && rec.n_thrust === 0 && rec.flying) return Infinity;
   return null;
-}
-
-function keyOf(limit: LimitName, level: AlertLevel): string {
-  return `${limit}:${level}`;
 }
 
 function startEvent(rec: MarginRecord, limit: LimitName, level: AlertLevel): LimitEvent {
@@ -64,6 +85,7 @@ function startEvent(rec: MarginRecord, limit: LimitName, level: AlertLevel): Lim
     speed_at_peak_mps: rec.tas_mps,
     n_at_peak: rec.n_measured,
     open: true,
+    ended_by: null,
   };
 }
 
@@ -86,56 +108,75 @@ function extendEvent(event: LimitEvent, rec: MarginRecord): void {
   }
 }
 
-function closeEvent(event: LimitEvent, endS: number): void {
+function closeEvent(event: LimitEvent, endS: number, endedBy: EndedBy): void {
   event.end_s = endS;
   event.duration_s = endS - event.start_s;
   event.open = false;
+  event.ended_by = endedBy;
 }
+
+/** An open event and the clear stretch its alert had on the latest record. */
+interface OpenEntry {
+  event: LimitEvent;
+  clearSinceS: number | undefined;
+}
+
+const NO_CHANGE: Readonly<EventChanges> = Object.freeze({ started: [], ended: [] });
 
 export function createEventTracker(): EventTracker {
   const all: LimitEvent[] = [];
-  const open = new Map<string, LimitEvent>();
+  // Few alerts exist (one per limit and level): a short array beats a map on the per-frame path.
+  let open: OpenEntry[] = [];
   let lastTS: number | null = null;
-  const closeOpen = (): LimitEvent[] => {
-    const closed = [...open.values()];
-    for (const event of closed) closeEvent(event, lastTS ?? event.end_s);
-    open.clear();
+  const closeOpen = (endedBy: BreakKind): LimitEvent[] => {
+    const closed: LimitEvent[] = [];
+    for (const entry of open) {
+      closeEvent(entry.event, entry.clearSinceS ?? lastTS ?? entry.event.end_s, endedBy);
+      closed.push(entry.event);
+    }
+    open = [];
     return closed;
   };
   return {
     push(rec) {
       lastTS = rec.t_s;
+      const alerts = rec.alerts as readonly AlertWithClear[];
       // Most frames: no alert on and none open.
-      if (open.size === 0 && rec.alerts.length === 0) return { started: [], ended: [] };
-      const ended: LimitEvent[] = [];
-      const onNow = new Set(rec.alerts.map((a) => keyOf(a.limit, a.level)));
-      for (const [key, event] of open) {
-        if (!onNow.has(key)) {
-          closeEvent(event, rec.t_s);
-          open.delete(key);
-          ended.push(event);
-        }
-      }
-      const started: LimitEvent[] = [];
-      // Cautions first, so a warning starting with its caution is listed after it.
-      const ordered = [...rec.alerts].sort((a, b) => (a.level === b.level ? 0 : a.level === 'caution' ? -1 : 1));
-      for (const alert of ordered) {
-        const key = keyOf(alert.limit, alert.level);
-        const existing = open.get(key);
-        if (existing) {
-          extendEvent(existing, rec);
+      if (open.length === 0 && alerts.length === 0) return NO_CHANGE;
+      let ended: LimitEvent[] | undefined;
+      const still: OpenEntry[] = [];
+      for (const entry of open) {
+        const on = alerts.find((a) => a.limit === entry.event.limit && a.level === entry.event.level);
+        if (on === undefined) {
+          closeEvent(entry.event, entry.clearSinceS ?? rec.t_s, 'cleared');
+          (ended ??= []).push(entry.event);
         } else {
-          const event = startEvent(rec, alert.limit, alert.level);
-          open.set(key, event);
-          all.push(event);
-          started.push(event);
+          still.push(entry);
         }
       }
-      return { started, ended };
+      open = still;
+      let started: LimitEvent[] | undefined;
+      // Cautions first, so a warning starting with its caution is listed after it.
+      for (const level of ['caution', 'warning'] as const) {
+        for (const alert of alerts) {
+          if (alert.level !== level) continue;
+          const entry = open.find((e) => e.event.limit === alert.limit && e.event.level === level);
+          if (entry) {
+            extendEvent(entry.event, rec);
+            entry.clearSinceS = alert.clear_since_s;
+          } else {
+            const event = startEvent(rec, alert.limit, level);
+            open.push({ event, clearSinceS: alert.clear_since_s });
+            all.push(event);
+            (started ??= []).push(event);
+          }
+        }
+      }
+      return started || ended ? { started: started ?? [], ended: ended ?? [] } : NO_CHANGE;
     },
     closeOpen,
-    finish() {
-      closeOpen();
+    finish(endedBy = 'end_of_data') {
+      closeOpen(endedBy);
       return all;
     },
     events() {

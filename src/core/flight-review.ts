@@ -2,13 +2,15 @@
  * The review of a recorded flight, accumulated frame by frame in bounded memory: limit events, peaks, time in
  * each level, counters, the first rejected lines, flight conditions and an evenly spread sample of points for
  * the n–V plot. Pure: the shell reads the file and feeds accepted frames and rejected lines in file order.
+ * The records, events and breaks come from the frame engine (src/engine/frame-engine.ts); this module only sums
+ * them up.
  */
+import { createFrameEngine, type DataBreak, type FrameMarks } from './frame-engine.js';
 import type { Aircraft } from './aircraft.js';
 import { createDecimator, median } from './decimate.js';
-import { createEventTracker, type LimitEvent } from './events.js';
-import { FILTER_RESTART_GAP_S } from './filter.js';
+import type { BreakKind, LimitEvent } from './events.js';
 import type { Frame } from './frame.js';
-import { createMarginTracker, resolveMarginOptions, type MarginOptions } from './margins.js';
+import { resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { Level, MarginRecord } from './margin-record.js';
 import type { LimitName } from './performance.js';
 
@@ -21,6 +23,8 @@ export const CONDITION_SAMPLES = 2048;
 export interface RejectedLine {
   line: number;
   reason: string;
+  /** The stable rejection code, when the decoder or the engine gave one. */
+  code?: string;
 }
 
 export interface Peak {
@@ -54,8 +58,10 @@ export interface FlightConditions {
   /** Intervals between accepted frames longer than 1 s: count and total, s (not in time_in_level). */
   gaps: number;
   gapS: number;
-  /** Restarts of the sender's clock or reconnects found in the file (the computation restarted). */
+  /** Stretches of data between restarts of the sender's clock and reconnects (the computation restarted). */
   segments: number;
+  /** Breaks in the data by kind (gaps, reconnects, clock restarts, the end of the data). */
+  breaks: Record<BreakKind, number>;
 }
 
 export interface FlightReview {
@@ -78,19 +84,6 @@ export interface FlightReview {
   options: MarginOptions;
 }
 
-export interface AcceptOptions {
-  /** The frame starts a new segment (sender clock restart) or follows a reconnect: the computation restarts. */
-  newSegment?: boolean;
-}
-
-export interface FlightReviewer {
-  accept(frame: Frame, options?: AcceptOptions): MarginRecord;
-  reject(lineNo: number, reason: string): void;
-  /** Counts of lines read so far. */
-  counts(): { frames: number; accepted: number; rejected: number };
-  finish(): FlightReview;
-}
-
 /** The range widened to hold the value (updated in place: the ranges are the reviewer's own until finish). */
 function widen(range: Range | null, value: number): Range {
   if (range === null) return { min: value, max: value };
@@ -107,16 +100,40 @@ function raisePeak(peak: Peak, utilization: number | null, tS: number): void {
   }
 }
 
-export function createFlightReviewer(aircraft: Aircraft, options?: Partial<MarginOptions>): FlightReviewer {
+export interface FlightReviewer {
+  /**
+   * The margin record of the next accepted frame (the marks tell of a clock restart or a reconnect before it), or
+   * null when the engine refused the frame: it is then counted as a rejected line, `lineNo` naming it.
+   */
+  accept(frame: Frame, marks?: FrameMarks, lineNo?: number): MarginRecord | null;
+  reject(lineNo: number, reason: string, code?: string): void;
+  /** A break the reader found on a line that is not an accepted frame (a reconnect before a rejected line). */
+  breakData(kind: BreakKind): void;
+  /** Counts of lines read so far. */
+  counts(): { frames: number; accepted: number; rejected: number };
+  finish(): FlightReview;
+}
+
+export interface FlightReviewListener {
+  /** Each break, with its kind and the t_s of the last frame before it (for marks on a time history). */
+  dataBreak?(brk: DataBreak): void;
+}
+
+export function createFlightReviewer(
+  aircraft: Aircraft,
+  options?: Partial<MarginOptions>,
+  listener: FlightReviewListener = {},
+): FlightReviewer {
   const resolved = resolveMarginOptions(aircraft, options);
-  const margins = createMarginTracker(aircraft, resolved);
-  const events = createEventTracker();
   const rejects: RejectedLine[] = [];
   let rejected = 0;
   let accepted = 0;
   let durationS = 0;
   let firstTS: number | null = null;
   let previous: MarginRecord | null = null;
+  /** The break between the previous record and the next one, if any. */
+  let pendingBreak: BreakKind | null = null;
+  const onAtEnd: LimitEvent[] = [];
   const peaks: Record<LimitName, Peak> = {
     stall: { utilization: null, t_s: null },
     thrust: { utilization: null, t_s: null },
@@ -135,6 +152,7 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
     gaps: 0,
     gapS: 0,
     segments: 0,
+    breaks: { data_gap: 0, link_lost: 0, seek: 0, clock_restart: 0, end_of_data: 0 },
   };
   const plot: Record<Level, ReturnType<typeof createDecimator<PlotPoint>>> = {
     normal: createDecimator(PLOT_POINTS_PER_LEVEL),
@@ -142,25 +160,37 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
     warning: createDecimator(PLOT_POINTS_PER_LEVEL),
   };
   const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
+  const engine = createFrameEngine(aircraft, resolved, {
+    dataBreak(brk) {
+      pendingBreak = brk.kind;
+      conditions.breaks[brk.kind] += 1;
+      listener.dataBreak?.(brk);
+    },
+    eventEnded(ev) {
+      if (ev.ended_by === 'end_of_data') onAtEnd.push(ev);
+    },
+  });
+
+  const reject = (lineNo: number, reason: string, code?: string): void => {
+    rejected += 1;
+    if (rejects.length < MAX_REJECTS_KEPT)
+      rejects.push(code !== undefined ? { line: lineNo, reason, code } : { line: lineNo, reason });
+  };
 
   return {
-    accept(frame, acceptOptions = {}) {
-      const restart = acceptOptions.newSegment === true || (previous !== null && frame.tS <= previous.t_s);
-      if (restart) {
-        // A new stretch of data: the filter, hysteresis and events start afresh.
-        margins.reset();
-        events.closeOpen();
-        conditions.segments += 1;
-      } else if (previous !== null && frame.tS - previous.t_s > FILTER_RESTART_GAP_S) {
-        events.closeOpen();
+    accept(frame, marks, lineNo = 0) {
+      const rec = engine.push(frame, marks);
+      if (rec === null) {
+        const why = engine.rejection()!;
+        reject(lineNo, why.reason, why.code);
+        return null;
       }
-      const rec = margins.push(frame);
-      if (conditions.segments === 0) conditions.segments = 1;
-
-      if (previous !== null && !restart) {
+      if (previous === null) {
+        conditions.segments = 1;
+      } else if (pendingBreak === null || pendingBreak === 'data_gap') {
         const dtS = rec.t_s - previous.t_s;
         durationS += dtS;
-        if (dtS > FILTER_RESTART_GAP_S) {
+        if (pendingBreak === 'data_gap') {
           conditions.gaps += 1;
           conditions.gapS += dtS;
         } else {
@@ -168,8 +198,11 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
           timeInLevelS[previous.level] += dtS;
           if (previous.uncoordinated) conditions.uncoordinatedS += dtS;
         }
+      } else {
+        // A new stretch of data (clock restart, reconnect): no interval across it.
+        conditions.segments += 1;
       }
-      events.push(rec);
+      pendingBreak = null;
 
       raisePeak(peaks.stall, rec.utilization.stall, rec.t_s);
       raisePeak(peaks.thrust, rec.utilization.thrust, rec.t_s);
@@ -191,13 +224,11 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
       previous = rec;
       return rec;
     },
-    reject(lineNo, reason) {
-      rejected += 1;
-      if (rejects.length < MAX_REJECTS_KEPT) rejects.push({ line: lineNo, reason });
-    },
+    reject,
+    breakData: (kind) => engine.breakData(kind),
     counts: () => ({ frames: accepted + rejected, accepted, rejected }),
     finish() {
-      const onAtEnd = events.events().filter((e) => e.open);
+      const events = engine.finish();
       const samples = conditionSamples.items();
       conditions.medianDensityKgM3 = median(samples.map((s) => s.densityKgM3));
       conditions.medianMassKg = median(samples.map((s) => s.massKg));
@@ -209,7 +240,7 @@ export function createFlightReviewer(aircraft: Aircraft, options?: Partial<Margi
         durationS,
         firstTS,
         lastTS: previous?.t_s ?? null,
-        events: events.finish(),
+        events,
         onAtEnd,
         peaks,
         timeInLevelS,

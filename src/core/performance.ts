@@ -3,6 +3,7 @@
  * All speeds are TAS.
  */
 import type { Aircraft, ThrustModel } from './aircraft.js';
+import { casToTasMps } from './airspeed.js';
 import { G0_MPS2, RHO0_KG_M3, radToDeg } from './units.js';
 
 /** Thrust available, N, or null where a table model does not cover the speed (never extrapolated). */
@@ -155,4 +156,14 @@ export function dragAtLoadFactorN(
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
   const cl = (loadFactor * massKg * G0_MPS2) / qS;
   return qS * (aircraft.cd0 + aircraft.k * cl * cl);
+}
+
+/** vne_mps (a calibrated airspeed) as TAS at a pressure and temperature, or null when the airframe has no vne. */
+export function vneTasMps(aircraft: Aircraft, pressurePa: number, temperatureK: number): number | null {
+  return aircraft.vneMps === undefined ? null : casToTasMps(aircraft.vneMps, pressurePa, temperatureK);
+}
+
+/** The top of the speed range searched at a condition: vne as TAS, else 4·Vs1 (no vne in the file). */
+export function topSpeedMps(vneTas: number | null, stallSpeed: number): number {
+  return vneTas ?? 4 * stallSpeed;
 }

@@ -2,11 +2,14 @@
 
 /** Standard gravity, m/s² (U.S. Standard Atmosphere 1976). */
 export const G0_MPS2 = 9.80665;
-/** Specific gas constant of dry air, J/(kg·K) (U.S. Standard Atmosphere 1976). */
+/**
+ * Specific gas constant of dry air, J/(kg·K): the ICAO Standard Atmosphere value (ICAO Doc 7488/3, ISO 2533:1975).
+ * USSA 1976 uses R = 8314.32/28.9644 = 287.0531 (universal constant over molar mass); the two differ by 7e-7, far below any use here.
+ */
 export const R_AIR = 287.05287;
 /** Ratio of specific heats of air. */
 export const GAMMA_AIR = 1.4;
-/** Sea-level ISA pressure, Pa. */
+/** Sea-level ISA pressure, Pa (ICAO Doc 7488, ISO 2533; the same in USSA 1976). */
 export const P0_PA = 101325;
 /** Sea-level ISA temperature, K. */
 export const T0_K = 288.15;

@@ -6,6 +6,8 @@
 import blessed from 'blessed';
 import contrib from 'blessed-contrib';
 import type { Aircraft } from '../core/aircraft.js';
+import { isaPressurePa } from '../core/atmosphere.js';
+import { vneTasMps } from '../core/performance.js';
 import type { LimitEvent } from '../core/events.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { AlertThresholds } from '../core/thresholds.js';
@@ -40,8 +42,10 @@ export interface DashboardControls {
 export interface Dashboard {
   pushRecord(rec: MarginRecord): void;
   pushEvent(ev: LimitEvent): void;
+  /** Replace the exceedance list (after a replay sought back: the events of the data up to the target). */
+  resetEvents(events: readonly LimitEvent[]): void;
   setLink(h: LinkHealth): void;
-  setReplay(s: { positionS: number; lengthS: number; speed: number; paused: boolean }): void;
+  setReplay(s: ReplayStatus): void;
   showError(message: string): void;
   /** Restores the terminal. Safe to call more than once. */
   destroy(): void;
@@ -201,7 +205,11 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     surface.colors = new Array(surface.colors.length);
     surface.chars = new Array(surface.chars.length);
     if (record !== null) {
-      const now = { densityKgM3: record.density_kg_m3, massKg: record.mass_kg };
+      const now = {
+        densityKgM3: record.density_kg_m3,
+        massKg: record.mass_kg,
+        vneTasMps: vneTasMps(options.aircraft, isaPressurePa(record.alt_m), record.temperature_k),
+      };
       if (isMaterialChange(drawn, now)) drawn = now;
     }
     const model = buildPlotModel({
@@ -324,16 +332,6 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     render();
   });
 
-  // An exception anywhere while the dashboard is up: restore the terminal first, then print the error.
-  const onFatal = (err: unknown): void => {
-    destroy();
-    const text = err instanceof Error ? (err.stack ?? err.message) : String(err);
-    process.stderr.write(`turnmargin: unexpected error: ${text}\n`);
-    process.exit(2);
-  };
-  process.on('uncaughtException', onFatal);
-  process.on('unhandledRejection', onFatal);
-
   const timer = setInterval(render, RENDER_PERIOD_MS);
 
   function destroy(): void {
@@ -341,8 +339,6 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     destroyed = true;
     clearInterval(timer);
     if (pendingRender) clearTimeout(pendingRender);
-    process.removeListener('uncaughtException', onFatal);
-    process.removeListener('unhandledRejection', onFatal);
     screen.destroy();
   }
 
@@ -364,6 +360,11 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       // shows it growing without a push per frame.
       eventsByKey.set(`${ev.limit}:${ev.level}:${ev.start_s}`, ev);
       if (eventsByKey.size > MAX_EVENTS) eventsByKey.delete(eventsByKey.keys().next().value!);
+    },
+    resetEvents(list) {
+      eventsByKey.clear();
+      for (const ev of list.slice(-MAX_EVENTS)) eventsByKey.set(`${ev.limit}:${ev.level}:${ev.start_s}`, ev);
+      requestRender();
     },
     setLink(h) {
       linkHealth = h;

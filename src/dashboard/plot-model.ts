@@ -14,6 +14,8 @@ import type { TrailPoint } from './trail.js';
 export interface EnvelopeConditions {
   densityKgM3: number;
   massKg: number;
+  /** vne_mps (CAS) as TAS at the present conditions, when known (the axis then reaches it). */
+  vneTasMps?: number | null;
 }
 
 /** A change of density or mass above this fraction redraws the curves (smaller ones would only make them shimmer). */
@@ -84,11 +86,11 @@ export function niceStep(span: number, target: number): number {
   return (f <= 1 ? 1 : f <= 2 ? 2 : f <= 5 ? 5 : 10) * mag;
 }
 
-/** The speed range: from 0 to past the fastest of vne, 1.3 × corner speed, 2.5 × Vs1 and the data shown. */
+/** The speed range: from 0 to past the fastest of vne (as TAS), 1.3 × corner speed, 2.5 × Vs1 and the data shown. */
 export function speedAxisMaxMps(aircraft: Aircraft, c: EnvelopeConditions, dataMaxMps: number): number {
   const vs1 = stallSpeedMps(aircraft, c.densityKgM3, c.massKg);
   const corner = vs1 * Math.sqrt(aircraft.nLimitPos);
-  const base = Math.max(aircraft.vneMps ?? 0, corner * 1.3, vs1 * 2.5);
+  const base = Math.max(c.vneTasMps ?? aircraft.vneMps ?? 0, corner * 1.3, vs1 * 2.5);
   const wanted = Math.max(base, dataMaxMps * 1.1);
   // Round up to a whole step so the last tick sits at the edge.
   const step = niceStep(wanted, 6);

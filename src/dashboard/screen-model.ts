@@ -4,7 +4,8 @@
  * draws what this returns.
  */
 import { alertThreshold } from '../core/alerts.js';
-import type { LimitEvent } from '../core/events.js';
+import type { EndedBy, LimitEvent } from '../core/events.js';
+import type { ReplayState } from '../sources/source.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { LimitName } from '../core/performance.js';
 import type { AlertThresholds } from '../core/thresholds.js';
@@ -31,12 +32,8 @@ import { innerSize, type DashboardLayout } from './layout.js';
 /** After this long without a frame the data are marked STALE, s (issue contract). */
 export const STALE_AFTER_S = 1;
 
-export interface ReplayStatus {
-  positionS: number;
-  lengthS: number;
-  speed: number;
-  paused: boolean;
-}
+/** The replay transport's state (one type from the replay stage to the screen). */
+export type ReplayStatus = ReplayState;
 
 export interface ScreenInput {
   aircraftName: string;
@@ -379,7 +376,7 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
         fitLine(
           [
             seg('replay ', 'dim'),
-            seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS)}`),
+            seg(`${formatClock(r.positionS)}/${formatClock(r.lengthS ?? 0)}`),
             seg(` ×${r.speed === 0 ? 'max' : formatSpeedFactor(r.speed)} `),
             r.paused ? seg('PAUSED', 'caution') : link?.state === 'ended' ? seg('at end', 'dim') : seg('playing', 'ok'),
           ],
@@ -429,7 +426,7 @@ export function formatSpeedFactor(speed: number): string {
 }
 
 /** How an event ended, in words: full, and short for a narrow list. */
-const ENDED_WORDS: Record<string, [string, string]> = {
+const ENDED_WORDS: Record<EndedBy, [string, string]> = {
   cleared: ['cleared', 'clear'],
   data_gap: ['data lost (gap)', 'gap'],
   link_lost: ['link lost', 'lost'],
@@ -438,17 +435,11 @@ const ENDED_WORDS: Record<string, [string, string]> = {
   end_of_data: ['end of data', 'end'],
 };
 
-/** `ended_by` of an event (absent while it is open). */
-function endedBy(ev: LimitEvent): string | undefined {
-  return (ev as { ended_by?: string }).ended_by;
-}
-
 export function endedWord(ev: LimitEvent, narrow: boolean): string {
   if (ev.open) return '';
-  const by = endedBy(ev);
-  if (by === undefined) return '';
-  const words = ENDED_WORDS[by];
-  return words ? words[narrow ? 1 : 0] : by;
+  const by = ev.ended_by;
+  if (by === null) return '';
+  return ENDED_WORDS[by][narrow ? 1 : 0];
 }
 
 const NARROW_EVENTS_WIDTH = 60;

@@ -9,8 +9,16 @@ export const FRAME_SLOTS = 9;
 
 const KINDS: readonly AirspeedKind[] = ['tas', 'cas', 'ias'];
 
+/** The mark of a frame that follows a reconnect (packFrame's last argument; `true` marks a clock restart). */
+export const PACKED_AFTER_RECONNECT = 2;
+
 /** Write the frame at slot `index` of `target`; `newSegment` marks a restart of the computation before it. */
-export function packFrame(target: Float64Array, index: number, frame: Frame, newSegment: boolean): void {
+export function packFrame(
+  target: Float64Array,
+  index: number,
+  frame: Frame,
+  newSegment: boolean | typeof PACKED_AFTER_RECONNECT,
+): void {
   packFrameValues(
     target,
     index,
@@ -38,7 +46,7 @@ export function packFrameValues(
   nz: number,
   oatC: number,
   massKg: number,
-  newSegment: boolean,
+  newSegment: boolean | typeof PACKED_AFTER_RECONNECT,
 ): void {
   const o = index * FRAME_SLOTS;
   target[o] = tS;
@@ -49,7 +57,7 @@ export function packFrameValues(
   target[o + 5] = nz;
   target[o + 6] = oatC;
   target[o + 7] = massKg;
-  target[o + 8] = newSegment ? 1 : 0;
+  target[o + 8] = newSegment === PACKED_AFTER_RECONNECT ? PACKED_AFTER_RECONNECT : newSegment ? 1 : 0;
 }
 
 /** The frame at slot `index`, with its keys in the order validation builds them. */
@@ -73,5 +81,10 @@ export function unpackFrame(source: Float64Array, index: number): Frame {
 }
 
 export function packedNewSegment(source: Float64Array, index: number): boolean {
-  return source[index * FRAME_SLOTS + 8] === 1;
+  return source[index * FRAME_SLOTS + 8] !== 0;
+}
+
+/** The frame follows a reconnect (packed with PACKED_AFTER_RECONNECT), not a clock restart. */
+export function packedAfterReconnect(source: Float64Array, index: number): boolean {
+  return source[index * FRAME_SLOTS + 8] === PACKED_AFTER_RECONNECT;
 }

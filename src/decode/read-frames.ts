@@ -9,7 +9,7 @@ import { createReadStream, readFileSync, statSync } from 'node:fs';
 import { basename, extname } from 'node:path';
 import { InputError } from '../errors.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
-import { FRAME_SLOTS, packFrame } from './frame-batch.js';
+import { FRAME_SLOTS, PACKED_AFTER_RECONNECT, packFrame } from './frame-batch.js';
 import { csvRow, splitCsvLine } from './csv.js';
 import { createLineJudge, cutReason, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
 import {
@@ -84,7 +84,7 @@ function formatFromExtension(path: string): FileFormat | undefined {
 }
 
 /** One line of a file: its 1-based physical number and its bytes (`block` from `start` to `end`, LF removed). */
-interface PhysicalLine {
+export interface PhysicalLine {
   physicalNo: number;
   block: Buffer;
   start: number;
@@ -124,7 +124,7 @@ interface LineSink {
  * LF never belongs to a multi-byte sequence. With a sink, the batches are empty: one per chunk read, after its lines
  * went to the sink.
  */
-async function* physicalBatches(
+export async function* physicalBatches(
   path: string,
   options: ReadFrameOptions,
   sink?: LineSink,
@@ -323,7 +323,12 @@ export async function* readFramePackedBatches(
       if (line === null) return;
       if (line.verdict.ok) {
         room();
-        packFrame(frames, count++, line.verdict.frame, line.newSegment === true || line.afterReconnect === true);
+        packFrame(
+          frames,
+          count++,
+          line.verdict.frame,
+          line.afterReconnect === true ? PACKED_AFTER_RECONNECT : line.newSegment === true,
+        );
       } else rejects.push(line.lineNo, line.verdict.reason);
     },
   };
@@ -336,8 +341,11 @@ export async function* readFramePackedBatches(
   }
 }
 
-/** The per-line judging of readFrameBatches, with the state carried from line to line (format, header, time). */
-function createLineReader(path: string, mappingPath: string | undefined, withRaw: boolean) {
+/**
+ * The per-line judging of readFrameBatches, with the state carried from line to line (format, header, time).
+ * Also the decoding stage of a replay (src/engine/replay.ts), fed the file source's raw lines.
+ */
+export function createLineReader(path: string, mappingPath: string | undefined, withRaw: boolean) {
   const mapping = mappingPath !== undefined ? loadMappingFile(mappingPath) : undefined;
   const judge = createLineJudge();
   let format: FileFormat | undefined = formatFromExtension(path);
@@ -449,7 +457,8 @@ function createLineReader(path: string, mappingPath: string | undefined, withRaw
     const line: FrameLine = { lineNo: physicalNo, text: shown, verdict: gated.verdict };
     if (gated.newSegment) line.newSegment = true;
     if (receivedAtMs !== undefined) line.receivedAtMs = receivedAtMs;
-    if (reconnectPending) {
+    // The reconnect mark goes on the first accepted frame after it (the break it makes needs a frame).
+    if (reconnectPending && gated.verdict.ok) {
       line.afterReconnect = true;
       reconnectPending = false;
     }

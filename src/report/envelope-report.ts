@@ -1,5 +1,5 @@
 /** Renderers for `turnmargin envelope`: JSON (the contract's exact keys), CSV and an aligned text table. */
-import type { Envelope, EnvelopePoint, EnvelopeTurn } from '../core/envelope.js';
+import type { BankTurn, Envelope, EnvelopePoint, EnvelopeTurn } from '../core/envelope.js';
 import { alignTable, csvRow, fixed, roundOrNull, roundTo } from './numbers.js';
 
 function turnJson(turn: EnvelopeTurn) {
@@ -23,9 +23,25 @@ function pointJson(p: EnvelopePoint) {
   };
 }
 
+function bankTurnJson(t: BankTurn) {
+  return {
+    bank_deg: t.bankDeg,
+    load_factor: roundTo(t.loadFactor),
+    stall_speed_mps: roundTo(t.stallSpeedMps),
+    sustained: t.sustained && {
+      min_speed_mps: roundTo(t.sustained.minSpeedMps, 3),
+      max_speed_mps: roundTo(t.sustained.maxSpeedMps, 3),
+      turn_rate_dps: roundTo(t.sustained.turnRateDps),
+      radius_m: roundOrNull(t.sustained.radiusM),
+    },
+  };
+}
+
 export interface EnvelopeNotes {
   /** Lines about defaults in use (e.g. the 14 CFR 23.337 default limit). */
   notes: string[];
+  /** `--banks` was given: the outputs carry the turn table. */
+  banks?: boolean;
 }
 
 export function envelopeToJson(env: Envelope, extra: EnvelopeNotes) {
@@ -41,6 +57,8 @@ export function envelopeToJson(env: Envelope, extra: EnvelopeNotes) {
     },
     stall_speed_mps: roundTo(env.stallSpeedMps),
     corner_speed_mps: roundTo(env.cornerSpeedMps),
+    vne_cas_mps: env.vneCasMps,
+    vne_tas_mps: roundOrNull(env.vneTasMps),
     max_sustained: env.maxSustainedLoadFactor && {
       load_factor: roundTo(env.maxSustainedLoadFactor.value),
       speed_mps: roundTo(env.maxSustainedLoadFactor.speedMps, 3),
@@ -55,6 +73,7 @@ export function envelopeToJson(env: Envelope, extra: EnvelopeNotes) {
     },
     search_range_mps: [roundTo(env.searchFromMps, 3), roundTo(env.searchToMps, 3)],
     notes: extra.notes,
+    ...(extra.banks ? { turns: env.turns.map(bankTurnJson) } : {}),
     points: env.points.map(pointJson),
   };
 }
@@ -74,7 +93,40 @@ export const ENVELOPE_CSV_COLUMNS = [
   'instantaneous_bank_deg',
   'instantaneous_turn_rate_dps',
   'instantaneous_radius_m',
+  'vne_tas_mps',
 ] as const;
+
+/** The turn table's CSV (`envelope --banks … --format csv`): one row per bank. */
+export const TURNS_CSV_COLUMNS = [
+  'bank_deg',
+  'load_factor',
+  'stall_speed_mps',
+  'sustained_min_speed_mps',
+  'sustained_max_speed_mps',
+  'sustained_turn_rate_dps',
+  'sustained_radius_m',
+  'vne_tas_mps',
+] as const;
+
+export function turnsToCsv(env: Envelope): string {
+  const lines = [TURNS_CSV_COLUMNS.join(',')];
+  for (const t of env.turns) {
+    const j = bankTurnJson(t);
+    lines.push(
+      csvRow([
+        j.bank_deg,
+        j.load_factor,
+        j.stall_speed_mps,
+        j.sustained?.min_speed_mps,
+        j.sustained?.max_speed_mps,
+        j.sustained?.turn_rate_dps,
+        j.sustained?.radius_m,
+        roundOrNull(env.vneTasMps),
+      ]),
+    );
+  }
+  return lines.join('\n') + '\n';
+}
 
 export function envelopeToCsv(env: Envelope): string {
   const lines = [ENVELOPE_CSV_COLUMNS.join(',')];
@@ -97,6 +149,7 @@ export function envelopeToCsv(env: Envelope): string {
         roundOrNull(i.bankDeg),
         roundOrNull(i.turnRateDps),
         roundOrNull(i.radiusM),
+        roundOrNull(env.vneTasMps),
       ]),
     );
   }
@@ -110,7 +163,12 @@ export function envelopeToTable(env: Envelope, extra: EnvelopeNotes): string {
     `Conditions: pressure altitude ${env.altitudeM} m, ${fixed(env.temperatureK, 2)} K, ${fixed(env.pressurePa, 0)} Pa, ` +
       `density ${fixed(env.densityKgM3, 4)} kg/m³, mass ${env.massKg} kg (weight ${fixed(env.weightN, 2)} N). Speeds are TAS.`,
   );
-  out.push(`Stall speed Vs1 ${fixed(env.stallSpeedMps, 2)} m/s   corner speed ${fixed(env.cornerSpeedMps, 2)} m/s`);
+  out.push(
+    `Stall speed Vs1 ${fixed(env.stallSpeedMps, 2)} m/s   corner speed ${fixed(env.cornerSpeedMps, 2)} m/s` +
+      (env.vneTasMps === null || env.vneCasMps === null
+        ? '   no vne_mps in the file'
+        : `   vne ${fixed(env.vneCasMps, 1)} m/s CAS = ${fixed(env.vneTasMps, 2)} m/s TAS here`),
+  );
   const opt = (label: string, o: { value: number; speedMps: number } | null, unit: string, d: number) =>
     o ? `${label} ${fixed(o.value, d)} ${unit} at ${fixed(o.speedMps, 2)} m/s` : `${label} — (no sustained turn)`;
   out.push(
@@ -163,8 +221,31 @@ export function envelopeToTable(env: Envelope, extra: EnvelopeNotes): string {
       header.map((_, i) => i !== 5 && i !== 10),
     ),
   );
+  if (extra.banks) out.push('', ...turnsTable(env));
   out.push('');
   out.push("Advisory figures for test planning, not flight-critical: the aircraft's approved limits, the operator's");
   out.push('procedures and local aviation rules take precedence.');
   return out.join('\n') + '\n';
+}
+
+function turnsTable(env: Envelope): string[] {
+  const header = ['bank°', 'n', 'Vs m/s', 'min V m/s', 'max V m/s', '°/s at min V', 'R m at min V'];
+  const rows = env.turns.map((t) => [
+    fixed(t.bankDeg, 1),
+    fixed(t.loadFactor, 3),
+    fixed(t.stallSpeedMps, 2),
+    t.sustained ? fixed(t.sustained.minSpeedMps, 2) : 'none',
+    fixed(t.sustained?.maxSpeedMps, 2),
+    fixed(t.sustained?.turnRateDps, 1),
+    fixed(t.sustained?.radiusM, 1),
+  ]);
+  return [
+    'Level turns by bank: Vs = stall speed at the bank; min V to max V = speeds (TAS) where the turn can be held',
+    '(thrust, stall and structure all allow n), "none" when no speed can; rate and radius at min V.',
+    ...alignTable(
+      header,
+      rows,
+      header.map(() => true),
+    ),
+  ];
 }

@@ -24,7 +24,7 @@ export interface ReviewContext {
 
 const LIMITS: readonly LimitName[] = ['stall', 'structure', 'thrust'];
 
-function eventJson(e: LimitEvent) {
+export function eventJson(e: LimitEvent) {
   return {
     limit: e.limit,
     level: e.level,
@@ -35,6 +35,7 @@ function eventJson(e: LimitEvent) {
     peak_t_s: roundTo(e.peak_t_s, 6),
     speed_at_peak_mps: roundTo(e.speed_at_peak_mps, 3),
     n_at_peak: roundTo(e.n_at_peak, 4),
+    ended_by: e.ended_by,
   };
 }
 
@@ -107,6 +108,7 @@ export const EVENT_CSV_COLUMNS = [
   'peak_t_s',
   'speed_at_peak_mps',
   'n_at_peak',
+  'ended_by',
 ] as const;
 
 export function reviewToCsv(review: FlightReview): string {

@@ -1,12 +1,15 @@
 /**
  * One bench client's conversation with `serve`: each message holds one frame or several lines; every line that
  * is not blank is answered, in order, with one margin record or one error object. State (line count, time order,
- * smoothing, alert hysteresis) belongs to the session, so clients are independent.
+ * and a frame engine: smoothing, alerts, events, breaks) belongs to the session, so clients are independent.
+ * A connection is one stretch of data: its end is the end of the data for the engine.
  *
  * No socket here: the server hands in message bytes and sends out the answers; the recorder is injected.
  */
 import type { Aircraft } from '../core/aircraft.js';
-import { createMarginTracker, type MarginOptions } from '../core/margins.js';
+import type { LimitEvent } from '../core/events.js';
+import { createFrameEngine } from '../core/frame-engine.js';
+import type { MarginOptions } from '../core/margins.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import { createFrameDecoder } from '../decode/frame-decoder.js';
 import { createLineSplitter } from '../decode/line-splitter.js';
@@ -20,6 +23,8 @@ export interface ServeErrorAnswer {
   line?: number;
   /** The line's t_s when it could be read, so the client can match the answer. */
   t_s?: number;
+  /** The stable rejection code, when there is one. */
+  code?: string;
 }
 
 export type ServeAnswer = MarginRecord | ServeErrorAnswer;
@@ -45,13 +50,17 @@ export interface ServeSession {
   /** Answers for one message (text or bytes), in the order of its lines. */
   handleMessage(data: Buffer | string): ServeAnswer[];
   stats(): ServeSessionStats;
+  /** The limit events of the session so far (open ones included), as the frame engine made them. */
+  events(): readonly LimitEvent[];
+  /** The connection closed: open events end ("end_of_data"); returns every event. */
+  finish(): LimitEvent[];
 }
 
 export const EMPTY_MESSAGE_REASON = 'empty message (no frame in it)';
 
 export function createServeSession(aircraft: Aircraft, options: ServeSessionOptions): ServeSession {
   const clock = options.clock ?? Date.now;
-  const tracker = createMarginTracker(aircraft, options.margins);
+  const engine = createFrameEngine(aircraft, options.margins);
   const decoder = createFrameDecoder();
   const stats: ServeSessionStats = { lines: 0, answered: 0, errors: 0 };
 
@@ -76,9 +85,14 @@ export function createServeSession(aircraft: Aircraft, options: ServeSessionOpti
           stats.errors++;
           continue;
         }
-        // The sender's clock restarted: filters and hysteresis start afresh, as in the monitor.
-        if (decoded.newSegment) tracker.reset();
-        answers.push(tracker.push(verdict.frame));
+        const rec = engine.push(verdict.frame, decoded);
+        if (rec === null) {
+          const why = engine.rejection()!;
+          answers.push({ error: why.reason, code: why.code, line: decoded.lineNo, t_s: verdict.frame.tS });
+          stats.errors++;
+          continue;
+        }
+        answers.push(rec);
         stats.answered++;
       }
       if (answers.length === 0 && rawLines.every((l) => l.bytes.toString('utf8').trim() === '')) {
@@ -88,6 +102,8 @@ export function createServeSession(aircraft: Aircraft, options: ServeSessionOpti
       return answers;
     },
     stats: () => ({ ...stats }),
+    events: () => engine.events(),
+    finish: () => engine.finish(),
   };
 }
 

@@ -10,7 +10,7 @@
  * - Status: 'connecting' (trying to open), 'open' (connected; after a reconnect the consumer restarts its time
  *   check), 'lost' (the link dropped or could not be opened; a live source retries by itself with backoff — first
  *   retry within 0.5 s, then doubling, capped at 2 s), 'ended' (a finite source has delivered everything; nothing
- *   follows), 'seek' (a file source jumped: the consumer restarts its time check and filters).
+ *   follows), 'seek' (a replay jumped: a break in the data; see `rewind`).
  *   Errors never escape as exceptions or unhandled 'error' events: they arrive as 'lost' with a detail.
  * - stop() closes the link and cancels any retry; it resolves once the resources are released. No handler is called
  *   after stop() resolves. A live source (serial, websocket) never ends by itself.
@@ -25,10 +25,15 @@ export interface ReceivedLine {
   /** The line was longer than the cap and was cut. */
   cut: boolean;
   /**
-   * Set by sources that must decode to do their job (the file source paces by t_s): the already judged line, with
-   * its number in the file. Consumers use it instead of decoding again.
+   * Set by the replay stage (src/engine/replay.ts), which decodes a file's lines to pace them: the already judged
+   * line, with its number in the file. The pipeline uses it instead of decoding again. Sources never set it.
    */
   decoded?: DecodedLine;
+  /**
+   * Set by the replay stage after a backward seek: a line before the target, replayed without pause so the frame
+   * engine rebuilds the state there. Not shown, recorded or counted.
+   */
+  replayCatchUp?: boolean;
 }
 
 export type SourceStatusKind = 'connecting' | 'open' | 'lost' | 'ended' | 'seek';
@@ -38,6 +43,11 @@ export interface SourceStatus {
   atMs: number;
   /** Human detail: why the link was lost, where it connected to. */
   detail?: string;
+  /**
+   * With 'seek': the replay goes back (a backward seek, or a loop to the start). Lines flagged `replayCatchUp` then
+   * rebuild the state up to the target, and a plain 'seek' marks the target.
+   */
+  rewind?: boolean;
 }
 
 export interface SourceHandlers {

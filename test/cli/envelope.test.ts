@@ -73,8 +73,11 @@ describe('turnmargin envelope (built CLI)', () => {
     const lines = r.stdout.trim().split('\n');
     expect(lines[0]).toBe(
       'speed_mps,n_stall,n_thrust,n_structural,sustained_n,sustained_limited_by,sustained_bank_deg,sustained_turn_rate_dps,' +
-        'sustained_radius_m,instantaneous_n,instantaneous_limited_by,instantaneous_bank_deg,instantaneous_turn_rate_dps,instantaneous_radius_m',
+        'sustained_radius_m,instantaneous_n,instantaneous_limited_by,instantaneous_bank_deg,instantaneous_turn_rate_dps,instantaneous_radius_m,' +
+        'vne_tas_mps',
     );
+    // vne_mps 30 m/s CAS is 30 m/s TAS at sea level ISA (definition of CAS).
+    expect(lines.slice(1).every((l) => l.endsWith(',30'))).toBe(true);
     expect(lines.slice(1).map((l) => Number(l.split(',')[0]))).toEqual([10, 12, 14, 16, 18, 20]);
   });
 
@@ -87,6 +90,85 @@ describe('turnmargin envelope (built CLI)', () => {
     expect(r.stdout).toMatch(/\bstructure\b/);
     expect(r.stdout).toMatch(/not flight-critical/);
     expect(r.stdout.split('\n').filter((l) => /^\s+\d+\.\d\d\s/.test(l))).toHaveLength(31);
+  });
+
+  it('gives vne as TAS at the conditions and a turn table with --banks, in JSON', async () => {
+    const r = await runCli([
+      'envelope',
+      '--aircraft',
+      EXAMPLE_AIRFRAME_PATH,
+      '--altitude',
+      '3048',
+      '--banks',
+      '15,30,45,60',
+      '--format',
+      'json',
+    ]);
+    expect(r.code).toBe(0);
+    const out = JSON.parse(r.stdout);
+    // vne_mps 30 m/s CAS at 10 000 ft ISA: TAS/CAS = 116.22/100 to within 0.1 % at this low speed (standard
+    // subsonic relations with USSA 1976 pressure and temperature; the ratio barely depends on the speed here).
+    expect(out.vne_tas_mps / 30).toBeCloseTo(1.1622, 2);
+    expect(out.search_range_mps[1]).toBeCloseTo(out.vne_tas_mps, 3);
+    expect(out.turns.map((t: { bank_deg: number }) => t.bank_deg)).toEqual([15, 30, 45, 60]);
+    const t60 = out.turns[3];
+    expect(Object.keys(t60).sort()).toEqual(['bank_deg', 'load_factor', 'stall_speed_mps', 'sustained']);
+    expect(t60.load_factor).toBeCloseTo(2, 6); // 1/cos 60° (FAA-H-8083-25 chart: 2.0)
+    expect(t60.stall_speed_mps).toBeCloseTo(out.stall_speed_mps * Math.SQRT2, 4);
+    expect(Object.keys(t60.sustained).sort()).toEqual(['max_speed_mps', 'min_speed_mps', 'radius_m', 'turn_rate_dps']);
+    expect(t60.sustained.min_speed_mps).toBeLessThan(t60.sustained.max_speed_mps);
+  });
+
+  it('prints the turn table as CSV and in the text table with --banks', async () => {
+    const csv = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--banks', '30,80', '--format', 'csv']);
+    expect(csv.code).toBe(0);
+    const lines = csv.stdout.trim().split('\n');
+    expect(lines[0]).toBe(
+      'bank_deg,load_factor,stall_speed_mps,sustained_min_speed_mps,sustained_max_speed_mps,sustained_turn_rate_dps,' +
+        'sustained_radius_m,vne_tas_mps',
+    );
+    expect(lines).toHaveLength(3);
+    expect(lines[1]!.startsWith('30,1.154701,')).toBe(true);
+    // 1/cos 80° = 5.75877 (rounded to 6 decimals); no speed can hold it with this airframe: empty band columns.
+    expect(lines[2]).toMatch(/^80,5\.75877,[\d.]+,,,,,30$/);
+    const table = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--banks', '30,80']);
+    expect(table.code).toBe(0);
+    expect(table.stdout).toMatch(/Level turns by bank/);
+    expect(table.stdout).toMatch(/^\s+80\.0\s+5\.759\s+[\d.]+\s+none/m);
+    expect(table.stdout).toMatch(/vne 30\.0 m\/s CAS = 30\.00 m\/s TAS/);
+  });
+
+  it('refuses a bank outside 0–89° and a mass outside the shared bounds', async () => {
+    for (const args of [
+      ['--banks', '90'],
+      ['--banks', '-5'],
+      ['--banks', '30,x'],
+      ['--mass', '0.001'],
+      ['--mass', '42000'],
+    ]) {
+      const r = await runCli(['envelope', '--aircraft', EXAMPLE_AIRFRAME_PATH, ...args]);
+      expect(r.code, args.join(' ')).toBe(2);
+      expect(r.stderr).toContain(`--${args[0]!.slice(2)}`);
+    }
+  });
+
+  it('notes an optimum on the edge of a thrust table', async () => {
+    const dir = mkdtempSync(join(tmpdir(), 'tm-env-'));
+    const file = join(dir, 'table.json');
+    const json = {
+      ...exampleAirframeJson(),
+      thrust: {
+        model: 'table',
+        points: [
+          [5, 14],
+          [8.83, 14],
+        ],
+      },
+    };
+    writeFileSync(file, JSON.stringify(json));
+    const r = await runCli(['envelope', '--aircraft', file, '--format', 'json']);
+    expect(r.code).toBe(0);
+    expect(JSON.parse(r.stdout).notes.join(' ')).toMatch(/on the edge of the thrust table \(8\.83 m\/s\)/);
   });
 
   it('says when the structural limit is the 14 CFR 23.337 default', async () => {
@@ -109,7 +191,7 @@ describe('turnmargin envelope (built CLI)', () => {
     const r = await runCli(['envelope', '--aircraft', file]);
     expect(r.code).toBe(2);
     expect(r.stderr).toContain('airframe.json: thrust.power_w must be a positive number (got "lots")');
-    expect(r.stderr).toContain('airframe.json: mass_kg must be a positive number (got -2)');
+    expect(r.stderr).toContain('airframe.json: mass_kg must be a mass from 0.05 to 10000 kg (got -2)');
     expect(r.stderr).not.toMatch(/at .*\.js:\d+/); // no stack trace
   });
 

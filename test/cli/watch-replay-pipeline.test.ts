@@ -2,7 +2,7 @@ import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { createPipeline } from '../../src/cli/live.js';
+import { createPipeline } from '../../src/engine/pipeline.js';
 import { loadAircraftFile } from '../../src/cli/load.js';
 import type { LimitEvent } from '../../src/core/events.js';
 import type { MarginRecord } from '../../src/core/margin-record.js';

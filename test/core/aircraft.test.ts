@@ -54,6 +54,28 @@ describe('the airframe file', () => {
       /airspeed_calibration\[1\]\[0\] must increase/,
     ],
     [
+      'a calibration table whose CAS column falls',
+      {
+        airspeed_calibration: [
+          [10, 12],
+          [20, 11],
+        ],
+      },
+      /airspeed_calibration\[1\]\[1\] must increase \(CAS strictly increasing/,
+    ],
+    [
+      'a calibration table whose CAS column repeats a value',
+      {
+        airspeed_calibration: [
+          [10, 12],
+          [20, 12],
+        ],
+      },
+      /airspeed_calibration\[1\]\[1\] must increase/,
+    ],
+    ['a mass of 1e-9 kg', { mass_kg: 1e-9 }, /mass_kg must be a mass from 0\.05 to 10000 kg \(got 1e-9\)/],
+    ['a mass of 4200 kg typed for 4.2', { mass_kg: 42000 }, /mass_kg must be a mass from 0\.05 to 10000 kg/],
+    [
       'a thrust table with one point',
       { thrust: { model: 'table', points: [[10, 5]] } },
       /thrust\.points must hold at least two/,

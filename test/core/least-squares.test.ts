@@ -3,7 +3,7 @@ import { describe, expect, it } from 'vitest';
 import { fitLine, fitScale, studentTCdf, studentTQuantile } from '../../src/core/least-squares.js';
 
 // Reference values from SciPy's stats.linregress and stats.t.ppf and NumPy's linalg.lstsq, made by
-// test/reference/make-least-squares.py (the library versions are recorded in the JSON).
+// test/golden/make-least-squares.py (the library versions are recorded in the JSON).
 interface LineCase {
   kind: 'line';
   x: number[];
@@ -24,7 +24,7 @@ interface ScaleCase {
   scale_se: number;
   scale_ci95: [number, number];
 }
-const reference = JSON.parse(readFileSync(new URL('../reference/least-squares.json', import.meta.url), 'utf8')) as {
+const reference = JSON.parse(readFileSync(new URL('../golden/least-squares.json', import.meta.url), 'utf8')) as {
   generator: string;
   cases: Array<LineCase | ScaleCase>;
   quantiles: Array<{ p: number; dof: number; t: number }>;

@@ -38,13 +38,13 @@ describe('air state and speeds of a frame', () => {
 
   it('takes the temperature from oat_c when the frame has it', () => {
     const rec = single(frame(0, { altM: 0, oatC: 35, bankDeg: 0 }));
-    // ρ = p/(R·T), p0 101 325 Pa, R 287.05287 (U.S. Standard Atmosphere 1976), T = 308.15 K
+    // fluids 1.3.1 ATMOSPHERE_1976(0, dT = 20) (OAT 35 °C at sea level = ISA + 20 K): ρ = 1.145492476939946 kg/m³
     expect(rec.temperature_k).toBeCloseTo(308.15, 9);
-    expect(rec.density_kg_m3).toBeCloseTo(101325 / (287.05287 * 308.15), 9);
+    expect(Math.abs(rec.density_kg_m3 / 1.145492476939946 - 1)).toBeLessThan(2e-6);
   });
 
   it('converts CAS to TAS with the compressible relations (CAS 100 kt at 10 000 ft ISA is 116.22 kt)', () => {
-    // REFERENCES: computed from the standard subsonic relations, 116.22 kt
+    // Computed from the standard subsonic compressible relations with USSA 1976 pressure and temperature: 116.22 kt
     const rec = single(
       frame(0, { airspeedKind: 'cas', airspeedMps: 100 * KNOT_MPS, altM: 10000 * FOOT_M, bankDeg: 0 }),
     );

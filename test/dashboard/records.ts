@@ -57,6 +57,7 @@ export function event(overrides: Partial<LimitEvent> = {}): LimitEvent {
     speed_at_peak_mps: 12.4,
     n_at_peak: 1.6,
     open: false,
+    ended_by: 'cleared',
     ...overrides,
   };
 }

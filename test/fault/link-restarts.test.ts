@@ -8,7 +8,7 @@ import { mkdtempSync, readFileSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { createPipeline, type Pipeline } from '../../src/cli/live.js';
+import { createPipeline, type Pipeline } from '../../src/engine/pipeline.js';
 import { decodeEntry } from '../../src/recording/format.js';
 import { openRecorder } from '../../src/recording/recorder.js';
 import type { LinkState } from '../../src/sources/link-health.js';

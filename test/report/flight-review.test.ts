@@ -55,7 +55,7 @@ describe('flight review accumulation', () => {
     r.accept(f(10.1, 1.0));
     // Clock restarts near 0: the filter starts afresh at the raw value
     const rec = r.accept(f(0.5, 1.6), { newSegment: true });
-    expect(rec.n_measured).toBe(1.6);
+    expect(rec?.n_measured).toBe(1.6);
     const review = r.finish();
     expect(review.conditions.segments).toBe(2);
     expect(review.durationS).toBeCloseTo(0.1, 9);

@@ -2,7 +2,7 @@ import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { createFileSource, scanFlightLengthS } from '../../src/sources/file.js';
+import { createReplay as createFileSource, scanFlightLengthS } from '../../src/engine/replay.js';
 import type { ReceivedLine, SourceStatus } from '../../src/sources/source.js';
 import { frameLine, frameLines } from '../helpers/frames.js';
 

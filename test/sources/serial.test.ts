@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { loadAircraftFile } from '../../src/cli/load.js';
-import { createPipeline } from '../../src/cli/live.js';
+import { createPipeline } from '../../src/engine/pipeline.js';
 import { decodeEntry } from '../../src/recording/format.js';
 import { openRecorder } from '../../src/recording/recorder.js';
 import { createSerialSource } from '../../src/sources/serial.js';

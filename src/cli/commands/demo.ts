@@ -6,7 +6,7 @@
 import { existsSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { createFileSource } from '../../sources/file.js';
+import { createReplay } from '../../engine/replay.js';
 import { numberOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { InputError } from '../../errors.js';
 import { runMonitor } from '../live.js';
@@ -68,7 +68,7 @@ export async function run(args: ParsedArgs): Promise<number> {
         'Run `npm start` (or `turnmargin demo`) in a terminal to see the dashboard.\n',
     );
   }
-  const source = createFileSource({
+  const source = createReplay({
     path: join(replays, DEMO_FLIGHT),
     speed: headless ? 0 : speed,
     scanLength: !headless,

@@ -1,7 +1,7 @@
 /** `turnmargin replay`: play a recorded flight (recording, NDJSON or CSV log) through the monitor, paced by t_s. */
 import { statSync } from 'node:fs';
 import { checkMappingFits } from '../../decode/read-frames.js';
-import { createFileSource } from '../../sources/file.js';
+import { createReplay } from '../../engine/replay.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { InputError, UsageError } from '../../errors.js';
 import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js';
@@ -60,7 +60,7 @@ export async function run(args: ParsedArgs): Promise<number> {
       'turnmargin: note: --loop applies to the dashboard only; without it the file is played once\n',
     );
   }
-  const source = createFileSource({
+  const source = createReplay({
     path,
     speed,
     scanLength: wantsUi,

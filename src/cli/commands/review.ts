@@ -193,8 +193,22 @@ function createBlockWriter(path: string): { write(text: string): void; close(): 
   };
 }
 
-/** Files from this size on are reviewed with the computation in a worker thread (below, starting it costs more). */
-const WORKER_MIN_FILE_BYTES = 8 * 1024 * 1024;
+/**
+ * Files from this size on are reviewed with the computation in a worker thread (below, starting it costs more).
+ * TURNMARGIN_REVIEW_WORKER_MIN_BYTES lowers it (tests run small files through the worker).
+ */
+function workerMinFileBytes(): number {
+  const fromEnv = Number(process.env['TURNMARGIN_REVIEW_WORKER_MIN_BYTES']);
+  return process.env['TURNMARGIN_REVIEW_WORKER_MIN_BYTES'] !== undefined && Number.isFinite(fromEnv) && fromEnv >= 0
+    ? fromEnv
+    : 8 * 1024 * 1024;
+}
+
+/** The rejection code of a verdict, once the decoder gives one. */
+function rejectionCode(verdict: { reason: string }): string | undefined {
+  const code = (verdict as { code?: unknown }).code;
+  return typeof code === 'string' ? code : undefined;
+}
 /** Batches read ahead of the worker at most: bounds the memory when the computation is the slower side. */
 const MAX_BATCHES_IN_FLIGHT = 128;
 
@@ -206,7 +220,7 @@ function reviewWorkerUrl(file: string): URL | undefined {
   } catch {
     return undefined; // the reader names the problem
   }
-  if (size < WORKER_MIN_FILE_BYTES) return undefined;
+  if (size < workerMinFileBytes()) return undefined;
   const url = new URL('../review-worker.js', import.meta.url);
   return existsSync(url) ? url : undefined;
 }
@@ -220,12 +234,12 @@ async function reviewInThread(
   for await (const batch of readFrameBatches(input.file, { ...readOptions, raw: false })) {
     for (const line of batch) {
       if (line.verdict.ok) {
-        const rec = reviewer.accept(line.verdict.frame, {
-          newSegment: line.newSegment === true || line.afterReconnect === true,
-        });
-        onRecord?.(rec);
+        const rec = reviewer.accept(line.verdict.frame, line, line.lineNo);
+        if (rec !== null) onRecord?.(rec);
       } else {
-        reviewer.reject(line.lineNo, line.verdict.reason);
+        // A reconnect marked on a rejected line is still a break.
+        if (line.afterReconnect === true) reviewer.breakData('link_lost');
+        reviewer.reject(line.lineNo, line.verdict.reason, rejectionCode(line.verdict));
       }
     }
   }

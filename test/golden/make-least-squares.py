@@ -1,7 +1,7 @@
 """Reference values for test/core/least-squares.test.ts, from SciPy and NumPy (general-purpose libraries).
 
-Run: python3 -m venv venv && venv/bin/pip install scipy numpy && venv/bin/python test/reference/make-least-squares.py
-Writes test/reference/least-squares.json. The data are pseudo-random (a fixed seed); nothing here is flight data.
+Run: python3 -m venv venv && venv/bin/pip install scipy numpy && venv/bin/python test/golden/make-least-squares.py
+Writes test/golden/least-squares.json. The data are pseudo-random (a fixed seed); nothing here is flight data.
 """
 import json
 import numpy as np
@@ -39,4 +39,4 @@ for n, s, sd in [(12, 0.9, 0.5), (60, 1.1, 2.0)]:
 quantiles = [{"p": p, "dof": d, "t": float(stats.t.ppf(p, d))}
              for d in [1, 2, 3, 5, 10, 29, 30, 100, 1000] for p in [0.975, 0.95, 0.5, 0.025, 0.9995]]
 json.dump({"generator": f"scipy {scipy.__version__}, numpy {np.__version__}", "cases": cases, "quantiles": quantiles},
-          open("test/reference/least-squares.json", "w"), indent=1)
+          open("test/golden/least-squares.json", "w"), indent=1)

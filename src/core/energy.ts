@@ -1,0 +1,135 @@
+/**
+ * Energy state and predictions at one frame: specific excess power measured from the rates and modelled from the
+ * airframe (the energy method, Ps = dh/dt + (V/g0)·dV/dt = V·(T − D)/W), and the time left to the stall caution and
+ * warning at the present deceleration. Pure: the rates come from `rate-estimator.ts`, the state from the engine.
+ */
+import type { Aircraft } from './aircraft.js';
+import { dragAtLoadFactorN, thrustAvailableN } from './performance.js';
+import { G0_MPS2 } from './units.js';
+
+/** Throttle at or above this fraction counts as full throttle (common practice: a little below the stop). */
+export const THROTTLE_FULL_MIN = 0.98;
+/** Throttle at or below this fraction counts as idle (thrust taken as 0). */
+export const THROTTLE_IDLE_MAX = 0.02;
+/** Times to the stall beyond this are not reported: the deceleration would have to hold unchanged that long. */
+export const TIME_TO_STALL_MAX_S = 60;
+
+/** What to assume for a frame without a throttle value (`--throttle full|idle`); undefined = assume nothing. */
+export type ThrottleAssumption = 'full' | 'idle';
+
+/** Measured specific excess power, m/s: Ps = dh/dt + (V/g0)·dV/dt; null when any input is null. */
+export function specificExcessPowerMps(
+  dhdtMps: number | null,
+  tasMps: number | null,
+  dvdtMps2: number | null,
+): number | null {
+  if (dhdtMps === null || tasMps === null || dvdtMps2 === null) return null;
+  return dhdtMps + (tasMps / G0_MPS2) * dvdtMps2;
+}
+
+/**
+ * The thrust the model assumes at a throttle setting, N: the thrust available at V and density when throttle ≥ 0.98,
+ * 0 when throttle ≤ 0.02, null in between (part throttle is not modelled), when the throttle is unknown and no
+ * assumption is given, or when the thrust available is unknown (outside a thrust table).
+ */
+export function modelThrustN(
+  aircraft: Aircraft,
+  throttle: number | null,
+  tasMps: number,
+  densityKgM3: number,
+  assume?: ThrottleAssumption,
+): number | null {
+  let setting: ThrottleAssumption | null = null;
+  if (throttle === null) setting = assume ?? null;
+  else if (throttle >= THROTTLE_FULL_MIN) setting = 'full';
+  else if (throttle <= THROTTLE_IDLE_MAX) setting = 'idle';
+  if (setting === null) return null;
+  if (setting === 'idle') return 0;
+  return thrustAvailableN(aircraft.thrust, tasMps, densityKgM3);
+}
+
+export interface ModelPsInput {
+  /** V: the record's (smoothed) TAS, m/s. */
+  tasMps: number;
+  densityKgM3: number;
+  massKg: number;
+  /** n: the record's smoothed load factor. */
+  loadFactor: number;
+  /** Fraction of full throttle 0…1, or null when the frame has none. */
+  throttle: number | null;
+  /** Assumption for frames without a throttle (`--throttle`); undefined = none. */
+  assumeThrottle?: ThrottleAssumption;
+}
+
+/**
+ * Modelled specific excess power, m/s: Ps = V·(T − D)/W with W = m·g0, D = q·S·(CD0 + k·CL²), CL = n·W/(q·S) and
+ * T from `modelThrustN`. Null when the thrust is null, or V, density or mass is not positive.
+ */
+export function modelSpecificExcessPowerMps(aircraft: Aircraft, input: ModelPsInput): number | null {
+  const { tasMps, densityKgM3, massKg, loadFactor } = input;
+  if (!(tasMps > 0) || !(densityKgM3 > 0) || !(massKg > 0) || !Number.isFinite(loadFactor)) return null;
+  const thrustN = modelThrustN(aircraft, input.throttle, tasMps, densityKgM3, input.assumeThrottle);
+  if (thrustN === null) return null;
+  const dragN = dragAtLoadFactorN(aircraft, tasMps, densityKgM3, massKg, loadFactor);
+  return (tasMps * (thrustN - dragN)) / (massKg * G0_MPS2);
+}
+
+/** ps_residual_mps = measured − modelled; null if either is null. */
+export function psResidualMps(psMps: number | null, psModelMps: number | null): number | null {
+  return psMps === null || psModelMps === null ? null : psMps - psModelMps;
+}
+
+/**
+ * The drag error a residual implies, %: the model's Ps would match with D' = D + ΔD, ΔD = −W·residual/V, so
+ * ΔD/D = −W·residual/(V·D). Null when V or D is not positive.
+ */
+export function impliedDragErrorPct(residualMps: number, tasMps: number, dragN: number, massKg: number): number | null {
+  if (!(tasMps > 0) || !(dragN > 0)) return null;
+  return ((-massKg * G0_MPS2 * residualMps) / (tasMps * dragN)) * 100;
+}
+
+export interface TimeToStallInput {
+  /** The frame is flying (TAS above the flying threshold); otherwise no prediction. */
+  flying: boolean;
+  /** V: smoothed TAS, m/s. */
+  tasMps: number;
+  /** n: smoothed load factor. */
+  loadFactor: number;
+  /** Present stall utilization u = n / n_stall(V), or null when unknown. */
+  stallUtilization: number | null;
+  /** dV/dt, m/s², or null. */
+  dvdtMps2: number | null;
+}
+
+/**
+ * Time until the stall utilization reaches `targetUtilization` u* at the present deceleration, s. The utilization
+ * grows as 1/V² at constant n, so it reaches u* at V* = V·√(u/u*); t = (V − V*)/(−dV/dt), 0 when u ≥ u* already.
+ * Null when not flying, n ≤ 0, dV/dt ≥ 0 or null, the utilization is unknown or not positive, or t > 60 s.
+ */
+export function timeToStallUtilizationS(input: TimeToStallInput, targetUtilization: number): number | null {
+  const { flying, tasMps, loadFactor, stallUtilization: u, dvdtMps2 } = input;
+  if (!flying || !(loadFactor > 0) || dvdtMps2 === null || !(dvdtMps2 < 0)) return null;
+  if (u === null || !(u > 0) || !(tasMps > 0) || !(targetUtilization > 0)) return null;
+  if (u >= targetUtilization) return 0;
+  const vStar = tasMps * Math.sqrt(u / targetUtilization);
+  const t = (tasMps - vStar) / -dvdtMps2;
+  return t > TIME_TO_STALL_MAX_S ? null : t;
+}
+
+export interface TimeToStall {
+  /** time_to_stall_caution_s */
+  cautionS: number | null;
+  /** time_to_stall_warning_s */
+  warningS: number | null;
+}
+
+/** Both predictions for the stall caution and warning thresholds. */
+export function timeToStallS(
+  input: TimeToStallInput,
+  thresholds: { stallCaution: number; stallWarning: number },
+): TimeToStall {
+  return {
+    cautionS: timeToStallUtilizationS(input, thresholds.stallCaution),
+    warningS: timeToStallUtilizationS(input, thresholds.stallWarning),
+  };
+}

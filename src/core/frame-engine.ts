@@ -1,0 +1,140 @@
+/**
+ * The frame engine: the one place that turns accepted frames and breaks in the data into margin records and limit
+ * events. Every path feeds it — the live pipeline (watch, replay, demo), review and check (main thread and worker),
+ * serve sessions and the benchmarks — and none keeps its own copy of these rules:
+ *
+ * - A **break** is a gap in t_s over DATA_GAP_S between consecutive accepted frames, a link loss or reconnect
+ *   (live, or the `#link` lines of a recording), a seek in a replay, a restart of the sender's clock (the decoder's
+ *   5-frame rule, or any frame not later than the one before), and the end of the data.
+ * - At a break the smoothing and the alert state restart (the margin tracker's reset) and every open event ends
+ *   (see events.ts for where), with `ended_by` naming the break. Events never span a break.
+ *
+ * Pure apart from its own state: no I/O, no clock, so the review worker runs it too. Listeners hear of events and
+ * breaks as they happen, synchronously, inside push/breakData/finish.
+ */
+import type { Aircraft } from './aircraft.js';
+import { createEventTracker, type BreakKind, type LimitEvent } from './events.js';
+import { FILTER_RESTART_GAP_S } from './filter.js';
+import type { Frame } from './frame.js';
+import * as marginsModule from './margins.js';
+import { createMarginTracker, resolveMarginOptions, type MarginOptions } from './margins.js';
+import type { MarginRecord } from './margin-record.js';
+
+export type { BreakKind, EndedBy, LimitEvent } from './events.js';
+
+/** A longer interval between consecutive accepted frames is a break ("data_gap"), s. */
+export const DATA_GAP_S = FILTER_RESTART_GAP_S;
+
+/** A frame the engine refuses (physics out of range), reported exactly like a decoder's rejection. */
+export interface FrameRejection {
+  code: string;
+  key?: string;
+  got?: unknown;
+  reason: string;
+}
+
+/** A break in the data: what it was, and the t_s of the last accepted frame before it. */
+export interface DataBreak {
+  kind: BreakKind;
+  t_s: number;
+}
+
+export interface EngineListener {
+  eventStarted?(event: LimitEvent): void;
+  /** An event ended (its alert went off, or a break). `ended_by` is set. */
+  eventEnded?(event: LimitEvent): void;
+  /** A break after at least one accepted frame (a break with no frame since the last one changes nothing). */
+  dataBreak?(brk: DataBreak): void;
+}
+
+/** What the decoder or reader knows about a frame's place in the stream (a DecodedLine or FileLine fits). */
+export interface FrameMarks {
+  /** The sender's clock restarted (the decoder's 5-frame rule). */
+  newSegment?: boolean;
+  /** A reconnect happened just before this frame (a recording's `#link` lines). */
+  afterReconnect?: boolean;
+}
+
+export interface FrameEngine {
+  /**
+   * The margin record of the next accepted frame, after any break it implies; null when the engine refuses the
+   * frame (then `rejection()` says why, and nothing else changed).
+   */
+  push(frame: Frame, marks?: FrameMarks): MarginRecord | null;
+  /** Why the last push returned null. */
+  rejection(): FrameRejection | null;
+  /** A break the caller knows of: link lost or reopened, a seek. */
+  breakData(kind: BreakKind): void;
+  /** The end of the data: open events end ("end_of_data"); returns every event. Tracking may continue after. */
+  finish(): LimitEvent[];
+  /** All events so far, in order of start (open ones included). */
+  events(): readonly LimitEvent[];
+  /** t_s of the last accepted frame since the last break, or null. */
+  lastTS(): number | null;
+  readonly options: MarginOptions;
+}
+
+type RejectionCheck = (aircraft: Aircraft, frame: Frame) => FrameRejection | null;
+
+/**
+ * HOOK (alerts): `frameRejection(aircraft, frame)` from core/margins.ts refuses a frame at or above Mach 1. It is
+ * looked up by name so this file works before and after that export exists; once it is there it runs on every
+ * frame, before the record is computed.
+ */
+const frameRejection = (marginsModule as unknown as { frameRejection?: RejectionCheck }).frameRejection;
+
+export function createFrameEngine(
+  aircraft: Aircraft,
+  options?: Partial<MarginOptions>,
+  listener: EngineListener = {},
+): FrameEngine {
+  const resolved = resolveMarginOptions(aircraft, options);
+  const margins = createMarginTracker(aircraft, resolved);
+  const events = createEventTracker();
+  let last: number | null = null;
+  let refused: FrameRejection | null = null;
+
+  const breakData = (kind: BreakKind): void => {
+    if (last === null) return;
+    const t_s = last;
+    last = null;
+    margins.reset();
+    const ended = events.closeOpen(kind);
+    if (listener.eventEnded) for (const ev of ended) listener.eventEnded(ev);
+    listener.dataBreak?.({ kind, t_s });
+  };
+
+  return {
+    push(frame, marks) {
+      if (marks !== undefined) {
+        if (marks.afterReconnect === true) breakData('link_lost');
+        else if (marks.newSegment === true) breakData('clock_restart');
+      }
+      if (frameRejection !== undefined) {
+        refused = frameRejection(aircraft, frame);
+        if (refused !== null) return null;
+      }
+      if (last !== null) {
+        const dtS = frame.tS - last;
+        if (!(dtS > 0)) breakData('clock_restart');
+        else if (dtS > DATA_GAP_S) breakData('data_gap');
+      }
+      const rec = margins.push(frame);
+      last = frame.tS;
+      const change = events.push(rec);
+      if (change.ended.length > 0 && listener.eventEnded) for (const ev of change.ended) listener.eventEnded(ev);
+      if (change.started.length > 0 && listener.eventStarted)
+        for (const ev of change.started) listener.eventStarted(ev);
+      return rec;
+    },
+    rejection: () => refused,
+    breakData,
+    finish() {
+      breakData('end_of_data');
+      return events.events() as LimitEvent[];
+    },
+    events: () => events.events(),
+    lastTS: () => last,
+    options: resolved,
+  };
+}

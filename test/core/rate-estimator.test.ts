@@ -1,0 +1,123 @@
+import { describe, expect, it } from 'vitest';
+import { createRateEstimator, leastSquaresSlope } from '../../src/core/rate-estimator.js';
+
+/** A seeded normal generator (Box–Muller over a 32-bit LCG; Numerical Recipes constants), for reproducible noise. */
+function gaussian(seed: number): () => number {
+  let s = seed >>> 0;
+  const uniform = () => {
+    s = (Math.imul(s, 1664525) + 1013904223) >>> 0;
+    return (s + 0.5) / 2 ** 32;
+  };
+  return () => Math.sqrt(-2 * Math.log(uniform())) * Math.cos(2 * Math.PI * uniform());
+}
+
+describe('the rate estimator', () => {
+  it('gives the exact slope of a straight line, at any rate and at large times', () => {
+    // A straight line y = a + b·t has least-squares slope b exactly (normal equations of linear regression).
+    for (const [hz, t0, a, b] of [
+      [10, 0, 0, 2.5],
+      [50, 1e6, 1500, -0.75],
+      [1000, 86_400, 25, 3],
+    ] as const) {
+      const est = createRateEstimator(1.0);
+      let last: number | null = null;
+      for (let i = 0; i < hz * 5; i++) {
+        const t = t0 + i / hz;
+        last = est.push(t, a + b * (t - t0));
+        if (i / hz >= 0.5 + 1e-9) expect(last, `${hz} Hz at ${t}`).not.toBeNull();
+        if (last !== null) expect(Math.abs(last - b), `${hz} Hz at ${t}`).toBeLessThan(1e-9 * Math.max(1, Math.abs(b)));
+      }
+    }
+  });
+
+  it('puts the slope of a noisy line within three standard errors of the true slope', () => {
+    // Standard error of the least-squares slope: σ/√Σ(t − t̄)² (any regression text). With 50 Hz and W = 1 s there
+    // are 51 samples; the test checks every window of a long run, so about 0.3 % may fall outside 3 SE by chance.
+    const sigma = 0.5;
+    const slope = -1.2;
+    const hz = 50;
+    const noise = gaussian(7);
+    const est = createRateEstimator(1.0);
+    const ts: number[] = [];
+    let outside = 0;
+    let checked = 0;
+    for (let i = 0; i < hz * 120; i++) {
+      const t = 1000 + i / hz;
+      ts.push(t);
+      const r = est.push(t, 300 + slope * t + sigma * noise());
+      const window = ts.filter((x) => x >= t - 1.0);
+      if (r === null || window.length < 40) continue;
+      const mean = window.reduce((p, x) => p + x, 0) / window.length;
+      const se = sigma / Math.sqrt(window.reduce((p, x) => p + (x - mean) ** 2, 0));
+      checked++;
+      if (Math.abs(r - slope) > 3 * se) outside++;
+    }
+    expect(checked).toBeGreaterThan(5000);
+    expect(outside / checked).toBeLessThan(0.01);
+  });
+
+  it('agrees with a direct least-squares fit over the same window (running sums do not drift)', () => {
+    const noise = gaussian(3);
+    const est = createRateEstimator(0.8);
+    const ts: number[] = [];
+    const ys: number[] = [];
+    for (let i = 0; i < 20_000; i++) {
+      const t = 5e5 + i * 0.013 + (i % 7) * 0.001;
+      const y = 1200 + 40 * Math.sin(t / 3) + noise();
+      ts.push(t);
+      ys.push(y);
+      const r = est.push(t, y);
+      if (i % 997 !== 0 || r === null) continue;
+      const keep = ts.map((x, k) => [x, ys[k]!] as const).filter(([x]) => x >= t - 0.8);
+      const direct = leastSquaresSlope(
+        keep.map((p) => p[0]),
+        keep.map((p) => p[1]),
+      )!;
+      expect(Math.abs(r - direct)).toBeLessThan(1e-6 * Math.max(1, Math.abs(direct)));
+    }
+  });
+
+  it('gives null until the window holds 3 frames spanning half of it', () => {
+    const est = createRateEstimator(1.0);
+    expect(est.push(0, 0)).toBeNull();
+    expect(est.push(0.2, 1)).toBeNull(); // 2 frames
+    expect(est.push(0.4, 2)).toBeNull(); // 3 frames over 0.4 s < 0.5 s
+    expect(est.push(0.5, 2.5)).toBeCloseTo(5, 9); // 4 frames over 0.5 s
+  });
+
+  it('gives null after a long gap leaves too few frames in the window, and after a reset', () => {
+    const est = createRateEstimator(1.0);
+    for (let i = 0; i <= 10; i++) est.push(i * 0.1, i);
+    expect(est.push(1.1, 11)).toBeCloseTo(10, 9);
+    expect(est.push(5, 50)).toBeNull(); // alone in [4, 5]
+    for (let i = 1; i <= 10; i++) est.push(5 + i * 0.1, 50 + i);
+    expect(est.count).toBe(11);
+    est.reset();
+    expect(est.count).toBe(0);
+    expect(est.push(6.1, 0)).toBeNull();
+  });
+
+  it('keeps frames exactly W old in the window and drops older ones', () => {
+    const est = createRateEstimator(1.0);
+    est.push(0, 0);
+    est.push(0.5, 0.5);
+    est.push(1.0, 1.0);
+    expect(est.count).toBe(3); // t − W = 0 still inside
+    est.push(1.25, 1.25);
+    expect(est.count).toBe(3);
+  });
+
+  it('restarts when time goes backwards and skips a frame without a value', () => {
+    const est = createRateEstimator(1.0);
+    for (let i = 0; i <= 10; i++) est.push(10 + i * 0.1, i);
+    expect(est.push(5, 0)).toBeNull();
+    expect(est.count).toBe(1);
+    expect(est.push(5.1, null)).toBeNull();
+    expect(est.count).toBe(1);
+  });
+
+  it('refuses a window that is not a positive number of seconds', () => {
+    expect(() => createRateEstimator(0)).toThrow(/positive/);
+    expect(() => createRateEstimator(Number.NaN)).toThrow(/positive/);
+  });
+});
