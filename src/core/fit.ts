@@ -9,7 +9,7 @@
  * no frame).
  */
 import type { Aircraft, ThrustModel } from './aircraft.js';
-import { fitLine, fitScale, type Estimate } from './least-squares.js';
+import { fitLine, fitScale, type Estimate, type LineFit } from './least-squares.js';
 import { dynamicPressurePa, thrustAvailableN } from './performance.js';
 import { G0_MPS2 } from './units.js';
 
@@ -40,6 +40,8 @@ export const MIN_CL2_RANGE = 0.15;
 export const MIN_THRUST_SAMPLES = 10;
 
 export interface PolarFit {
+  /** The straight line CD against CL² (for its confidence band). */
+  line: LineFit;
   cd0: Estimate;
   k: Estimate;
   r2: number;
@@ -59,6 +61,8 @@ export interface FitResult {
   thrustScale: ThrustScaleFit | null;
   thrustReason: string | null;
   independent: { idle: number; full: number };
+  /** The independent idle samples as (CL², CD), for the plot. */
+  idlePoints: Array<[number, number]>;
 }
 
 /** One sample per rate window in each stretch of data, per regime: samples that share no frame. */
@@ -112,7 +116,15 @@ export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], wi
   } else {
     const line = fitLine(cl2, cd);
     if (line === null) polarReason = `the idle samples cannot be fitted (a single CL²): ${POLAR_ADVICE}`;
-    else polar = { cd0: line.intercept, k: line.slope, r2: line.r2, cl2Range: [cl2Lo, cl2Hi], samples: line.samples };
+    else
+      polar = {
+        line,
+        cd0: line.intercept,
+        k: line.slope,
+        r2: line.r2,
+        cl2Range: [cl2Lo, cl2Hi],
+        samples: line.samples,
+      };
   }
 
   // Thrust: T_measured = D_polar(CL) + W·Ps/V with the fitted polar (the file's when not fitted).
@@ -137,7 +149,14 @@ export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], wi
     if (fit) thrustScale = { scale: fit.scale, samples: fit.samples };
     else thrustReason = 'the full-throttle samples cannot be fitted';
   }
-  return { polar, polarReason, thrustScale, thrustReason, independent: { idle: idle.length, full: full.length } };
+  return {
+    polar,
+    polarReason,
+    thrustScale,
+    thrustReason,
+    independent: { idle: idle.length, full: full.length },
+    idlePoints: cl2.map((x, i) => [x, cd[i]!]),
+  };
 }
 
 /** The thrust model scaled by s (power and static thrust, constant thrust, or every table entry). */
@@ -213,5 +232,116 @@ export function createHeldMaximum(holdS: number): HeldMaximum {
       minHead = 0;
     },
     value: () => best,
+  };
+}
+
+/** What the collector needs of one accepted frame and its margin record. */
+export interface FitFrame {
+  tS: number;
+  flying: boolean;
+  /** The frame's throttle (0…1), or null when it has none. */
+  throttle: number | null;
+  bankDeg: number | null;
+  /** Smoothed TAS and load factor of the record. */
+  tasMps: number;
+  loadFactor: number;
+  densityKgM3: number;
+  massKg: number;
+  /** Lift coefficient of the record, CL = n·W/(q·S). */
+  cl: number | null;
+  /** Specific excess power measured from the rates (null until the rate window is full). */
+  psMps: number | null;
+}
+
+export interface FitFrameCounts {
+  total: number;
+  usable: number;
+  idle: number;
+  full: number;
+  withoutThrottle: number;
+}
+
+export interface FitCollector {
+  push(frame: FitFrame): void;
+  /** A break in the data (gap, link loss, clock restart, end of a file): rates and holds start afresh. */
+  breakData(): void;
+  /** The next file: a new flight. */
+  nextFlight(): void;
+  /** The usable frames, one per rate window and regime in each stretch of data. */
+  samples(): FitSample[];
+  counts(): FitFrameCounts;
+  /** The highest CL held for CL_HOLD_S on flying frames, or null. */
+  clDemonstrated(): number | null;
+}
+
+/** A frame is usable only while the bank changes by less than this, °/s (a steady condition). */
+export const MAX_BANK_RATE_DPS = 10;
+/** cl_demonstrated: the lift coefficient must be held this long, s. */
+export const CL_HOLD_S = 0.5;
+
+/**
+ * Picks the usable frames: flying, throttle known and full (≥ 0.98) or idle (≤ 0.02), Ps defined (the engine's
+ * rates), the bank steady (rate under 10 °/s over the rate window, by the same rate estimator the engine uses), and
+ * a whole rate window since the last break (no break inside the window).
+ */
+export function createFitCollector(
+  rateWindowS: number,
+  bankRate: { push(tS: number, v: number | null): number | null; reset(): void },
+): FitCollector {
+  const held = createHeldMaximum(CL_HOLD_S);
+  const samples: FitSample[] = [];
+  const counts: FitFrameCounts = { total: 0, usable: 0, idle: 0, full: 0, withoutThrottle: 0 };
+  let flight = 0;
+  let stretch = 0;
+  let stretchStartS: number | null = null;
+  // One sample kept per rate window and regime (what the fit uses anyway): memory grows with flight time / W only.
+  const lastKeptS: Record<ThrottleRegime, number | null> = { idle: null, full: null };
+  const breakData = (): void => {
+    stretch += 1;
+    stretchStartS = null;
+    lastKeptS.idle = null;
+    lastKeptS.full = null;
+    bankRate.reset();
+    held.reset();
+  };
+  return {
+    push(f) {
+      counts.total += 1;
+      stretchStartS ??= f.tS;
+      const bankRateDps = bankRate.push(f.tS, f.bankDeg);
+      if (f.throttle === null) counts.withoutThrottle += 1;
+      if (!f.flying) return;
+      if (f.cl !== null) held.push(f.tS, f.cl);
+      if (f.throttle === null || f.psMps === null) return;
+      const regime: ThrottleRegime | null =
+        f.throttle >= FULL_THROTTLE ? 'full' : f.throttle <= IDLE_THROTTLE ? 'idle' : null;
+      if (regime === null) return;
+      if (f.tS - stretchStartS < rateWindowS) return;
+      if (f.bankDeg !== null && (bankRateDps === null || Math.abs(bankRateDps) >= MAX_BANK_RATE_DPS)) return;
+      counts.usable += 1;
+      counts[regime] += 1;
+      const kept = lastKeptS[regime];
+      if (kept !== null && f.tS - kept < rateWindowS) return;
+      lastKeptS[regime] = f.tS;
+      samples.push({
+        flight,
+        stretch,
+        tS: f.tS,
+        regime,
+        tasMps: f.tasMps,
+        densityKgM3: f.densityKgM3,
+        massKg: f.massKg,
+        loadFactor: f.loadFactor,
+        psMps: f.psMps,
+      });
+    },
+    breakData,
+    nextFlight() {
+      breakData();
+      flight += 1;
+    },
+    samples: () => samples,
+    counts: () => ({ ...counts }),
+    clDemonstrated: () => held.value(),
   };
 }

@@ -23,6 +23,19 @@ export interface LineFit {
   samples: number;
   /** Standard deviation of the residuals (n − 2 degrees of freedom). */
   residualSd: number;
+  /** Mean of x and Σ(x − x̄)²: with residualSd, the confidence band of the fitted line (meanResponseBand). */
+  meanX: number;
+  sxx: number;
+}
+
+/** 95 % confidence band of the fitted line's mean at x: ŷ ± t·s·√(1/n + (x − x̄)²/Sxx). */
+export function meanResponseBand(fit: LineFit, x: number): [number, number] {
+  const y = fit.intercept.value + fit.slope.value * x;
+  const half =
+    studentTQuantile(0.975, fit.samples - 2) *
+    fit.residualSd *
+    Math.sqrt(1 / fit.samples + ((x - fit.meanX) * (x - fit.meanX)) / fit.sxx);
+  return [y - half, y + half];
 }
 
 export interface ScaleFit {
@@ -153,6 +166,8 @@ export function fitLine(x: readonly number[], y: readonly number[]): LineFit | n
     r2: syy > 0 ? 1 - sse / syy : 1,
     samples: n,
     residualSd: Math.sqrt(s2),
+    meanX: mx,
+    sxx,
   };
 }
 
