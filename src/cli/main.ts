@@ -4,7 +4,8 @@
  * (0 ok, 1 check failed, 2 unusable input or usage). Commands are loaded lazily so that headless commands start
  * fast and never load the dashboard libraries.
  */
-import { formatHelp, formatOptionList, parseCommandArgs, type CommandSpec, type ParsedArgs } from './args.js';
+import { readFileSync } from 'node:fs';
+import { formatHelp, nearestWord, parseCommandArgs, type CommandSpec, type ParsedArgs } from './args.js';
 import { EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
 
@@ -25,15 +26,11 @@ const COMMANDS: Record<string, CommandEntry> = {
     load: () => import('./commands/envelope.js'),
   },
   watch: {
-    summary: 'monitor live telemetry from a serial radio or a websocket',
+    summary: 'monitor live telemetry from a serial radio, a websocket or UDP datagrams',
     load: () => import('./commands/watch.js'),
   },
   replay: { summary: 'play a recorded flight through the monitor', load: () => import('./commands/replay.js') },
   review: { summary: 'report the exceedances of a recorded flight', load: () => import('./commands/review.js') },
-  fit: {
-    summary: 'estimate the drag polar, the thrust and the demonstrated CL from recorded flights',
-    load: () => import('./commands/fit.js'),
-  },
   check: {
     summary: 'pass/fail a recorded flight against the alert levels (for CI)',
     load: () => import('./commands/check.js'),
@@ -41,6 +38,10 @@ const COMMANDS: Record<string, CommandEntry> = {
   serve: {
     summary: 'answer an autopilot on the bench with margins over a websocket',
     load: () => import('./commands/serve.js'),
+  },
+  card: {
+    summary: 'plan a build-up of turn test points (a test card) from the airframe model',
+    load: () => import('./commands/card.js'),
   },
   simulate: {
     summary: 'fly a turn plan with a point-mass model and emit telemetry',
@@ -56,31 +57,42 @@ const CAUTION =
   "Advisory tool for test planning and monitoring; not flight-critical. The aircraft's approved limits,\n" +
   "the operator's procedures and local aviation rules take precedence.";
 
-async function mainHelp(): Promise<string> {
+function mainHelp(): string {
   const width = Math.max(...Object.keys(COMMANDS).map((c) => c.length));
   const rows = Object.entries(COMMANDS).map(([name, c]) => `  ${name.padEnd(width)}  ${c.summary}`);
-  // Every command's options, each with its unit and default (loading a command module loads no dashboard code).
-  const optionSections: string[] = [];
-  for (const [name, entry] of Object.entries(COMMANDS)) {
-    const mod = await entry.load();
-    optionSections.push(formatOptionList(mod.spec, `turnmargin ${name}`));
-  }
   return [
     'turnmargin — how close a turning fixed-wing UAV is to its stall, thrust and structural load-factor limits',
     '',
-    'usage: turnmargin <command> [options]     turnmargin <command> --help',
+    'usage: turnmargin <command> [options]',
     '',
     'commands:',
     ...rows,
     '',
+    'Each command lists its options, with units and defaults, in: turnmargin <command> --help',
+    '',
     'global options:',
-    '  -h, --help     show this help (turnmargin <command> --help: that command in full)',
+    '  -h, --help     show this help',
     '  -V, --version  print the version',
     '',
-    ...optionSections,
     CAUTION,
     '',
   ].join('\n');
+}
+
+/** The version in the package's own package.json (searched upward: works from src/ and from dist/src/). */
+export function packageVersion(startUrl: URL = new URL('.', import.meta.url)): string {
+  for (let url = startUrl, depth = 0; depth < 6; url = new URL('..', url), depth++) {
+    try {
+      const pkg = JSON.parse(readFileSync(new URL('package.json', url), 'utf8')) as {
+        name?: unknown;
+        version?: unknown;
+      };
+      if (pkg.name === 'turnmargin' && typeof pkg.version === 'string') return pkg.version;
+    } catch {
+      // not here: one level up
+    }
+  }
+  return 'unknown';
 }
 
 function printProblems(lines: string[]): void {
@@ -95,16 +107,19 @@ export async function main(argv: string[]): Promise<number> {
       process.stdout.write(formatHelp(mod.spec));
       return 0;
     }
-    process.stdout.write(await mainHelp());
+    process.stdout.write(mainHelp());
     return name === undefined ? EXIT_UNUSABLE : 0;
   }
   if (name === '--version' || name === '-V') {
-    process.stdout.write('turnmargin 0.1.0\n');
+    process.stdout.write(`turnmargin ${packageVersion()}\n`);
     return 0;
   }
   const entry = COMMANDS[name];
   if (!entry) {
-    printProblems([`unknown command "${name}" (commands: ${Object.keys(COMMANDS).join(', ')}; see turnmargin --help)`]);
+    const near = nearestWord(name, Object.keys(COMMANDS));
+    printProblems([
+      `unknown command "${name}"${near ? ` (did you mean ${near}?)` : ''} (commands: ${Object.keys(COMMANDS).join(', ')}; see turnmargin --help)`,
+    ]);
     return EXIT_UNUSABLE;
   }
   const mod = await entry.load();
