@@ -1,0 +1,347 @@
+/**
+ * Model fitting from flight data (the energy method of performance flight testing): in quasi-steady flight
+ * D = T − W·Ps/V, so power-off glides give the drag directly (T = 0) and full-throttle flight gives thrust minus
+ * drag. From the usable frames of one or more flights: the drag polar CD = CD0 + k·CL² (idle frames), a thrust
+ * scale factor (full-throttle frames), and the demonstrated lift coefficient. Pure.
+ *
+ * Telemetry at tens of frames a second is strongly correlated from frame to frame; the confidence intervals use
+ * one sample per rate window (the rates of a frame are computed over that window, so samples a window apart share
+ * no frame).
+ */
+import type { Aircraft, ThrustModel } from './aircraft.js';
+import { fitLine, fitScale, type Estimate, type LineFit } from './least-squares.js';
+import { dynamicPressurePa, thrustAvailableN } from './performance.js';
+import { G0_MPS2 } from './units.js';
+
+export type ThrottleRegime = 'idle' | 'full';
+
+/** Throttle at or above this is full throttle; at or below IDLE_THROTTLE it is idle. */
+export const FULL_THROTTLE = 0.98;
+export const IDLE_THROTTLE = 0.02;
+
+/** One usable frame (see createFitCollector for what makes a frame usable). */
+export interface FitSample {
+  /** Which flight (index into the list of files) and which stretch of it between breaks. */
+  flight: number;
+  stretch: number;
+  tS: number;
+  regime: ThrottleRegime;
+  tasMps: number;
+  densityKgM3: number;
+  massKg: number;
+  loadFactor: number;
+  psMps: number;
+}
+
+/** Fewer independent idle samples than this, or a narrower CL² range: the polar is not estimated. */
+export const MIN_POLAR_SAMPLES = 30;
+export const MIN_CL2_RANGE = 0.15;
+/** Fewer independent full-throttle samples than this: no thrust scale. */
+export const MIN_THRUST_SAMPLES = 10;
+
+export interface PolarFit {
+  /** The straight line CD against CL² (for its confidence band). */
+  line: LineFit;
+  cd0: Estimate;
+  k: Estimate;
+  r2: number;
+  cl2Range: [number, number];
+  samples: number;
+}
+
+export interface ThrustScaleFit {
+  scale: Estimate;
+  samples: number;
+}
+
+export interface FitResult {
+  polar: PolarFit | null;
+  /** Why the polar was not estimated, and what to fly. */
+  polarReason: string | null;
+  thrustScale: ThrustScaleFit | null;
+  thrustReason: string | null;
+  independent: { idle: number; full: number };
+  /** The independent idle samples as (CL², CD), for the plot. */
+  idlePoints: Array<[number, number]>;
+}
+
+/** One sample per rate window in each stretch of data, per regime: samples that share no frame. */
+export function thinSamples(samples: readonly FitSample[], windowS: number): FitSample[] {
+  const kept: FitSample[] = [];
+  const last = new Map<string, number>();
+  for (const s of samples) {
+    const key = `${s.flight}:${s.stretch}:${s.regime}`;
+    const prev = last.get(key);
+    if (prev === undefined || s.tS - prev >= windowS) {
+      kept.push(s);
+      last.set(key, s.tS);
+    }
+  }
+  return kept;
+}
+
+function qS(aircraft: Aircraft, s: FitSample): number {
+  return dynamicPressurePa(s.densityKgM3, s.tasMps) * aircraft.wingAreaM2;
+}
+
+/** CL = n·W/(q·S). */
+export function sampleCl(aircraft: Aircraft, s: FitSample): number {
+  return (s.loadFactor * s.massKg * G0_MPS2) / qS(aircraft, s);
+}
+
+/** The drag implied by the energy rate, D = T − W·Ps/V, N. */
+export function sampleDragN(s: FitSample, thrustN: number): number {
+  return thrustN - (s.massKg * G0_MPS2 * s.psMps) / s.tasMps;
+}
+
+/** What to fly when the polar cannot be estimated. */
+export const POLAR_ADVICE =
+  'fly power-off glides (throttle idle, wings level, steady) at three or more speeds between 1.3 and 2 Vs1, each held at least 10 s';
+
+export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], windowS: number): FitResult {
+  const thinned = thinSamples(samples, windowS);
+  const idle = thinned.filter((s) => s.regime === 'idle');
+  const full = thinned.filter((s) => s.regime === 'full');
+
+  let polar: PolarFit | null = null;
+  let polarReason: string | null = null;
+  const cl2 = idle.map((s) => sampleCl(aircraft, s) ** 2);
+  const cd = idle.map((s) => sampleDragN(s, 0) / qS(aircraft, s));
+  const cl2Lo = cl2.length ? Math.min(...cl2) : 0;
+  const cl2Hi = cl2.length ? Math.max(...cl2) : 0;
+  if (idle.length < MIN_POLAR_SAMPLES) {
+    polarReason = `${idle.length} independent idle sample${idle.length === 1 ? '' : 's'} (one per rate window of ${windowS} s); at least ${MIN_POLAR_SAMPLES} are needed: ${POLAR_ADVICE}`;
+  } else if (cl2Hi - cl2Lo < MIN_CL2_RANGE) {
+    polarReason = `the idle samples span CL² ${cl2Lo.toFixed(3)}–${cl2Hi.toFixed(3)} (${(cl2Hi - cl2Lo).toFixed(3)}); at least ${MIN_CL2_RANGE} is needed to separate CD0 from k: ${POLAR_ADVICE}`;
+  } else {
+    const line = fitLine(cl2, cd);
+    if (line === null) polarReason = `the idle samples cannot be fitted (a single CL²): ${POLAR_ADVICE}`;
+    else
+      polar = {
+        line,
+        cd0: line.intercept,
+        k: line.slope,
+        r2: line.r2,
+        cl2Range: [cl2Lo, cl2Hi],
+        samples: line.samples,
+      };
+  }
+
+  // Thrust: T_measured = D_polar(CL) + W·Ps/V with the fitted polar (the file's when not fitted).
+  const cd0 = polar?.cd0.value ?? aircraft.cd0;
+  const k = polar?.k.value ?? aircraft.k;
+  const modelled: number[] = [];
+  const measured: number[] = [];
+  for (const s of full) {
+    const tModel = thrustAvailableN(aircraft.thrust, s.tasMps, s.densityKgM3);
+    if (tModel === null || !(tModel > 0)) continue;
+    const cl = sampleCl(aircraft, s);
+    const drag = qS(aircraft, s) * (cd0 + k * cl * cl);
+    modelled.push(tModel);
+    measured.push(drag + (s.massKg * G0_MPS2 * s.psMps) / s.tasMps);
+  }
+  let thrustScale: ThrustScaleFit | null = null;
+  let thrustReason: string | null = null;
+  if (modelled.length < MIN_THRUST_SAMPLES) {
+    thrustReason = `${modelled.length} independent full-throttle sample${modelled.length === 1 ? '' : 's'} with a known thrust; at least ${MIN_THRUST_SAMPLES} are needed: fly full-throttle level accelerations and steady climbs or turns at several speeds`;
+  } else {
+    const fit = fitScale(modelled, measured);
+    if (fit) thrustScale = { scale: fit.scale, samples: fit.samples };
+    else thrustReason = 'the full-throttle samples cannot be fitted';
+  }
+  return {
+    polar,
+    polarReason,
+    thrustScale,
+    thrustReason,
+    independent: { idle: idle.length, full: full.length },
+    idlePoints: cl2.map((x, i) => [x, cd[i]!]),
+  };
+}
+
+/** The thrust model scaled by s (power and static thrust, constant thrust, or every table entry). */
+export function scaleThrust(thrust: ThrustModel, s: number): ThrustModel {
+  switch (thrust.model) {
+    case 'constant':
+      return { ...thrust, thrustN: thrust.thrustN * s };
+    case 'power':
+      return { ...thrust, powerW: thrust.powerW * s, staticThrustN: thrust.staticThrustN * s };
+    case 'table':
+      return { ...thrust, points: thrust.points.map(([v, t]) => [v, t * s] as const) };
+  }
+}
+
+/** The airframe with the fitted polar and thrust scale (what is not fitted stays the file's). */
+export function fittedAircraft(aircraft: Aircraft, fit: FitResult): Aircraft {
+  return {
+    ...aircraft,
+    cd0: fit.polar?.cd0.value ?? aircraft.cd0,
+    k: fit.polar?.k.value ?? aircraft.k,
+    thrust: fit.thrustScale ? scaleThrust(aircraft.thrust, fit.thrustScale.scale.value) : aircraft.thrust,
+  };
+}
+
+/**
+ * The highest value held for at least `holdS`: the maximum, over windows spanning holdS, of the minimum in the
+ * window. Fed frame by frame; `reset()` at a break (a hold never spans one). O(1) amortised per value.
+ */
+export interface HeldMaximum {
+  push(tS: number, value: number): void;
+  reset(): void;
+  /** The highest held value so far, or null when no window of holdS has been seen. */
+  value(): number | null;
+}
+
+export function createHeldMaximum(holdS: number): HeldMaximum {
+  // All frames of the present window (times), and a deque of candidate minima (increasing values).
+  let times: number[] = [];
+  let head = 0;
+  let minT: number[] = [];
+  let minV: number[] = [];
+  let minHead = 0;
+  let best: number | null = null;
+  return {
+    push(tS, value) {
+      times.push(tS);
+      while (minV.length > minHead && minV[minV.length - 1]! >= value) {
+        minV.pop();
+        minT.pop();
+      }
+      minT.push(tS);
+      minV.push(value);
+      // The window starts at the latest frame at or before tS − holdS.
+      while (head + 1 < times.length && times[head + 1]! <= tS - holdS) head++;
+      while (minHead < minT.length && minT[minHead]! < times[head]!) minHead++;
+      if (times[head]! <= tS - holdS) {
+        const held = minV[minHead]!;
+        if (best === null || held > best) best = held;
+      }
+      if (head > 4096) {
+        times = times.slice(head);
+        head = 0;
+        minT = minT.slice(minHead);
+        minV = minV.slice(minHead);
+        minHead = 0;
+      }
+    },
+    reset() {
+      times = [];
+      head = 0;
+      minT = [];
+      minV = [];
+      minHead = 0;
+    },
+    value: () => best,
+  };
+}
+
+/** What the collector needs of one accepted frame and its margin record. */
+export interface FitFrame {
+  tS: number;
+  flying: boolean;
+  /** The frame's throttle (0…1), or null when it has none. */
+  throttle: number | null;
+  bankDeg: number | null;
+  /** Smoothed TAS and load factor of the record. */
+  tasMps: number;
+  loadFactor: number;
+  densityKgM3: number;
+  massKg: number;
+  /** Lift coefficient of the record, CL = n·W/(q·S). */
+  cl: number | null;
+  /** Specific excess power measured from the rates (null until the rate window is full). */
+  psMps: number | null;
+}
+
+export interface FitFrameCounts {
+  total: number;
+  usable: number;
+  idle: number;
+  full: number;
+  withoutThrottle: number;
+}
+
+export interface FitCollector {
+  push(frame: FitFrame): void;
+  /** A break in the data (gap, link loss, clock restart, end of a file): rates and holds start afresh. */
+  breakData(): void;
+  /** The next file: a new flight. */
+  nextFlight(): void;
+  /** The usable frames, one per rate window and regime in each stretch of data. */
+  samples(): FitSample[];
+  counts(): FitFrameCounts;
+  /** The highest CL held for CL_HOLD_S on flying frames, or null. */
+  clDemonstrated(): number | null;
+}
+
+/** A frame is usable only while the bank changes by less than this, °/s (a steady condition). */
+export const MAX_BANK_RATE_DPS = 10;
+/** cl_demonstrated: the lift coefficient must be held this long, s. */
+export const CL_HOLD_S = 0.5;
+
+/**
+ * Picks the usable frames: flying, throttle known and full (≥ 0.98) or idle (≤ 0.02), Ps defined (the engine's
+ * rates), the bank steady (rate under 10 °/s over the rate window, by the same rate estimator the engine uses), and
+ * a whole rate window since the last break (no break inside the window).
+ */
+export function createFitCollector(
+  rateWindowS: number,
+  bankRate: { push(tS: number, v: number | null): number | null; reset(): void },
+): FitCollector {
+  const held = createHeldMaximum(CL_HOLD_S);
+  const samples: FitSample[] = [];
+  const counts: FitFrameCounts = { total: 0, usable: 0, idle: 0, full: 0, withoutThrottle: 0 };
+  let flight = 0;
+  let stretch = 0;
+  let stretchStartS: number | null = null;
+  // One sample kept per rate window and regime (what the fit uses anyway): memory grows with flight time / W only.
+  const lastKeptS: Record<ThrottleRegime, number | null> = { idle: null, full: null };
+  const breakData = (): void => {
+    stretch += 1;
+    stretchStartS = null;
+    lastKeptS.idle = null;
+    lastKeptS.full = null;
+    bankRate.reset();
+    held.reset();
+  };
+  return {
+    push(f) {
+      counts.total += 1;
+      stretchStartS ??= f.tS;
+      const bankRateDps = bankRate.push(f.tS, f.bankDeg);
+      if (f.throttle === null) counts.withoutThrottle += 1;
+      if (!f.flying) return;
+      if (f.cl !== null) held.push(f.tS, f.cl);
+      if (f.throttle === null || f.psMps === null) return;
+      const regime: ThrottleRegime | null =
+        f.throttle >= FULL_THROTTLE ? 'full' : f.throttle <= IDLE_THROTTLE ? 'idle' : null;
+      if (regime === null) return;
+      if (f.tS - stretchStartS < rateWindowS) return;
+      if (f.bankDeg !== null && (bankRateDps === null || Math.abs(bankRateDps) >= MAX_BANK_RATE_DPS)) return;
+      counts.usable += 1;
+      counts[regime] += 1;
+      const kept = lastKeptS[regime];
+      if (kept !== null && f.tS - kept < rateWindowS) return;
+      lastKeptS[regime] = f.tS;
+      samples.push({
+        flight,
+        stretch,
+        tS: f.tS,
+        regime,
+        tasMps: f.tasMps,
+        densityKgM3: f.densityKgM3,
+        massKg: f.massKg,
+        loadFactor: f.loadFactor,
+        psMps: f.psMps,
+      });
+    },
+    breakData,
+    nextFlight() {
+      breakData();
+      flight += 1;
+    },
+    samples: () => samples,
+    counts: () => ({ ...counts }),
+    clDemonstrated: () => held.value(),
+  };
+}
