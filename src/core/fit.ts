@@ -9,15 +9,16 @@
  * no frame).
  */
 import type { Aircraft, ThrustModel } from './aircraft.js';
+import { THROTTLE_FULL_MIN, THROTTLE_IDLE_MAX } from './energy.js';
 import { fitLine, fitScale, type Estimate, type LineFit } from './least-squares.js';
 import { dynamicPressurePa, thrustAvailableN } from './performance.js';
 import { G0_MPS2 } from './units.js';
 
 export type ThrottleRegime = 'idle' | 'full';
 
-/** Throttle at or above this is full throttle; at or below IDLE_THROTTLE it is idle. */
-export const FULL_THROTTLE = 0.98;
-export const IDLE_THROTTLE = 0.02;
+/** Full throttle and idle: the same limits the engine's modelled Ps uses. */
+export const FULL_THROTTLE = THROTTLE_FULL_MIN;
+export const IDLE_THROTTLE = THROTTLE_IDLE_MAX;
 
 /** One usable frame (see createFitCollector for what makes a frame usable). */
 export interface FitSample {
