@@ -77,4 +77,6 @@ export interface MarginRecord {
   cas_mps: number;
   /** Inputs assumed for this frame (see Assumption), in a fixed order; empty when none. */
   assumed: Assumption[];
+  /** Present (true) only when the frame says it comes from a simulator: the dashboard marks the screen. */
+  simulated?: true;
 }

@@ -326,6 +326,7 @@ export function computeMarginRecord(
     cas_mps: casMps,
     assumed: frameAssumptions(aircraft, frame),
   };
+  if (frame.simulated === true) record.simulated = true;
   const airUsed =
     cached !== undefined && cached.state === airState
       ? cached

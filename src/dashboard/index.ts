@@ -351,7 +351,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       if (rec.level === 'warning' && newWarnings(record?.alerts ?? [], rec.alerts).length > 0) bellPending = true;
       if (record !== null && rec.t_s < record.t_s) drawn = null;
       record = rec;
-      if ((rec as { simulated?: boolean }).simulated === true) sawSimulated = true;
+      if (rec.simulated === true) sawSimulated = true;
       lastRecordAtMs = performance.now();
       trail.push({ tS: rec.t_s, tasMps: rec.tas_mps, n: rec.n_measured });
     },
