@@ -12,9 +12,9 @@ import { createFlightReviewer, type FlightReviewer } from '../core/flight-review
 import type { MarginRecord } from '../core/margin-record.js';
 import type { MarginOptions } from '../core/margins.js';
 import {
+  createFrameUnpacker,
   packedAfterReconnect,
   packedNewSegment,
-  unpackFrame,
   unpackRejects,
   type PackedFrameBatch,
 } from '../decode/frame-batch.js';
@@ -32,6 +32,8 @@ export type FrameBatchMessage = PackedFrameBatch;
 const NEW_SEGMENT = Object.freeze({ newSegment: true });
 const AFTER_RECONNECT = Object.freeze({ afterReconnect: true });
 const SAME_SEGMENT = Object.freeze({});
+/** One frame object for every packed frame: the frame engine keeps nothing of the frame it is given. */
+const unpackFrame = createFrameUnpacker();
 
 /**
  * Feed a packed batch to the reviewer: its frames with their marks, then its rejected lines. Shared by the worker

@@ -29,12 +29,17 @@ export function iasToCasMps(iasMps: number, calibration: CalibrationTable | unde
   return interpolateTable(calibration, iasMps);
 }
 
+/** x^3.5 as x³·√x: the same value to the last bit or two, several times faster than the general power. */
+function power3p5(x: number): number {
+  return x * x * x * Math.sqrt(x);
+}
+
 /**
  * TAS from CAS with the standard subsonic compressible relations:
  * qc = p0[(1 + 0.2(CAS/a0)²)^3.5 − 1]; M = √(5[(qc/p + 1)^(2/7) − 1]); TAS = M·√(γRT).
  */
 export function casToTasMps(casMps: number, pressurePa: number, temperatureK: number): number {
-  const impactPressurePa = P0_PA * ((1 + 0.2 * (casMps / A0_MPS) ** 2) ** 3.5 - 1);
+  const impactPressurePa = P0_PA * (power3p5(1 + 0.2 * (casMps / A0_MPS) ** 2) - 1);
   const mach = Math.sqrt(5 * ((impactPressurePa / pressurePa + 1) ** (2 / 7) - 1));
   return mach * Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
 }
@@ -45,7 +50,7 @@ export function casToTasMps(casMps: number, pressurePa: number, temperatureK: nu
  */
 export function tasToCasMps(tasMps: number, pressurePa: number, temperatureK: number): number {
   const mach = tasMps / Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
-  const impactPressurePa = pressurePa * ((1 + 0.2 * mach * mach) ** 3.5 - 1);
+  const impactPressurePa = pressurePa * (power3p5(1 + 0.2 * mach * mach) - 1);
   return A0_MPS * Math.sqrt(5 * ((impactPressurePa / P0_PA + 1) ** (2 / 7) - 1));
 }
 

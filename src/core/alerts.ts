@@ -60,7 +60,8 @@ export function alertStep(
   clearS: number,
 ): ActiveAlert | null {
   if (previous === undefined) return above ? { limit, level } : null;
-  if (held) return { limit, level };
+  // An alert held with no clear stretch running is the same alert as before (alerts are never changed once made).
+  if (held) return previous.clear_since_s === undefined ? previous : { limit, level };
   const since = previous.clear_since_s ?? tS;
   if (tS - since >= clearS - TIME_TOLERANCE_S) return null;
   return { limit, level, clear_since_s: since };
@@ -84,6 +85,21 @@ function find(previous: readonly ActiveAlert[], limit: LimitName, level: AlertLe
   return undefined;
 }
 
+/**
+ * Whether any alert would come on at a flying frame with none on before: a utilization at its threshold, or
+ * n_thrust = 0. Without one, updateAlerts has nothing to do (the usual frame), and nothing is allocated.
+ */
+function anyAlertReached(inputs: AlertInputs, thresholds: AlertThresholds): boolean {
+  if (inputs.nThrust === 0) return true;
+  const u = inputs.utilization;
+  for (let i = 0; i < KINDS.length; i++) {
+    const { limit, level } = KINDS[i]!;
+    const value = u[limit];
+    if (value !== null && value >= alertThreshold(limit, level, thresholds)!) return true;
+  }
+  return false;
+}
+
 /** The alerts on at this frame, given those on at the previous one (most severe first). Runs once per frame. */
 export function updateAlerts(
   previous: readonly ActiveAlert[],
@@ -92,7 +108,7 @@ export function updateAlerts(
 ): ActiveAlert[] {
   const on: ActiveAlert[] = [];
   // Most frames: nothing on before and nothing can come on.
-  if (previous.length === 0 && !inputs.flying) return on;
+  if (previous.length === 0 && (!inputs.flying || !anyAlertReached(inputs, thresholds))) return on;
   const u = inputs.utilization;
   const h = thresholds.hysteresis;
   for (let i = 0; i < KINDS.length; i++) {

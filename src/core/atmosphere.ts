@@ -48,8 +48,34 @@ export function isaPressurePa(altitudeM: number): number {
   );
 }
 
-/** Air state at a pressure altitude; temperature from OAT when given, else ISA + deviation. */
+/** The inputs and result of the last computeAirState: telemetry repeats altitude and OAT from frame to frame. */
+let lastAltitudeM = NaN;
+let lastOatC: number | undefined = NaN;
+let lastDeviationK: number | undefined = NaN;
+let lastAirState: AirState | null = null;
+
+/**
+ * Air state at a pressure altitude; temperature from OAT when given, else ISA + deviation. The same inputs as the
+ * call before give the same (read-only) object again, without computing it anew.
+ */
 export function computeAirState(altitudeM: number, temperature: TemperatureOptions = {}): AirState {
+  const { oatC, isaDeviationK } = temperature;
+  if (
+    lastAirState !== null &&
+    Object.is(altitudeM, lastAltitudeM) &&
+    Object.is(oatC, lastOatC) &&
+    Object.is(isaDeviationK, lastDeviationK)
+  ) {
+    return lastAirState;
+  }
+  lastAirState = airStateAt(altitudeM, temperature);
+  lastAltitudeM = altitudeM;
+  lastOatC = oatC;
+  lastDeviationK = isaDeviationK;
+  return lastAirState;
+}
+
+function airStateAt(altitudeM: number, temperature: TemperatureOptions): AirState {
   const pressurePa = isaPressurePa(altitudeM);
   const temperatureK =
     temperature.oatC !== undefined

@@ -32,6 +32,21 @@ export function lowPassStep(
   const dtS = tS - previous.tS;
   if (!(dtS > 0) || dtS > maxGapS) return { state: { tS, value: input }, restarted: true };
   if (tauS <= 0) return { state: { tS, value: input }, restarted: false };
-  const gain = 1 - Math.exp(-dtS / tauS);
+  const gain = filterGain(dtS, tauS);
   return { state: { tS, value: previous.value + gain * (input - previous.value) }, restarted: false };
+}
+
+/** The last step and τ and their gain: telemetry comes at a steady rate, so Δt repeats from sample to sample. */
+let lastGainDtS = NaN;
+let lastGainTauS = NaN;
+let lastGain = NaN;
+
+/** 1 − e^(−Δt/τ), the gain of one step (the same value as computing it each time). */
+export function filterGain(dtS: number, tauS: number): number {
+  if (dtS !== lastGainDtS || tauS !== lastGainTauS) {
+    lastGain = 1 - Math.exp(-dtS / tauS);
+    lastGainDtS = dtS;
+    lastGainTauS = tauS;
+  }
+  return lastGain;
 }

@@ -7,8 +7,23 @@ import { casToTasMps } from './airspeed.js';
 import { G0_MPS2, RHO0_KG_M3, radToDeg } from './units.js';
 
 /** Thrust available, N, or null where a table model does not cover the speed (never extrapolated). */
+/** The last density and exponent and their factor: the density repeats from frame to frame (same altitude). */
+let lastDensityKgM3 = NaN;
+let lastDensityExponent = NaN;
+let lastDensityFactor = NaN;
+
+/** (ρ/ρ0)^exponent, the thrust's density lapse. */
+function densityFactorOf(densityKgM3: number, exponent: number): number {
+  if (densityKgM3 !== lastDensityKgM3 || exponent !== lastDensityExponent) {
+    lastDensityFactor = (densityKgM3 / RHO0_KG_M3) ** exponent;
+    lastDensityKgM3 = densityKgM3;
+    lastDensityExponent = exponent;
+  }
+  return lastDensityFactor;
+}
+
 export function thrustAvailableN(thrust: ThrustModel, tasMps: number, densityKgM3: number): number | null {
-  const densityFactor = (densityKgM3 / RHO0_KG_M3) ** thrust.densityExponent;
+  const densityFactor = densityFactorOf(densityKgM3, thrust.densityExponent);
   switch (thrust.model) {
     case 'constant':
       return thrust.thrustN * densityFactor;

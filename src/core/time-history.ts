@@ -42,6 +42,11 @@ export const SERIES_NAMES: readonly SeriesName[] = [
   'ps_model_mps',
 ];
 
+/** Each series' index in SERIES_NAMES, as constants for the per-frame path. */
+const SERIES_INDEX: Readonly<Record<SeriesName, number>> = Object.freeze(
+  Object.fromEntries(SERIES_NAMES.map((name, i) => [name, i])) as Record<SeriesName, number>,
+);
+
 export type BreakKind = 'data_gap' | 'clock_restart' | 'link_lost' | 'seek' | 'other';
 const BREAK_BITS: Record<BreakKind, number> = { data_gap: 1, clock_restart: 2, link_lost: 4, seek: 8, other: 16 };
 export const BREAK_KINDS = Object.keys(BREAK_BITS) as BreakKind[];
@@ -173,9 +178,16 @@ export function createTimeHistory(): TimeHistoryAccumulator {
   // Frames per bucket: the series are reduced once a bucket holds more than two (its min and max are drawn).
   const frameCounts = new Uint32Array(MAX_BUCKETS);
 
-  const add = (name: SeriesName, value: number | null | undefined, bucket: number, tS: number): void => {
+  // The series by their index in SERIES_NAMES (made at their first value): no lookup by name per frame.
+  const byIndex: Array<ReducedSeries | undefined> = SERIES_NAMES.map(() => undefined);
+  const add = (index: number, value: number | null | undefined, bucket: number, tS: number): void => {
     if (value === null || value === undefined || !Number.isFinite(value)) return;
-    const s = (series[name] ??= newSeries());
+    let s = byIndex[index];
+    if (s === undefined) {
+      s = newSeries();
+      byIndex[index] = s;
+      series[SERIES_NAMES[index]!] = s;
+    }
     s.count += 1;
     const min = s.min[bucket]!;
     if (!(value >= min)) {
@@ -216,26 +228,35 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         breaks[bucket] = breaks[bucket]! | BREAK_BITS[breakBefore];
         breakCounts[breakBefore] += 1;
       }
-      for (const a of rec.alerts) {
+      const recAlerts = rec.alerts;
+      for (let i = 0; i < recAlerts.length; i++) {
+        const a = recAlerts[i]!;
         if (!(ALERT_LIMITS as readonly string[]).includes(a.limit)) continue;
         const limit = a.limit as AlertLimit;
         alerts[bucket] = alerts[bucket]! | alertBit(limit, a.level) | alertBit(limit, 'caution');
       }
       const u = rec.utilization as MarginRecord['utilization'] & { speed?: number | null };
       const extra = rec as MarginRecord & OptionalKeys;
-      add('u_stall', u.stall, bucket, tS);
-      add('u_thrust', u.thrust, bucket, tS);
-      add('u_structure', u.structure, bucket, tS);
-      add('u_speed', u.speed, bucket, tS);
-      add('tas_mps', rec.tas_mps, bucket, tS);
-      add('cas_mps', extra.cas_mps, bucket, tS);
-      add('n_measured', rec.n_measured, bucket, tS);
-      add('n_from_bank', rec.n_from_bank, bucket, tS);
-      add('bank_deg', rec.bank_deg, bucket, tS);
-      add('alt_m', rec.alt_m, bucket, tS);
-      add('ps_mps', extra.ps_mps, bucket, tS);
-      add('ps_model_mps', extra.ps_model_mps, bucket, tS);
-      if (extra.assumed) for (const flag of extra.assumed) assumedFrames[flag] = (assumedFrames[flag] ?? 0) + 1;
+      // Each series by its index (SERIES_INDEX).
+      add(SERIES_INDEX.u_stall, u.stall, bucket, tS);
+      add(SERIES_INDEX.u_thrust, u.thrust, bucket, tS);
+      add(SERIES_INDEX.u_structure, u.structure, bucket, tS);
+      add(SERIES_INDEX.u_speed, u.speed, bucket, tS);
+      add(SERIES_INDEX.tas_mps, rec.tas_mps, bucket, tS);
+      add(SERIES_INDEX.cas_mps, extra.cas_mps, bucket, tS);
+      add(SERIES_INDEX.n_measured, rec.n_measured, bucket, tS);
+      add(SERIES_INDEX.n_from_bank, rec.n_from_bank, bucket, tS);
+      add(SERIES_INDEX.bank_deg, rec.bank_deg, bucket, tS);
+      add(SERIES_INDEX.alt_m, rec.alt_m, bucket, tS);
+      add(SERIES_INDEX.ps_mps, extra.ps_mps, bucket, tS);
+      add(SERIES_INDEX.ps_model_mps, extra.ps_model_mps, bucket, tS);
+      const assumed = extra.assumed;
+      if (assumed) {
+        for (let i = 0; i < assumed.length; i++) {
+          const flag = assumed[i]!;
+          assumedFrames[flag] = (assumedFrames[flag] ?? 0) + 1;
+        }
+      }
       frames += 1;
       lastS = tS;
       lastTS = rec.t_s;

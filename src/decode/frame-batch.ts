@@ -6,7 +6,7 @@
  * −0 included).
  */
 import type { AirspeedKind, Frame } from '../core/frame.js';
-import { compileFrameBuilder, FRAME_KEYS } from './frame-keys.js';
+import { compileFrameBuilder, compileFrameFiller, FRAME_KEYS } from './frame-keys.js';
 import type { RejectCode, Rejected } from './rejections.js';
 
 /** Packed code of each airspeed kind: its index here. */
@@ -27,14 +27,18 @@ function packedOffset(key: string): number {
   return PACKED_AIRSPEED + 1 + PACKED_KEYS.indexOf(key);
 }
 
-const buildUnpacked = compileFrameBuilder<[Float64Array, number, readonly AirspeedKind[]]>({
+const packedReader = {
   params: ['s', 'o', 'kinds'],
   airspeedKind: `kinds[s[o + ${PACKED_AIRSPEED_KIND}]]`,
   airspeedMps: `s[o + ${PACKED_AIRSPEED}]`,
-  value: (rule) => `s[o + ${packedOffset(rule.key)}]${rule.type === 'boolean' ? ' === 1' : ''}`,
+  value: (rule: { key: string; type: string }) =>
+    `s[o + ${packedOffset(rule.key)}]${rule.type === 'boolean' ? ' === 1' : ''}`,
   // NaN marks an absent key.
-  present: (rule) => `s[o + ${packedOffset(rule.key)}] === s[o + ${packedOffset(rule.key)}]`,
-});
+  present: (rule: { key: string }) => `s[o + ${packedOffset(rule.key)}] === s[o + ${packedOffset(rule.key)}]`,
+};
+const fillUnpacked = compileFrameFiller<[Float64Array, number, readonly AirspeedKind[]]>(packedReader);
+
+const buildUnpacked = compileFrameBuilder<[Float64Array, number, readonly AirspeedKind[]]>(packedReader);
 
 /** The mark of a frame that follows a reconnect (a `#link` break in a recording), not a clock restart. */
 export const PACKED_AFTER_RECONNECT = 2;
@@ -61,6 +65,18 @@ export function packFrame(
 /** The frame at slot `index`, with its keys in the order validation builds them (table order). */
 export function unpackFrame(source: Float64Array, index: number): Frame {
   return buildUnpacked(source, index * FRAME_SLOTS, AIRSPEED_KINDS);
+}
+
+/**
+ * unpackFrame into one frame object that each call overwrites (an absent key is undefined there): for a consumer
+ * that keeps no reference to the frame (the frame engine), no object per frame.
+ */
+export function createFrameUnpacker(): (source: Float64Array, index: number) => Frame {
+  const frame = {} as Frame;
+  return (source, index) => {
+    fillUnpacked(frame, source, index * FRAME_SLOTS, AIRSPEED_KINDS);
+    return frame;
+  };
 }
 
 /** The computation restarts before this frame (a clock restart or a reconnect). */

@@ -251,3 +251,25 @@ export function compileFrameBuilder<Args extends unknown[]>(reader: FrameReader)
   const source = `'use strict'; const f = { ${literal.join(', ')} }; ${body.join(' ')} return f;`;
   return new Function(...reader.params, source) as (...args: Args) => Frame;
 }
+
+/**
+ * compileFrameBuilder for one reused frame: a function that stores every field of the table into `f` (an absent
+ * optional key as undefined), so a reader that hands frames on one at a time (the review's packed batches) needs
+ * no new object per frame. Same field order as the builder; every field is stored, so the object keeps one shape.
+ */
+export function compileFrameFiller<Args extends unknown[]>(reader: FrameReader): (f: Frame, ...args: Args) => void {
+  const body: string[] = [];
+  let airspeedDone = false;
+  FRAME_KEYS.forEach((rule, row) => {
+    if (rule.presence === 'airspeed') {
+      if (airspeedDone) return;
+      airspeedDone = true;
+      body.push(`f.airspeedKind = ${reader.airspeedKind};`, `f.airspeedMps = ${reader.airspeedMps};`);
+      return;
+    }
+    if (!/^[A-Za-z_$][\w$]*$/.test(rule.field)) throw new Error(`frame field ${rule.field} is not an identifier`);
+    if (rule.presence === 'required') body.push(`f.${rule.field} = ${reader.value(rule, row)};`);
+    else body.push(`f.${rule.field} = ${reader.present(rule, row)} ? ${reader.value(rule, row)} : undefined;`);
+  });
+  return new Function('f', ...reader.params, `'use strict'; ${body.join(' ')}`) as (f: Frame, ...args: Args) => void;
+}

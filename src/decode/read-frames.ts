@@ -171,6 +171,10 @@ export async function* physicalBatches(
   };
   /** Whole lines of chunk[from, lastLf] decoded at once; returns where it stopped (lastLf + 1 when done). */
   const asBlock = (chunk: Buffer, from: number, lastLf: number, out: PhysicalLine[]): number => {
+    if (sink) {
+      const del = chunk.indexOf(0x7f, from);
+      if ((del < 0 || del > lastLf) && isAscii(chunk.subarray(from, lastLf))) return asciiBlock(chunk, from, lastLf);
+    }
     const text = chunk.toString('utf8', from, lastLf);
     if (text.length !== lastLf - from) return from;
     // Plain ASCII without DEL: no line can hold U+007F or U+FFFD (see parseAsciiFrameLine).
@@ -201,6 +205,35 @@ export async function* physicalBatches(
         }
       }
       if (nl === text.length) return lastLf + 1;
+      pos = nl + 1;
+    }
+  };
+  /**
+   * asBlock for a block of plain ASCII (no DEL) when a sink takes the lines: each line is offered by its bytes
+   * first, and only a line the sink does not take is decoded (byte offsets are character offsets here).
+   */
+  const asciiBlock = (chunk: Buffer, from: number, lastLf: number): number => {
+    let pos = from;
+    for (;;) {
+      let nl = chunk.indexOf(0x0a, pos);
+      if (nl < 0 || nl > lastLf) nl = lastLf;
+      const length = nl - pos;
+      if (length > FILE_LINE_CAP_BYTES) return pos;
+      physicalNo += 1;
+      if (length > 1 || (length === 1 && chunk[pos] !== 0x0d)) {
+        if (!sink!.plain(chunk, pos, nl, physicalNo)) {
+          sink!.line({
+            physicalNo,
+            block: chunk,
+            start: pos,
+            end: nl,
+            cut: false,
+            decoded: chunk.toString('latin1', pos, nl),
+            ascii: true,
+          });
+        }
+      }
+      if (nl === lastLf) return lastLf + 1;
       pos = nl + 1;
     }
   };
