@@ -85,19 +85,35 @@ function find(previous: readonly ActiveAlert[], limit: LimitName, level: AlertLe
   return undefined;
 }
 
+const NO_ALERTS = Object.freeze([]) as unknown as ActiveAlert[];
+
 /**
  * Whether any alert would come on at a flying frame with none on before: a utilization at its threshold, or
  * n_thrust = 0. Without one, updateAlerts has nothing to do (the usual frame), and nothing is allocated.
  */
 function anyAlertReached(inputs: AlertInputs, thresholds: AlertThresholds): boolean {
   if (inputs.nThrust === 0) return true;
+  const lowest = lowestThresholds(thresholds);
   const u = inputs.utilization;
-  for (let i = 0; i < KINDS.length; i++) {
-    const { limit, level } = KINDS[i]!;
-    const value = u[limit];
-    if (value !== null && value >= alertThreshold(limit, level, thresholds)!) return true;
+  return (
+    reaches(u.stall, lowest.stall) ||
+    reaches(u.structure, lowest.structure) ||
+    reaches(u.thrust, lowest.thrust) ||
+    reaches(u.speed, lowest.speed)
+  );
+}
+
+const reaches = (value: number | null, threshold: number): boolean => value !== null && value >= threshold;
+
+/** The lowest threshold of each limit's alerts (Infinity for a limit without one), for the last thresholds used. */
+let lowestOf: { thresholds: AlertThresholds; lowest: Record<LimitName, number> } | null = null;
+function lowestThresholds(thresholds: AlertThresholds): Record<LimitName, number> {
+  if (lowestOf === null || lowestOf.thresholds !== thresholds) {
+    const lowest: Record<LimitName, number> = { stall: Infinity, structure: Infinity, thrust: Infinity, speed: Infinity };
+    for (const { limit, level } of KINDS) lowest[limit] = Math.min(lowest[limit], alertThreshold(limit, level, thresholds)!);
+    lowestOf = { thresholds, lowest };
   }
-  return false;
+  return lowestOf.lowest;
 }
 
 /** The alerts on at this frame, given those on at the previous one (most severe first). Runs once per frame. */
@@ -106,9 +122,9 @@ export function updateAlerts(
   inputs: AlertInputs,
   thresholds: AlertThresholds,
 ): ActiveAlert[] {
+  // Most frames: nothing on before and nothing can come on (the shared empty list: records only read it).
+  if (previous.length === 0 && (!inputs.flying || !anyAlertReached(inputs, thresholds))) return NO_ALERTS;
   const on: ActiveAlert[] = [];
-  // Most frames: nothing on before and nothing can come on.
-  if (previous.length === 0 && (!inputs.flying || !anyAlertReached(inputs, thresholds))) return on;
   const u = inputs.utilization;
   const h = thresholds.hysteresis;
   for (let i = 0; i < KINDS.length; i++) {

@@ -36,6 +36,26 @@ export function lowPassStep(
   return { state: { tS, value: previous.value + gain * (input - previous.value) }, restarted: false };
 }
 
+/**
+ * lowPassStep for a caller that owns its state: a continuing step updates `previous` in place and returns it; a
+ * restart (first sample, a gap, time not advancing) returns a new state. So the filter restarted exactly when the
+ * result is not `previous`. The same values as lowPassStep, without an object per sample.
+ */
+export function lowPassStepInPlace(
+  previous: LowPassState | null,
+  tS: number,
+  input: number,
+  tauS: number,
+  maxGapS: number = FILTER_RESTART_GAP_S,
+): LowPassState {
+  if (previous === null) return { tS, value: input };
+  const dtS = tS - previous.tS;
+  if (!(dtS > 0) || dtS > maxGapS) return { tS, value: input };
+  previous.value = tauS <= 0 ? input : previous.value + filterGain(dtS, tauS) * (input - previous.value);
+  previous.tS = tS;
+  return previous;
+}
+
 /** The last step and τ and their gain: telemetry comes at a steady rate, so Δt repeats from sample to sample. */
 let lastGainDtS = NaN;
 let lastGainTauS = NaN;

@@ -10,9 +10,9 @@
 import type { Aircraft } from './aircraft.js';
 import { computeAirState, type AirState } from './atmosphere.js';
 import { casToTasMps, iasToCasMps, tasToCasMps, tasToEasMps } from './airspeed.js';
-import { levelOfAlerts, updateAlerts } from './alerts.js';
+import { levelOfAlerts, updateAlerts, type AlertInputs } from './alerts.js';
 import { computeBankLimits } from './bank-limits.js';
-import { lowPassStep, type LowPassState } from './filter.js';
+import { lowPassStepInPlace, type LowPassState } from './filter.js';
 import type { Frame } from './frame.js';
 import type { ActiveAlert, Assumption, MarginRecord, Utilization } from './margin-record.js';
 import {
@@ -24,7 +24,7 @@ import {
   thrustLoadFactor,
 } from './performance.js';
 import type { AlertThresholds } from './thresholds.js';
-import { GAMMA_AIR, G0_MPS2, R_AIR } from './units.js';
+import { G0_MPS2, RHO0_KG_M3 } from './units.js';
 
 export interface MarginOptions {
   /** Alert thresholds. Default: the airframe's (its `alert_thresholds` over the defaults). */
@@ -86,22 +86,7 @@ export function frameAirState(frame: Frame): AirState {
  * `air` is the frame's air state when already known (frameAirState).
  */
 export function computeFrameAir(aircraft: Aircraft, frame: Frame, air: AirState = frameAirState(frame)): FrameAir {
-  let tasMps: number;
-  switch (frame.airspeedKind) {
-    case 'tas':
-      tasMps = frame.airspeedMps;
-      break;
-    case 'cas':
-      tasMps = casToTasMps(frame.airspeedMps, air.pressurePa, air.temperatureK);
-      break;
-    case 'ias':
-      tasMps = casToTasMps(
-        iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration),
-        air.pressurePa,
-        air.temperatureK,
-      );
-      break;
-  }
+  const tasMps = frameTasMps(aircraft, frame, air);
   return {
     tasMps,
     easMps: tasToEasMps(tasMps, air.densityKgM3),
@@ -109,6 +94,18 @@ export function computeFrameAir(aircraft: Aircraft, frame: Frame, air: AirState 
     temperatureK: air.temperatureK,
     massKg: frame.massKg ?? aircraft.massKg,
   };
+}
+
+/** The frame's TAS from whichever airspeed it has, at its air state. */
+function frameTasMps(aircraft: Aircraft, frame: Frame, air: AirState): number {
+  switch (frame.airspeedKind) {
+    case 'tas':
+      return frame.airspeedMps;
+    case 'cas':
+      return casToTasMps(frame.airspeedMps, air.pressurePa, air.temperatureK);
+    case 'ias':
+      return casToTasMps(iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration), air.pressurePa, air.temperatureK);
+  }
 }
 
 /** 1/cos(bank): the load factor of a level coordinated turn at that bank; null where cos(bank) is about 0. */
@@ -156,8 +153,7 @@ export interface FrameRejection {
  */
 export function frameRejection(aircraft: Aircraft, frame: Frame): FrameRejection | null {
   const air = frameAirState(frame);
-  const tasMps = computeFrameAir(aircraft, frame, air).tasMps;
-  const mach = tasMps / Math.sqrt(GAMMA_AIR * R_AIR * air.temperatureK);
+  const mach = frameTasMps(aircraft, frame, air) / air.speedOfSoundMps;
   if (!(mach >= MAX_MACH) && Number.isFinite(mach)) return null;
   return {
     code: 'out_of_range',
@@ -174,6 +170,23 @@ export function frameAssumptions(aircraft: Aircraft, frame: Frame): Assumption[]
   if (frame.oatC === undefined) assumed.push('temperature_isa');
   if (aircraft.nLimitPosSource !== 'file') assumed.push('n_limit_default');
   return assumed;
+}
+
+/**
+ * frameAssumptions as one shared, frozen list per combination (records only read it): no array per frame. Indexed
+ * by (nz absent) + 2·(oat_c absent), per airframe.
+ */
+const sharedAssumptions = new WeakMap<Aircraft, readonly Assumption[][]>();
+function recordAssumptions(aircraft: Aircraft, frame: Frame): Assumption[] {
+  let lists = sharedAssumptions.get(aircraft);
+  if (lists === undefined) {
+    const of = (nz: number | undefined, oatC: number | undefined): Assumption[] =>
+      Object.freeze(frameAssumptions(aircraft, { tS: 0, airspeedKind: 'tas', airspeedMps: 0, altM: 0, nz, oatC })) as
+        Assumption[];
+    lists = [of(1, 0), of(undefined, 0), of(1, undefined), of(undefined, undefined)];
+    sharedAssumptions.set(aircraft, lists);
+  }
+  return lists[(frame.nz === undefined ? 1 : 0) + (frame.oatC === undefined ? 2 : 0)]!;
 }
 
 export interface LimitsForUtilization {
@@ -234,57 +247,121 @@ export function coordinationStep(
   return { disagreeSinceS: since, uncoordinated: tS - since > COORDINATION_DURATION_S };
 }
 
-/** The margin record of one frame, and the state for the next. */
+/** The margin record of one frame, and the state for the next. `state` is left as it was. */
 export function computeMarginRecord(
   aircraft: Aircraft,
   options: MarginOptions,
   state: MarginState,
   frame: Frame,
 ): { record: MarginRecord; state: MarginState } {
+  const next: MarginState = {
+    filter: state.filter === null ? null : { ...state.filter },
+    tasFilter: state.tasFilter === null ? null : { ...state.tasFilter },
+    alerts: state.alerts,
+    disagreeSinceS: state.disagreeSinceS,
+  };
+  if (state.air !== undefined) next.air = state.air;
+  const record = advanceMarginRecord(aircraft, options, next, frame);
+  return { record, state: next };
+}
+
+/** Scratch inputs of computeUtilization and updateAlerts (read during the call only): no objects per frame. */
+const scratchLimits: LimitsForUtilization = { nStall: 0, nStallNeg: null, nThrust: null, nLimitPos: 0, nLimitNeg: 0 };
+const scratchAlertInputs: AlertInputs = {
+  utilization: { stall: null, thrust: null, structure: null, speed: null },
+  nThrust: null,
+  flying: false,
+  tS: 0,
+};
+
+/** √(ρ/ρ0) of the last density (EAS = TAS·√σ): the density repeats from frame to frame. */
+let lastSigmaDensityKgM3 = NaN;
+let lastSqrtSigma = NaN;
+function easOf(tasMps: number, densityKgM3: number): number {
+  if (densityKgM3 !== lastSigmaDensityKgM3) {
+    lastSqrtSigma = Math.sqrt(densityKgM3 / RHO0_KG_M3);
+    lastSigmaDensityKgM3 = densityKgM3;
+  }
+  // The same product as tasToEasMps, with the root reused.
+  return tasMps * lastSqrtSigma;
+}
+
+/** Vs1 of the last airframe, density and mass (they repeat from frame to frame). */
+let lastVs1: { aircraft: Aircraft; densityKgM3: number; massKg: number; mps: number } | null = null;
+function oneGStallSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: number): number {
+  const last = lastVs1;
+  if (last !== null && last.aircraft === aircraft && last.densityKgM3 === densityKgM3 && last.massKg === massKg) {
+    return last.mps;
+  }
+  const mps = stallSpeedMps(aircraft, densityKgM3, massKg);
+  lastVs1 = { aircraft, densityKgM3, massKg, mps };
+  return mps;
+}
+
+/**
+ * computeMarginRecord on a state the caller owns: `state` becomes the state for the next frame (updated in place,
+ * the filters included), and the record is returned. The margin tracker's per-frame path.
+ */
+function advanceMarginRecord(aircraft: Aircraft, options: MarginOptions, state: MarginState, frame: Frame): MarginRecord {
   const cached = state.air;
-  const airState =
-    cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC)
-      ? cached.state
-      : frameAirState(frame);
-  const air = computeFrameAir(aircraft, frame, airState);
-  const { densityKgM3, massKg } = air;
+  let airState: AirState;
+  if (cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC)) {
+    airState = cached.state;
+  } else {
+    airState = frameAirState(frame);
+    state.air = { altM: frame.altM, oatC: frame.oatC, state: airState };
+  }
+  const tasRawMps = frameTasMps(aircraft, frame, airState);
+  const densityKgM3 = airState.densityKgM3;
+  const massKg = frame.massKg ?? aircraft.massKg;
+  const tS = frame.tS;
 
   const nRaw = rawLoadFactor(frame);
-  const step = lowPassStep(state.filter, frame.tS, nRaw, options.smoothTauS);
-  const nF = step.state.value;
+  const previousFilter = state.filter;
+  const nFilter = lowPassStepInPlace(previousFilter, tS, nRaw, options.smoothTauS);
+  // A new filter state means the filter started afresh at this frame.
+  const restarted = nFilter !== previousFilter;
+  state.filter = nFilter;
+  const nF = nFilter.value;
   // Airspeed noise enters the stall limit squared: TAS is smoothed with the same filter, so both restart together.
-  const tasStep = lowPassStep(state.tasFilter, frame.tS, air.tasMps, options.smoothTauS);
-  const tasMps = tasStep.state.value;
+  const tasFilter = lowPassStepInPlace(state.tasFilter, tS, tasRawMps, options.smoothTauS);
+  state.tasFilter = tasFilter;
+  const tasMps = tasFilter.value;
   const casMps = tasToCasMps(tasMps, airState.pressurePa, airState.temperatureK);
 
   // The two limits of computeLimits this record needs, without its other fields.
-  const limits: LimitsForUtilization = {
-    nStall: stallLoadFactor(aircraft, tasMps, densityKgM3, massKg),
-    nStallNeg: negativeStallLoadFactor(aircraft, tasMps, densityKgM3, massKg),
-    nThrust: thrustLoadFactor(aircraft, tasMps, densityKgM3, massKg),
-    nLimitPos: aircraft.nLimitPos,
-    nLimitNeg: aircraft.nLimitNeg,
-  };
+  const nStall = stallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
+  const nStallNeg = negativeStallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
+  const nThrust = thrustLoadFactor(aircraft, tasMps, densityKgM3, massKg);
+  const limits = scratchLimits;
+  limits.nStall = nStall;
+  limits.nStallNeg = nStallNeg;
+  limits.nThrust = nThrust;
+  limits.nLimitPos = aircraft.nLimitPos;
+  limits.nLimitNeg = aircraft.nLimitNeg;
 
-  const flying = tasMps >= FLYING_FRACTION_OF_VS1 * stallSpeedMps(aircraft, densityKgM3, massKg);
+  const flying = tasMps >= FLYING_FRACTION_OF_VS1 * oneGStallSpeedMps(aircraft, densityKgM3, massKg);
   const vneMps = aircraft.vneMps;
   const utilization = computeUtilization(nF, limits, flying, vneMps !== undefined ? casMps / vneMps : null);
-  const alerts = updateAlerts(
-    state.alerts,
-    { utilization, nThrust: limits.nThrust, flying, tS: frame.tS },
-    options.thresholds,
-  );
-  const bank = computeBankLimits(limits.nStall, limits.nThrust, limits.nLimitPos, options.thresholds);
+  const alertInputs = scratchAlertInputs;
+  alertInputs.utilization = utilization;
+  alertInputs.nThrust = nThrust;
+  alertInputs.flying = flying;
+  alertInputs.tS = tS;
+  const alerts = updateAlerts(state.alerts, alertInputs, options.thresholds);
+  state.alerts = alerts;
+  const bank = computeBankLimits(nStall, nThrust, aircraft.nLimitPos, options.thresholds);
 
   const nFromBank = frame.bankDeg !== undefined ? loadFactorFromBank(frame.bankDeg) : null;
   // Comparing n with 1/cos(bank) means something only when n comes from an accelerometer.
   const coordination = coordinationStep(
     state.disagreeSinceS,
-    frame.tS,
+    tS,
     nF,
     frame.nz !== undefined ? nFromBank : null,
-    step.restarted,
+    restarted,
   );
+  state.disagreeSinceS = coordination.disagreeSinceS;
 
   const stallSpeed = stallSpeedAtLoadFactorMps(aircraft, densityKgM3, massKg, nF);
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
@@ -293,13 +370,13 @@ export function computeMarginRecord(
   const turn = nTurn !== null && nTurn >= 1 ? levelTurnAt(nTurn, tasMps) : null;
 
   const record: MarginRecord = {
-    t_s: frame.tS,
+    t_s: tS,
     tas_mps: tasMps,
-    eas_mps: tasToEasMps(tasMps, densityKgM3),
+    eas_mps: easOf(tasMps, densityKgM3),
     density_kg_m3: densityKgM3,
     n_measured: nF,
-    n_stall: limits.nStall,
-    n_thrust: limits.nThrust,
+    n_stall: nStall,
+    n_thrust: nThrust,
     n_structural: aircraft.nLimitPos,
     utilization,
     bank_limit_deg: bank.bankLimitDeg,
@@ -308,7 +385,7 @@ export function computeMarginRecord(
     alerts,
     alt_m: frame.altM,
     mass_kg: massKg,
-    temperature_k: air.temperatureK,
+    temperature_k: airState.temperatureK,
     bank_deg: frame.bankDeg ?? null,
     nz: frame.nz ?? null,
     n_from_bank: nFromBank,
@@ -320,27 +397,14 @@ export function computeMarginRecord(
     uncoordinated: coordination.uncoordinated,
     flying,
     n_raw: nRaw,
-    n_stall_neg: limits.nStallNeg,
+    n_stall_neg: nStallNeg,
     n_structural_neg: aircraft.nLimitNeg,
-    tas_raw_mps: air.tasMps,
+    tas_raw_mps: tasRawMps,
     cas_mps: casMps,
-    assumed: frameAssumptions(aircraft, frame),
+    assumed: recordAssumptions(aircraft, frame),
   };
   if (frame.simulated === true) record.simulated = true;
-  const airUsed =
-    cached !== undefined && cached.state === airState
-      ? cached
-      : { altM: frame.altM, oatC: frame.oatC, state: airState };
-  return {
-    record,
-    state: {
-      filter: step.state,
-      tasFilter: tasStep.state,
-      alerts,
-      disagreeSinceS: coordination.disagreeSinceS,
-      air: airUsed,
-    },
-  };
+  return record;
 }
 
 export interface MarginTracker {
@@ -354,11 +418,8 @@ export function createMarginTracker(aircraft: Aircraft, options?: Partial<Margin
   const resolved = resolveMarginOptions(aircraft, options);
   let state = initialMarginState();
   return {
-    push(frame) {
-      const out = computeMarginRecord(aircraft, resolved, state, frame);
-      state = out.state;
-      return out.record;
-    },
+    // The tracker owns its state: it is advanced in place.
+    push: (frame) => advanceMarginRecord(aircraft, resolved, state, frame),
     reset() {
       state = initialMarginState();
     },
