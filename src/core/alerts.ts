@@ -109,8 +109,14 @@ const reaches = (value: number | null, threshold: number): boolean => value !== 
 let lowestOf: { thresholds: AlertThresholds; lowest: Record<LimitName, number> } | null = null;
 function lowestThresholds(thresholds: AlertThresholds): Record<LimitName, number> {
   if (lowestOf === null || lowestOf.thresholds !== thresholds) {
-    const lowest: Record<LimitName, number> = { stall: Infinity, structure: Infinity, thrust: Infinity, speed: Infinity };
-    for (const { limit, level } of KINDS) lowest[limit] = Math.min(lowest[limit], alertThreshold(limit, level, thresholds)!);
+    const lowest: Record<LimitName, number> = {
+      stall: Infinity,
+      structure: Infinity,
+      thrust: Infinity,
+      speed: Infinity,
+    };
+    for (const { limit, level } of KINDS)
+      lowest[limit] = Math.min(lowest[limit], alertThreshold(limit, level, thresholds)!);
     lowestOf = { thresholds, lowest };
   }
   return lowestOf.lowest;

@@ -104,7 +104,11 @@ function frameTasMps(aircraft: Aircraft, frame: Frame, air: AirState): number {
     case 'cas':
       return casToTasMps(frame.airspeedMps, air.pressurePa, air.temperatureK);
     case 'ias':
-      return casToTasMps(iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration), air.pressurePa, air.temperatureK);
+      return casToTasMps(
+        iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration),
+        air.pressurePa,
+        air.temperatureK,
+      );
   }
 }
 
@@ -181,8 +185,9 @@ function recordAssumptions(aircraft: Aircraft, frame: Frame): Assumption[] {
   let lists = sharedAssumptions.get(aircraft);
   if (lists === undefined) {
     const of = (nz: number | undefined, oatC: number | undefined): Assumption[] =>
-      Object.freeze(frameAssumptions(aircraft, { tS: 0, airspeedKind: 'tas', airspeedMps: 0, altM: 0, nz, oatC })) as
-        Assumption[];
+      Object.freeze(
+        frameAssumptions(aircraft, { tS: 0, airspeedKind: 'tas', airspeedMps: 0, altM: 0, nz, oatC }),
+      ) as Assumption[];
     lists = [of(1, 0), of(undefined, 0), of(1, undefined), of(undefined, undefined)];
     sharedAssumptions.set(aircraft, lists);
   }
@@ -302,7 +307,12 @@ function oneGStallSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: numb
  * computeMarginRecord on a state the caller owns: `state` becomes the state for the next frame (updated in place,
  * the filters included), and the record is returned. The margin tracker's per-frame path.
  */
-function advanceMarginRecord(aircraft: Aircraft, options: MarginOptions, state: MarginState, frame: Frame): MarginRecord {
+function advanceMarginRecord(
+  aircraft: Aircraft,
+  options: MarginOptions,
+  state: MarginState,
+  frame: Frame,
+): MarginRecord {
   const cached = state.air;
   let airState: AirState;
   if (cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC)) {

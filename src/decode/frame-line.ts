@@ -201,14 +201,26 @@ export function parseAsciiFrameLine(line: string): LineVerdict {
   return judgeLineText(line, false);
 }
 
+/** The first characters a JSON text may have (RFC 8259: a value after whitespace, and the text is trimmed here). */
+const JSON_START = new Uint8Array(128);
+for (const c of '{["-0123456789tfn') JSON_START[c.charCodeAt(0)] = 1;
+/** Marks a text refused before JSON.parse (never a parsed value). */
+const NOT_JSON = Symbol('not JSON');
+
 function judgeLineText(line: string, mayHoldDelOrReplacement: boolean): LineVerdict {
   const text = (line.charCodeAt(0) === 0xfeff ? line.slice(1) : line).trim();
   if (text === '') return EMPTY_LINE;
   if (mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return BINARY_NOISE;
-  let parsed: unknown;
-  try {
-    parsed = JSON.parse(text);
-  } catch {
+  // Text that cannot start a JSON value is refused without the exception JSON.parse would throw (junk costs).
+  let parsed: unknown = NOT_JSON;
+  if (JSON_START[text.charCodeAt(0)] === 1) {
+    try {
+      parsed = JSON.parse(text);
+    } catch {
+      parsed = NOT_JSON;
+    }
+  }
+  if (parsed === NOT_JSON) {
     if (!mayHoldDelOrReplacement && CONTROL_BYTES.test(text)) return BINARY_NOISE;
     if (/(?<![\w"])(NaN|-?Infinity)(?![\w"])/.test(text)) return NOT_FINITE_JSON;
     return text.startsWith('{') && !text.endsWith('}') ? TRUNCATED_JSON : INVALID_JSON;

@@ -123,6 +123,8 @@ export function createServeSession(aircraft: Aircraft, options: ServeSessionOpti
 
 /** t_s of a refused line when it is a JSON object with a finite t_s (to help the client match the answer). */
 function readTime(text: string): number | undefined {
+  // Only a JSON object has a t_s: other text is not parsed (a junk line would cost an exception here).
+  if (text.trimStart().charCodeAt(0) !== 0x7b /* { */) return undefined;
   try {
     const obj = JSON.parse(text) as unknown;
     if (obj && typeof obj === 'object' && !Array.isArray(obj)) {

@@ -1,3 +1,4 @@
+import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { parseFrameLine } from '../../src/decode/frame-line.js';
 
@@ -258,6 +259,30 @@ describe('parseFrameLine', () => {
     const v = parseFrameLine('{"t_s":0.5,"tas_mps":1e999,"alt_m":100,"bank_deg":10}');
     expect(v.ok).toBe(false);
     if (!v.ok) expect(v.reason).toBe('tas_mps must be a number from 0 to 300 m/s (got Infinity (number too large))');
+  });
+
+  it('refuses text that cannot start a JSON value as JSON.parse would, with the same words for junk', () => {
+    // RFC 8259 §2 and §3: a JSON text is a value after whitespace, and a value starts with one of { [ " - 0-9 t f n.
+    const starts = new Set('{["-0123456789tfn');
+    fc.assert(
+      fc.property(fc.string({ maxLength: 30 }), (tail) => {
+        for (const head of ['N', 'x', '$', '}', ']', ':', ',', 'T', 'é', '+', '.', '#']) {
+          const text = head + tail;
+          expect(starts.has(head)).toBe(false);
+          expect(() => JSON.parse(text)).toThrow(SyntaxError);
+          const v = parseFrameLine(text);
+          expect(v.ok).toBe(false);
+          if (!v.ok) expect(['invalid_json', 'binary_noise']).toContain(v.code);
+        }
+      }),
+      { numRuns: 200 },
+    );
+    expect(reason('NOISE $GPGGA,123519,4807.038,N,01131.000,E*47')).toBe('invalid JSON');
+    expect(reason('NaN')).toBe('invalid JSON (NaN or Infinity is not a finite number)');
+    expect(reason('  Infinity')).toBe('invalid JSON (NaN or Infinity is not a finite number)');
+    expect(reason('nul')).toBe('invalid JSON');
+    expect(reason('{"t_s": 1')).toBe('invalid JSON (truncated line?)');
+    expect(codeOf('nul')).toBe('invalid_json');
   });
 
   it('accepts the edges of the plausible ranges', () => {

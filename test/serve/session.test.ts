@@ -13,6 +13,17 @@ describe('a serve session (one connection, no socket)', () => {
     expect(session.stats()).toEqual({ lines: 2, answered: 2, errors: 0 });
   });
 
+  it("answers junk with the line's words and no time, and a refused JSON object with its t_s", () => {
+    const session = createServeSession(exampleAirframe(), { margins: { smoothTauS: 0 } });
+    const junk = 'NOISE $GPGGA,123519,4807.038,N,01131.000,E*47';
+    const outOfRange = JSON.stringify({ t_s: 4.5, tas_mps: 999, alt_m: 100, nz: 1 });
+    const answers = session.handleMessage(`${junk}\n  ${outOfRange}\n{"t_s": 7, "tas`);
+    expect(answers[0]).toEqual({ error: 'invalid JSON', code: 'invalid_json', line: 1 });
+    expect(answers[1]).toMatchObject({ code: 'out_of_range', line: 2, t_s: 4.5 });
+    // A cut object has no readable t_s.
+    expect(answers[2]).toEqual({ error: 'invalid JSON (truncated line?)', code: 'invalid_json', line: 3 });
+  });
+
   it('refuses a frame whose TAS reaches Mach 1 and goes on with the next', () => {
     // CAS 300 m/s at 20 000 m ISA is about Mach 2.3 (subsonic relations out of range).
     const session = createServeSession(exampleAirframe(), { margins: { smoothTauS: 0 } });
