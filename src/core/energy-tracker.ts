@@ -47,18 +47,20 @@ function createWindowMean(windowS: number): {
   push(tS: number, value: number | null): number | null;
   reset(): void;
 } {
+  // Capacity a power of two (64, doubled when full): indices wrap with a mask.
   let times = new Float64Array(64);
   let values = new Float64Array(64);
+  let mask = times.length - 1;
   let head = 0;
   let count = 0;
   let sum = 0;
   let sinceRebuild = 0;
-  const at = (k: number): number => (head + k) % times.length;
+  const at = (k: number): number => (head + k) & mask;
   return {
     push(tS, value) {
       while (count > 0 && times[head]! < tS - windowS) {
         sum -= values[head]!;
-        head = (head + 1) % times.length;
+        head = (head + 1) & mask;
         count--;
       }
       if (value !== null && Number.isFinite(value)) {
@@ -71,6 +73,7 @@ function createWindowMean(windowS: number): {
           }
           times = nt;
           values = nv;
+          mask = times.length - 1;
           head = 0;
         }
         const i = at(count);

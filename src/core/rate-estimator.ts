@@ -61,8 +61,10 @@ export interface RateEstimator {
 export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): RateEstimator {
   if (!(windowS > 0) || !Number.isFinite(windowS))
     throw new RangeError(`rate window must be positive (got ${windowS})`);
+  // The ring's capacity is a power of two (16, doubled when full): an index wraps with a mask, not a division.
   let times = new Float64Array(16);
   let values = new Float64Array(16);
+  let mask = times.length - 1;
   let head = 0; // index of the oldest sample
   let count = 0;
   let lastT = -Infinity;
@@ -74,7 +76,7 @@ export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): Ra
   let sumTY = 0;
   let addedSinceRebuild = 0;
 
-  const at = (k: number): number => (head + k) % times.length;
+  const at = (k: number): number => (head + k) & mask;
 
   const rebuild = (): void => {
     sumT = sumY = sumTT = sumTY = 0;
@@ -102,6 +104,7 @@ export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): Ra
     }
     times = nt;
     values = nv;
+    mask = times.length - 1;
     head = 0;
   };
 
@@ -113,7 +116,7 @@ export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): Ra
       sumY -= dy;
       sumTT -= dt * dt;
       sumTY -= dt * dy;
-      head = (head + 1) % times.length;
+      head = (head + 1) & mask;
       count--;
     }
     if (count === 0) rebuild();
