@@ -5,29 +5,34 @@
  * the highest (with a hump-shaped n_thrust and a rising n_stall the qualifying speeds form one interval).
  */
 import type { Aircraft } from './aircraft.js';
-import { computeLimits, stallSpeedMps } from './performance.js';
+import { stallSpeedMps, thrustLoadFactor } from './performance.js';
 
 export interface SpeedBand {
   loMps: number;
   hiMps: number;
 }
 
-/** Relative accuracy of the band's ends (the contract asks for 0.1 %; bisection gets far below it cheaply). */
+/** Relative accuracy of the thrust ends (the contract asks for 0.1 %; bisection gets far below it cheaply). */
 const BAND_REL_TOLERANCE = 1e-6;
-/** Grid of the first scan over [Vs1, top]; a band narrower than one step is still found through the best sample. */
-const SCAN_STEPS = 200;
+/**
+ * Grid of the scan of n_thrust over [stall end, top]. The stall and structural conditions need no scan (below), so
+ * the grid only has to find the thrust interval; a band narrower than one step is still found through the best
+ * sample.
+ */
+const SCAN_STEPS = 40;
+/** Refinement rounds and samples of the search for the largest thrust margin (a band narrower than a step). */
+const BEST_ROUNDS = 8;
+const BEST_SAMPLES = 20;
 /** n_stall(Vs1) = 1 up to rounding: a margin this small counts as met. */
 const MARGIN_TOLERANCE = 1e-9;
 
-/** min(n_stall, n_thrust, n_structural) − max(1, n), or null where the thrust is unknown. */
-function margin(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number, required: number) {
-  const limits = computeLimits(aircraft, tasMps, densityKgM3, massKg);
-  return limits.sustained === null ? null : limits.sustained - required;
-}
-
 /**
  * [lo, hi] TAS, m/s, or null when no speed in [Vs1, topMps] qualifies (also when topMps ≤ Vs1).
- * `loadFactor` is the present load factor; the band is for max(1, loadFactor).
+ * `loadFactor` is the present load factor; the band is for N = max(1, loadFactor).
+ *
+ * Each limit in turn: the structural limit does not depend on speed (N ≤ n_limit_pos or no band); the stall limit
+ * n_stall = (V/Vs1)² holds from Vs1·√N on, in closed form; only the thrust limit is searched — a scan for the
+ * qualifying speeds, then bisection of each end that is not the stall end or the top.
  */
 export function sustainedBandMps(
   aircraft: Aircraft,
@@ -38,17 +43,23 @@ export function sustainedBandMps(
 ): SpeedBand | null {
   if (!(densityKgM3 > 0) || !(massKg > 0) || !Number.isFinite(loadFactor) || !Number.isFinite(topMps)) return null;
   const required = Math.max(1, loadFactor);
+  const tolerance = MARGIN_TOLERANCE * required;
   const vs1 = stallSpeedMps(aircraft, densityKgM3, massKg);
   if (!(topMps >= vs1)) return null;
+  if (aircraft.nLimitPos - required < -tolerance) return null;
+  // n_stall(V) = N at V = Vs1·√N (n_stall grows with V²).
+  const stallEnd = vs1 * Math.sqrt(required);
+  if (stallEnd > topMps * (1 + MARGIN_TOLERANCE)) return null;
+  const from = Math.min(stallEnd, topMps);
   const ok = (v: number): boolean => {
-    const m = margin(aircraft, v, densityKgM3, massKg, required);
-    return m !== null && m >= -MARGIN_TOLERANCE * required;
+    const nThrust = thrustLoadFactor(aircraft, v, densityKgM3, massKg);
+    return nThrust !== null && nThrust - required >= -tolerance;
   };
   const speeds: number[] = [];
-  for (let i = 0; i <= SCAN_STEPS; i++) speeds.push(vs1 + ((topMps - vs1) * i) / SCAN_STEPS);
+  for (let i = 0; i <= SCAN_STEPS; i++) speeds.push(from + ((topMps - from) * i) / SCAN_STEPS);
   // A thrust table's own speeds too: a table may cover less than one step of the grid.
   if (aircraft.thrust.model === 'table') {
-    for (const [v] of aircraft.thrust.points) if (v > vs1 && v < topMps) speeds.push(v);
+    for (const [v] of aircraft.thrust.points) if (v > from && v < topMps) speeds.push(v);
     speeds.sort((a, b) => a - b);
   }
   const lastIndex = speeds.length - 1;
@@ -60,23 +71,17 @@ export function sustainedBandMps(
       last = i;
     }
   }
-  let inside: number;
-  let below: number;
-  let above: number;
   if (first >= 0) {
-    inside = speeds[first]!;
-    below = first === 0 ? NaN : speeds[first - 1]!;
-    above = last === lastIndex ? NaN : speeds[last + 1]!;
-    const lo = Number.isNaN(below) ? inside : edge(ok, below, inside);
-    const hi = Number.isNaN(above) ? speeds[last]! : edge(ok, above, speeds[last]!);
+    const lo = first === 0 ? from : edge(ok, speeds[first - 1]!, speeds[first]!);
+    const hi = last === lastIndex ? topMps : edge(ok, speeds[last + 1]!, speeds[last]!);
     return { loMps: lo, hiMps: hi };
   }
-  // Nothing on the grid: look for a band narrower than a step around the best margin.
-  const best = bestMarginSpeed(aircraft, densityKgM3, massKg, required, vs1, topMps);
+  // Nothing on the grid: look for a band narrower than a step around the largest thrust margin.
+  const best = bestThrustSpeed(aircraft, densityKgM3, massKg, from, topMps);
   if (best === null || !ok(best)) return null;
-  const step = (topMps - vs1) / SCAN_STEPS;
-  below = Math.max(vs1, best - step);
-  above = Math.min(topMps, best + step);
+  const step = (topMps - from) / SCAN_STEPS;
+  const below = Math.max(from, best - step);
+  const above = Math.min(topMps, best + step);
   return {
     loMps: ok(below) ? below : edge(ok, below, best),
     hiMps: ok(above) ? above : edge(ok, above, best),
@@ -95,34 +100,33 @@ function edge(ok: (v: number) => boolean, failing: number, qualifying: number): 
   return good;
 }
 
-/** The speed of the largest margin, refined by successive finer scans (the maximum often sits on a kink). */
-function bestMarginSpeed(
+/** The speed of the largest n_thrust, refined by successive finer scans (the maximum may sit on a kink). */
+function bestThrustSpeed(
   aircraft: Aircraft,
   densityKgM3: number,
   massKg: number,
-  required: number,
   lo: number,
   hi: number,
 ): number | null {
   let bestV: number | null = null;
-  let bestM = -Infinity;
+  let bestN = -Infinity;
   let a = lo;
   let b = hi;
   let samples = SCAN_STEPS;
-  for (let round = 0; round < 8; round++) {
+  for (let round = 0; round < BEST_ROUNDS; round++) {
     const step = (b - a) / samples;
     for (let i = 0; i <= samples; i++) {
       const v = a + step * i;
-      const m = margin(aircraft, v, densityKgM3, massKg, required);
-      if (m !== null && m > bestM) {
-        bestM = m;
+      const n = thrustLoadFactor(aircraft, v, densityKgM3, massKg);
+      if (n !== null && n > bestN) {
+        bestN = n;
         bestV = v;
       }
     }
     if (bestV === null) return null;
     a = Math.max(lo, bestV - step);
     b = Math.min(hi, bestV + step);
-    samples = 40;
+    samples = BEST_SAMPLES;
   }
   return bestV;
 }
