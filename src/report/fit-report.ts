@@ -5,7 +5,14 @@
  */
 import type { Aircraft } from '../core/aircraft.js';
 import type { Envelope } from '../core/envelope.js';
-import { CL_HOLD_S, FULL_THROTTLE, IDLE_THROTTLE, MAX_BANK_RATE_DPS, type FitFrameCounts } from '../core/fit.js';
+import {
+  CL_HOLD_S,
+  FULL_THROTTLE,
+  IDLE_THROTTLE,
+  MAX_BANK_RATE_DPS,
+  MAX_LOAD_FACTOR_SPREAD,
+  type FitFrameCounts,
+} from '../core/fit.js';
 import type { FitOutcome } from '../core/fit-run.js';
 import { meanResponseBand } from '../core/least-squares.js';
 import { TONE_COLOURS } from '../core/nv-plane.js';
@@ -117,10 +124,12 @@ export function fitToMarkdown(input: FitReportInput): string {
       `Idle frames (throttle ≤ ${IDLE_THROTTLE}, T = 0) give CD = D/(q·S) against CL² = (n·W/(q·S))², fitted by least ` +
       `squares to CD = CD0 + k·CL². Full-throttle frames (throttle ≥ ${FULL_THROTTLE}) give T = D_polar(CL) + W·Ps/V ` +
       "with the fitted polar (the file's when none is fitted), and the thrust scale s in T ≈ s·T_model. " +
-      `A frame is used when flying, with its throttle known, the bank changing by less than ${MAX_BANK_RATE_DPS} °/s ` +
-      'and a whole rate window since any break. Neighbouring frames are not independent: the fit keeps one frame per ' +
-      'rate window (their windows share no frame), and the 95 % intervals (Student t) are computed from those; the ' +
-      "thrust scale's interval also carries the polar's uncertainty.",
+      `A frame is usable when flying, with its throttle known, the bank changing by less than ${MAX_BANK_RATE_DPS} °/s ` +
+      'and a whole rate window since any break. Neighbouring frames are not independent: the fit keeps at most one ' +
+      'usable frame per rate window (their windows share no frame), where the whole window held one throttle regime ' +
+      `and the load factor within ${MAX_LOAD_FACTOR_SPREAD} g; the rates, slopes over the window, are paired with the ` +
+      "smoothed state at the window's middle. The 95 % intervals (Student t) come from those samples; the thrust " +
+      "scale's interval also carries the polar's uncertainty.",
     '',
   );
   L.push('## Frames', '');

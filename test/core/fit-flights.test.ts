@@ -62,6 +62,7 @@ describe('fit on simulated flights', () => {
     const truthJson = variantAirframeJson(1.2, 0.9);
     const hits = { cd0: 0, k: 0, scale: 0 };
     const misses: string[] = [];
+    const widths: number[][] = [];
     for (let seed = 1; seed <= 20; seed++) {
       const { truth, outcome } = fitted(truthJson, DEMO_LIKE_NOISE, seed);
       const { polar, thrustScale } = outcome.fit;
@@ -71,10 +72,13 @@ describe('fit on simulated flights', () => {
       else misses.push(`seed ${seed} k ${polar!.k.ci95.join('…')}`);
       if (covers(thrustScale!.scale, 0.9)) hits.scale += 1;
       else misses.push(`seed ${seed} thrust scale ${thrustScale!.scale.ci95.join('…')}`);
-      // The intervals are not trivially wide: each is within ±15 % of the truth.
-      expect(polar!.cd0.ci95[1] - polar!.cd0.ci95[0]).toBeLessThan(0.3 * truth.cd0);
-      expect(polar!.k.ci95[1] - polar!.k.ci95[0]).toBeLessThan(0.3 * truth.k);
-      expect(thrustScale!.scale.ci95[1] - thrustScale!.scale.ci95[0]).toBeLessThan(0.3 * 0.9);
+      widths.push([polar!.cd0, polar!.k, thrustScale!.scale].map((e) => (e.ci95[1] - e.ci95[0]) / 2 / e.value));
+    }
+    // Nor do they cover by being wide: half-widths stay near ±7 % (CD0), ±13 % (k) and ±4 % (thrust scale).
+    for (const [cd0, k, scale] of widths) {
+      expect(cd0).toBeLessThan(0.12);
+      expect(k).toBeLessThan(0.25);
+      expect(scale).toBeLessThan(0.08);
     }
     expect(hits.cd0, misses.join('; ')).toBeGreaterThanOrEqual(17);
     expect(hits.k, misses.join('; ')).toBeGreaterThanOrEqual(17);

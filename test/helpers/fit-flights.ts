@@ -85,7 +85,7 @@ export function gatherFit(file: Aircraft, flights: ReadonlyArray<readonly object
     acc.startFile();
     const engine = createFrameEngine(
       file,
-      { smoothTauS: DEFAULT_SMOOTH_TAU_S, rateWindowS },
+      { smoothTauS: DEFAULT_SMOOTH_TAU_S, rateWindowS, speedBand: false },
       { dataBreak: () => acc.breakData() },
     );
     for (const raw of frames) {

@@ -6,9 +6,16 @@
  */
 import { closeSync, openSync, readSync, statSync } from 'node:fs';
 import { basename } from 'node:path';
-import { DEFAULT_SMOOTH_TAU_S } from '../../core/margins.js';
+import { DEFAULT_SMOOTH_TAU_S, resolveMarginOptions } from '../../core/margins.js';
 import { analyseFit, createFitAccumulator, fittedAirframeJson } from '../../core/fit-run.js';
-import { FULL_THROTTLE, IDLE_THROTTLE, MAX_BANK_RATE_DPS, MIN_CL2_RANGE, MIN_POLAR_SAMPLES } from '../../core/fit.js';
+import {
+  FULL_THROTTLE,
+  IDLE_THROTTLE,
+  MAX_BANK_RATE_DPS,
+  MAX_LOAD_FACTOR_SPREAD,
+  MIN_CL2_RANGE,
+  MIN_POLAR_SAMPLES,
+} from '../../core/fit.js';
 import { DEFAULT_RATE_WINDOW_S } from '../../core/rate-estimator.js';
 import { RECORDING_MAGIC } from '../../recording/format.js';
 import { fitToJson, fitToMarkdown, renderFitPlotSvg, type FitReportInput } from '../../report/fit-report.js';
@@ -77,8 +84,9 @@ export const spec: CommandSpec = {
     `Usable frames: flying, throttle ≥ ${FULL_THROTTLE} (full) or ≤ ${IDLE_THROTTLE} (idle), the rates defined, the bank ` +
       `changing by less than ${MAX_BANK_RATE_DPS} °/s over the rate window, and no break inside the window. ` +
       'Idle frames give the polar CD = CD0 + k·CL² (the drag is D = −W·Ps/V); full-throttle frames give the thrust ' +
-      'scale s in T_measured ≈ s·T_model. One frame per rate window is used (neighbouring frames are not ' +
-      'independent); intervals are 95 %. fit never raises cl_max.',
+      'scale s in T_measured ≈ s·T_model. The fit uses at most one usable frame per rate window (neighbouring ' +
+      'frames are not independent), and only where the whole window held one throttle regime and the load factor ' +
+      `within ${MAX_LOAD_FACTOR_SPREAD} g; intervals are 95 %. fit never raises cl_max.`,
     `What to fly: power-off glides (throttle at idle, wings level) at three or more speeds between 1.3 and 2 Vs1 ` +
       `(${MIN_POLAR_SAMPLES} independent samples and a CL² range of ${MIN_CL2_RANGE} at least), and full-throttle ` +
       'level accelerations and level turns at several speeds, each steady for 10 s or more, in calm air.',
@@ -139,7 +147,8 @@ export async function run(args: ParsedArgs): Promise<number> {
       file,
       aircraftFile,
       aircraft,
-      margins: { thresholds: aircraft.thresholds, smoothTauS: DEFAULT_SMOOTH_TAU_S, rateWindowS },
+      // No record is shown: the per-record speed band (a search over speeds) is not needed.
+      margins: resolveMarginOptions(aircraft, { smoothTauS: DEFAULT_SMOOTH_TAU_S, rateWindowS, speedBand: false }),
     };
     if (mappingPath !== undefined) input.mappingPath = mappingPath;
     accumulator.startFile();
