@@ -124,6 +124,8 @@ function writtenPrecision(fitted: Aircraft, file: Aircraft): Aircraft {
 export interface FitProvenance {
   /** Date of the data (YYYY-MM-DD), or null when unknown. */
   dataDate: string | null;
+  /** Where the date comes from: a recording's start, or the file's modification time. */
+  dataDateFrom: 'recording' | 'file modified' | null;
   files: string[];
   rateWindowS: number;
 }
@@ -161,6 +163,7 @@ export function fittedAirframeJson(
   out['fitted'] = {
     note: 'written by turnmargin fit; the airframe loader ignores this object',
     data_date: about.dataDate,
+    data_date_from: about.dataDateFrom,
     files: about.files,
     rate_window_s: about.rateWindowS,
     samples: { idle: fit.independent.idle, full: fit.independent.full },

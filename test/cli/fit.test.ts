@@ -290,8 +290,11 @@ describe('turnmargin fit', () => {
     // The rate window (1 s, 10 frames) after the reconnect is not usable.
     expect(a.frames.idle - b.frames.idle).toBe(10);
     expect(b.polar).not.toBeNull();
-    const fitted = JSON.parse(readFileSync(written, 'utf8')) as { fitted: { data_date: string } };
+    const fitted = JSON.parse(readFileSync(written, 'utf8')) as {
+      fitted: { data_date: string; data_date_from: string };
+    };
     expect(fitted.fitted.data_date).toBe('2026-05-04');
+    expect(fitted.fitted.data_date_from).toBe('recording');
   });
 
   it('fits several flights together', async () => {

@@ -378,7 +378,12 @@ describe('the fitted airframe file', () => {
   it('scales power and static thrust, writes the polar as {cd0, k}, and the loader accepts the result without a warning', () => {
     const original = exampleAirframeJson() as unknown as Record<string, unknown>;
     const o = outcome(aircraft);
-    const json = fittedAirframeJson(original, o, { dataDate: '2026-05-04', files: ['a.ndjson'], rateWindowS: 1 });
+    const json = fittedAirframeJson(original, o, {
+      dataDate: '2026-05-04',
+      dataDateFrom: 'recording',
+      files: ['a.ndjson'],
+      rateWindowS: 1,
+    });
     expect(json['polar']).toEqual({ cd0: Number(truth.cd0.toPrecision(6)), k: Number(truth.k.toPrecision(6)) });
     const thrust = json['thrust'] as Record<string, number>;
     expect(thrust['power_w']).toBeCloseTo(200 * 0.8, 3);
@@ -404,6 +409,7 @@ describe('the fitted airframe file', () => {
     const constant = { ...exampleAirframeJson(), thrust: { model: 'constant', thrust_n: 9 } };
     const c = fittedAirframeJson(constant as unknown as Record<string, unknown>, outcome(airframeOf(constant)), {
       dataDate: null,
+      dataDateFrom: null,
       files: [],
       rateWindowS: 1,
     });
@@ -421,6 +427,7 @@ describe('the fitted airframe file', () => {
     };
     const t = fittedAirframeJson(table as unknown as Record<string, unknown>, outcome(airframeOf(table)), {
       dataDate: null,
+      dataDateFrom: null,
       files: [],
       rateWindowS: 1,
     });

@@ -98,7 +98,7 @@ export const spec: CommandSpec = {
 };
 
 /** YYYY-MM-DD of the data in a file: a recording's start, else the file's modification date; null if unknown. */
-function dataDateOf(file: string): string | null {
+function dataDateOf(file: string): { date: string; from: 'recording' | 'file modified' } | null {
   let fd: number | undefined;
   try {
     fd = openSync(file, 'r');
@@ -107,9 +107,9 @@ function dataDateOf(file: string): string | null {
     if (text.startsWith(RECORDING_MAGIC)) {
       const started = /^#started (\S+)$/m.exec(text);
       const date = started ? new Date(started[1]!) : null;
-      if (date && Number.isFinite(date.getTime())) return date.toISOString().slice(0, 10);
+      if (date && Number.isFinite(date.getTime())) return { date: date.toISOString().slice(0, 10), from: 'recording' };
     }
-    return statSync(file).mtime.toISOString().slice(0, 10);
+    return { date: statSync(file).mtime.toISOString().slice(0, 10), from: 'file modified' };
   } catch {
     return null;
   } finally {
@@ -182,9 +182,14 @@ export async function run(args: ParsedArgs): Promise<number> {
   }
   if (airframePath !== undefined) {
     const original = readJson(aircraftFile, 'airframe') as Record<string, unknown>;
-    const dates = files.map(dataDateOf).filter((d): d is string => d !== null);
+    // The earliest date of the files.
+    const dates = files
+      .map(dataDateOf)
+      .filter((d) => d !== null)
+      .sort((a, b) => a.date.localeCompare(b.date));
     const json = fittedAirframeJson(original, outcome, {
-      dataDate: dates.length > 0 ? dates.sort()[0]! : null,
+      dataDate: dates[0]?.date ?? null,
+      dataDateFrom: dates[0]?.from ?? null,
       files: files.map((f) => basename(f)),
       rateWindowS,
     });
