@@ -18,6 +18,7 @@ import {
   fitFrameOf,
   fittedAircraft,
   IDLE_THROTTLE,
+  isPhysicalPolar,
   MAX_BANK_RATE_DPS,
   POLAR_ADVICE,
   THRUST_ADVICE,
@@ -263,7 +264,7 @@ export function analyseFit(aircraft: Aircraft, data: FitData, rateWindowS: numbe
   // A polar or scale that is not positive cannot describe an airframe (the file's model would refuse it): reported,
   // never applied.
   let applied: FitResult = fit;
-  if (fit.polar !== null && !(fit.polar.cd0.value > 0 && fit.polar.k.value > 0)) {
+  if (fit.polar !== null && !isPhysicalPolar(fit.polar)) {
     warnings.push(
       `the fitted polar (CD0 ${fit.polar.cd0.value.toPrecision(3)}, k ${fit.polar.k.value.toPrecision(3)}) is not physical (both must be positive): the idle data are not steady glides or the throttle is wrong; the file's polar is kept`,
     );

@@ -55,7 +55,12 @@ export interface PolarFit {
 export interface ThrustScaleFit {
   scale: Estimate;
   samples: number;
+  /** Which polar gave the drag in T_measured: the fitted one, or the file's (none fitted, or not physical). */
+  polar: 'fitted' | 'file';
 }
+
+/** A polar that can describe an airframe: both coefficients positive (the airframe file requires it). */
+export const isPhysicalPolar = (p: { cd0: Estimate; k: Estimate }): boolean => p.cd0.value > 0 && p.k.value > 0;
 
 export interface FitResult {
   polar: PolarFit | null;
@@ -138,8 +143,9 @@ export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], wi
   }
 
   // Thrust: T_measured = D_polar(CL) + W·Ps/V with the fitted polar (the file's when not fitted).
-  const cd0 = polar?.cd0.value ?? aircraft.cd0;
-  const k = polar?.k.value ?? aircraft.k;
+  const thrustPolar = polar !== null && isPhysicalPolar(polar) ? polar : null;
+  const cd0 = thrustPolar?.cd0.value ?? aircraft.cd0;
+  const k = thrustPolar?.k.value ?? aircraft.k;
   const modelled: number[] = [];
   const measured: number[] = [];
   const fullQs: number[] = [];
@@ -163,7 +169,7 @@ export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], wi
     if (fit === null) thrustReason = `the full-throttle samples cannot be fitted: ${THRUST_ADVICE}`;
     else {
       let scale = fit.scale;
-      if (polar !== null) {
+      if (thrustPolar !== null) {
         // The measured thrust leans on the fitted polar: its uncertainty adds to the scale's (delta method,
         // ∂s/∂CD0 = Σx·qS/Σx², ∂s/∂k = Σx·qS·CL²/Σx², with the covariance of intercept and slope of the line).
         let sxx = 0;
@@ -176,14 +182,14 @@ export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], wi
         }
         g0 /= sxx;
         g1 /= sxx;
-        const line = polar.line;
+        const line = thrustPolar.line;
         const covAB = (-line.meanX * line.residualSd * line.residualSd) / line.sxx;
         const polarVar = g0 * g0 * line.intercept.se ** 2 + g1 * g1 * line.slope.se ** 2 + 2 * g0 * g1 * covAB;
         const se = Math.sqrt(scale.se * scale.se + Math.max(0, polarVar));
         const t = studentTQuantile(0.975, Math.min(fit.samples - 1, line.samples - 2));
         scale = { value: scale.value, se, ci95: [scale.value - t * se, scale.value + t * se] };
       }
-      thrustScale = { scale, samples: fit.samples };
+      thrustScale = { scale, samples: fit.samples, polar: thrustPolar !== null ? 'fitted' : 'file' };
     }
   }
   return {

@@ -158,7 +158,7 @@ export function fitToMarkdown(input: FitReportInput): string {
     const s = fit.thrustScale.scale;
     L.push(
       `Measured thrust = ${f(s.value, 3)} × the file's (95 % interval ${f(s.ci95[0], 3)} … ${f(s.ci95[1], 3)}), ` +
-        `${fit.thrustScale.samples} independent samples${fit.polar === null ? ", with the file's polar" : ', with the fitted polar'}.`,
+        `${fit.thrustScale.samples} independent samples, with the ${fit.thrustScale.polar === 'fitted' ? 'fitted' : "file's"} polar.`,
       '',
     );
   }

@@ -335,6 +335,7 @@ describe('the fit analysis', () => {
     const r = analyseFit(aircraft, dataOf(thinSamples([...glides(), ...fullThrottle()], 1)), 1);
     if (!r.ok) throw new Error(r.problems.join());
     expect(r.value.fit.thrustScale!.scale.value).toBeCloseTo(0.85, 9);
+    expect(r.value.fit.thrustScale!.polar).toBe('fitted');
     expect(r.value.applied).toEqual({ polar: true, thrustScale: true });
     expect(r.value.envelopeFitted.maxSustainedLoadFactor!.value).toBeLessThan(
       r.value.envelopeFile.maxSustainedLoadFactor!.value,
@@ -350,6 +351,29 @@ describe('the fit analysis', () => {
     expect(r.value.applied.polar).toBe(false);
     expect(r.value.fitted.k).toBe(aircraft.k);
     expect(r.value.warnings.join(' ')).toMatch(/not physical/);
+    // Nor does the thrust lean on it: with full-throttle samples the scale comes with the file's polar.
+    const withThrust = analyseFit(
+      aircraft,
+      dataOf(
+        thinSamples(
+          [
+            ...bad,
+            ...steadySamples({
+              regime: 'full',
+              speeds: [14, 18, 22],
+              cd0: aircraft.cd0,
+              k: aircraft.k,
+              thrustScale: 0.9,
+            }),
+          ],
+          1,
+        ),
+      ),
+      1,
+    );
+    if (!withThrust.ok) throw new Error(withThrust.problems.join());
+    expect(withThrust.value.fit.thrustScale!.polar).toBe('file');
+    expect(withThrust.value.fit.thrustScale!.scale.value).toBeCloseTo(0.9, 9);
   });
 
   it("warns when the wing held more CL than the file's cl_max, and never raises cl_max", () => {
