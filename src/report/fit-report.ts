@@ -259,6 +259,32 @@ function panelFrame(p: Panel, xLabel: string, yLabel: string, title: string): st
   return out;
 }
 
+/** Points of the residual further apart than this, s, or 3 of their usual spacings (a decimated long flight), are not joined by a line. */
+const RESIDUAL_GAP_S = 1.5;
+
+function gapOf(series: ReadonlyArray<[number, number]>): number {
+  const steps = series
+    .slice(1)
+    .map((p, i) => p[0] - series[i]![0])
+    .sort((a, b) => a - b);
+  return Math.max(RESIDUAL_GAP_S, 3 * (steps[steps.length >> 1] ?? 0));
+}
+
+/** Split a series where consecutive points are more than gapS apart. */
+function runsOf(series: ReadonlyArray<[number, number]>, gapS: number): Array<Array<[number, number]>> {
+  const runs: Array<Array<[number, number]>> = [];
+  let run: Array<[number, number]> = [];
+  for (const p of series) {
+    if (run.length > 0 && p[0] - run[run.length - 1]![0] > gapS) {
+      runs.push(run);
+      run = [];
+    }
+    run.push(p);
+  }
+  if (run.length > 0) runs.push(run);
+  return runs;
+}
+
 const WIDTH = 960;
 const HEIGHT = 900;
 const FITTED = '#1f4e99';
@@ -361,7 +387,6 @@ export function renderFitPlotSvg(input: FitReportInput): string {
   legend.push('</g>');
 
   // Panel 2: residuals against time, the files one after the other (each from its own first frame).
-  const offsets: number[] = [];
   let offset = 0;
   const residualSeries: Array<Array<[number, number]>> = [];
   const fittedSeries: Array<Array<[number, number]>> = [];
@@ -369,14 +394,12 @@ export function renderFitPlotSvg(input: FitReportInput): string {
     const fitted = input.outcome.fittedResiduals[i] ?? [];
     const times = [...r.map((p) => p[0]), ...fitted.map((p) => p[0])];
     if (times.length === 0) {
-      offsets.push(offset);
       residualSeries.push([]);
       fittedSeries.push([]);
       return;
     }
     const t0 = Math.min(...times);
     const t1 = Math.max(...times);
-    offsets.push(offset);
     residualSeries.push(r.map(([t, v]) => [offset + t - t0, v]));
     fittedSeries.push(fitted.map(([t, v]) => [offset + t - t0, v]));
     offset += t1 - t0 + 5;
@@ -408,10 +431,14 @@ export function renderFitPlotSvg(input: FitReportInput): string {
   );
   out.push(`<g clip-path="url(#residual-area)">`);
   residualSeries.forEach((s, i) => {
-    if (s.length > 1)
-      out.push(
-        `<polyline id="residual-file-${i + 1}" points="${s.map(([t, v]) => `${num(sx(p2, t))},${num(sy(p2, v))}`).join(' ')}" fill="none" stroke="${FILE_LINE}" stroke-width="1.4" stroke-linejoin="round"/>`,
-      );
+    // One polyline per stretch with a modelled Ps: no line across part-throttle flying or a break.
+    out.push(
+      `<g id="residual-file-${i + 1}" fill="none" stroke="${FILE_LINE}" stroke-width="1.4" stroke-linejoin="round">`,
+    );
+    for (const run of runsOf(s, gapOf(s)))
+      if (run.length > 1)
+        out.push(`<polyline points="${run.map(([t, v]) => `${num(sx(p2, t))},${num(sy(p2, v))}`).join(' ')}"/>`);
+    out.push('</g>');
   });
   fittedSeries.forEach((s, i) => {
     out.push(`<g id="residual-fitted-${i + 1}" fill="${FITTED}">`);

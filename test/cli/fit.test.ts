@@ -319,6 +319,28 @@ describe('turnmargin fit', () => {
     expect(out.thrust_scale!.ci95[1]).toBeGreaterThan(0.9);
   });
 
+  it("without glides gives the thrust with the file's polar, and says what to fly for the polar", async () => {
+    const dir = tmp();
+    const flight = join(dir, 'power-only.ndjson');
+    const powered = fitPlanJson(DEMO_LIKE_NOISE);
+    const plan = { ...powered, segments: powered.segments.filter((seg) => seg.type !== 'glide') };
+    // The file's polar is the truth here, the thrust 10 % short.
+    writeFileSync(flight, ndjson(simulateFrames(airframe(variantAirframeJson(1, 0.9)), plan, 1)));
+    const plot = join(dir, 'plot.svg');
+    const out = await fitJson([flight, '--aircraft', DEMO_AIRFRAME_PATH, '--plot', plot]);
+    expect(out.polar).toBeNull();
+    expect(out.polar_reason).toMatch(
+      /\d+ independent idle samples? .* at least 30 .* power-off glides .* three or more speeds/,
+    );
+    expect(out.thrust_scale!.ci95[0]).toBeLessThan(0.9);
+    expect(out.thrust_scale!.ci95[1]).toBeGreaterThan(0.9);
+    expect(out.warnings.join(' ')).toMatch(/polar not estimated/);
+    const svg = readFileSync(plot, 'utf8');
+    checkXml(svg);
+    expect(svg).toContain('polar not estimated');
+    expect(svg).not.toMatch(/NaN|Infinity/);
+  });
+
   describe('refuses, with exit 2, what is missing and what to fly', () => {
     const truth = airframe(variantAirframeJson(1.2, 0.9));
 
