@@ -117,6 +117,26 @@ describe('turnmargin fit', () => {
     expect(JSON.stringify(out)).not.toMatch(/NaN|Infinity/);
   });
 
+  it("README's worked example is the output of the built command on the bundled flight", async () => {
+    const dir = tmp();
+    const readme = readFileSync(join(REPO_ROOT, 'README.md'), 'utf8');
+    const start = readme.indexOf('```md\n# Model fit');
+    expect(start, 'README has the worked example').toBeGreaterThan(0);
+    const pasted = readme.slice(start + '```md\n'.length, readme.indexOf('\n```', start + 6) + 1);
+    const r = await runCli([
+      'fit',
+      'replays/fit-flight.ndjson',
+      '--aircraft',
+      'replays/demo-airframe.json',
+      '--plot',
+      join(dir, 'fit-flight.svg'),
+      '--write-airframe',
+      join(dir, 'fitted-airframe.json'),
+    ]);
+    expect(r.code, r.stderr).toBe(0);
+    expect(r.stdout.split(join(dir, 'fitted-airframe.json')).join('fitted-airframe.json')).toBe(pasted);
+  });
+
   it('writes a readable Markdown report with the method, the fit, what it changes and the cautions', async () => {
     const r = await runCli(['fit', FIT_FLIGHT, '--aircraft', DEMO_AIRFRAME_PATH]);
     expect(r.code, r.stderr).toBe(0);
