@@ -27,8 +27,11 @@ import {
   speedFromMps,
   speedUnitLabel,
   type SpeedUnit,
+  wrapWords,
 } from './format-units.js';
-import { innerSize, type DashboardLayout } from './layout.js';
+import { innerSize, type DashboardLayout, type Rect } from './layout.js';
+import type { LiveCardView } from './live-card.js';
+import type { TestPointStatus } from '../core/test-point.js';
 
 /** After this long without a frame the data are marked STALE, s (issue contract; the link health's limit). */
 export { STALE_AFTER_S } from '../sources/link-health.js';
@@ -54,6 +57,10 @@ export interface ScreenInput {
   error: string | null;
   /** The frames say they come from a simulator ("simulated": true). */
   simulated?: boolean;
+  /** A test card followed live (--card): the point shown and every point's status. */
+  card?: LiveCardView | null;
+  /** Notes kept at the top of the event log (a card made for another airframe). */
+  notices?: readonly string[];
 }
 
 export interface Panel {
@@ -70,6 +77,8 @@ export interface ScreenModel {
   readouts: Panel;
   link: Panel;
   events: Panel;
+  /** The test point panel; null without a card. */
+  card: Panel | null;
   plotTitle: string;
   keys: Line;
   caution: Line;
@@ -496,6 +505,9 @@ const SHORT_LIMIT: Record<string, string> = { structure: 'STRUCT' };
 export function buildEventLines(input: ScreenInput, width: number, height: number): Line[] {
   const lines: Line[] = [];
   if (input.error) lines.push(fitLine([seg('ERROR ', 'warning'), seg(input.error, 'warning')], width));
+  for (const note of input.notices ?? []) {
+    for (const part of wrapWords(`NOTE ${note}`, width, 2)) lines.push(fitLine([seg(part, 'caution')], width));
+  }
   if (input.events.length === 0) {
     lines.push(fitLine([seg('no exceedances so far', 'dim')], width));
     return lines.slice(0, Math.max(0, height));
@@ -579,6 +591,7 @@ interface KeyHelp {
   short: string;
   long: string;
   replayOnly?: boolean;
+  cardOnly?: boolean;
 }
 
 export const KEY_HELP: readonly KeyHelp[] = [
@@ -587,17 +600,21 @@ export const KEY_HELP: readonly KeyHelp[] = [
   { keys: 'space', short: 'pause', long: 'pause or resume the replay', replayOnly: true },
   { keys: '+ −', short: 'speed', long: 'replay speed ×2 / ÷2', replayOnly: true },
   { keys: '← →', short: 'seek', long: 'seek back / forward 10 s', replayOnly: true },
+  { keys: 'n p', short: 'point', long: 'next / previous test point of the card', cardOnly: true },
   { keys: 'm', short: 'mute', long: 'mute or unmute the bell on a new warning' },
   { keys: 'u', short: 'units', long: 'speed units: m/s → kt → km/h' },
   { keys: 'c', short: 'clear', long: 'clear the trail on the n–V plane' },
 ];
 
+/** The keys that apply, as many whole entries as fit (? lists them all). */
 export function buildKeysLine(input: ScreenInput, width: number): Line {
   const line: Line = [];
   for (const k of KEY_HELP) {
     if (k.replayOnly && !input.isReplay) continue;
-    if (line.length) line.push(seg('  '));
-    line.push(seg(k.keys, 'key'), seg(` ${k.short}`));
+    if (k.cardOnly && !input.card) continue;
+    const entry = [...(line.length ? [seg('  ')] : []), seg(k.keys, 'key'), seg(` ${k.short}`)];
+    if (lineWidth([...line, ...entry]) > width) continue;
+    line.push(...entry);
   }
   return fitLine(line, width);
 }
@@ -605,7 +622,8 @@ export function buildKeysLine(input: ScreenInput, width: number): Line {
 export function buildHelpLines(input: ScreenInput, width: number): Line[] {
   const lines: Line[] = [seg('Keys', 'heading')].map((s) => [s]);
   for (const k of KEY_HELP) {
-    const note = k.replayOnly && !input.isReplay ? '  (replay only)' : '';
+    const note =
+      k.replayOnly && !input.isReplay ? '  (replay only)' : k.cardOnly && !input.card ? '  (with --card)' : '';
     lines.push([seg(`  ${k.keys.padEnd(7)}`, 'key'), seg(k.long), seg(note, 'dim')]);
   }
   lines.push([]);
@@ -666,6 +684,7 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
       tone: input.events.some((e) => e.open && e.level === 'warning') ? 'warning' : 'plain',
       lines: buildEventLines(input, eventsInner.width, eventsInner.height),
     },
+    card: input.card && layout.card.height > 0 ? buildCardPanel(input, input.card, stale, layout.card) : null,
     plotTitle: fitTitle(`n–V plane${staleTitle} · ${input.aircraftName}`, layout.plot.width),
     keys: buildKeysLine(input, layout.keys.width),
     caution: fitLine([seg(CAUTION_TEXT, 'dim')], layout.caution.width),
@@ -677,5 +696,127 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
           [seg('q quits.', 'dim')],
         ]
       : null,
+  };
+}
+
+const STATUS_MARK: Record<TestPointStatus, string> = { achieved: '✓', partial: '~', not_flown: '·' };
+
+/** "−0.9°", "+0.4 m/s": a deviation with its sign; a dash when unknown. */
+function signedWithUnit(value: number | null, decimals: number, unit: string): string {
+  return value === null ? '—' : `${formatSigned(value, decimals)}${unit}`;
+}
+
+/**
+ * The test point panel: the point shown (the next not yet achieved, or the one stepped to with n/p), its targets
+ * with the present deviation from each, the hold timer, and a mark per point of the card (✓ achieved, ~ partly
+ * held, · not yet).
+ */
+export function buildCardPanel(input: ScreenInput, view: LiveCardView, stale: boolean, rect: Rect): Panel {
+  const { width, height } = innerSize(rect);
+  const p = view.point;
+  const u = input.units;
+  const dev = view.deviation;
+  const devTone = (within: boolean | undefined): Tone =>
+    stale ? 'stale' : dev === null ? 'dim' : within ? 'ok' : 'caution';
+  const bankDev = signedWithUnit(dev?.bankDeg ?? null, 1, '°');
+  const tasDev =
+    dev?.tasMps === null || dev === null
+      ? '—'
+      : `${formatSigned(speedFromMps(dev.tasMps, u), u === 'kmh' ? 0 : 1)} ${speedUnitLabel(u)}`;
+  const targetBank = `${formatFixed(p.bank_deg, 1)}°`;
+  const targetTas = formatSpeed(p.tas_mps, u);
+
+  let hold: Line;
+  if (view.holdNowS !== null) {
+    hold = [
+      seg(
+        `held ${formatFixed(view.holdNowS, 1)} of ${formatFixed(p.hold_s, 1)} s`,
+        view.status === 'achieved' ? 'ok' : stale ? 'stale' : 'plain',
+      ),
+    ];
+    if (view.status === 'achieved') hold.push(seg(' ACHIEVED', 'ok'));
+  } else if (view.status === 'achieved') {
+    hold = [seg('ACHIEVED', 'ok'), seg(` · held ${formatFixed(view.longestHoldS, 1)} s`, 'dim')];
+  } else if (view.status === 'partial') {
+    hold = [
+      seg('not held', 'caution'),
+      seg(` · best ${formatFixed(view.longestHoldS, 1)} of ${formatFixed(p.hold_s, 1)} s`, 'dim'),
+    ];
+  } else {
+    hold = [seg('not held', 'caution'), seg(` · hold ${formatFixed(p.hold_s, 1)} s`, 'dim')];
+  }
+  const marks: Line = [seg(' ')];
+  view.statuses.forEach((st, i) => {
+    marks.push(
+      seg(i === view.selected ? '▸' : '', 'key'),
+      seg(STATUS_MARK[st], st === 'achieved' ? 'ok' : st === 'partial' ? 'caution' : 'dim'),
+    );
+  });
+  const holdLine =
+    lineWidth(hold) + lineWidth(marks) + 1 <= width
+      ? [...hold, seg(' '.repeat(width - lineWidth(hold) - lineWidth(marks))), ...marks]
+      : hold;
+
+  const lines: Line[] = [];
+  if (height >= 3) {
+    lines.push(
+      fitLine(
+        [
+          seg('bank ', 'dim'),
+          seg(targetBank.padEnd(7), 'heading'),
+          seg(`±${formatFixed(p.tolerance.bank_deg, 1)}°`.padEnd(7), 'dim'),
+          seg('now ', 'dim'),
+          seg(
+            deg(dev === null || dev.bankDeg === null ? null : dev.bankDeg + p.bank_deg).padEnd(7),
+            stale ? 'stale' : 'plain',
+          ),
+          seg('Δ ', 'dim'),
+          seg(bankDev, devTone(dev?.bankWithin)),
+        ],
+        width,
+      ),
+    );
+    lines.push(
+      fitLine(
+        [
+          seg('TAS  ', 'dim'),
+          seg(targetTas.padEnd(10), 'heading'),
+          seg(`±${formatSpeed(p.tolerance.tas_mps, u)}`.padEnd(11), 'dim'),
+          seg('Δ ', 'dim'),
+          seg(tasDev, devTone(dev?.tasWithin)),
+        ],
+        width,
+      ),
+    );
+  } else {
+    // One line: the unit of the speeds once, at the end.
+    const tasDevShort =
+      dev === null || dev.tasMps === null ? '—' : formatSigned(speedFromMps(dev.tasMps, u), u === 'kmh' ? 0 : 1);
+    lines.push(
+      fitLine(
+        [
+          seg('bank ', 'dim'),
+          seg(targetBank, 'heading'),
+          seg(' Δ ', 'dim'),
+          seg(bankDev, devTone(dev?.bankWithin)),
+          seg(' · TAS ', 'dim'),
+          seg(formatFixed(speedFromMps(p.tas_mps, u), u === 'kmh' ? 0 : 1), 'heading'),
+          seg(' Δ ', 'dim'),
+          seg(tasDevShort, devTone(dev?.tasWithin)),
+          seg(` ${speedUnitLabel(u)}`, 'dim'),
+        ],
+        width,
+      ),
+    );
+  }
+  lines.push(fitLine(holdLine, width));
+  const title =
+    view.achievedCount === view.total
+      ? `Test points: all ${view.total} achieved · ${p.id} shown`
+      : `Test point ${p.id} · ${view.achievedCount}/${view.total} achieved`;
+  return {
+    title: fitTitle(title, rect.width),
+    tone: stale ? 'stale' : 'plain',
+    lines: lines.slice(0, Math.max(0, height)),
   };
 }

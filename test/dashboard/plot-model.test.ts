@@ -226,6 +226,31 @@ describe('layout', () => {
     });
   }
 
+  for (const [cols, rows] of [
+    [MIN_COLS, MIN_ROWS],
+    [100, 30],
+    [120, 40],
+  ] as const) {
+    it(`puts the test point panel between the plot and the exceedances at ${cols}×${rows}, still tiling the screen`, () => {
+      const plain = computeLayout(cols, rows);
+      const l = computeLayout(cols, rows, { card: true });
+      const panels = [l.banner, l.plot, l.card, l.events, l.margins, l.readouts, l.link, l.keys, l.caution];
+      let area = 0;
+      for (const [i, a] of panels.entries()) {
+        expect(a.height).toBeGreaterThanOrEqual(1);
+        area += a.width * a.height;
+        for (const b of panels.slice(i + 1)) expect(overlaps(a, b)).toBe(false);
+      }
+      expect(area).toBe(cols * rows);
+      expect(l.card.top).toBe(l.plot.top + l.plot.height);
+      expect(l.events.top).toBe(l.card.top + l.card.height);
+      expect(l.card.height).toBeGreaterThanOrEqual(4); // two lines inside the border at least
+      expect(l.events).toEqual(plain.events); // the exceedance list keeps its size; the plot gives the rows
+      expect(l.margins).toEqual(plain.margins);
+      expect(plain.card.height).toBe(0);
+    });
+  }
+
   it('is too small below 80×24', () => {
     expect(computeLayout(79, 24).tooSmall).toBe(true);
     expect(computeLayout(80, 23).tooSmall).toBe(true);

@@ -9,7 +9,19 @@ import {
   type ScreenModel,
 } from '../../src/dashboard/screen-model.js';
 import type { LimitEvent } from '../../src/core/events.js';
-import { AIRCRAFT, LAYOUT_120x40, LAYOUT_80x24, event, link, screenInput, steadyRecord } from './records.js';
+import type { CardPoint } from '../../src/core/card.js';
+import { createLiveCard, type LiveCardView } from '../../src/dashboard/live-card.js';
+import {
+  AIRCRAFT,
+  LAYOUT_120x40,
+  LAYOUT_120x40_CARD,
+  LAYOUT_80x24,
+  LAYOUT_80x24_CARD,
+  event,
+  link,
+  screenInput,
+  steadyRecord,
+} from './records.js';
 
 const text = (lines: Line[]): string => lines.map(lineText).join('\n');
 
@@ -388,5 +400,113 @@ describe('keys and layout fit', () => {
   it('asks for a bigger terminal below 80×24', () => {
     const model = buildScreenModel(screenInput(), { ...LAYOUT_80x24, ...{ tooSmall: true, cols: 70, rows: 20 } });
     expect(text(model.tooSmall!)).toContain('needs at least 80×24; this terminal is 70×20');
+  });
+});
+
+describe('the test point panel (--card)', () => {
+  // A 45° level turn at 20 m/s: n = 1.414 (FAA-H-8083-25, load factor chart).
+  const p45: CardPoint = {
+    id: 'P02',
+    step: 0.5,
+    tas_mps: 20,
+    bank_deg: 45,
+    load_factor: Math.SQRT2,
+    hold_s: 3,
+    tolerance: { bank_deg: 3, tas_mps: 1 },
+    predicted: { utilization: { stall: 0.3, thrust: 0.6, structure: 0.37 }, sustained: true, dvdt_mps2: 0.4 },
+  };
+  const p30: CardPoint = { ...p45, id: 'P01', bank_deg: 30, load_factor: 1 / Math.cos(Math.PI / 6) };
+  /** A card of two points followed through the records given; P01 is flown first so that P02 is shown. */
+  const followed = (records: Array<[number, number, number]>): LiveCardView => {
+    const card = createLiveCard([p30, p45], 'card.json');
+    for (let i = 0; i <= 62; i++) card.push({ ...turn45, t_s: i * 0.05, bank_deg: 30, tas_mps: 20 });
+    for (const [t, bank, tas] of records) card.push({ ...turn45, t_s: t, bank_deg: bank, tas_mps: tas });
+    return card.view();
+  };
+  const holding = followed(
+    Array.from({ length: 43 }, (_, i) => [10 + i * 0.05, 44.1, 20.4] as [number, number, number]),
+  );
+
+  for (const layout of [LAYOUT_80x24_CARD, LAYOUT_120x40_CARD]) {
+    it(`shows the point, its targets, the deviation from each and the hold timer, fitting at ${layout.cols}×${layout.rows}`, () => {
+      const model = buildScreenModel(screenInput({ record: turn45, card: holding }), layout);
+      const panel = model.card!;
+      const inner = innerSize(layout.card);
+      expect(panel.lines.length).toBeLessThanOrEqual(inner.height);
+      for (const l of panel.lines) expect(Array.from(lineText(l)).length).toBeLessThanOrEqual(inner.width);
+      expect(Array.from(panel.title).length).toBeLessThanOrEqual(layout.card.width - 6);
+      expect(panel.title).toBe('Test point P02 · 1/2 achieved');
+      const body = text(panel.lines);
+      expect(body).toMatch(/bank 45\.0°/);
+      expect(body).toMatch(/Δ −0\.9°/); // |44.1| − 45
+      expect(body).toMatch(/TAS +20\.0/);
+      expect(body).toMatch(/Δ \+0\.4/); // 20.4 − 20
+      expect(body).toContain('held 2.1 of 3.0 s');
+      expect(body).toMatch(/✓▸~$/m); // P01 achieved, P02 shown and held in part so far
+      // Both deviations within tolerance: in the "ok" tone.
+      const tones = panel.lines
+        .flat()
+        .filter((s) => /^[−+]0\.[49]/.test(s.text))
+        .map((s) => s.tone);
+      expect(tones).toEqual(['ok', 'ok']);
+    });
+  }
+
+  it('says a point is not held, with the best hold so far, and marks a deviation outside its tolerance', () => {
+    const v = followed([
+      [10, 45, 20],
+      [10.5, 45, 20],
+      [11, 49.5, 20],
+    ]);
+    const panel = buildScreenModel(screenInput({ record: turn45, card: v }), LAYOUT_80x24_CARD).card!;
+    const body = text(panel.lines);
+    expect(body).toContain('not held · best 0.5 of 3.0 s');
+    expect(body).toMatch(/Δ \+4\.5°/);
+    expect(panel.lines.flat().find((s) => s.text === '+4.5°')!.tone).toBe('caution');
+  });
+
+  it('says ACHIEVED for a point achieved, and counts the points achieved in the title', () => {
+    const card = createLiveCard([p30, p45], 'card.json');
+    for (let i = 0; i <= 62; i++) card.push({ ...turn45, t_s: i * 0.05, bank_deg: 30, tas_mps: 20 });
+    expect(card.view().point.id).toBe('P02'); // moved on
+    card.step(-1); // back to P01
+    const panel = buildScreenModel(screenInput({ record: turn45, card: card.view() }), LAYOUT_80x24_CARD).card!;
+    expect(panel.title).toBe('Test point P01 · 1/2 achieved');
+    expect(text(panel.lines)).toMatch(/held 3\.1 of 3\.0 s ACHIEVED/);
+  });
+
+  it('gives the speed deviation in the chosen units', () => {
+    const model = buildScreenModel(screenInput({ record: turn45, card: holding, units: 'kt' }), LAYOUT_80x24_CARD);
+    // 20 m/s = 38.9 kt and 0.4 m/s = 0.78 kt (exact knot definition, 1852 m per hour).
+    expect(text(model.card!.lines)).toMatch(/TAS 38\.9 Δ \+0\.8 kt/);
+  });
+
+  it('lists n p among the keys only with a card, and the keys still fit 80 columns', () => {
+    const withCard = buildScreenModel(screenInput({ isReplay: true, card: holding }), LAYOUT_80x24_CARD).keys;
+    const without = buildScreenModel(screenInput({ isReplay: true }), LAYOUT_80x24).keys;
+    expect(lineText(withCard)).toContain('n p point');
+    expect(lineText(without)).not.toContain('n p');
+    expect(Array.from(lineText(withCard)).length).toBe(80);
+    expect(lineText(withCard)).not.toContain('…'); // whole entries only; ? lists the rest
+  });
+
+  it('keeps a note about the card at the top of the event log', () => {
+    const model = buildScreenModel(
+      screenInput({
+        record: turn45,
+        card: holding,
+        notices: ['card.json: the card was made for "Other", not for "Example airframe": its targets may not apply'],
+      }),
+      LAYOUT_80x24_CARD,
+    );
+    const notes = model.events.lines
+      .slice(0, 2)
+      .map((l) => lineText(l).trim())
+      .join(' ');
+    expect(notes).toMatch(/^NOTE card\.json: the card was made for "Other"/);
+  });
+
+  it('has no panel without a card', () => {
+    expect(buildScreenModel(screenInput({ record: turn45 }), LAYOUT_80x24).card).toBeNull();
   });
 });
