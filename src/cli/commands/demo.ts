@@ -34,7 +34,8 @@ export const spec: CommandSpec = {
   notes: [
     'The demo airframe and flight (replays/) are an invented scenario: no real aircraft is described.',
     'Keys: q quit, space pause, + and − speed, ← → seek 10 s, m mute the bell, u speed units, c clear the trail,\n' +
-      'n and p next/previous test point (with --card), ? all keys. Without a terminal (stdout piped) the demo prints one pass as JSON lines.',
+      'n and p next/previous test point (with --card), ? all keys. Without a terminal (stdout piped) the demo\n' +
+      'prints one pass as JSON lines.',
   ],
 };
 

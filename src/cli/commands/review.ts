@@ -10,7 +10,8 @@ import { Worker } from 'node:worker_threads';
 import type { Aircraft } from '../../core/aircraft.js';
 import { nothingCheckableReason } from '../../core/checkable.js';
 import { createFlightReviewer, type FlightReview } from '../../core/flight-review.js';
-import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../../core/margins.js';
+import { resolveMarginOptions, type MarginOptions } from '../../core/margins.js';
+import { MARGIN_COMPUTATION_OPTIONS, parseMarginOptions } from '../margin-options.js';
 import type { MarginRecord } from '../../core/margin-record.js';
 import { readFramePackedBatches, type ReadFrameOptions } from '../../decode/read-frames.js';
 import { feedPackedBatch } from '../review-worker.js';
@@ -19,7 +20,6 @@ import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from 
 import { htmlFlightFrom, nvPlotInputFrom, renderHtmlReport } from '../../report/html-report.js';
 import {
   choiceOption,
-  numberOption,
   requireOption,
   stringOption,
   type CommandSpec,
@@ -50,14 +50,7 @@ export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
     description: "alert thresholds file (JSON), over the airframe's own",
     defaultText: `the airframe's, else ${describeDefaultThresholds()}`,
   },
-  {
-    name: 'smooth',
-    type: 'string',
-    valueName: 'S',
-    unit: 's',
-    defaultText: String(DEFAULT_SMOOTH_TAU_S),
-    description: 'time constant of the low-pass filter on the load factor and the TAS; 0 turns smoothing off',
-  },
+  ...MARGIN_COMPUTATION_OPTIONS,
   {
     name: 'mapping',
     type: 'string',
@@ -71,7 +64,7 @@ export const spec: CommandSpec = {
   name: 'review',
   summary: 'report the limit events, peaks and time in each alert level of a recorded flight',
   usage:
-    'turnmargin review FILE --aircraft FILE [--card CARD.json] [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+    'turnmargin review FILE --aircraft FILE [--card CARD.json] [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
     CARD_OPTION,
@@ -135,12 +128,16 @@ export function parseFlightInput(args: ParsedArgs, command: string): FlightInput
     );
   const file = args.positionals[0]!;
   const aircraftFile = requireOption(args, 'aircraft');
-  const smoothTauS = numberOption(args, 'smooth', DEFAULT_SMOOTH_TAU_S, { min: 0, max: 10 });
   const aircraft = loadAircraftFile(aircraftFile);
   const thresholdsPath = stringOption(args, 'thresholds');
   const thresholds =
     thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
-  const input: FlightInput = { file, aircraftFile, aircraft, margins: { thresholds, smoothTauS } };
+  // The speed band is a search per frame: only the per-frame records show it.
+  const margins = resolveMarginOptions(aircraft, {
+    ...parseMarginOptions(args, thresholds),
+    speedBand: args.values['per-frame'] !== undefined,
+  });
+  const input: FlightInput = { file, aircraftFile, aircraft, margins };
   const mappingPath = stringOption(args, 'mapping');
   if (mappingPath !== undefined) input.mappingPath = mappingPath;
   return input;
