@@ -230,7 +230,15 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       trail: trail.points(),
       nowTS: record?.t_s ?? null,
       current: record
-        ? { tasMps: record.tas_mps, n: record.n_measured, level: record.flying ? record.level : 'normal' }
+        ? {
+            tasMps: record.tas_mps,
+            n: record.n_measured,
+            level: record.flying ? record.level : 'normal',
+            sustainedBandMps: record.sustained_band_mps,
+          }
+        : null,
+      target: input.card
+        ? { tasMps: input.card.point.tas_mps, n: input.card.point.load_factor, id: input.card.point.id }
         : null,
       stale,
       units: input.units,

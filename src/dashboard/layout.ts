@@ -31,7 +31,7 @@ export const MIN_COLS = 80;
 export const MIN_ROWS = 24;
 
 // 3 load-factor limits × 2 lines + the speed limit + the assumed inputs + border; on short screens the last two
-// share one line and the readouts give up a line for it.
+// share one line.
 const MARGINS_HEIGHT = 10;
 const MARGINS_HEIGHT_SHORT = 9;
 
@@ -59,7 +59,8 @@ export function computeLayout(cols: number, rows: number, options: LayoutOptions
   const leftWidth = Math.max(0, c - rightWidth);
   const eventsHeight = clamp(Math.round(middleHeight * 0.3), 6, 12);
   const marginsHeight = middleHeight >= 23 ? MARGINS_HEIGHT : MARGINS_HEIGHT_SHORT;
-  const readoutsHeight = middleHeight >= 30 ? 11 : marginsHeight === MARGINS_HEIGHT ? 8 : 7;
+  // The readouts hold the energy lines too; on the 80×24 screen the link panel gives up a line for them.
+  const readoutsHeight = middleHeight >= 30 ? 13 : 8;
   const linkHeight = Math.max(0, middleHeight - marginsHeight - readoutsHeight);
   const cardHeight = options.card ? (middleHeight >= 30 ? CARD_HEIGHT_TALL : CARD_HEIGHT) : 0;
   const plotHeight = Math.max(0, middleHeight - eventsHeight - cardHeight);

@@ -10,6 +10,8 @@ import {
 } from '../../src/dashboard/screen-model.js';
 import type { LimitEvent } from '../../src/core/events.js';
 import type { CardPoint } from '../../src/core/card.js';
+import { createFrameEngine } from '../../src/core/frame-engine.js';
+import type { MarginRecord } from '../../src/core/margin-record.js';
 import { createLiveCard, type LiveCardView } from '../../src/dashboard/live-card.js';
 import {
   AIRCRAFT,
@@ -508,5 +510,99 @@ describe('the test point panel (--card)', () => {
 
   it('has no panel without a card', () => {
     expect(buildScreenModel(screenInput({ record: turn45 }), LAYOUT_80x24).card).toBeNull();
+  });
+});
+
+describe('energy and predictions (Ps, the sustained band, the time to the stall, the model check)', () => {
+  const all = (model: ScreenModel): string =>
+    [model.banner, model.margins.lines, model.readouts.lines, model.events.lines, model.link.lines]
+      .map((l) => text(l))
+      .join('\n');
+
+  it('shows Ps measured from the engine: a steady climb at constant speed has Ps = the climb rate', () => {
+    // Energy method: Ps = dh/dt + (V/g)·dV/dt (Rutowski 1954; Anderson, Aircraft Performance and Design, ch. 5 —
+    // from memory); at constant speed it is the rate of climb, here 2 m/s.
+    const engine = createFrameEngine(AIRCRAFT);
+    let rec: MarginRecord | null = null;
+    for (let i = 0; i <= 60; i++)
+      rec = engine.push({ tS: i * 0.05, airspeedKind: 'tas', airspeedMps: 20, altM: 100 + 2 * i * 0.05, bankDeg: 0 });
+    for (const layout of [LAYOUT_80x24, LAYOUT_120x40]) {
+      const readouts = text(buildScreenModel(screenInput({ record: rec }), layout).readouts.lines);
+      expect(readouts).toMatch(/Ps {3}\+2\.00 m\/s/);
+      expect(readouts).toMatch(/model —/); // no throttle in the frames: no model
+    }
+  });
+
+  it('shows Ps modelled, and a dash for every energy key that is null, never NaN', () => {
+    const rec = { ...turn45, ps_mps: -0.42, ps_model_mps: 0.61 };
+    expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_80x24).readouts.lines)).toMatch(
+      /Ps {3}−0\.42 m\/s +model \+0\.61 m\/s/,
+    );
+    const empty: MarginRecord = {
+      ...turn45,
+      dvdt_mps2: null,
+      dhdt_mps: null,
+      ps_mps: null,
+      ps_model_mps: null,
+      ps_residual_mps: null,
+      ps_residual_mean_3s_mps: null,
+      time_to_stall_caution_s: null,
+      time_to_stall_warning_s: null,
+      sustained_band_mps: null,
+    };
+    for (const layout of [LAYOUT_80x24, LAYOUT_120x40]) {
+      const screen = all(buildScreenModel(screenInput({ record: empty }), layout));
+      expect(screen).toMatch(/Ps {3}— +model —/);
+      expect(screen).toMatch(/band — at n 1\.41/);
+      expect(screen).not.toMatch(/NaN|undefined|Infinity/);
+    }
+  });
+
+  it('shows the sustained band at the present n, in the chosen units', () => {
+    const rec = { ...turn45, sustained_band_mps: [11.2, 21.7] as [number, number] };
+    expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_80x24).readouts.lines)).toContain(
+      'band 11.2–21.7 m/s at n 1.41',
+    );
+    // 11.2 m/s = 21.8 kt, 21.7 m/s = 42.2 kt (exact knot definition, 1852 m per hour).
+    expect(text(buildScreenModel(screenInput({ record: rec, units: 'kt' }), LAYOUT_80x24).readouts.lines)).toContain(
+      'band 21.8–42.2 kt',
+    );
+  });
+
+  it('gives the time to the stall caution under 10 s in the banner, beside the stall bar and in wide readouts', () => {
+    const soon = { ...turn45, time_to_stall_caution_s: 6.24 };
+    for (const layout of [LAYOUT_80x24, LAYOUT_120x40]) {
+      const model = buildScreenModel(screenInput({ record: soon }), layout);
+      expect(text(model.banner)).toMatch(/NORMAL — inside the envelope · stall caution in 6\.2 s/);
+      const stallBar = model.margins.lines[1]!;
+      expect(lineText(stallBar)).toMatch(/in 6\.2 s\s*$/);
+      expect(stallBar.find((s) => s.text.includes('in 6.2 s'))!.tone).toBe('caution');
+    }
+    expect(text(buildScreenModel(screenInput({ record: soon }), LAYOUT_120x40).readouts.lines)).toContain(
+      'stall caution in 6.2 s',
+    );
+    for (const t of [10, 25, 0, null]) {
+      const model = buildScreenModel(screenInput({ record: { ...turn45, time_to_stall_caution_s: t } }), LAYOUT_80x24);
+      expect(all(model)).not.toMatch(/stall caution in|in \d+\.\d s/);
+    }
+  });
+
+  it('advises in plain words when the 3 s mean of the residual is beyond ±0.5 m/s', () => {
+    const words = (mean: number | null): string => {
+      const model = buildScreenModel(
+        screenInput({ record: { ...turn45, ps_residual_mean_3s_mps: mean }, events: [event()] }),
+        LAYOUT_80x24,
+      );
+      return model.events.lines.map((l) => lineText(l).trim()).join(' ');
+    };
+    expect(words(-0.8)).toContain(
+      'climbing/accelerating less than the model predicts: the thrust margin may be optimistic (3 s mean −0.80 m/s)',
+    );
+    expect(words(0.8)).toContain(
+      'climbing/accelerating more than the model predicts: the thrust margin may be pessimistic (3 s mean +0.80 m/s)',
+    );
+    for (const quiet of [0.5, -0.5, 0.2, null]) expect(words(quiet)).not.toMatch(/MODEL|model predicts/);
+    // On the 80×24 screen the advisory takes three lines and the newest event still shows below it.
+    expect(words(-0.8)).toMatch(/STALL/);
   });
 });
