@@ -160,10 +160,7 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
         settingSinceS = tS;
         residualMean.reset();
       }
-      rec.ps_residual_mean_3s_mps = residualMean.push(
-        tS,
-        tS - settingSinceS >= options.rateWindowS ? residual : null,
-      );
+      rec.ps_residual_mean_3s_mps = residualMean.push(tS, tS - settingSinceS >= options.rateWindowS ? residual : null);
       rec.time_to_stall_caution_s = toStall.cautionS;
       rec.time_to_stall_warning_s = toStall.warningS;
       if (speedBand) rec.sustained_band_mps = recordSpeedBand(aircraft, rec);
