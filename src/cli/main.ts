@@ -31,6 +31,10 @@ const COMMANDS: Record<string, CommandEntry> = {
   },
   replay: { summary: 'play a recorded flight through the monitor', load: () => import('./commands/replay.js') },
   review: { summary: 'report the exceedances of a recorded flight', load: () => import('./commands/review.js') },
+  fit: {
+    summary: 'estimate the drag polar, the thrust and the demonstrated CL from recorded flights',
+    load: () => import('./commands/fit.js'),
+  },
   check: {
     summary: 'pass/fail a recorded flight against the alert levels (for CI)',
     load: () => import('./commands/check.js'),
