@@ -225,7 +225,7 @@ export function inputFilesOf(args: {
     label: 'the input file',
     path: p,
   }));
-  for (const option of ['aircraft', 'thresholds', 'mapping', 'plan', 'token-file']) {
+  for (const option of ['aircraft', 'thresholds', 'mapping', 'plan', 'token-file', 'card']) {
     const value = args.values[option];
     if (typeof value === 'string') inputs.push({ label: `the --${option} file`, path: value });
   }

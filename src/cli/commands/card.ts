@@ -28,9 +28,6 @@ import {
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { describeOutputError } from '../output-errors.js';
 import { loadAircraftFile, readJson } from '../load.js';
-import { createTestPointTracker, type TestPointResult } from '../../core/test-point.js';
-import type { MarginRecord } from '../../core/margin-record.js';
-import { testPointsToCsv, testPointsToMarkdown } from '../../report/card-report.js';
 
 /**
  * Read a card file for simulate, review or check: a malformed card is refused with every problem listed; a card
@@ -53,34 +50,6 @@ export const CARD_OPTION: OptionSpec = {
   valueName: 'FILE',
   description: 'a test card (JSON from `turnmargin card`): report which of its points were achieved (test_points)',
 };
-
-/** A card followed through a review: feed it records and breaks, then read the points' results or render them. */
-export interface CardReview {
-  onRecord(rec: MarginRecord): void;
-  onBreak(): void;
-  results(): TestPointResult[];
-  /** The review text with the test points added (JSON: a `test_points` key; Markdown and CSV: a section after). */
-  render(format: 'md' | 'json' | 'csv', reviewJson: object, reviewText: string): string;
-}
-
-/** For review/check: null without --card; the card is read (and refused or warned about) before the flight. */
-export function openCardReview(cardPath: string | undefined, aircraft: Aircraft, file: string): CardReview | null {
-  if (cardPath === undefined) return null;
-  const card = loadCardFile(cardPath, aircraft);
-  const tracker = createTestPointTracker(card.points);
-  tracker.startFile(basename(file));
-  return {
-    onRecord: (rec) => tracker.push(rec),
-    onBreak: () => tracker.breakHere(),
-    results: () => tracker.results(),
-    render(format, reviewJson, reviewText) {
-      const points = tracker.results();
-      if (format === 'json') return JSON.stringify({ ...reviewJson, test_points: points }, null, 2) + '\n';
-      if (format === 'csv') return reviewText + '\n' + testPointsToCsv(points);
-      return reviewText + '\n' + testPointsToMarkdown(points, basename(cardPath));
-    },
-  };
-}
 
 export const spec: CommandSpec = {
   name: 'card',
