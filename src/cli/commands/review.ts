@@ -9,7 +9,7 @@ import { DEFAULT_SMOOTH_TAU_S } from '../../core/margins.js';
 import type { TestPointResult } from '../../core/test-point.js';
 import type { MarginRecord } from '../../core/margin-record.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
-import { reviewToCsv, reviewToJson, reviewToMarkdown, type ReviewContext } from '../../report/review-report.js';
+import { reviewToCsv, reviewToJson, reviewToMarkdown } from '../../report/review-report.js';
 import { testPointsToCsv, testPointsToMarkdown } from '../../report/card-report.js';
 import { htmlFlightFrom, nvPlotInputFrom, renderHtmlReport } from '../../report/html-report.js';
 import {
