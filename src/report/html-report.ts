@@ -828,30 +828,43 @@ function flightSection(flight: HtmlFlight, index: number, several: boolean): str
 }
 
 function summaryTable(flights: readonly HtmlFlight[]): string {
+  // The receive times of a recording (`received_utc` of a several-file review), when any flight has them.
+  const utcOf = (f: HtmlFlight) => f.json['received_utc'] as { start: string; end: string } | undefined;
+  const withUtc = flights.some((f) => utcOf(f) !== undefined);
   const rows = flights.map((f, i) => {
     const j = f.json;
     const peaks = (['stall', 'structure', 'thrust'] as const)
       .map((l) => `${l} ${utilizationText(j.peaks[l].utilization)}`)
       .join(', ');
+    const utc = utcOf(f);
     return [
       `<a href="#flight-${i + 1}">${i + 1}</a>`,
       esc(String(j.source)),
       String(j.accepted),
+      j.first_t_s === null ? '—' : `${fixed(j.first_t_s, 1)} to ${fixed(j.last_t_s, 1)}`,
       fixed(j.duration_s, 1),
+      ...(withUtc ? [utc ? `${esc(utc.start)}<br>${esc(utc.end)}` : '—'] : []),
       String(j.events.length),
       levelBadge(worstOverall(f)),
       esc(peaks),
     ];
   });
-  return table(['#', 'File', 'Frames', 'Duration (s)', 'Events', 'Worst level', 'Peak utilization'], rows, 'summary', [
-    true,
-    false,
-    true,
-    true,
-    true,
-    false,
-    false,
-  ]);
+  return table(
+    [
+      '#',
+      'File',
+      'Frames',
+      'Time span t (s)',
+      'Data (s)',
+      ...(withUtc ? ['UTC start, end (recording)'] : []),
+      'Events',
+      'Worst level',
+      'Peak utilization',
+    ],
+    rows,
+    'summary',
+    [true, false, true, true, true, ...(withUtc ? [false] : []), true, false, false],
+  );
 }
 
 export function renderHtmlReport(input: HtmlReportInput): string {

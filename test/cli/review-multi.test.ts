@@ -281,3 +281,25 @@ describe('check of several flights at once (built CLI)', () => {
     expect(both.stdout).toContain('test points: 1 of 1 achieved');
   });
 });
+
+describe('review A B --card --format html (built CLI)', () => {
+  it("shows the card's points over all flights and the recording's UTC start and end in the summary", async () => {
+    const out = join(dir, 'points.html');
+    const r = await runCli([...base(recording, fileA, fileB), '--card', cardPath, '--format', 'html', '--out', out]);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    const html = readFileSync(out, 'utf8');
+    const summary = /<table class="summary">([\s\S]*?)<\/table>/.exec(html)![1]!;
+    expect(summary).toContain('2023-11-14T22:13:20.100Z<br>2023-11-14T22:13:22.100Z');
+    const points = /<table class="points">([\s\S]*?)<\/table>/.exec(html)![1]!;
+    expect(points).toMatch(/<td>P01<\/td><td>✔ achieved<\/td>/);
+    expect(points).toContain('<td>b.ndjson</td>');
+  });
+
+  it('shows the test points in the HTML report of one file too', async () => {
+    const out = join(dir, 'one.html');
+    const r = await runCli([...base(fileB), '--card', cardPath, '--format', 'html', '--out', out]);
+    expect(r.code).toBe(0);
+    expect(readFileSync(out, 'utf8')).toContain('<h2>Test points</h2>');
+  });
+});
