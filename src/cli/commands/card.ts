@@ -2,7 +2,6 @@
 import { existsSync, writeFileSync } from 'node:fs';
 import { basename, resolve as resolvePath } from 'node:path';
 import type { Aircraft } from '../../core/aircraft.js';
-import { MAX_ALTITUDE_M, MIN_ALTITUDE_M, type TemperatureOptions } from '../../core/atmosphere.js';
 import {
   buildCard,
   cardAirframeWarnings,
@@ -13,7 +12,6 @@ import {
   DEFAULT_TOLERANCE_TAS_MPS,
   MIN_CARD_LOAD_FACTOR,
 } from '../../core/card.js';
-import { MASS_MAX_KG, MASS_MIN_KG } from '../../core/units.js';
 import { cardToCsv, cardToJson, cardToMarkdown } from '../../report/card-report.js';
 import {
   choiceOption,
@@ -26,6 +24,7 @@ import {
   type ParsedArgs,
 } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
+import { altitudeFromArgs, CONDITIONS_OPTIONS, massFromArgs, temperatureFromArgs } from '../conditions-options.js';
 import { describeOutputError } from '../output-errors.js';
 import { loadAircraftFile, readJson } from '../load.js';
 
@@ -60,37 +59,7 @@ export const spec: CommandSpec = {
     '                       [--format md|json|csv] [--out FILE [--force]]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
-    {
-      name: 'altitude',
-      type: 'string',
-      valueName: 'M',
-      unit: 'm, pressure altitude',
-      defaultText: '0',
-      description: 'altitude of the test points',
-    },
-    {
-      name: 'isa-dev',
-      type: 'string',
-      valueName: 'K',
-      unit: 'K (= °C)',
-      defaultText: '0',
-      description: 'temperature deviation from ISA',
-    },
-    {
-      name: 'oat',
-      type: 'string',
-      valueName: 'C',
-      unit: '°C',
-      description: 'outside air temperature (instead of --isa-dev)',
-    },
-    {
-      name: 'mass',
-      type: 'string',
-      valueName: 'KG',
-      unit: 'kg',
-      defaultText: "the file's mass_kg",
-      description: 'mass',
-    },
+    ...CONDITIONS_OPTIONS,
     {
       name: 'speeds',
       type: 'string',
@@ -147,22 +116,12 @@ export const spec: CommandSpec = {
   ],
 };
 
-function temperatureOptions(args: ParsedArgs): TemperatureOptions {
-  const isaDev = numberOption(args, 'isa-dev', undefined, { min: -100, max: 100 });
-  const oat = numberOption(args, 'oat', undefined, { min: -100, max: 70 });
-  if (isaDev !== undefined && oat !== undefined) throw new UsageError('give --isa-dev or --oat, not both');
-  const t: TemperatureOptions = {};
-  if (isaDev !== undefined) t.isaDeviationK = isaDev;
-  if (oat !== undefined) t.oatC = oat;
-  return t;
-}
-
 export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
   const aircraftPath = requireOption(args, 'aircraft');
   const format = choiceOption(args, 'format', ['md', 'json', 'csv'] as const, 'md');
-  const temperature = temperatureOptions(args);
-  const altitudeM = numberOption(args, 'altitude', 0, { min: MIN_ALTITUDE_M, max: MAX_ALTITUDE_M });
+  const temperature = temperatureFromArgs(args);
+  const altitudeM = altitudeFromArgs(args);
   const speeds = numberListOption(args, 'speeds', { above: 0, max: 300 });
   const steps = numberListOption(args, 'steps', { above: 0 });
   if (steps?.some((s) => s >= 1)) {
@@ -180,7 +139,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     throw new UsageError(`--out ${out} exists; give --force to overwrite it`);
   }
   const aircraft = loadAircraftFile(aircraftPath);
-  const massKg = numberOption(args, 'mass', aircraft.massKg, { min: MASS_MIN_KG, max: MASS_MAX_KG });
+  const massKg = massFromArgs(args, aircraft);
 
   const result = buildCard(aircraft, {
     altitudeM,
