@@ -5,14 +5,15 @@
  */
 import { closeSync, openSync, writeSync } from 'node:fs';
 import type { Aircraft } from '../core/aircraft.js';
-import { numberOption, requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
+import { requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
 import { EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
 import { describeOutputError, isClosedPipe } from './output-errors.js';
+import { MARGIN_COMPUTATION_OPTIONS, parseMarginOptions } from './margin-options.js';
 import { createBoundedOutput, maxPendingStdoutBytes } from './bounded-stdout.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import { checkOutputPath, inputFilesOf } from './output-path.js';
 import type { LimitEvent } from '../core/events.js';
-import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../core/margins.js';
+import type { MarginOptions } from '../core/margins.js';
 import { describeDefaultThresholds, type AlertThresholds } from '../core/thresholds.js';
 import { createPipeline, type PipelineSinks } from '../engine/pipeline.js';
 import { eventJson } from '../report/review-report.js';
@@ -30,7 +31,8 @@ export interface MonitorOptions {
   source: TelemetrySource;
   aircraft: Aircraft;
   thresholds: AlertThresholds;
-  smoothTauS?: number;
+  /** The engine's options beyond the thresholds (smoothing, rate window, throttle assumption). */
+  margins?: Partial<MarginOptions>;
   recorder?: Recorder;
   /** Headless: JSON lines on stdout. Otherwise the dashboard (falls back to headless when stdout is not a terminal). */
   noUi: boolean;
@@ -131,8 +133,7 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
       noUi = true;
     }
   }
-  const marginOptions: Partial<MarginOptions> = { thresholds: options.thresholds };
-  if (options.smoothTauS !== undefined) marginOptions.smoothTauS = options.smoothTauS;
+  const marginOptions: Partial<MarginOptions> = { ...options.margins, thresholds: options.thresholds };
 
   let dashboard: DashboardLike | undefined;
   let finish!: () => void;
@@ -310,14 +311,7 @@ export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
     description:
       'alert thresholds (JSON): an alert comes on at its threshold and goes off after clear_s below threshold − hysteresis',
   },
-  {
-    name: 'smooth',
-    type: 'string',
-    valueName: 'S',
-    unit: 's',
-    defaultText: String(DEFAULT_SMOOTH_TAU_S),
-    description: 'time constant of the low-pass filter on the load factor and the TAS (0 = off)',
-  },
+  ...MARGIN_COMPUTATION_OPTIONS,
   {
     name: 'no-ui',
     type: 'boolean',
@@ -337,7 +331,7 @@ export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
 export interface MonitorSetup {
   aircraft: Aircraft;
   thresholds: AlertThresholds;
-  smoothTauS?: number;
+  margins: Partial<MarginOptions>;
   noUi: boolean;
   /** --events, opened (call after every other check of the arguments: it creates the file). */
   events?: EventsWriter;
@@ -348,9 +342,12 @@ export function loadMonitorSetup(args: ParsedArgs): MonitorSetup {
   const thresholdsPath = stringOption(args, 'thresholds');
   const thresholds =
     thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
-  const smoothTauS = numberOption(args, 'smooth', undefined, { min: 0, max: 10 });
-  const setup: MonitorSetup = { aircraft, thresholds, noUi: args.values['no-ui'] === true };
-  if (smoothTauS !== undefined) setup.smoothTauS = smoothTauS;
+  const setup: MonitorSetup = {
+    aircraft,
+    thresholds,
+    margins: parseMarginOptions(args, thresholds),
+    noUi: args.values['no-ui'] === true,
+  };
   const eventsPath = stringOption(args, 'events');
   if (eventsPath !== undefined) {
     if (eventsPath === '') throw new UsageError('--events FILE must not be empty');

@@ -12,14 +12,15 @@ import type { Aircraft } from '../core/aircraft.js';
 import type { CardPoint } from '../core/card.js';
 import { nothingCheckableReason } from '../core/checkable.js';
 import type { FlightReview } from '../core/flight-review.js';
-import { DEFAULT_SMOOTH_TAU_S, type MarginOptions } from '../core/margins.js';
+import { resolveMarginOptions, type MarginOptions } from '../core/margins.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import { mergeTestPointResults, type TestPointResult } from '../core/test-point.js';
 import type { PackedFrameBatch } from '../decode/frame-batch.js';
 import { readFramePackedBatches, type ReadFrameOptions } from '../decode/read-frames.js';
 import { InputError, UsageError } from '../errors.js';
 import { systemErrorWords } from '../system-errors.js';
-import { numberOption, requireOption, stringOption, type ParsedArgs } from './args.js';
+import { requireOption, stringOption, type ParsedArgs } from './args.js';
+import { parseMarginOptions } from './margin-options.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import {
   createReceivedSpan,
@@ -45,14 +46,18 @@ export interface FlightInput {
 export function parseFlightInputs(args: ParsedArgs, command: string): FlightInput[] {
   if (args.positionals.length === 0) throw new UsageError('the telemetry FILE to read is missing', command);
   const aircraftFile = requireOption(args, 'aircraft');
-  const smoothTauS = numberOption(args, 'smooth', DEFAULT_SMOOTH_TAU_S, { min: 0, max: 10 });
   const aircraft = loadAircraftFile(aircraftFile);
   const thresholdsPath = stringOption(args, 'thresholds');
   const thresholds =
     thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
+  // The speed band is a search per frame: only the per-frame records show it.
+  const margins = resolveMarginOptions(aircraft, {
+    ...parseMarginOptions(args, thresholds),
+    speedBand: args.values['per-frame'] !== undefined,
+  });
   const mappingPath = stringOption(args, 'mapping');
   return args.positionals.map((file) => {
-    const input: FlightInput = { file, aircraftFile, aircraft, margins: { thresholds, smoothTauS } };
+    const input: FlightInput = { file, aircraftFile, aircraft, margins };
     if (mappingPath !== undefined) input.mappingPath = mappingPath;
     return input;
   });

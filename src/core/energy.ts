@@ -28,6 +28,17 @@ export function specificExcessPowerMps(
 }
 
 /**
+ * The setting the model knows a frame to be at: full (throttle ≥ 0.98), idle (≤ 0.02), the assumption for a frame
+ * without a throttle, or null (part throttle, or unknown with no assumption).
+ */
+export function throttleSetting(throttle: number | null, assume?: ThrottleAssumption): ThrottleAssumption | null {
+  if (throttle === null) return assume ?? null;
+  if (throttle >= THROTTLE_FULL_MIN) return 'full';
+  if (throttle <= THROTTLE_IDLE_MAX) return 'idle';
+  return null;
+}
+
+/**
  * The thrust the model assumes at a throttle setting, N: the thrust available at V and density when throttle ≥ 0.98,
  * 0 when throttle ≤ 0.02, null in between (part throttle is not modelled), when the throttle is unknown and no
  * assumption is given, or when the thrust available is unknown (outside a thrust table).
@@ -39,10 +50,7 @@ export function modelThrustN(
   densityKgM3: number,
   assume?: ThrottleAssumption,
 ): number | null {
-  let setting: ThrottleAssumption | null = null;
-  if (throttle === null) setting = assume ?? null;
-  else if (throttle >= THROTTLE_FULL_MIN) setting = 'full';
-  else if (throttle <= THROTTLE_IDLE_MAX) setting = 'idle';
+  const setting = throttleSetting(throttle, assume);
   if (setting === null) return null;
   if (setting === 'idle') return 0;
   return thrustAvailableN(aircraft.thrust, tasMps, densityKgM3);

@@ -38,6 +38,8 @@ export interface LimitEvent {
   open: boolean;
   /** What ended the event; null while it is open. */
   ended_by: EndedBy | null;
+  /** The lowest time_to_stall_caution_s of the event's frames (0: the stall caution was reached), or null. */
+  min_time_to_stall_caution_s: number | null;
 }
 
 /**
@@ -86,6 +88,7 @@ function startEvent(rec: MarginRecord, limit: LimitName, level: AlertLevel): Lim
     n_at_peak: rec.n_measured,
     open: true,
     ended_by: null,
+    min_time_to_stall_caution_s: rec.time_to_stall_caution_s,
   };
 }
 
@@ -99,6 +102,9 @@ function isNewPeak(u: number | null, peak: number): u is number {
 function extendEvent(event: LimitEvent, rec: MarginRecord): void {
   event.end_s = rec.t_s;
   event.duration_s = rec.t_s - event.start_s;
+  const toStall = rec.time_to_stall_caution_s;
+  if (toStall !== null && (event.min_time_to_stall_caution_s === null || toStall < event.min_time_to_stall_caution_s))
+    event.min_time_to_stall_caution_s = toStall;
   const u = eventUtilization(rec, event.limit);
   if (isNewPeak(u, event.peak_utilization)) {
     event.peak_utilization = u;

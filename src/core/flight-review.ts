@@ -14,6 +14,7 @@ import type { Frame } from './frame.js';
 import { resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { Assumption, Level, MarginRecord } from './margin-record.js';
 import type { LimitName } from './performance.js';
+import { createModelCheckAccumulator, type ModelCheck } from './model-check.js';
 import { createTimeHistory, type TimeHistory } from './time-history.js';
 
 /** Rejected lines kept for the report (the count covers all). */
@@ -97,6 +98,8 @@ export interface FlightReview {
   timeHistory: TimeHistory;
   /** Share of the accepted frames (0…1) in which each input was assumed; null without frames. */
   assumedShare: Record<Assumption, number | null>;
+  /** Measured against modelled Ps at full throttle and at idle. */
+  modelCheck: ModelCheck;
 }
 
 /** The peak raised to the utilization when it is higher (or the first defined). */
@@ -169,6 +172,7 @@ export function createFlightReviewer(
     warning: createDecimator(PLOT_POINTS_PER_LEVEL),
   };
   const history = createTimeHistory();
+  const modelCheck = createModelCheckAccumulator(aircraft, resolved.assumeThrottle);
   const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
   let altMin = Infinity;
   let altMax = -Infinity;
@@ -232,6 +236,7 @@ export function createFlightReviewer(
       raisePeak(peaks.structure, rec.utilization.structure, rec.t_s);
       raisePeak(peaks.speed, rec.utilization.speed, rec.t_s);
       assumed.push(rec);
+      modelCheck.push(rec);
       // Plain numbers on the per-frame path; the ranges are made at finish.
       if (rec.alt_m < altMin) altMin = rec.alt_m;
       if (rec.alt_m > altMax) altMax = rec.alt_m;
@@ -285,6 +290,7 @@ export function createFlightReviewer(
         options: resolved,
         timeHistory: history.finish(),
         assumedShare: assumed.shares(),
+        modelCheck: modelCheck.finish(),
       };
     },
   };

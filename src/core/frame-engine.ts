@@ -13,6 +13,7 @@
  * breaks as they happen, synchronously, inside push/breakData/finish.
  */
 import type { Aircraft } from './aircraft.js';
+import { createEnergyTracker } from './energy-tracker.js';
 import { createEventTracker, type BreakKind, type LimitEvent } from './events.js';
 import { FILTER_RESTART_GAP_S } from './filter.js';
 import type { Frame } from './frame.js';
@@ -76,6 +77,12 @@ export function createFrameEngine(
 ): FrameEngine {
   const resolved = resolveMarginOptions(aircraft, options);
   const margins = createMarginTracker(aircraft, resolved);
+  const energy = createEnergyTracker(aircraft, {
+    rateWindowS: resolved.rateWindowS,
+    thresholds: resolved.thresholds,
+    speedBand: resolved.speedBand,
+    ...(resolved.assumeThrottle !== undefined ? { assumeThrottle: resolved.assumeThrottle } : {}),
+  });
   const events = createEventTracker();
   let last: number | null = null;
   let refused: FrameRejection | null = null;
@@ -85,6 +92,7 @@ export function createFrameEngine(
     const t_s = last;
     last = null;
     margins.reset();
+    energy.reset();
     const ended = events.closeOpen(kind);
     if (listener.eventEnded) for (const ev of ended) listener.eventEnded(ev);
     listener.dataBreak?.({ kind, t_s });
@@ -109,6 +117,7 @@ export function createFrameEngine(
         else if (dtS > DATA_GAP_S) breakData('data_gap');
       }
       const rec = margins.push(frame);
+      energy.fill(rec, frame);
       last = frame.tS;
       const change = events.push(rec);
       if (change.ended.length > 0 && listener.eventEnded) for (const ev of change.ended) listener.eventEnded(ev);

@@ -77,6 +77,29 @@ export interface MarginRecord {
   cas_mps: number;
   /** Inputs assumed for this frame (see Assumption), in a fixed order; empty when none. */
   assumed: Assumption[];
+  // --- energy state and predictions (the frame engine's energy tracker fills them; see core/energy-tracker.ts) ---
+  /** The frame's throttle, fraction of full (0 idle … 1 full), or null when the frame has none. */
+  throttle: number | null;
+  /** dV/dt: least-squares slope of tas_raw_mps over the rate window [t − W, t], m/s²; null while the window is short. */
+  dvdt_mps2: number | null;
+  /** dh/dt: the same slope of alt_m, m/s. */
+  dhdt_mps: number | null;
+  /** The same slope of bank_deg, °/s (null without bank). */
+  bank_rate_dps: number | null;
+  /** Measured specific excess power dh/dt + (tas_mps/g0)·dV/dt, m/s. */
+  ps_mps: number | null;
+  /** Modelled specific excess power V·(T − D)/W at full throttle or idle, m/s; null at part throttle or unknown. */
+  ps_model_mps: number | null;
+  /** ps_mps − ps_model_mps, m/s. */
+  ps_residual_mps: number | null;
+  /** Mean of ps_residual_mps over the last 3 s of frames that have one (restarted at breaks), m/s. */
+  ps_residual_mean_3s_mps: number | null;
+  /** Time until the stall utilization reaches the stall caution at the present deceleration, s (≤ 60). */
+  time_to_stall_caution_s: number | null;
+  /** The same for the stall warning, s. */
+  time_to_stall_warning_s: number | null;
+  /** [lo, hi] TAS in [Vs1, vne as TAS] where a level turn at max(1, n_measured) can be held, m/s; null if none. */
+  sustained_band_mps: [number, number] | null;
   /** Present (true) only when the frame says it comes from a simulator: the dashboard marks the screen. */
   simulated?: true;
 }

@@ -24,6 +24,8 @@ import {
   thrustLoadFactor,
 } from './performance.js';
 import type { AlertThresholds } from './thresholds.js';
+import type { ThrottleAssumption } from './energy.js';
+import { DEFAULT_RATE_WINDOW_S } from './rate-estimator.js';
 import { GAMMA_AIR, G0_MPS2, R_AIR } from './units.js';
 
 export interface MarginOptions {
@@ -31,6 +33,16 @@ export interface MarginOptions {
   thresholds: AlertThresholds;
   /** Time constant of the low-pass filter on n and TAS, s. Default 0.15; 0 turns smoothing off. */
   smoothTauS: number;
+  /** W: the window of the rates dV/dt, dh/dt and the bank rate, s. Default 1.0. */
+  rateWindowS: number;
+  /** What to assume for frames without a throttle (`--throttle full|idle`); absent = nothing. */
+  assumeThrottle?: ThrottleAssumption;
+  /**
+   * Compute each record's sustained_band_mps (default true). The band is a search over speeds, several times the
+   * cost of the rest of the record: a summary that outputs no record (review without --per-frame, check, fit) turns
+   * it off, and the key is then null in the records it never shows.
+   */
+  speedBand: boolean;
 }
 
 export const DEFAULT_SMOOTH_TAU_S = 0.15;
@@ -45,6 +57,9 @@ export function resolveMarginOptions(aircraft: Aircraft, options: Partial<Margin
   return {
     thresholds: options.thresholds ?? aircraft.thresholds,
     smoothTauS: options.smoothTauS ?? DEFAULT_SMOOTH_TAU_S,
+    rateWindowS: options.rateWindowS ?? DEFAULT_RATE_WINDOW_S,
+    speedBand: options.speedBand ?? true,
+    ...(options.assumeThrottle !== undefined ? { assumeThrottle: options.assumeThrottle } : {}),
   };
 }
 
@@ -325,6 +340,18 @@ export function computeMarginRecord(
     tas_raw_mps: air.tasMps,
     cas_mps: casMps,
     assumed: frameAssumptions(aircraft, frame),
+    // The energy keys need the rate windows: the frame engine's energy tracker fills them.
+    throttle: frame.throttle ?? null,
+    dvdt_mps2: null,
+    dhdt_mps: null,
+    bank_rate_dps: null,
+    ps_mps: null,
+    ps_model_mps: null,
+    ps_residual_mps: null,
+    ps_residual_mean_3s_mps: null,
+    time_to_stall_caution_s: null,
+    time_to_stall_warning_s: null,
+    sustained_band_mps: null,
   };
   if (frame.simulated === true) record.simulated = true;
   const airUsed =

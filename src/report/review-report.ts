@@ -8,6 +8,7 @@ import type { EndedBy, LimitEvent } from '../core/events.js';
 import type { FlightReview, Peak } from '../core/flight-review.js';
 import type { AlertLevel, Level } from '../core/margin-record.js';
 import type { LimitName } from '../core/performance.js';
+import type { ModelCheck, ModelCheckSetting } from '../core/model-check.js';
 import { LIMITS } from '../core/alerts.js';
 import { ASSUMPTIONS, ASSUMPTION_WORDS } from '../core/assumptions.js';
 import { alignTable, csvRow, fixed, roundOrNull, roundTo } from './numbers.js';
@@ -36,6 +37,7 @@ export function eventJson(e: LimitEvent) {
     speed_at_peak_mps: roundTo(e.speed_at_peak_mps, 3),
     n_at_peak: roundTo(e.n_at_peak, 4),
     ended_by: e.ended_by,
+    min_time_to_stall_caution_s: roundOrNull(e.min_time_to_stall_caution_s, 3),
   };
 }
 
@@ -102,7 +104,26 @@ export function reviewToJson(review: FlightReview, ctx: ReviewContext) {
     smooth_tau_s: review.options.smoothTauS,
     /** Share of the accepted frames (0…1) in which each input was assumed. */
     assumed_share: assumedShareJson(review),
+    rate_window_s: review.options.rateWindowS,
+    throttle_assumed: review.options.assumeThrottle ?? null,
+    model_check: modelCheckJson(review.modelCheck),
   };
+}
+
+function modelCheckSettingJson(m: ModelCheckSetting | null) {
+  return m === null
+    ? null
+    : {
+        frames: m.frames,
+        mean_residual_mps: roundTo(m.meanResidualMps, 4),
+        sd_residual_mps: roundOrNull(m.sdResidualMps, 4),
+        drag_error_pct: roundOrNull(m.dragErrorPct, 2),
+      };
+}
+
+/** The model check: measured − modelled Ps at full throttle and at idle (null where no frame had a residual). */
+export function modelCheckJson(check: ModelCheck) {
+  return { full: modelCheckSettingJson(check.full), idle: modelCheckSettingJson(check.idle) };
 }
 
 function assumedShareJson(review: FlightReview) {
@@ -125,18 +146,33 @@ export const EVENT_CSV_COLUMNS = [
   'speed_at_peak_mps',
   'n_at_peak',
   'ended_by',
+  'min_time_to_stall_caution_s',
 ] as const;
 
 /** Flight-level columns repeated on every event row: the share of the frames in which each input was assumed. */
 export const ASSUMED_CSV_COLUMNS = ASSUMPTIONS.map((a) => `assumed_${a}_share`);
 
+/** Flight-level columns repeated on every event row: the model check at full throttle and at idle. */
+export const MODEL_CHECK_CSV_COLUMNS = (['full', 'idle'] as const).flatMap((setting) =>
+  (['frames', 'mean_residual_mps', 'sd_residual_mps', 'drag_error_pct'] as const).map(
+    (key) => `model_check_${setting}_${key}`,
+  ),
+);
+
 export function reviewToCsv(review: FlightReview): string {
   const shares = assumedShareJson(review);
+  const check = modelCheckJson(review.modelCheck);
+  const checkCells = (['full', 'idle'] as const).flatMap((setting) => {
+    const m = check[setting];
+    return [m?.frames ?? null, m?.mean_residual_mps ?? null, m?.sd_residual_mps ?? null, m?.drag_error_pct ?? null];
+  });
   const rows = review.events.map((e) => {
     const j = eventJson(e);
-    return csvRow([...EVENT_CSV_COLUMNS.map((k) => j[k]), ...ASSUMPTIONS.map((a) => shares[a])]);
+    return csvRow([...EVENT_CSV_COLUMNS.map((k) => j[k]), ...ASSUMPTIONS.map((a) => shares[a]), ...checkCells]);
   });
-  return [[...EVENT_CSV_COLUMNS, ...ASSUMED_CSV_COLUMNS].join(','), ...rows].join('\n') + '\n';
+  return (
+    [[...EVENT_CSV_COLUMNS, ...ASSUMED_CSV_COLUMNS, ...MODEL_CHECK_CSV_COLUMNS].join(','), ...rows].join('\n') + '\n'
+  );
 }
 
 /** Utilization as a percentage of the limit, e.g. 0.934 → "93.4 %"; unbounded (n_thrust = 0) → "n_thrust = 0". */
@@ -284,6 +320,7 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
       fixed(e.speed_at_peak_mps, 1),
       fixed(e.n_at_peak, 2),
       endedByText(e.ended_by),
+      fixed(e.min_time_to_stall_caution_s, 1),
     ]);
     out.push(
       ...mdTable(
@@ -299,9 +336,10 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
           'TAS at peak (m/s)',
           'n at peak',
           'Ended by',
+          'Least time to stall caution (s)',
         ],
         rows,
-        [true, false, false, true, true, true, true, true, true, true, false],
+        [true, false, false, true, true, true, true, true, true, true, false, true],
       ),
       '',
       'An event ends when its alert clears, or at a break in the data (a gap over 1 s, a lost link, a restart of ' +
@@ -337,6 +375,8 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
     '',
   );
 
+  out.push(...modelCheckMarkdown(review), '');
+
   out.push('## Rejected lines', '');
   if (review.rejected === 0) {
     out.push('None.', '');
@@ -359,6 +399,31 @@ export function reviewToMarkdown(review: FlightReview, ctx: ReviewContext): stri
 
   out.push('## Caution', '', ADVISORY_CAUTION, '');
   return out.join('\n');
+}
+
+/** The model check section: measured against modelled specific excess power, at full throttle and at idle. */
+function modelCheckMarkdown(review: FlightReview): string[] {
+  const out = ['## Model check (specific excess power)', ''];
+  const check = review.modelCheck;
+  const assumed = review.options.assumeThrottle;
+  const row = (label: string, m: ModelCheckSetting | null): string[] =>
+    m === null
+      ? [label, '0', '—', '—', '—']
+      : [label, String(m.frames), fixed(m.meanResidualMps, 2), fixed(m.sdResidualMps, 2), fixed(m.dragErrorPct, 1)];
+  out.push(
+    ...mdTable(
+      ['Throttle', 'Frames', 'Mean residual (m/s)', 'SD (m/s)', 'Implied drag error (%)'],
+      [row('full (≥ 0.98)', check.full), row('idle (≤ 0.02)', check.idle)],
+      [false, true, true, true, true],
+    ),
+    '',
+    `Residual = measured Ps (dh/dt + (V/g)·dV/dt over a ${review.options.rateWindowS} s window) − modelled Ps ` +
+      '(V·(T − D)/W from the airframe file). A negative mean: the aircraft climbed or accelerated less than the model ' +
+      'predicts, so its thrust margin may be optimistic. Implied drag error ΔD/D = −W·residual/(V·D). Quasi-steady ' +
+      'flight assumed; part-throttle frames are not used' +
+      (assumed !== undefined ? `; frames without a throttle value were taken as ${assumed}.` : '.'),
+  );
+  return out;
 }
 
 export type FailLevel = AlertLevel;

@@ -113,7 +113,7 @@ describe('review of several flights at once (built CLI)', () => {
     expect(a['file']).toBe('a.ndjson');
   });
 
-  it('gives each flight exactly its one-file review in `flights`, in the order given', async () => {
+  it('gives each flight exactly its one-file review in `flights` (model check included), in the order given', async () => {
     const [both, one, two] = await Promise.all([
       json([...base(FLIGHT, CLEAN), '--format', 'json']),
       json([...base(FLIGHT), '--format', 'json']),
@@ -122,6 +122,7 @@ describe('review of several flights at once (built CLI)', () => {
     expect(Object.keys(both)).toEqual(['flights']);
     expect(both.flights).toEqual([one, two]);
     expect(both.flights[0]!['source']).toBe(FLIGHT);
+    for (const f of both.flights) expect(Object.keys(f['model_check'] as object)).toEqual(['full', 'idle']);
   });
 
   it('keeps the one-file report in its shape: the review at the top level, test_points beside it', async () => {
@@ -145,6 +146,9 @@ describe('review of several flights at once (built CLI)', () => {
       'thresholds',
       'smooth_tau_s',
       'assumed_share',
+      'rate_window_s',
+      'throttle_assumed',
+      'model_check',
     ]);
     const carded = await json([...base(fileB), '--card', cardPath, '--format', 'json']);
     expect(Object.keys(carded)).toEqual([...Object.keys(plain), 'test_points']);

@@ -105,6 +105,7 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
       'ended_by',
       'level',
       'limit',
+      'min_time_to_stall_caution_s',
       'n_at_peak',
       'peak_t_s',
       'peak_utilization',
@@ -179,10 +180,15 @@ describe('turnmargin review (built CLI) on the invented fixture flight', () => {
     const lines = r.stdout.trim().split('\n');
     expect(lines[0]).toBe(
       'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak,ended_by,' +
-        'assumed_n_from_bank_share,assumed_temperature_isa_share,assumed_n_limit_default_share',
+        'min_time_to_stall_caution_s,assumed_n_from_bank_share,assumed_temperature_isa_share,' +
+        'assumed_n_limit_default_share,model_check_full_frames,model_check_full_mean_residual_mps,' +
+        'model_check_full_sd_residual_mps,model_check_full_drag_error_pct,model_check_idle_frames,' +
+        'model_check_idle_mean_residual_mps,model_check_idle_sd_residual_mps,model_check_idle_drag_error_pct',
     );
     // every frame has nz, none has oat_c, the airframe gives n_limit_pos
-    expect(lines[1]!.endsWith(',0,1,0')).toBe(true);
+    const header = lines[0]!.split(',');
+    const shares = ['assumed_n_from_bank_share', 'assumed_temperature_isa_share', 'assumed_n_limit_default_share'];
+    expect(shares.map((c) => lines[1]!.split(',')[header.indexOf(c)])).toEqual(['0', '1', '0']);
     expect(lines).toHaveLength(1 + EXPECTED_EVENTS.length);
     expect(lines[2]!.startsWith('stall,warning,11,13,2,0.943')).toBe(true);
   });

@@ -58,6 +58,7 @@ export function event(overrides: Partial<LimitEvent> = {}): LimitEvent {
     n_at_peak: 1.6,
     open: false,
     ended_by: overrides.open === true ? null : 'cleared',
+    min_time_to_stall_caution_s: null,
     ...overrides,
   };
 }

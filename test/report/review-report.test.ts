@@ -31,7 +31,10 @@ describe('review renderers', () => {
     expect(md).toContain('## Rejected lines\n\nNone.');
     expect(reviewToCsv(review)).toBe(
       'limit,level,start_s,end_s,duration_s,peak_utilization,peak_t_s,speed_at_peak_mps,n_at_peak,ended_by,' +
-        'assumed_n_from_bank_share,assumed_temperature_isa_share,assumed_n_limit_default_share\n',
+        'min_time_to_stall_caution_s,assumed_n_from_bank_share,assumed_temperature_isa_share,' +
+        'assumed_n_limit_default_share,model_check_full_frames,model_check_full_mean_residual_mps,' +
+        'model_check_full_sd_residual_mps,model_check_full_drag_error_pct,model_check_idle_frames,' +
+        'model_check_idle_mean_residual_mps,model_check_idle_sd_residual_mps,model_check_idle_drag_error_pct\n',
     );
     expect(reviewToJson(review, ctx).events).toEqual([]);
     expect(checkSummary(review, ctx, 'caution').trimEnd().split('\n').pop()).toBe('PASS: no event reached caution');
@@ -56,7 +59,14 @@ describe('review renderers', () => {
     expect(md).toContain('| Assumed: ISA temperature (no oat_c) | 75.0 % of the frames |');
     expect(md).not.toContain('Assumed: default n limit');
     const csv = reviewToCsv(review).trimEnd().split('\n');
-    expect(csv[1]!.endsWith(',0.25,0.75,0')).toBe(true);
+    const header = csv[0]!.split(',');
+    const row = csv[1]!.split(',');
+    const at = (column: string) => row[header.indexOf(column)];
+    expect([
+      at('assumed_n_from_bank_share'),
+      at('assumed_temperature_isa_share'),
+      at('assumed_n_limit_default_share'),
+    ]).toEqual(['0.25', '0.75', '0']);
   });
 
   it('lists the first 100 rejected lines and says how many more there were', () => {

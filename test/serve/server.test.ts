@@ -3,7 +3,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterEach, describe, expect, it } from 'vitest';
 import { WebSocket } from 'ws';
-import { createMarginTracker } from '../../src/core/margins.js';
+import { createFrameEngine } from '../../src/core/frame-engine.js';
 import { resolveThresholds } from '../../src/core/thresholds.js';
 import { G0_MPS2 } from '../../src/core/units.js';
 import { parseFrameLine } from '../../src/decode/frame-line.js';
@@ -67,13 +67,13 @@ function frameLine(tS: number, fields: Record<string, unknown> = {}): string {
   return JSON.stringify({ t_s: tS, tas_mps: 18, alt_m: 100, bank_deg: 30, ...fields });
 }
 
-/** The core's answers for the same lines, through one fresh tracker (the server's per-connection state). */
+/** The core's answers for the same lines, through one fresh frame engine (the server's per-connection state). */
 function coreAnswers(lines: string[], smoothTauS?: number) {
-  const tracker = createMarginTracker(exampleAirframe(), smoothTauS !== undefined ? { smoothTauS } : {});
+  const tracker = createFrameEngine(exampleAirframe(), smoothTauS !== undefined ? { smoothTauS } : {});
   return lines.map((line) => {
     const verdict = parseFrameLine(line);
     if (!verdict.ok) throw new Error(verdict.reason);
-    return JSON.parse(JSON.stringify(tracker.push(verdict.frame))) as Record<string, unknown>;
+    return JSON.parse(JSON.stringify(tracker.push(verdict.frame)!)) as Record<string, unknown>;
   });
 }
 

@@ -15,7 +15,7 @@ export const spec: CommandSpec = {
   name: 'check',
   summary: 'pass/fail recorded flights against the alert levels (for CI)',
   usage:
-    'turnmargin check FILE... --aircraft FILE [--fail-on caution|warning] [--card CARD.json [--require-points]] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+    'turnmargin check FILE... --aircraft FILE [--fail-on caution|warning] [--card CARD.json [--require-points]] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
     CARD_OPTION,

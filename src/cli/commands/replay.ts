@@ -10,7 +10,7 @@ export const spec: CommandSpec = {
   name: 'replay',
   summary: 'play a recorded flight through the monitor',
   usage:
-    'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--no-ui] [--events FILE [--force]]',
+    'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--no-ui] [--events FILE [--force]]',
   options: [
     {
       name: 'speed',

@@ -5,8 +5,8 @@
  * parallel (src/cli/review-flights.ts, shared with `turnmargin check`).
  */
 import { basename } from 'node:path';
-import { DEFAULT_SMOOTH_TAU_S } from '../../core/margins.js';
 import type { TestPointResult } from '../../core/test-point.js';
+import { MARGIN_COMPUTATION_OPTIONS } from '../margin-options.js';
 import type { MarginRecord } from '../../core/margin-record.js';
 import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown } from '../../report/review-report.js';
@@ -42,14 +42,7 @@ export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
     description: "alert thresholds file (JSON), over the airframe's own",
     defaultText: `the airframe's, else ${describeDefaultThresholds()}`,
   },
-  {
-    name: 'smooth',
-    type: 'string',
-    valueName: 'S',
-    unit: 's',
-    defaultText: String(DEFAULT_SMOOTH_TAU_S),
-    description: 'time constant of the low-pass filter on the load factor and the TAS; 0 turns smoothing off',
-  },
+  ...MARGIN_COMPUTATION_OPTIONS,
   {
     name: 'mapping',
     type: 'string',
@@ -63,7 +56,7 @@ export const spec: CommandSpec = {
   name: 'review',
   summary: 'report the limit events, peaks and time in each alert level of a recorded flight',
   usage:
-    'turnmargin review FILE... --aircraft FILE [--card CARD.json] [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--mapping FILE]',
+    'turnmargin review FILE... --aircraft FILE [--card CARD.json] [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
     CARD_OPTION,

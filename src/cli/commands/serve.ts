@@ -1,4 +1,5 @@
 /** `turnmargin serve`: answer an autopilot on the bench with margin records over a websocket. */
+import { MARGIN_COMPUTATION_OPTIONS, parseMarginOptions } from '../margin-options.js';
 import { readFileSync } from 'node:fs';
 import { makeDirectory } from '../../recording/make-directory.js';
 import {
@@ -22,7 +23,7 @@ export const spec: CommandSpec = {
   summary: 'answer an autopilot on the bench with margins over a websocket',
   usage:
     'turnmargin serve --aircraft FILE [--listen HOST:PORT [--allow-remote]] [--thresholds FILE]\n' +
-    '                        [--token T | --token-file FILE] [--record DIR] [--smooth S] [--max-clients N]\n' +
+    '                        [--token T | --token-file FILE] [--record DIR] [--smooth S] [--rate-window S] [--throttle full|idle] [--max-clients N]\n' +
     '                        [--idle-timeout S]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
@@ -63,14 +64,7 @@ export const spec: CommandSpec = {
       valueName: 'DIR',
       description: 'keep every line each client sends, one recording file per connection (replay/review read them)',
     },
-    {
-      name: 'smooth',
-      type: 'string',
-      valueName: 'S',
-      unit: 's',
-      defaultText: '0.15',
-      description: 'time constant of the load-factor low-pass filter (0 = off), per connection',
-    },
+    ...MARGIN_COMPUTATION_OPTIONS,
     {
       name: 'max-clients',
       type: 'string',
@@ -134,7 +128,6 @@ export async function run(args: ParsedArgs): Promise<number> {
   const thresholdsPath = stringOption(args, 'thresholds');
   const thresholds =
     thresholdsPath !== undefined ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
-  const smoothTauS = numberOption(args, 'smooth', undefined, { min: 0, max: 10 });
   const maxClients = numberOption(args, 'max-clients', DEFAULT_MAX_CLIENTS, { integer: true, min: 1, max: 10_000 });
   const idleTimeoutS = numberOption(args, 'idle-timeout', DEFAULT_IDLE_TIMEOUT_MS / 1000, { min: 0.1, max: 86_400 });
   const listenText = stringOption(args, 'listen') ?? DEFAULT_LISTEN;
@@ -164,8 +157,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     }
   }
 
-  const margins: Partial<MarginOptions> = { thresholds };
-  if (smoothTauS !== undefined) margins.smoothTauS = smoothTauS;
+  const margins: Partial<MarginOptions> = parseMarginOptions(args, thresholds);
   const options: ServeServerOptions = {
     aircraft,
     host,

@@ -1,0 +1,164 @@
+/**
+ * The energy part of a margin record: the rates over the rate window (dV/dt of the raw TAS, dh/dt, the bank rate),
+ * specific excess power measured and modelled, their residual and its mean over the last few seconds, the time to
+ * the stall caution and warning, and the sustainable speed band. The frame engine owns one tracker, feeds it every
+ * record it makes and resets it at every break (the windows restart there); nothing else keeps these windows.
+ */
+import type { Aircraft } from './aircraft.js';
+import { isaPressurePa } from './atmosphere.js';
+import {
+  modelSpecificExcessPowerMps,
+  psResidualMps,
+  specificExcessPowerMps,
+  timeToStallS,
+  type ThrottleAssumption,
+} from './energy.js';
+import type { Frame } from './frame.js';
+import type { MarginRecord } from './margin-record.js';
+import { stallSpeedMps, topSpeedMps, vneTasMps } from './performance.js';
+import { createRateEstimator } from './rate-estimator.js';
+import { sustainedBandMps } from './sustained-band.js';
+import type { AlertThresholds } from './thresholds.js';
+
+/** The model advisory looks at the residual's mean over this much frame time, s. */
+export const RESIDUAL_MEAN_WINDOW_S = 3;
+/** A residual mean beyond ± this (m/s) means the model and the flight disagree (the dashboard's advisory). */
+export const RESIDUAL_ADVISORY_MPS = 0.5;
+
+export interface EnergyOptions {
+  /** W: the rate window, s. */
+  rateWindowS: number;
+  /** What to assume for frames without a throttle; undefined = nothing (no modelled Ps there). */
+  assumeThrottle?: ThrottleAssumption;
+  thresholds: AlertThresholds;
+  /** Compute sustained_band_mps (else it stays null): see MarginOptions.speedBand. */
+  speedBand: boolean;
+}
+
+export interface EnergyTracker {
+  /** Fill the energy keys of `rec` (made from `frame`); call once per accepted frame, in order. */
+  fill(rec: MarginRecord, frame: Frame): void;
+  /** A break: every window restarts. */
+  reset(): void;
+}
+
+/** Mean of the values pushed over the last `windowS` of frame time (a ring with a running sum). */
+function createWindowMean(windowS: number): {
+  push(tS: number, value: number | null): number | null;
+  reset(): void;
+} {
+  let times = new Float64Array(64);
+  let values = new Float64Array(64);
+  let head = 0;
+  let count = 0;
+  let sum = 0;
+  let sinceRebuild = 0;
+  const at = (k: number): number => (head + k) % times.length;
+  return {
+    push(tS, value) {
+      while (count > 0 && times[head]! < tS - windowS) {
+        sum -= values[head]!;
+        head = (head + 1) % times.length;
+        count--;
+      }
+      if (value !== null && Number.isFinite(value)) {
+        if (count === times.length) {
+          const nt = new Float64Array(times.length * 2);
+          const nv = new Float64Array(values.length * 2);
+          for (let k = 0; k < count; k++) {
+            nt[k] = times[at(k)]!;
+            nv[k] = values[at(k)]!;
+          }
+          times = nt;
+          values = nv;
+          head = 0;
+        }
+        const i = at(count);
+        times[i] = tS;
+        values[i] = value;
+        count++;
+        sum += value;
+        // Rebuild the sum now and then so that rounding does not accumulate over a long flight.
+        if (++sinceRebuild >= Math.max(count, 64)) {
+          sinceRebuild = 0;
+          sum = 0;
+          for (let k = 0; k < count; k++) sum += values[at(k)]!;
+        }
+      }
+      return count > 0 ? sum / count : null;
+    },
+    reset() {
+      head = 0;
+      count = 0;
+      sum = 0;
+      sinceRebuild = 0;
+    },
+  };
+}
+
+/** The sustainable speed band at the record's density, mass and n (a search over speeds: sustained-band.ts). */
+function recordSpeedBand(aircraft: Aircraft, rec: MarginRecord): [number, number] | null {
+  const vs1 = stallSpeedMps(aircraft, rec.density_kg_m3, rec.mass_kg);
+  const top = topSpeedMps(vneTasMps(aircraft, isaPressurePa(rec.alt_m), rec.temperature_k), vs1);
+  const found = sustainedBandMps(aircraft, rec.density_kg_m3, rec.mass_kg, rec.n_measured, top);
+  return found === null ? null : [found.loMps, found.hiMps];
+}
+
+export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions): EnergyTracker {
+  const speed = createRateEstimator(options.rateWindowS);
+  const altitude = createRateEstimator(options.rateWindowS);
+  const bank = createRateEstimator(options.rateWindowS);
+  const residualMean = createWindowMean(RESIDUAL_MEAN_WINDOW_S);
+  const thresholds = { stallCaution: options.thresholds.stallCaution, stallWarning: options.thresholds.stallWarning };
+  const assumeThrottle = options.assumeThrottle;
+  const speedBand = options.speedBand;
+  return {
+    fill(rec, frame) {
+      const tS = rec.t_s;
+      const dvdt = speed.push(tS, rec.tas_raw_mps);
+      const dhdt = altitude.push(tS, rec.alt_m);
+      const bankRate = bank.push(tS, rec.bank_deg);
+      const throttle = frame.throttle ?? null;
+      const ps = specificExcessPowerMps(dhdt, rec.tas_mps, dvdt);
+      const psModelInput = {
+        tasMps: rec.tas_mps,
+        densityKgM3: rec.density_kg_m3,
+        massKg: rec.mass_kg,
+        loadFactor: rec.n_measured,
+        throttle,
+      };
+      const psModel = modelSpecificExcessPowerMps(
+        aircraft,
+        assumeThrottle === undefined ? psModelInput : { ...psModelInput, assumeThrottle },
+      );
+      const residual = psResidualMps(ps, psModel);
+      const toStall = timeToStallS(
+        {
+          flying: rec.flying,
+          tasMps: rec.tas_mps,
+          loadFactor: rec.n_measured,
+          stallUtilization: rec.utilization.stall,
+          dvdtMps2: dvdt,
+        },
+        thresholds,
+      );
+      rec.throttle = throttle;
+      rec.dvdt_mps2 = dvdt;
+      rec.dhdt_mps = dhdt;
+      rec.bank_rate_dps = bankRate;
+      rec.ps_mps = ps;
+      rec.ps_model_mps = psModel;
+      rec.ps_residual_mps = residual;
+      rec.ps_residual_mean_3s_mps = residualMean.push(tS, residual);
+      rec.time_to_stall_caution_s = toStall.cautionS;
+      rec.time_to_stall_warning_s = toStall.warningS;
+      if (speedBand) rec.sustained_band_mps = recordSpeedBand(aircraft, rec);
+    },
+    reset() {
+      speed.reset();
+      altitude.reset();
+      bank.reset();
+      residualMean.reset();
+    },
+  };
+}
