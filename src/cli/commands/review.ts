@@ -54,7 +54,7 @@ export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
 
 export const spec: CommandSpec = {
   name: 'review',
-  summary: 'report the limit events, peaks and time in each alert level of a recorded flight',
+  summary: 'report the limit events, peaks and time in each alert level of recorded flights',
   usage:
     'turnmargin review FILE... --aircraft FILE [--card CARD.json] [--format md|json|csv|html] [--out FILE [--force]] [--per-frame OUT.ndjson] [--plot OUT.svg] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--mapping FILE]',
   options: [
