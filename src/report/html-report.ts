@@ -582,6 +582,12 @@ function timeHistorySvg(flight: HtmlFlight, prefix: string): string {
         `<text x="${TH.left + plotW + 5}" y="${num(labelY)}" font-size="10.5" fill="${r.colour}" class="ref-label">${esc(r.label)}</text>`,
       );
     }
+    // A reference too far from the data to draw (V_NE above a slow flight) is still named, with its value.
+    for (const r of panel.refs.filter((q) => q.value > hi)) {
+      out.push(
+        `<text x="${TH.left + plotW + 5}" y="${top + 10}" font-size="10.5" fill="${r.colour}" class="ref-label">${esc(`${r.label} ${num(r.value)} ↑`)}</text>`,
+      );
+    }
     // Series.
     for (const l of panel.lines) {
       const pts = seriesPoints(h, l.name);

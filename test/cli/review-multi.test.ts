@@ -222,6 +222,10 @@ describe('review of several flights at once (built CLI)', () => {
       start: '2023-11-14T22:13:20.100Z',
       end: '2023-11-14T22:13:22.100Z',
     });
+
+    // One file with a card: the worker computes beside the reading thread and follows the card there too.
+    const one = [...base(fileB), '--card', cardPath, '--format', 'json'];
+    expect(await json(one, { TURNMARGIN_REVIEW_WORKER_MIN_BYTES: '0' })).toEqual(await json(one));
   });
 
   it('names a second file that cannot be read or holds no frame, exits 2 and prints nothing of the others', async () => {
