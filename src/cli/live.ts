@@ -4,6 +4,7 @@
  * handlers that restore the terminal on a crash, and a clean stop (flush, summary, exit 0).
  */
 import { closeSync, openSync, writeSync } from 'node:fs';
+import { basename } from 'node:path';
 import type { Aircraft } from '../core/aircraft.js';
 import { requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
 import { EXIT_UNUSABLE, InputError, UsageError } from '../errors.js';
@@ -20,6 +21,9 @@ import { eventJson } from '../report/review-report.js';
 import type { Recorder } from '../recording/recorder.js';
 import { formatLinkSummary } from '../sources/link-health-tracker.js';
 import type { ReplayTransport, TelemetrySource } from '../sources/source.js';
+import type { CardPoint } from '../core/card.js';
+import { createLiveCard } from '../dashboard/live-card.js';
+import { loadCardFile } from './commands/card.js';
 
 // ---------------------------------------------------------------------------------------------------------------
 // The monitor: a pipeline plus its output (headless lines or the dashboard), signals and the exit summary.
@@ -44,6 +48,15 @@ export interface MonitorOptions {
   events?: EventsWriter;
   stdout?: NodeJS.WritableStream & { isTTY?: boolean };
   stderr?: NodeJS.WritableStream;
+  /** --card: the test card followed live. */
+  card?: MonitorCard;
+}
+
+/** A test card read for the monitor: its points, the file's name and any warning (made for another airframe). */
+export interface MonitorCard {
+  points: readonly CardPoint[];
+  label: string;
+  warnings: readonly string[];
 }
 
 const UI_REFRESH_MS = 250;
@@ -147,10 +160,24 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
       })
     : undefined;
 
+  // The card follows the records and the engine's breaks; the record itself is unchanged.
+  const liveCard = options.card ? createLiveCard(options.card.points, options.card.label) : undefined;
+  const announceAchieved = (): void => {
+    for (const p of liveCard?.poll() ?? []) {
+      stderr.write(
+        `turnmargin: test point ${p.id} achieved: held ${p.longest_hold_s.toFixed(1)} s from t ${p.start_t_s?.toFixed(2)} s` +
+          ` (bank ${p.bank_deg.toFixed(1)}°, TAS ${p.tas_mps.toFixed(1)} m/s)\n`,
+      );
+    }
+  };
   const sinks: PipelineSinks = noUi
     ? {
         record(rec) {
           if (!outputBroken) out!.write(JSON.stringify(rec) + '\n');
+          if (liveCard) {
+            liveCard.push(rec);
+            announceAchieved();
+          }
         },
         rejected(line, where, reason) {
           const code = line.verdict.ok ? '' : ` [${line.verdict.code}]`;
@@ -162,9 +189,14 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
             stderr.write(`turnmargin: link open: ${s.detail}\n`);
         },
         eventEnded: (ev) => options.events?.write(ev),
+        dataBreak: () => liveCard?.breakHere(),
       }
     : {
-        record: (rec) => dashboard?.pushRecord(rec),
+        record: (rec) => {
+          liveCard?.push(rec);
+          dashboard?.pushRecord(rec);
+        },
+        dataBreak: () => liveCard?.breakHere(),
         rejected: () => undefined, // counted in link health, shown by the dashboard
         eventStarted: (ev) => dashboard?.pushEvent(ev),
         eventEnded: (ev) => {
@@ -198,6 +230,7 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
         thresholds: options.thresholds,
         sourceLabel: options.source.label,
         ...(lengthS !== undefined ? { replay: { lengthS } } : {}),
+        ...(liveCard ? { card: liveCard, notices: options.card!.warnings } : {}),
       },
       {
         quit: () => finish(),
@@ -295,6 +328,15 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
 // ---------------------------------------------------------------------------------------------------------------
 // Options shared by `watch` and `replay`.
 
+/** --card for the monitor (watch, replay, demo). */
+export const MONITOR_CARD_OPTION: OptionSpec = {
+  name: 'card',
+  type: 'string',
+  valueName: 'FILE',
+  description:
+    'a test card (JSON from `turnmargin card`): the dashboard shows the next point not yet achieved, its deviation and hold timer (n/p step); with --no-ui each point achieved is noted on stderr',
+};
+
 export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
   {
     name: 'aircraft',
@@ -326,7 +368,16 @@ export const COMMON_MONITOR_OPTIONS: OptionSpec[] = [
       'write each limit event to FILE as one JSON line when it ends (keys as in review --format json, with ended_by)',
   },
   { name: 'force', type: 'boolean', description: 'overwrite an existing --events (or --record) file' },
+  MONITOR_CARD_OPTION,
 ];
+
+/** Read --card for the monitor: refused with every problem listed, a warning when made for another airframe. */
+export function loadMonitorCard(path: string | undefined, aircraft: Aircraft): MonitorCard | undefined {
+  if (path === undefined) return undefined;
+  const warnings: string[] = [];
+  const card = loadCardFile(path, aircraft, aircraft.massKg, (line) => warnings.push(line));
+  return { points: card.points, label: basename(path), warnings };
+}
 
 export interface MonitorSetup {
   aircraft: Aircraft;
@@ -335,6 +386,7 @@ export interface MonitorSetup {
   noUi: boolean;
   /** --events, opened (call after every other check of the arguments: it creates the file). */
   events?: EventsWriter;
+  card?: MonitorCard;
 }
 
 export function loadMonitorSetup(args: ParsedArgs): MonitorSetup {
@@ -348,6 +400,8 @@ export function loadMonitorSetup(args: ParsedArgs): MonitorSetup {
     margins: parseMarginOptions(args, thresholds),
     noUi: args.values['no-ui'] === true,
   };
+  const card = loadMonitorCard(stringOption(args, 'card'), aircraft);
+  if (card) setup.card = card;
   const eventsPath = stringOption(args, 'events');
   if (eventsPath !== undefined) {
     if (eventsPath === '') throw new UsageError('--events FILE must not be empty');

@@ -34,6 +34,10 @@ const COMMANDS: Record<string, CommandEntry> = {
     summary: 'report the exceedances of recorded flights (one or several)',
     load: () => import('./commands/review.js'),
   },
+  fit: {
+    summary: 'estimate the drag polar, the thrust and the demonstrated CL from recorded flights',
+    load: () => import('./commands/fit.js'),
+  },
   check: {
     summary: 'pass/fail recorded flights against the alert levels (for CI)',
     load: () => import('./commands/check.js'),

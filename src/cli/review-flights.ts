@@ -12,6 +12,7 @@ import type { Aircraft } from '../core/aircraft.js';
 import type { CardPoint } from '../core/card.js';
 import { nothingCheckableReason } from '../core/checkable.js';
 import type { FlightReview } from '../core/flight-review.js';
+import type { DataBreak } from '../core/frame-engine.js';
 import { resolveMarginOptions, type MarginOptions } from '../core/margins.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import { mergeTestPointResults, type TestPointResult } from '../core/test-point.js';
@@ -76,8 +77,10 @@ export interface ReviewedFlight {
 export interface ReviewFlightsOptions {
   /** Follow these test points (a card) in every file. */
   cardPoints?: CardPoint[];
-  /** Each margin record (for --per-frame): one file only, reviewed in this thread. */
+  /** Each margin record (for --per-frame, fit): one file only, reviewed in this thread. */
   onRecord?: (rec: MarginRecord) => void;
+  /** Each break the engine reports, before the record after it (with onRecord). */
+  onBreak?: (brk: DataBreak) => void;
 }
 
 /** Labels of the inputs: base names, unless two inputs share one (then the paths as given). */
@@ -230,7 +233,7 @@ async function reviewInThread(
   options: ReviewFlightsOptions,
   stop: StopSignal,
 ): Promise<ReviewRunResult> {
-  const run = createReviewRun(workerDataOf(input, options, label), options.onRecord);
+  const run = createReviewRun(workerDataOf(input, options, label), options.onRecord, options.onBreak);
   const received = createReceivedSpan();
   for await (const batch of readFramePackedBatches(input.file, { ...readOptions, onReceivedAt: received.at })) {
     if (stop.stopped) throw STOPPED;
@@ -384,8 +387,8 @@ export async function reviewFlights(
   inputs: readonly FlightInput[],
   options: ReviewFlightsOptions = {},
 ): Promise<ReviewedFlight[]> {
-  if (options.onRecord !== undefined && inputs.length !== 1)
-    throw new Error('per-record output is for one file at a time');
+  const perRecord = options.onRecord !== undefined || options.onBreak !== undefined;
+  if (perRecord && inputs.length !== 1) throw new Error('per-record output is for one file at a time');
   refuseUnreadable(inputs);
   const labels = flightLabels(inputs);
   const progress = createProgress(inputs, labels);
@@ -397,7 +400,7 @@ export async function reviewFlights(
     const onProgress = (bytes: number, total: number) => progress.update(i, bytes, total);
     const readOptions: ReadFrameOptions = { onProgress };
     if (input.mappingPath !== undefined) readOptions.mappingPath = input.mappingPath;
-    const script = options.onRecord === undefined ? reviewWorkerUrl(input.file) : undefined;
+    const script = perRecord ? undefined : reviewWorkerUrl(input.file);
     let result: ReviewRunResult;
     if (script === undefined) result = await reviewInThread(input, label, readOptions, options, stop);
     else if (inputs.length === 1)

@@ -14,6 +14,7 @@ import { parentPort, workerData } from 'node:worker_threads';
 import type { Aircraft } from '../core/aircraft.js';
 import type { CardPoint } from '../core/card.js';
 import { createFlightReviewer, type FlightReview, type FlightReviewer } from '../core/flight-review.js';
+import type { DataBreak } from '../core/frame-engine.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { MarginOptions } from '../core/margins.js';
 import { createTestPointTracker, type TestPointResult } from '../core/test-point.js';
@@ -106,13 +107,23 @@ export function createReceivedSpan(): { at(ms: number): void; span(): ReceivedSp
 export function createReviewRun(
   setup: ReviewRunSetup,
   onRecord?: (rec: MarginRecord) => void,
+  onBreak?: (brk: DataBreak) => void,
 ): {
   feed(batch: PackedFrameBatch): void;
   finish(received: ReceivedSpan | null): ReviewRunResult;
 } {
   const tracker = setup.cardPoints ? createTestPointTracker(setup.cardPoints) : null;
   tracker?.startFile(setup.fileLabel ?? null);
-  const reviewer = createFlightReviewer(setup.aircraft, setup.margins, tracker ? { dataBreak: tracker.breakHere } : {});
+  const dataBreak =
+    tracker && onBreak
+      ? (brk: DataBreak) => {
+          onBreak(brk);
+          tracker.breakHere();
+        }
+      : tracker
+        ? tracker.breakHere
+        : onBreak;
+  const reviewer = createFlightReviewer(setup.aircraft, setup.margins, dataBreak ? { dataBreak } : {});
   const each = tracker
     ? (rec: MarginRecord) => {
         onRecord?.(rec);

@@ -152,6 +152,10 @@ export const AircraftSchema = z.strictObject(
       })
       .optional(),
     alert_thresholds: ThresholdsSchema.optional(),
+    /** Where a fitted polar and thrust came from (written by `fit --write-airframe`): accepted and ignored. */
+    fitted: z
+      .record(z.string(), z.unknown(), { error: 'must be an object (the record `turnmargin fit` writes)' })
+      .optional(),
   },
   { error: 'must be a JSON object' },
 );

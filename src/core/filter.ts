@@ -35,3 +35,15 @@ export function lowPassStep(
   const gain = 1 - Math.exp(-dtS / tauS);
   return { state: { tS, value: previous.value + gain * (input - previous.value) }, restarted: false };
 }
+
+/**
+ * How far the filter's output trails a ramp in steady state, s, at a constant step Δt: with gain a = 1 − e^(−Δt/τ),
+ * y_k = y_(k−1) + a·(x_k − y_(k−1)) settles at x(t − Δt·(1 − a)/a) (a geometric series). Tends to τ as Δt → 0;
+ * 0 with the filter off.
+ */
+export function lowPassRampDelayS(tauS: number, dtS: number): number {
+  if (!(tauS > 0)) return 0;
+  if (!(dtS > 0)) return tauS;
+  const gain = 1 - Math.exp(-dtS / tauS);
+  return (dtS * (1 - gain)) / gain;
+}

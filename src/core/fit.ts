@@ -9,9 +9,11 @@
  * no frame).
  */
 import type { Aircraft, ThrustModel } from './aircraft.js';
-import { THROTTLE_FULL_MIN, THROTTLE_IDLE_MAX } from './energy.js';
-import { fitLine, fitScale, type Estimate, type LineFit } from './least-squares.js';
+import { specificExcessPowerMps, THROTTLE_FULL_MIN, THROTTLE_IDLE_MAX } from './energy.js';
+import { lowPassRampDelayS } from './filter.js';
+import { fitLine, fitScale, studentTQuantile, type Estimate, type LineFit } from './least-squares.js';
 import { dynamicPressurePa, thrustAvailableN } from './performance.js';
+import type { MarginRecord } from './margin-record.js';
 import { G0_MPS2 } from './units.js';
 
 export type ThrottleRegime = 'idle' | 'full';
@@ -53,7 +55,12 @@ export interface PolarFit {
 export interface ThrustScaleFit {
   scale: Estimate;
   samples: number;
+  /** Which polar gave the drag in T_measured: the fitted one, or the file's (none fitted, or not physical). */
+  polar: 'fitted' | 'file';
 }
+
+/** A polar that can describe an airframe: both coefficients positive (the airframe file requires it). */
+export const isPhysicalPolar = (p: { cd0: Estimate; k: Estimate }): boolean => p.cd0.value > 0 && p.k.value > 0;
 
 export interface FitResult {
   polar: PolarFit | null;
@@ -66,14 +73,17 @@ export interface FitResult {
   idlePoints: Array<[number, number]>;
 }
 
-/** One sample per rate window in each stretch of data, per regime: samples that share no frame. */
+/**
+ * One sample per rate window in each stretch of data, per regime: each kept frame is more than W after the one kept
+ * before it, so their rate windows [t − W, t] share no frame (the engine's rates are slopes over those windows).
+ */
 export function thinSamples(samples: readonly FitSample[], windowS: number): FitSample[] {
   const kept: FitSample[] = [];
   const last = new Map<string, number>();
   for (const s of samples) {
     const key = `${s.flight}:${s.stretch}:${s.regime}`;
     const prev = last.get(key);
-    if (prev === undefined || s.tS - prev >= windowS) {
+    if (prev === undefined || s.tS - prev > windowS) {
       kept.push(s);
       last.set(key, s.tS);
     }
@@ -98,6 +108,10 @@ export function sampleDragN(s: FitSample, thrustN: number): number {
 /** What to fly when the polar cannot be estimated. */
 export const POLAR_ADVICE =
   'fly power-off glides (throttle idle, wings level, steady) at three or more speeds between 1.3 and 2 Vs1, each held at least 10 s';
+
+/** What to fly when the thrust cannot be estimated. */
+export const THRUST_ADVICE =
+  'fly full-throttle level accelerations and steady level turns (throttle at the stop) at several speeds, each held at least 10 s';
 
 export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], windowS: number): FitResult {
   const thinned = thinSamples(samples, windowS);
@@ -129,10 +143,13 @@ export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], wi
   }
 
   // Thrust: T_measured = D_polar(CL) + W·Ps/V with the fitted polar (the file's when not fitted).
-  const cd0 = polar?.cd0.value ?? aircraft.cd0;
-  const k = polar?.k.value ?? aircraft.k;
+  const thrustPolar = polar !== null && isPhysicalPolar(polar) ? polar : null;
+  const cd0 = thrustPolar?.cd0.value ?? aircraft.cd0;
+  const k = thrustPolar?.k.value ?? aircraft.k;
   const modelled: number[] = [];
   const measured: number[] = [];
+  const fullQs: number[] = [];
+  const fullCl2: number[] = [];
   for (const s of full) {
     const tModel = thrustAvailableN(aircraft.thrust, s.tasMps, s.densityKgM3);
     if (tModel === null || !(tModel > 0)) continue;
@@ -140,15 +157,40 @@ export function computeFit(aircraft: Aircraft, samples: readonly FitSample[], wi
     const drag = qS(aircraft, s) * (cd0 + k * cl * cl);
     modelled.push(tModel);
     measured.push(drag + (s.massKg * G0_MPS2 * s.psMps) / s.tasMps);
+    fullQs.push(qS(aircraft, s));
+    fullCl2.push(cl * cl);
   }
   let thrustScale: ThrustScaleFit | null = null;
   let thrustReason: string | null = null;
   if (modelled.length < MIN_THRUST_SAMPLES) {
-    thrustReason = `${modelled.length} independent full-throttle sample${modelled.length === 1 ? '' : 's'} with a known thrust; at least ${MIN_THRUST_SAMPLES} are needed: fly full-throttle level accelerations and steady climbs or turns at several speeds`;
+    thrustReason = `${modelled.length} independent full-throttle sample${modelled.length === 1 ? '' : 's'} with a known thrust; at least ${MIN_THRUST_SAMPLES} are needed: ${THRUST_ADVICE}`;
   } else {
     const fit = fitScale(modelled, measured);
-    if (fit) thrustScale = { scale: fit.scale, samples: fit.samples };
-    else thrustReason = 'the full-throttle samples cannot be fitted';
+    if (fit === null) thrustReason = `the full-throttle samples cannot be fitted: ${THRUST_ADVICE}`;
+    else {
+      let scale = fit.scale;
+      if (thrustPolar !== null) {
+        // The measured thrust leans on the fitted polar: its uncertainty adds to the scale's (delta method,
+        // ∂s/∂CD0 = Σx·qS/Σx², ∂s/∂k = Σx·qS·CL²/Σx², with the covariance of intercept and slope of the line).
+        let sxx = 0;
+        let g0 = 0;
+        let g1 = 0;
+        for (let i = 0; i < modelled.length; i++) {
+          sxx += modelled[i]! * modelled[i]!;
+          g0 += modelled[i]! * fullQs[i]!;
+          g1 += modelled[i]! * fullQs[i]! * fullCl2[i]!;
+        }
+        g0 /= sxx;
+        g1 /= sxx;
+        const line = thrustPolar.line;
+        const covAB = (-line.meanX * line.residualSd * line.residualSd) / line.sxx;
+        const polarVar = g0 * g0 * line.intercept.se ** 2 + g1 * g1 * line.slope.se ** 2 + 2 * g0 * g1 * covAB;
+        const se = Math.sqrt(scale.se * scale.se + Math.max(0, polarVar));
+        const t = studentTQuantile(0.975, Math.min(fit.samples - 1, line.samples - 2));
+        scale = { value: scale.value, se, ci95: [scale.value - t * se, scale.value + t * se] };
+      }
+      thrustScale = { scale, samples: fit.samples, polar: thrustPolar !== null ? 'fitted' : 'file' };
+    }
   }
   return {
     polar,
@@ -236,13 +278,15 @@ export function createHeldMaximum(holdS: number): HeldMaximum {
   };
 }
 
-/** What the collector needs of one accepted frame and its margin record. */
+/** What the collector needs of one margin record (the engine's: smoothed state, rates and breaks are its own). */
 export interface FitFrame {
   tS: number;
   flying: boolean;
   /** The frame's throttle (0…1), or null when it has none. */
   throttle: number | null;
   bankDeg: number | null;
+  /** The engine's rate of the bank over the rate window, °/s (null until the window holds enough frames). */
+  bankRateDps: number | null;
   /** Smoothed TAS and load factor of the record. */
   tasMps: number;
   loadFactor: number;
@@ -250,12 +294,33 @@ export interface FitFrame {
   massKg: number;
   /** Lift coefficient of the record, CL = n·W/(q·S). */
   cl: number | null;
-  /** Specific excess power measured from the rates (null until the rate window is full). */
-  psMps: number | null;
+  /** The engine's rates over [t − W, t]: slopes of the raw TAS and of the altitude (null until defined). */
+  dvdtMps2: number | null;
+  dhdtMps: number | null;
+}
+
+/** The collector's view of a margin record: nothing recomputed, every rate is the engine's. */
+export function fitFrameOf(rec: MarginRecord): FitFrame {
+  return {
+    tS: rec.t_s,
+    flying: rec.flying,
+    throttle: rec.throttle,
+    bankDeg: rec.bank_deg,
+    bankRateDps: rec.bank_rate_dps,
+    tasMps: rec.tas_mps,
+    loadFactor: rec.n_measured,
+    densityKgM3: rec.density_kg_m3,
+    massKg: rec.mass_kg,
+    cl: rec.cl,
+    dvdtMps2: rec.dvdt_mps2,
+    dhdtMps: rec.dhdt_mps,
+  };
 }
 
 export interface FitFrameCounts {
+  /** Accepted frames (margin records) read. */
   total: number;
+  /** Frames meeting every condition for use (see createFitCollector), idle + full. */
   usable: number;
   idle: number;
   full: number;
@@ -264,7 +329,7 @@ export interface FitFrameCounts {
 
 export interface FitCollector {
   push(frame: FitFrame): void;
-  /** A break in the data (gap, link loss, clock restart, end of a file): rates and holds start afresh. */
+  /** A break in the data (the engine's dataBreak: gap, link loss, clock restart, end of a file). */
   breakData(): void;
   /** The next file: a new flight. */
   nextFlight(): void;
@@ -280,60 +345,120 @@ export const MAX_BANK_RATE_DPS = 10;
 /** cl_demonstrated: the lift coefficient must be held this long, s. */
 export const CL_HOLD_S = 0.5;
 
+const regimeOf = (throttle: number | null): ThrottleRegime | null =>
+  throttle === null ? null : throttle >= FULL_THROTTLE ? 'full' : throttle <= IDLE_THROTTLE ? 'idle' : null;
+
+/** A sample's window must hold the load factor within this spread (max − min of the smoothed n), g. */
+export const MAX_LOAD_FACTOR_SPREAD = 0.1;
+
 /**
- * Picks the usable frames: flying, throttle known and full (≥ 0.98) or idle (≤ 0.02), Ps defined (the engine's
- * rates), the bank steady (rate under 10 °/s over the rate window, by the same rate estimator the engine uses), and
- * a whole rate window since the last break (no break inside the window).
+ * Counts the usable frames and keeps the samples the fit uses.
+ *
+ * A frame is **usable** when it is flying, its throttle is known and full (≥ 0.98) or idle (≤ 0.02), the engine's
+ * rates are defined, the bank changes by less than 10 °/s (the engine's bank rate over the rate window; a frame
+ * without a bank angle has nothing to check), and its rate window [t − W, t] lies after the last break.
+ *
+ * A usable frame becomes a **sample** (at most one per rate window and regime, so that no two samples share a frame)
+ * when the whole window is quasi-steady in one regime: every frame of it flying at the same throttle regime (the
+ * rates average the window, and D = T − W·Ps/V needs one known thrust over it) and the load factor within
+ * MAX_LOAD_FACTOR_SPREAD (the drag is evaluated at one CL). A least-squares slope over [t − W, t] is the rate at the
+ * window's middle (exactly so for a quadratic), and a first-order low-pass with time constant τ delays a ramp by τ;
+ * so the state a sample pairs with the rates — V, n, density, mass — is the records' at t − W/2 + the filter's
+ * delay (lowPassRampDelayS: τ, less at coarse frame steps), interpolated, and its Ps
+ * is dh/dt + (V/g0)·dV/dt with that V (the shared energy function). Pairing the rates with the state at t instead
+ * makes every accelerating sample lag by W/2.
+ *
+ * Memory: the frames of one rate window, and the samples (flight time / W).
  */
-export function createFitCollector(
-  rateWindowS: number,
-  bankRate: { push(tS: number, v: number | null): number | null; reset(): void },
-): FitCollector {
+export function createFitCollector(rateWindowS: number, smoothTauS: number): FitCollector {
   const held = createHeldMaximum(CL_HOLD_S);
   const samples: FitSample[] = [];
   const counts: FitFrameCounts = { total: 0, usable: 0, idle: 0, full: 0, withoutThrottle: 0 };
   let flight = 0;
   let stretch = 0;
   let stretchStartS: number | null = null;
-  // One sample kept per rate window and regime (what the fit uses anyway): memory grows with flight time / W only.
+  /** The frames of the present rate window, oldest first (head marks the oldest still inside). */
+  let recent: FitFrame[] = [];
+  let head = 0;
+  /** Since when every frame of this stretch has been flying in the present regime (null: the last was not). */
+  let regimeSinceS: number | null = null;
+  let lastRegime: ThrottleRegime | null = null;
   const lastKeptS: Record<ThrottleRegime, number | null> = { idle: null, full: null };
   const breakData = (): void => {
     stretch += 1;
     stretchStartS = null;
+    recent = [];
+    head = 0;
+    regimeSinceS = null;
+    lastRegime = null;
     lastKeptS.idle = null;
     lastKeptS.full = null;
-    bankRate.reset();
     held.reset();
   };
   return {
     push(f) {
       counts.total += 1;
       stretchStartS ??= f.tS;
-      const bankRateDps = bankRate.push(f.tS, f.bankDeg);
       if (f.throttle === null) counts.withoutThrottle += 1;
+      recent.push(f);
+      while (head < recent.length - 1 && recent[head]!.tS < f.tS - rateWindowS) head++;
+      if (head > 1024) {
+        recent = recent.slice(head);
+        head = 0;
+      }
+      const regime = f.flying ? regimeOf(f.throttle) : null;
+      if (regime === null || regime !== lastRegime) regimeSinceS = regime === null ? null : f.tS;
+      lastRegime = regime;
       if (!f.flying) return;
       if (f.cl !== null) held.push(f.tS, f.cl);
-      if (f.throttle === null || f.psMps === null) return;
-      const regime: ThrottleRegime | null =
-        f.throttle >= FULL_THROTTLE ? 'full' : f.throttle <= IDLE_THROTTLE ? 'idle' : null;
-      if (regime === null) return;
+      if (regime === null || f.dvdtMps2 === null || f.dhdtMps === null) return;
       if (f.tS - stretchStartS < rateWindowS) return;
-      if (f.bankDeg !== null && (bankRateDps === null || Math.abs(bankRateDps) >= MAX_BANK_RATE_DPS)) return;
+      if (f.bankDeg !== null && (f.bankRateDps === null || !(Math.abs(f.bankRateDps) < MAX_BANK_RATE_DPS))) return;
       counts.usable += 1;
       counts[regime] += 1;
+
+      if (regimeSinceS === null || f.tS - regimeSinceS < rateWindowS) return;
       const kept = lastKeptS[regime];
-      if (kept !== null && f.tS - kept < rateWindowS) return;
+      if (kept !== null && !(f.tS - kept > rateWindowS)) return;
+      let nLo = Infinity;
+      let nHi = -Infinity;
+      for (let i = head; i < recent.length; i++) {
+        const n = recent[i]!.loadFactor;
+        if (n < nLo) nLo = n;
+        if (n > nHi) nHi = n;
+      }
+      if (!(nHi - nLo <= MAX_LOAD_FACTOR_SPREAD)) return;
+      // The smoothed state that stands for the middle of the window: the filter's delay after it, interpolated
+      // between the two records around that time.
+      const spacingS = (f.tS - recent[head]!.tS) / Math.max(1, recent.length - 1 - head);
+      const atS = f.tS - rateWindowS / 2 + lowPassRampDelayS(smoothTauS, spacingS);
+      let c = head;
+      while (c + 1 < recent.length - 1 && recent[c + 1]!.tS <= atS) c++;
+      const a = recent[c]!;
+      const b = recent[Math.min(c + 1, recent.length - 1)]!;
+      const w = b.tS > a.tS ? Math.min(1, Math.max(0, (atS - a.tS) / (b.tS - a.tS))) : 0;
+      const lerp = (x: number, y: number): number => x + (y - x) * w;
+      const mid = {
+        tS: lerp(a.tS, b.tS),
+        tasMps: lerp(a.tasMps, b.tasMps),
+        densityKgM3: lerp(a.densityKgM3, b.densityKgM3),
+        massKg: lerp(a.massKg, b.massKg),
+        loadFactor: lerp(a.loadFactor, b.loadFactor),
+      };
+      const psMps = specificExcessPowerMps(f.dhdtMps, mid.tasMps, f.dvdtMps2);
+      if (psMps === null || !Number.isFinite(psMps)) return;
+      if (!(mid.tasMps > 0) || !(mid.densityKgM3 > 0) || !(mid.massKg > 0) || !Number.isFinite(mid.loadFactor)) return;
       lastKeptS[regime] = f.tS;
       samples.push({
         flight,
         stretch,
-        tS: f.tS,
+        tS: mid.tS,
         regime,
-        tasMps: f.tasMps,
-        densityKgM3: f.densityKgM3,
-        massKg: f.massKg,
-        loadFactor: f.loadFactor,
-        psMps: f.psMps,
+        tasMps: mid.tasMps,
+        densityKgM3: mid.densityKgM3,
+        massKg: mid.massKg,
+        loadFactor: mid.loadFactor,
+        psMps,
       });
     },
     breakData,

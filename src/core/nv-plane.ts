@@ -30,7 +30,8 @@ export interface NvLineStyle {
   label: string;
 }
 
-export type NvLineName = 'stall' | 'stallNeg' | 'stallCaution' | 'stallWarning' | 'thrust' | 'structure' | 'vne';
+export type NvLineName =
+  'stall' | 'stallNeg' | 'stallCaution' | 'stallWarning' | 'thrust' | 'structure' | 'vne' | 'sustainedBand';
 
 export const NV_LINES: Record<NvLineName, NvLineStyle> = {
   stall: { tone: 'warning', width: 2.5, dash: '', label: 'stall (CLmax)' },
@@ -40,6 +41,8 @@ export const NV_LINES: Record<NvLineName, NvLineStyle> = {
   thrust: { tone: 'caution', width: 2.5, dash: '12 4', label: 'thrust (sustained turn)' },
   structure: { tone: 'warning', width: 3, dash: '', label: 'structure (n limit)' },
   vne: { tone: 'dim', width: 1.5, dash: '6 3 1 3', label: 'V_NE' },
+  // A record's sustained_band_mps: the speeds at which the turn at the present n can be held, drawn at that n.
+  sustainedBand: { tone: 'ok', width: 3, dash: '1 2', dotEvery: 2, label: 'sustained band at the present n' },
 };
 
 export type MarkerShape = 'circle' | 'triangle' | 'square';

@@ -60,6 +60,30 @@ interface Hold {
   peak: { stall: number | null; thrust: number | null; structure: number | null };
 }
 
+/** How far a record is from a point's targets, and whether each is within its tolerance (the hold rule). */
+export interface PointDeviation {
+  /** |bank| − target bank, deg (either turn direction); null without a bank angle. */
+  bankDeg: number | null;
+  /** TAS − target TAS, m/s (the record's smoothed TAS); null when the TAS is not a number. */
+  tasMps: number | null;
+  bankWithin: boolean;
+  tasWithin: boolean;
+  /** Both within: the record holds the point. */
+  held: boolean;
+}
+
+export function pointDeviation(
+  point: Pick<CardPoint, 'bank_deg' | 'tas_mps' | 'tolerance'>,
+  r: TestPointRecord,
+): PointDeviation {
+  const bank = r.bank_deg;
+  const bankDeg = bank === null || !Number.isFinite(bank) ? null : Math.abs(bank) - point.bank_deg;
+  const tasMps = Number.isFinite(r.tas_mps) ? r.tas_mps - point.tas_mps : null;
+  const bankWithin = bankDeg !== null && Math.abs(bankDeg) <= point.tolerance.bank_deg;
+  const tasWithin = tasMps !== null && Math.abs(tasMps) <= point.tolerance.tas_mps;
+  return { bankDeg, tasMps, bankWithin, tasWithin, held: bankWithin && tasWithin };
+}
+
 const maxOrNull = (a: number | null, b: number | null): number | null =>
   b === null || !Number.isFinite(b) ? a : a === null ? b : Math.max(a, b);
 
@@ -122,6 +146,8 @@ export interface TestPointTracker {
   breakHere(): void;
   /** The result of every point so far, in card order (holds still open count as they stand). */
   results(): TestPointResult[];
+  /** Per point in card order: how long the hold running now has lasted, s, or null when the point is not held now. */
+  openHoldsS(): Array<number | null>;
 }
 
 export function createTestPointTracker(points: readonly CardPoint[]): TestPointTracker {
@@ -147,14 +173,9 @@ export function createTestPointTracker(points: readonly CardPoint[]): TestPointT
       file = name;
     },
     push(r) {
-      const bank = r.bank_deg;
-      const absBank = bank === null || !Number.isFinite(bank) ? null : Math.abs(bank);
+      const absBank = r.bank_deg === null ? 0 : Math.abs(r.bank_deg);
       points.forEach((p, i) => {
-        const held =
-          absBank !== null &&
-          Number.isFinite(r.tas_mps) &&
-          Math.abs(absBank - p.bank_deg) <= p.tolerance.bank_deg &&
-          Math.abs(r.tas_mps - p.tas_mps) <= p.tolerance.tas_mps;
+        const held = pointDeviation(p, r).held;
         const h = open[i];
         if (held) {
           if (h) extendHold(h, r, absBank);
@@ -166,6 +187,7 @@ export function createTestPointTracker(points: readonly CardPoint[]): TestPointT
       });
     },
     breakHere: closeAll,
+    openHoldsS: () => open.map((h) => (h ? holdLength(h) : null)),
     results() {
       return points.map((p, i) => {
         let h = best[i] ?? null;

@@ -112,3 +112,28 @@ export function fitPathTail(path: string, width: number): string {
   if (width <= 1) return '…'.slice(0, width);
   return '…' + chars.slice(chars.length - (width - 1)).join('');
 }
+
+/**
+ * Words wrapped to lines of at most `width` columns (a word longer than a line is cut); at most `maxLines` lines,
+ * the last ending in "…" when text is left over.
+ */
+export function wrapWords(text: string, width: number, maxLines = Infinity): string[] {
+  const lines: string[] = [];
+  let current = '';
+  const len = (s: string) => Array.from(s).length;
+  for (const word of text.split(/\s+/).filter((w) => w !== '')) {
+    const candidate = current === '' ? word : `${current} ${word}`;
+    if (len(candidate) <= width) {
+      current = candidate;
+      continue;
+    }
+    if (current !== '') lines.push(current);
+    current = len(word) <= width ? word : fitText(word, width);
+  }
+  if (current !== '') lines.push(current);
+  if (lines.length <= maxLines) return lines;
+  const kept = lines.slice(0, maxLines);
+  const last = kept[maxLines - 1]!;
+  kept[maxLines - 1] = len(last) < width ? `${last}…` : fitText(last, width);
+  return kept;
+}

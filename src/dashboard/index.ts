@@ -20,6 +20,7 @@ import { buildPlotModel, isMaterialChange, type EnvelopeConditions } from './plo
 import { rasterizePolyline } from './raster.js';
 import { buildScreenModel, type Panel, type ReplayStatus, type ScreenInput } from './screen-model.js';
 import { createTrail } from './trail.js';
+import type { LiveCard } from './live-card.js';
 
 export interface DashboardOptions {
   aircraft: Aircraft;
@@ -28,6 +29,10 @@ export interface DashboardOptions {
   sourceLabel: string;
   /** Present for a replay: the transport keys apply. */
   replay?: { lengthS: number };
+  /** A test card followed live (the caller feeds it records and breaks); n and p step through its points. */
+  card?: LiveCard;
+  /** Notes kept at the top of the event log (e.g. a card made for another airframe). */
+  notices?: readonly string[];
 }
 
 export interface DashboardControls {
@@ -118,6 +123,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
   const readouts = panel();
   const link = panel();
   const events = panel();
+  const cardPanel = panel();
   const keys = blessed.box({ tags: true, wrap: false });
   const caution = blessed.box({ tags: true, wrap: false });
   const tooSmall = blessed.box({ tags: true, wrap: false, hidden: true });
@@ -143,7 +149,9 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       height: Math.max(4, (Number(this.height) - 2) * 4),
     };
   };
-  for (const el of [banner, plot, events, margins, readouts, link, keys, caution, tooSmall, help]) screen.append(el);
+  for (const el of [banner, plot, events, cardPanel, margins, readouts, link, keys, caution, tooSmall, help])
+    screen.append(el);
+  const layoutOptions = { card: options.card !== undefined };
 
   const trail = createTrail();
   const eventsByKey = new Map<string, LimitEvent>();
@@ -158,15 +166,16 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
   let error: string | null = null;
   let bellPending = false;
   let drawn: EnvelopeConditions | null = null;
-  let layout: DashboardLayout = computeLayout(Number(screen.width), Number(screen.height));
+  let layout: DashboardLayout = computeLayout(Number(screen.width), Number(screen.height), layoutOptions);
   let lastRenderMs = 0;
   let pendingRender: NodeJS.Timeout | null = null;
   let destroyed = false;
 
   const applyLayout = (): void => {
-    layout = computeLayout(Number(screen.width), Number(screen.height));
+    layout = computeLayout(Number(screen.width), Number(screen.height), layoutOptions);
     place(banner, layout.banner);
     place(plot, layout.plot);
+    place(cardPanel, layout.card);
     place(events, layout.events);
     place(margins, layout.margins);
     place(readouts, layout.readouts);
@@ -184,6 +193,8 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       if (layout.tooSmall) el.hide();
       else el.show();
     }
+    if (layout.tooSmall || layout.card.height === 0) cardPanel.hide();
+    else cardPanel.show();
     if (layout.tooSmall) tooSmall.show();
     else tooSmall.hide();
     // Rebuild the braille surface at the new size.
@@ -219,7 +230,15 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       trail: trail.points(),
       nowTS: record?.t_s ?? null,
       current: record
-        ? { tasMps: record.tas_mps, n: record.n_measured, level: record.flying ? record.level : 'normal' }
+        ? {
+            tasMps: record.tas_mps,
+            n: record.n_measured,
+            level: record.flying ? record.level : 'normal',
+            sustainedBandMps: record.sustained_band_mps,
+          }
+        : null,
+      target: input.card
+        ? { tasMps: input.card.point.tas_mps, n: input.card.point.load_factor, id: input.card.point.id }
         : null,
       stale,
       units: input.units,
@@ -271,6 +290,8 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       error,
       // Once a frame said it was simulated, the whole session is marked (a simulator never stops saying it).
       simulated: sawSimulated,
+      card: options.card?.view() ?? null,
+      notices: options.notices ?? [],
     };
     const model = buildScreenModel(input, layout);
     banner.setContent(renderLines(model.banner, { color, colors }));
@@ -281,6 +302,7 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
       setPanel(readouts, model.readouts);
       setPanel(link, model.link);
       setPanel(events, model.events);
+      if (model.card) setPanel(cardPanel, model.card);
       plot.setLabel(` ${model.plotTitle} `);
       const plotStyle = plot.style as { border: { fg?: string } };
       plotStyle.border.fg = color && model.stale ? BORDER_COLOR.stale : undefined;
@@ -323,6 +345,8 @@ export function startDashboard(options: DashboardOptions, controls: DashboardCon
     else if (ch === 'm') muted = !muted;
     else if (ch === 'u') units = nextSpeedUnit(units);
     else if (ch === 'c') trail.clear();
+    else if (ch === 'n' && options.card) options.card.step(1);
+    else if (ch === 'p' && options.card) options.card.step(-1);
     else return;
     requestRender();
   };

@@ -20,6 +20,8 @@ export interface DashboardLayout {
   margins: Rect;
   readouts: Rect;
   link: Rect;
+  /** The test point panel (between the plot and the exceedances), 0 rows high without a card. */
+  card: Rect;
   keys: Rect;
   caution: Rect;
   help: Rect;
@@ -29,7 +31,7 @@ export const MIN_COLS = 80;
 export const MIN_ROWS = 24;
 
 // 3 load-factor limits × 2 lines + the speed limit + the assumed inputs + border; on short screens the last two
-// share one line and the readouts give up a line for it.
+// share one line.
 const MARGINS_HEIGHT = 10;
 const MARGINS_HEIGHT_SHORT = 9;
 
@@ -37,7 +39,16 @@ function clamp(value: number, lo: number, hi: number): number {
   return Math.min(hi, Math.max(lo, value));
 }
 
-export function computeLayout(cols: number, rows: number): DashboardLayout {
+export interface LayoutOptions {
+  /** A test card is followed: room for its panel. */
+  card?: boolean;
+}
+
+/** The test point panel: 2 lines inside the border on short screens, 3 from 30 middle rows on. */
+const CARD_HEIGHT = 4;
+const CARD_HEIGHT_TALL = 5;
+
+export function computeLayout(cols: number, rows: number, options: LayoutOptions = {}): DashboardLayout {
   const c = Math.max(1, Math.floor(cols));
   const r = Math.max(1, Math.floor(rows));
   const tooSmall = c < MIN_COLS || r < MIN_ROWS;
@@ -48,8 +59,11 @@ export function computeLayout(cols: number, rows: number): DashboardLayout {
   const leftWidth = Math.max(0, c - rightWidth);
   const eventsHeight = clamp(Math.round(middleHeight * 0.3), 6, 12);
   const marginsHeight = middleHeight >= 23 ? MARGINS_HEIGHT : MARGINS_HEIGHT_SHORT;
-  const readoutsHeight = middleHeight >= 30 ? 11 : marginsHeight === MARGINS_HEIGHT ? 8 : 7;
+  // The readouts hold the energy lines too; on the 80×24 screen the link panel gives up a line for them.
+  const readoutsHeight = middleHeight >= 30 ? 13 : 8;
   const linkHeight = Math.max(0, middleHeight - marginsHeight - readoutsHeight);
+  const cardHeight = options.card ? (middleHeight >= 30 ? CARD_HEIGHT_TALL : CARD_HEIGHT) : 0;
+  const plotHeight = Math.max(0, middleHeight - eventsHeight - cardHeight);
   const helpWidth = Math.min(c, 66);
   const helpHeight = Math.min(r, 22);
   return {
@@ -57,7 +71,8 @@ export function computeLayout(cols: number, rows: number): DashboardLayout {
     rows: r,
     tooSmall,
     banner: { left: 0, top: 0, width: c, height: bannerHeight },
-    plot: { left: 0, top: middleTop, width: leftWidth, height: Math.max(0, middleHeight - eventsHeight) },
+    plot: { left: 0, top: middleTop, width: leftWidth, height: plotHeight },
+    card: { left: 0, top: middleTop + plotHeight, width: leftWidth, height: cardHeight },
     events: { left: 0, top: middleTop + middleHeight - eventsHeight, width: leftWidth, height: eventsHeight },
     margins: { left: leftWidth, top: middleTop, width: rightWidth, height: marginsHeight },
     readouts: { left: leftWidth, top: middleTop + marginsHeight, width: rightWidth, height: readoutsHeight },

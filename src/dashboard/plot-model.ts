@@ -37,7 +37,15 @@ export interface PlotInput {
   trail: readonly TrailPoint[];
   /** Newest data time, s (the trail fades by age from it). */
   nowTS: number | null;
-  current: { tasMps: number; n: number; level: Level } | null;
+  current: {
+    tasMps: number;
+    n: number;
+    level: Level;
+    /** The record's sustained_band_mps: drawn as a segment at max(1, n) from lo to hi. */
+    sustainedBandMps?: readonly [number, number] | null;
+  } | null;
+  /** The test point shown (--card): its target speed and load factor, marked on the plane with its id. */
+  target?: { tasMps: number; n: number; id: string } | null;
   stale: boolean;
   units: SpeedUnit;
   /** Canvas size in cells (inside the border). */
@@ -48,7 +56,7 @@ export interface PlotInput {
 export type Px = readonly [number, number];
 
 export interface Polyline {
-  name: 'stall' | 'stall-caution' | 'thrust' | 'structure' | 'axis' | 'trail-old' | 'trail-new';
+  name: 'stall' | 'stall-caution' | 'thrust' | 'structure' | 'axis' | 'trail-old' | 'trail-new' | 'band';
   tone: Tone;
   /** Every `dotEvery`-th pixel only (a dotted line), or solid when absent. */
   dotEvery?: number;
@@ -247,6 +255,38 @@ export function buildPlotModel(input: PlotInput): PlotModel {
       prev = p;
     }
     flush();
+  }
+
+  const band = input.current?.sustainedBandMps;
+  if (input.current && band && Number.isFinite(band[0]) && Number.isFinite(band[1])) {
+    const nBand = Math.max(1, input.current.n);
+    if (inRange(nBand)) {
+      const { sustainedBand: look } = NV_LINES;
+      const y = py(nBand);
+      model.polylines.push({
+        name: 'band',
+        tone: input.stale ? 'stale' : look.tone,
+        dotEvery: look.dotEvery!,
+        points: [
+          [px(Math.min(band[0], xMaxMps)), y],
+          [px(Math.min(band[1], xMaxMps)), y],
+        ],
+      });
+    }
+  }
+
+  if (input.target && inRange(input.target.n) && input.target.tasMps <= xMaxMps) {
+    // A cell-sized cross with the point's id, where it fits.
+    const col = Math.floor(px(input.target.tasMps) / 2);
+    const row = Math.floor(py(input.target.n) / 4);
+    const label = `+${input.target.id}`;
+    const fits = col + label.length <= input.cols;
+    model.texts.push({
+      col: fits ? col : Math.max(LEFT_CELLS, input.cols - label.length),
+      row,
+      text: label,
+      tone: 'key',
+    });
   }
 
   if (input.current) {

@@ -4,6 +4,7 @@
  * draws what this returns.
  */
 import { alertThreshold } from '../core/alerts.js';
+import { RESIDUAL_ADVISORY_MPS } from '../core/energy-tracker.js';
 import { ASSUMPTION_WORDS } from '../core/assumptions.js';
 import type { EndedBy, LimitEvent } from '../core/events.js';
 import type { ReplayState } from '../sources/source.js';
@@ -27,8 +28,11 @@ import {
   speedFromMps,
   speedUnitLabel,
   type SpeedUnit,
+  wrapWords,
 } from './format-units.js';
-import { innerSize, type DashboardLayout } from './layout.js';
+import { innerSize, type DashboardLayout, type Rect } from './layout.js';
+import type { LiveCardView } from './live-card.js';
+import type { TestPointStatus } from '../core/test-point.js';
 
 /** After this long without a frame the data are marked STALE, s (issue contract; the link health's limit). */
 export { STALE_AFTER_S } from '../sources/link-health.js';
@@ -54,6 +58,10 @@ export interface ScreenInput {
   error: string | null;
   /** The frames say they come from a simulator ("simulated": true). */
   simulated?: boolean;
+  /** A test card followed live (--card): the point shown and every point's status. */
+  card?: LiveCardView | null;
+  /** Notes kept at the top of the event log (a card made for another airframe). */
+  notices?: readonly string[];
 }
 
 export interface Panel {
@@ -70,6 +78,8 @@ export interface ScreenModel {
   readouts: Panel;
   link: Panel;
   events: Panel;
+  /** The test point panel; null without a card. */
+  card: Panel | null;
   plotTitle: string;
   keys: Line;
   caution: Line;
@@ -120,16 +130,19 @@ function buildBannerState(input: ScreenInput, stale: boolean): { tone: Tone; tex
   if (!rec.flying) {
     return { tone: 'banner-idle', text: `NOT FLYING — below half the stall speed, no alerts${suffix}` };
   }
+  const toCaution = shownTimeToStallCautionS(rec);
+  // The prediction takes the place of "closest": at this deceleration the stall caution comes on in t s.
+  const soon = toCaution === null ? '' : ` · stall caution in ${formatFixed(toCaution, 1)} s`;
   if (rec.level === 'normal') {
     const c = closestLimit(rec);
-    const closest = c ? ` · closest: ${c.limit} ${formatPercent(c.utilization)}` : '';
+    const closest = soon !== '' ? soon : c ? ` · closest: ${c.limit} ${formatPercent(c.utilization)}` : '';
     return { tone: 'banner-normal', text: `NORMAL — inside the envelope${closest}${suffix}` };
   }
   const main = rec.alerts.filter((a) => a.level === rec.level).map((a) => describeAlert(rec, a.limit));
   const others = rec.alerts
     .filter((a) => a.level !== rec.level && !rec.alerts.some((b) => b.limit === a.limit && b.level === rec.level))
     .map((a) => `${levelWord(a.level)} ${describeAlert(rec, a.limit)}`);
-  const also = others.length ? ` · also ${others.join(', ')}` : '';
+  const also = (others.length ? ` · also ${others.join(', ')}` : '') + soon;
   const word = levelWord(rec.level);
   const text = rec.level === 'warning' ? `▲ ${word} ▲ ${main.join(', ')}${also}` : `${word} ${main.join(', ')}${also}`;
   return { tone: rec.level === 'warning' ? 'banner-warning' : 'banner-caution', text: text + suffix };
@@ -236,7 +249,13 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
     const pad = Math.max(1, width - used - word.length);
     lines.push(fitLine([...left, seg(' '.repeat(pad)), seg(word, wordTone)], width));
     let suffix = '';
-    if (limit === 'stall' && rec.stall_speed_margin_pct !== null)
+    let suffixTone = valueTone;
+    const toCaution = limit === 'stall' ? shownTimeToStallCautionS(rec) : null;
+    if (toCaution !== null) {
+      // Decelerating towards the stall caution: the time left replaces the speed margin.
+      suffix = `in ${formatFixed(toCaution, 1)} s`;
+      if (!stale) suffixTone = 'caution';
+    } else if (limit === 'stall' && rec.stall_speed_margin_pct !== null)
       suffix = `V ${formatSigned(rec.stall_speed_margin_pct, 0)} %`;
     const bar = buildUtilizationBar({
       utilization: limit === 'thrust' && rec.n_thrust === 0 ? Infinity : u,
@@ -244,7 +263,7 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
       warningAt,
       width: barWidth,
     });
-    lines.push(fitLine([seg('  '), ...bar, seg(' '), seg(suffix.padStart(suffixWidth - 1), valueTone)], width));
+    lines.push(fitLine([seg('  '), ...bar, seg(' '), seg(suffix.padStart(suffixWidth - 1), suffixTone)], width));
   }
   lines.push(...speedAndAssumedLines(input, stale, width, height < 8));
   return lines;
@@ -261,6 +280,43 @@ function deg(value: number | null, decimals = 1): string {
   return value === null ? '—' : `${formatFixed(value, decimals)}°`;
 }
 
+/** The time to the stall caution is shown below this, s (issue contract). */
+export const TIME_TO_STALL_SHOWN_S = 10;
+
+/** The time to the stall caution when it is to be shown (0 < t < 10 s), else null. */
+export function shownTimeToStallCautionS(rec: MarginRecord): number | null {
+  const t = rec.time_to_stall_caution_s;
+  return t !== null && Number.isFinite(t) && t > 0 && t < TIME_TO_STALL_SHOWN_S ? t : null;
+}
+
+/** The model check in plain words, when the residual's 3 s mean is beyond ±RESIDUAL_ADVISORY_MPS; else null. */
+export function modelAdvisory(rec: MarginRecord): { meanMps: number; text: string } | null {
+  const mean = rec.ps_residual_mean_3s_mps;
+  if (mean === null || !Number.isFinite(mean) || Math.abs(mean) <= RESIDUAL_ADVISORY_MPS) return null;
+  return {
+    meanMps: mean,
+    text:
+      mean > 0
+        ? 'climbing/accelerating more than the model predicts: the thrust margin may be pessimistic'
+        : 'climbing/accelerating less than the model predicts: the thrust margin may be optimistic',
+  };
+}
+
+function psText(value: number | null): string {
+  return value === null || !Number.isFinite(value) ? '—' : `${formatSigned(value, 2)} m/s`;
+}
+
+/** "14.2–24.1 m/s", or a dash when no speed can hold the turn at the present n. */
+export function formatBand(band: readonly [number, number] | null, unit: SpeedUnit): string {
+  if (band === null || !Number.isFinite(band[0]) || !Number.isFinite(band[1])) return '—';
+  const d = unit === 'kmh' ? 0 : 1;
+  return `${formatFixed(speedFromMps(band[0], unit), d)}–${formatFixed(speedFromMps(band[1], unit), d)} ${speedUnitLabel(unit)}`;
+}
+
+/**
+ * The readouts, most needed first. Where the panel is short (the 80×24 screen) altitude and bank share a line and
+ * the energy lines (Ps measured and modelled, the sustained band) take the place of the density and the turn rate.
+ */
 export function buildReadoutLines(input: ScreenInput, stale: boolean, width: number, height: number): Line[] {
   const rec = input.record;
   const lines: Line[] = [];
@@ -277,24 +333,20 @@ export function buildReadoutLines(input: ScreenInput, stale: boolean, width: num
   }
   const u = input.units;
   const cas = (rec as MarginRecord & { cas_mps?: number | null }).cas_mps;
+  const compact = height < 7;
   lines.push(
     cas === undefined
       ? pair('TAS  ', formatSpeed(rec.tas_mps, u), 'EAS  ', formatSpeed(rec.eas_mps, u), t, width)
       : pair('TAS  ', formatSpeed(rec.tas_mps, u), 'CAS  ', formatSpeed(cas, u), t, width),
   );
-  lines.push(
-    pair('alt  ', `${formatFixed(rec.alt_m, 0)} m`, 'ρ    ', `${formatFixed(rec.density_kg_m3, 3)} kg/m³`, t, width),
-  );
-  lines.push(
-    pair(
-      'bank ',
-      deg(rec.bank_deg),
-      'rate ',
-      rec.turn_rate_dps === null ? '—' : `${formatFixed(rec.turn_rate_dps, 1)} °/s`,
-      t,
-      width,
-    ),
-  );
+  const turnRate = rec.turn_rate_dps === null ? '—' : `${formatFixed(rec.turn_rate_dps, 1)} °/s`;
+  const density = `${formatFixed(rec.density_kg_m3, 3)} kg/m³`;
+  if (compact) {
+    lines.push(pair('alt  ', `${formatFixed(rec.alt_m, 0)} m`, 'bank ', deg(rec.bank_deg), t, width));
+  } else {
+    lines.push(pair('alt  ', `${formatFixed(rec.alt_m, 0)} m`, 'ρ    ', density, t, width));
+    lines.push(pair('bank ', deg(rec.bank_deg), 'rate ', turnRate, t, width));
+  }
   const nBank = rec.n_from_bank === null ? '—' : formatFixed(rec.n_from_bank, 2);
   const nLine: Line = [
     seg('n    ', 'dim'),
@@ -309,6 +361,26 @@ export function buildReadoutLines(input: ScreenInput, stale: boolean, width: num
     nLine.push(seg(word, stale ? 'stale' : rec.uncoordinated ? 'caution' : 'ok'));
   }
   lines.push(fitLine(nLine, width));
+  // Energy: Ps = dh/dt + (V/g)·dV/dt measured, V·(T − D)/W modelled (at full throttle or idle only).
+  lines.push(pair('Ps   ', psText(rec.ps_mps), 'model ', psText(rec.ps_model_mps), t, width));
+  const bandLine: Line = [
+    seg('band ', 'dim'),
+    seg(formatBand(rec.sustained_band_mps, u), t),
+    seg(` at n ${formatFixed(Math.max(1, rec.n_measured), 2)}`, 'dim'),
+  ];
+  const toCaution = shownTimeToStallCautionS(rec);
+  const timeWords = toCaution === null ? null : `stall caution in ${formatFixed(toCaution, 1)} s`;
+  if (timeWords !== null && lineWidth(bandLine) + 2 + timeWords.length <= width) {
+    bandLine.push(
+      seg(' '.repeat(width - lineWidth(bandLine) - timeWords.length)),
+      seg(timeWords, stale ? 'stale' : 'caution'),
+    );
+  } else if (timeWords !== null && !compact) {
+    lines.push(fitLine(bandLine, width));
+    bandLine.length = 0;
+    bandLine.push(seg(timeWords, stale ? 'stale' : 'caution'));
+  }
+  lines.push(fitLine(bandLine, width));
   const stallCas = stallSpeedCasMps(rec);
   lines.push(
     fitLine(
@@ -322,6 +394,7 @@ export function buildReadoutLines(input: ScreenInput, stale: boolean, width: num
       width,
     ),
   );
+  if (compact) lines.push(pair('ρ    ', density, 'rate ', turnRate, t, width));
   lines.push(pair('bank limit ', deg(rec.bank_limit_deg, 0), 'sustained ', deg(rec.bank_sustained_deg, 0), t, width));
   lines.push(
     pair(
@@ -398,19 +471,6 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
         fitLine([seg('why ', 'dim'), seg(link.stateDetail, link.state === 'lost' ? 'caution' : 'dim')], width),
       );
     }
-    if (link.recordingError) {
-      lines.push(fitLine([seg('REC ERROR ', 'warning'), seg(link.recordingError, 'warning')], width));
-    } else if (link.recordingFile) {
-      const size = ` ${formatBytes(link.recordingBytes)}`;
-      lines.push(
-        fitLine(
-          [seg('rec ', 'dim'), seg(fitPathTail(link.recordingFile, Math.max(4, width - 4 - size.length))), seg(size)],
-          width,
-        ),
-      );
-    } else {
-      lines.push(fitLine([seg('rec ', 'dim'), seg('not recording', 'dim')], width));
-    }
   }
   if (input.isReplay) {
     const r = input.replay;
@@ -428,6 +488,21 @@ export function buildLinkLines(input: ScreenInput, stale: boolean, width: number
           width,
         ),
       );
+    }
+  }
+  if (link !== null) {
+    if (link.recordingError) {
+      lines.push(fitLine([seg('REC ERROR ', 'warning'), seg(link.recordingError, 'warning')], width));
+    } else if (link.recordingFile) {
+      const size = ` ${formatBytes(link.recordingBytes)}`;
+      lines.push(
+        fitLine(
+          [seg('rec ', 'dim'), seg(fitPathTail(link.recordingFile, Math.max(4, width - 4 - size.length))), seg(size)],
+          width,
+        ),
+      );
+    } else {
+      lines.push(fitLine([seg('rec ', 'dim'), seg('not recording', 'dim')], width));
     }
   }
   if (link !== null) {
@@ -496,25 +571,35 @@ const SHORT_LIMIT: Record<string, string> = { structure: 'STRUCT' };
 export function buildEventLines(input: ScreenInput, width: number, height: number): Line[] {
   const lines: Line[] = [];
   if (input.error) lines.push(fitLine([seg('ERROR ', 'warning'), seg(input.error, 'warning')], width));
+  const advisory = input.record ? modelAdvisory(input.record) : null;
+  if (advisory) {
+    const words = `MODEL ${advisory.text} (3 s mean ${formatSigned(advisory.meanMps, 2)} m/s)`;
+    for (const part of wrapWords(words, width, 3)) lines.push(fitLine([seg(part, 'caution')], width));
+  }
+  for (const note of input.notices ?? []) {
+    for (const part of wrapWords(`NOTE ${note}`, width, 2)) lines.push(fitLine([seg(part, 'caution')], width));
+  }
   if (input.events.length === 0) {
     lines.push(fitLine([seg('no exceedances so far', 'dim')], width));
     return lines.slice(0, Math.max(0, height));
   }
   const narrow = width < NARROW_EVENTS_WIDTH;
   const unit = speedUnitLabel(input.units);
-  lines.push(
-    fitLine(
-      [
-        seg(
-          narrow
-            ? `start limit  lvl    dur peak ${unit.padStart(4)} ended`
-            : `  start limit     level   duration peak   at TAS    ended`,
-          'dim',
-        ),
-      ],
-      width,
-    ),
-  );
+  // The column heads only where at least one event fits under them.
+  if (height - lines.length >= 2)
+    lines.push(
+      fitLine(
+        [
+          seg(
+            narrow
+              ? `start limit  lvl    dur peak ${unit.padStart(4)} ended`
+              : `  start limit     level   duration peak   at TAS    ended`,
+            'dim',
+          ),
+        ],
+        width,
+      ),
+    );
   const newestFirst = [...input.events].sort((a, b) => b.start_s - a.start_s || (a.level === 'warning' ? -1 : 1));
   for (const ev of newestFirst) {
     if (lines.length >= height) break;
@@ -579,6 +664,7 @@ interface KeyHelp {
   short: string;
   long: string;
   replayOnly?: boolean;
+  cardOnly?: boolean;
 }
 
 export const KEY_HELP: readonly KeyHelp[] = [
@@ -587,17 +673,21 @@ export const KEY_HELP: readonly KeyHelp[] = [
   { keys: 'space', short: 'pause', long: 'pause or resume the replay', replayOnly: true },
   { keys: '+ −', short: 'speed', long: 'replay speed ×2 / ÷2', replayOnly: true },
   { keys: '← →', short: 'seek', long: 'seek back / forward 10 s', replayOnly: true },
+  { keys: 'n p', short: 'point', long: 'next / previous test point (+P01 on the plane)', cardOnly: true },
   { keys: 'm', short: 'mute', long: 'mute or unmute the bell on a new warning' },
   { keys: 'u', short: 'units', long: 'speed units: m/s → kt → km/h' },
   { keys: 'c', short: 'clear', long: 'clear the trail on the n–V plane' },
 ];
 
+/** The keys that apply, as many whole entries as fit (? lists them all). */
 export function buildKeysLine(input: ScreenInput, width: number): Line {
   const line: Line = [];
   for (const k of KEY_HELP) {
     if (k.replayOnly && !input.isReplay) continue;
-    if (line.length) line.push(seg('  '));
-    line.push(seg(k.keys, 'key'), seg(` ${k.short}`));
+    if (k.cardOnly && !input.card) continue;
+    const entry = [...(line.length ? [seg('  ')] : []), seg(k.keys, 'key'), seg(` ${k.short}`)];
+    if (lineWidth([...line, ...entry]) > width) continue;
+    line.push(...entry);
   }
   return fitLine(line, width);
 }
@@ -605,7 +695,8 @@ export function buildKeysLine(input: ScreenInput, width: number): Line {
 export function buildHelpLines(input: ScreenInput, width: number): Line[] {
   const lines: Line[] = [seg('Keys', 'heading')].map((s) => [s]);
   for (const k of KEY_HELP) {
-    const note = k.replayOnly && !input.isReplay ? '  (replay only)' : '';
+    const note =
+      k.replayOnly && !input.isReplay ? '  (replay only)' : k.cardOnly && !input.card ? '  (with --card)' : '';
     lines.push([seg(`  ${k.keys.padEnd(7)}`, 'key'), seg(k.long), seg(note, 'dim')]);
   }
   lines.push([]);
@@ -615,7 +706,7 @@ export function buildHelpLines(input: ScreenInput, width: number): Line[] {
   lines.push([seg('  n limit ', 'warning'), seg('structural limit load factor')]);
   lines.push([seg('  ◀ now   ', 'ok'), seg('present point; trail: last 10 s (older dimmer)')]);
   lines.push([seg('  STALE   ', 'stale'), seg('no frame for over 1 s: point and numbers are old')]);
-  lines.push([]);
+  lines.push([seg('  band    ', 'ok'), seg('dotted at the present n: the speeds that can hold the turn')]);
   lines.push([seg('Press ? or Esc to close.', 'dim')]);
   return lines.map((l) => fitLine(l, width));
 }
@@ -666,6 +757,7 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
       tone: input.events.some((e) => e.open && e.level === 'warning') ? 'warning' : 'plain',
       lines: buildEventLines(input, eventsInner.width, eventsInner.height),
     },
+    card: input.card && layout.card.height > 0 ? buildCardPanel(input, input.card, stale, layout.card) : null,
     plotTitle: fitTitle(`n–V plane${staleTitle} · ${input.aircraftName}`, layout.plot.width),
     keys: buildKeysLine(input, layout.keys.width),
     caution: fitLine([seg(CAUTION_TEXT, 'dim')], layout.caution.width),
@@ -677,5 +769,127 @@ export function buildScreenModel(input: ScreenInput, layout: DashboardLayout): S
           [seg('q quits.', 'dim')],
         ]
       : null,
+  };
+}
+
+const STATUS_MARK: Record<TestPointStatus, string> = { achieved: '✓', partial: '~', not_flown: '·' };
+
+/** "−0.9°", "+0.4 m/s": a deviation with its sign; a dash when unknown. */
+function signedWithUnit(value: number | null, decimals: number, unit: string): string {
+  return value === null ? '—' : `${formatSigned(value, decimals)}${unit}`;
+}
+
+/**
+ * The test point panel: the point shown (the next not yet achieved, or the one stepped to with n/p), its targets
+ * with the present deviation from each, the hold timer, and a mark per point of the card (✓ achieved, ~ partly
+ * held, · not yet).
+ */
+export function buildCardPanel(input: ScreenInput, view: LiveCardView, stale: boolean, rect: Rect): Panel {
+  const { width, height } = innerSize(rect);
+  const p = view.point;
+  const u = input.units;
+  const dev = view.deviation;
+  const devTone = (within: boolean | undefined): Tone =>
+    stale ? 'stale' : dev === null ? 'dim' : within ? 'ok' : 'caution';
+  const bankDev = signedWithUnit(dev?.bankDeg ?? null, 1, '°');
+  const tasDev =
+    dev?.tasMps === null || dev === null
+      ? '—'
+      : `${formatSigned(speedFromMps(dev.tasMps, u), u === 'kmh' ? 0 : 1)} ${speedUnitLabel(u)}`;
+  const targetBank = `${formatFixed(p.bank_deg, 1)}°`;
+  const targetTas = formatSpeed(p.tas_mps, u);
+
+  let hold: Line;
+  if (view.holdNowS !== null) {
+    hold = [
+      seg(
+        `held ${formatFixed(view.holdNowS, 1)} of ${formatFixed(p.hold_s, 1)} s`,
+        view.status === 'achieved' ? 'ok' : stale ? 'stale' : 'plain',
+      ),
+    ];
+    if (view.status === 'achieved') hold.push(seg(' ACHIEVED', 'ok'));
+  } else if (view.status === 'achieved') {
+    hold = [seg('ACHIEVED', 'ok'), seg(` · held ${formatFixed(view.longestHoldS, 1)} s`, 'dim')];
+  } else if (view.status === 'partial') {
+    hold = [
+      seg('not held', 'caution'),
+      seg(` · best ${formatFixed(view.longestHoldS, 1)} of ${formatFixed(p.hold_s, 1)} s`, 'dim'),
+    ];
+  } else {
+    hold = [seg('not held', 'caution'), seg(` · hold ${formatFixed(p.hold_s, 1)} s`, 'dim')];
+  }
+  const marks: Line = [seg(' ')];
+  view.statuses.forEach((st, i) => {
+    marks.push(
+      seg(i === view.selected ? '▸' : '', 'key'),
+      seg(STATUS_MARK[st], st === 'achieved' ? 'ok' : st === 'partial' ? 'caution' : 'dim'),
+    );
+  });
+  const holdLine =
+    lineWidth(hold) + lineWidth(marks) + 1 <= width
+      ? [...hold, seg(' '.repeat(width - lineWidth(hold) - lineWidth(marks))), ...marks]
+      : hold;
+
+  const lines: Line[] = [];
+  if (height >= 3) {
+    lines.push(
+      fitLine(
+        [
+          seg('bank ', 'dim'),
+          seg(targetBank.padEnd(7), 'heading'),
+          seg(`±${formatFixed(p.tolerance.bank_deg, 1)}°`.padEnd(7), 'dim'),
+          seg('now ', 'dim'),
+          seg(
+            deg(dev === null || dev.bankDeg === null ? null : dev.bankDeg + p.bank_deg).padEnd(7),
+            stale ? 'stale' : 'plain',
+          ),
+          seg('Δ ', 'dim'),
+          seg(bankDev, devTone(dev?.bankWithin)),
+        ],
+        width,
+      ),
+    );
+    lines.push(
+      fitLine(
+        [
+          seg('TAS  ', 'dim'),
+          seg(targetTas.padEnd(10), 'heading'),
+          seg(`±${formatSpeed(p.tolerance.tas_mps, u)}`.padEnd(11), 'dim'),
+          seg('Δ ', 'dim'),
+          seg(tasDev, devTone(dev?.tasWithin)),
+        ],
+        width,
+      ),
+    );
+  } else {
+    // One line: the unit of the speeds once, at the end.
+    const tasDevShort =
+      dev === null || dev.tasMps === null ? '—' : formatSigned(speedFromMps(dev.tasMps, u), u === 'kmh' ? 0 : 1);
+    lines.push(
+      fitLine(
+        [
+          seg('bank ', 'dim'),
+          seg(targetBank, 'heading'),
+          seg(' Δ ', 'dim'),
+          seg(bankDev, devTone(dev?.bankWithin)),
+          seg(' · TAS ', 'dim'),
+          seg(formatFixed(speedFromMps(p.tas_mps, u), u === 'kmh' ? 0 : 1), 'heading'),
+          seg(' Δ ', 'dim'),
+          seg(tasDevShort, devTone(dev?.tasWithin)),
+          seg(` ${speedUnitLabel(u)}`, 'dim'),
+        ],
+        width,
+      ),
+    );
+  }
+  lines.push(fitLine(holdLine, width));
+  const title =
+    view.achievedCount === view.total
+      ? `Test points: all ${view.total} achieved · ${p.id} shown`
+      : `Test point ${p.id} · ${view.achievedCount}/${view.total} achieved`;
+  return {
+    title: fitTitle(title, rect.width),
+    tone: stale ? 'stale' : 'plain',
+    lines: lines.slice(0, Math.max(0, height)),
   };
 }

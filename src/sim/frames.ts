@@ -1,6 +1,6 @@
 /**
  * Simulated samples as telemetry frames (the wire keys of the frame format), with seeded measurement noise on
- * nz and on the airspeed. Pure and deterministic: the same samples and seed give the same frames.
+ * nz, on the airspeed and (when the plan asks) on the altitude. Pure and deterministic: the same samples and seed give the same frames.
  */
 import type { Aircraft } from '../core/aircraft.js';
 import { interpolateTable } from '../core/airspeed.js';
@@ -55,6 +55,9 @@ export function createFrameWriter(
   options: FrameWriterOptions,
 ): (s: SimSample) => SimFrame {
   const gaussian = createGaussian(options.seed);
+  // The altitude noise has a stream of its own, so that adding it leaves the airspeed and nz noise of a seed as they
+  // were (files made before it stay reproducible).
+  const altitudeGaussian = createGaussian((options.seed ^ 0x9e3779b9) >>> 0);
   const casToIas = plan.airspeedKey === 'ias_mps' ? invertCalibration(aircraft.airspeedCalibration) : [];
   if (casToIas === null) {
     throw new RangeError(
@@ -65,6 +68,7 @@ export function createFrameWriter(
     // Draw both noises on every frame, so the sequence does not depend on the noise levels being zero.
     const airspeedNoise = gaussian() * plan.airspeedNoiseSdMps;
     const nzNoise = gaussian() * plan.nzNoiseSd;
+    const altNoise = altitudeGaussian() * plan.altNoiseSdM;
     const tasMps = Math.max(0, s.tasMps + airspeedNoise);
     let airspeed = tasMps;
     if (plan.airspeedKey !== 'tas_mps') {
@@ -74,7 +78,7 @@ export function createFrameWriter(
     const frame: SimFrame = {
       t_s: round(s.tS, 4),
       [plan.airspeedKey]: round(Math.max(0, airspeed), 3),
-      alt_m: round(s.altM, 2),
+      alt_m: round(s.altM + altNoise, 2),
       bank_deg: round(s.bankDeg, 2),
       nz: round(s.loadFactor + nzNoise, 4),
     };

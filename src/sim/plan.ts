@@ -151,8 +151,9 @@ export const FlightPlanSchema = z.strictObject(
         {
           nz_sd: between(0, 2).optional(),
           airspeed_sd_mps: between(0, 10).optional(),
+          alt_sd_m: between(0, 10).optional(),
         },
-        { error: 'must be an object {nz_sd, airspeed_sd_mps}' },
+        { error: 'must be an object {nz_sd, airspeed_sd_mps, alt_sd_m}' },
       )
       .optional(),
     segments: z
@@ -200,12 +201,15 @@ export interface FlightPlan {
   rollRateDps: number;
   nzNoiseSd: number;
   airspeedNoiseSdMps: number;
+  /** Standard deviation of the noise on alt_m, m (default 0: an altitude from a smoothed navigation solution). */
+  altNoiseSdM: number;
   segments: PlanSegment[];
 }
 
 export const DEFAULT_ROLL_RATE_DPS = 45;
 export const DEFAULT_NZ_NOISE_SD = 0.02;
 export const DEFAULT_AIRSPEED_NOISE_SD_MPS = 0.15;
+export const DEFAULT_ALT_NOISE_SD_M = 0;
 
 function toSegment(s: SegmentJson, index: number): PlanSegment {
   const label = s.label ?? `${index + 1}:${s.type}`;
@@ -250,6 +254,7 @@ export function toFlightPlan(json: FlightPlanJson, fallbackName: string): Flight
     rollRateDps: json.roll_rate_dps ?? DEFAULT_ROLL_RATE_DPS,
     nzNoiseSd: json.noise?.nz_sd ?? DEFAULT_NZ_NOISE_SD,
     airspeedNoiseSdMps: json.noise?.airspeed_sd_mps ?? DEFAULT_AIRSPEED_NOISE_SD_MPS,
+    altNoiseSdM: json.noise?.alt_sd_m ?? DEFAULT_ALT_NOISE_SD_M,
     segments: json.segments.map(toSegment),
   };
   if (json.description !== undefined) plan.description = json.description;

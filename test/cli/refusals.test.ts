@@ -220,7 +220,7 @@ describe('a tidier command line', () => {
   it('turnmargin --help lists the commands one line each, the options stay in each command --help', async () => {
     const r = await runCli(['--help']);
     expect(r.code).toBe(0);
-    const commands = ['envelope', 'watch', 'replay', 'review', 'check', 'serve', 'simulate', 'demo'];
+    const commands = ['envelope', 'watch', 'replay', 'review', 'fit', 'check', 'serve', 'card', 'simulate', 'demo'];
     for (const c of commands) expect(r.stdout.match(new RegExp(`^  ${c} +\\S`, 'gm'))?.length, c).toBe(1);
     expect(r.stdout).not.toContain('--aircraft');
     expect(r.stdout).toContain('turnmargin <command> --help');

@@ -90,13 +90,18 @@ describe('turnmargin simulate', () => {
     for (const line of lines) expect(parseFrameLine(line).ok).toBe(true);
   });
 
-  for (const name of ['demo-flight', 'turn-card']) {
+  // The fit example is flown by its own (invented) "as flown" airframe: fit is to find it from the flight.
+  for (const [name, aircraftPath] of [
+    ['demo-flight', DEMO_AIRFRAME_PATH],
+    ['turn-card', DEMO_AIRFRAME_PATH],
+    ['fit-flight', join(REPO_ROOT, 'replays/plans/fit-flight-airframe.json')],
+  ] as const) {
     it(`regenerates exactly the committed ${name}.ndjson from its plan (replays/README.md)`, async () => {
       const planPath = join(REPO_ROOT, `replays/plans/${name}.json`);
       const r = await runCli([
         'simulate',
         '--aircraft',
-        DEMO_AIRFRAME_PATH,
+        aircraftPath,
         '--plan',
         planPath,
         '--rate',

@@ -106,6 +106,18 @@ describe('the airframe file', () => {
     }
   });
 
+  it('accepts the "fitted" record that fit --write-airframe adds, without a warning, and ignores it', () => {
+    const fitted = { data_date: '2026-05-04', files: ['flight.ndjson'], polar: { cd0: { value: 0.031 } } };
+    const result = parseAircraft({ ...exampleAirframeJson(), fitted }, 'airframe.json');
+    const plain = parseAircraft(exampleAirframeJson(), 'airframe.json');
+    expect(result.ok && plain.ok).toBe(true);
+    if (result.ok && plain.ok) {
+      expect(result.warnings).toEqual([]);
+      expect(result.value).toEqual(plain.value);
+    }
+    expect(problemsFor({ ...exampleAirframeJson(), fitted: 'yes' })[0]).toMatch(/fitted must be an object/);
+  });
+
   it('names a misspelt key beside the problem it causes', () => {
     const { mass_kg: _omitted, ...rest } = exampleAirframeJson() as Record<string, unknown>;
     const problems = problemsFor({ ...rest, mass_kgs: 3.2 });

@@ -3,27 +3,10 @@
  * the dashboard must draw no text in black there (SGR 30), in any state the replay goes through.
  */
 import { afterEach, describe, expect, it } from 'vitest';
-import { POLL, ROOT, quitAndCheckRestored, runInPty, type PtyScreen } from './pty-screen.js';
+import { POLL, ROOT, foregroundCodes, quitAndCheckRestored, runInPty, type PtyScreen } from './pty-screen.js';
 
 let running: PtyScreen | undefined;
 afterEach(() => running?.kill());
-
-/** Foreground colours set by SGR sequences, skipping the 256/true-colour forms (38;5;n, 38;2;r;g;b). */
-function foregroundCodes(raw: string): number[] {
-  const found: number[] = [];
-  for (const m of raw.matchAll(/\x1b\[([0-9;]*)m/g)) {
-    const params = m[1]!.split(';').map((p) => (p === '' ? 0 : Number(p)));
-    for (let i = 0; i < params.length; i++) {
-      const p = params[i]!;
-      if (p === 38 || p === 48) {
-        i += params[i + 1] === 5 ? 2 : 4;
-        continue;
-      }
-      if ((p >= 30 && p <= 37) || (p >= 90 && p <= 97)) found.push(p);
-    }
-  }
-  return found;
-}
 
 describe('the dashboard on an 8-colour terminal', () => {
   it('draws no text in black through normal, warning and stale states', async () => {

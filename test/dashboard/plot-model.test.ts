@@ -226,8 +226,68 @@ describe('layout', () => {
     });
   }
 
+  for (const [cols, rows] of [
+    [MIN_COLS, MIN_ROWS],
+    [100, 30],
+    [120, 40],
+  ] as const) {
+    it(`puts the test point panel between the plot and the exceedances at ${cols}×${rows}, still tiling the screen`, () => {
+      const plain = computeLayout(cols, rows);
+      const l = computeLayout(cols, rows, { card: true });
+      const panels = [l.banner, l.plot, l.card, l.events, l.margins, l.readouts, l.link, l.keys, l.caution];
+      let area = 0;
+      for (const [i, a] of panels.entries()) {
+        expect(a.height).toBeGreaterThanOrEqual(1);
+        area += a.width * a.height;
+        for (const b of panels.slice(i + 1)) expect(overlaps(a, b)).toBe(false);
+      }
+      expect(area).toBe(cols * rows);
+      expect(l.card.top).toBe(l.plot.top + l.plot.height);
+      expect(l.events.top).toBe(l.card.top + l.card.height);
+      expect(l.card.height).toBeGreaterThanOrEqual(4); // two lines inside the border at least
+      expect(l.events).toEqual(plain.events); // the exceedance list keeps its size; the plot gives the rows
+      expect(l.margins).toEqual(plain.margins);
+      expect(plain.card.height).toBe(0);
+    });
+  }
+
   it('is too small below 80×24', () => {
     expect(computeLayout(79, 24).tooSmall).toBe(true);
     expect(computeLayout(80, 23).tooSmall).toBe(true);
+  });
+});
+
+describe('the sustained band and the test point on the plane', () => {
+  it('draws the band as a dotted horizontal segment at the present n, from its low to its high speed', () => {
+    const m = plot({ current: { tasMps: 16, n: 1.41, level: 'normal', sustainedBandMps: [11.2, 21.7] } });
+    const band = m.polylines.find((l) => l.name === 'band')!;
+    expect(band.tone).toBe('ok');
+    expect(band.dotEvery).toBeGreaterThan(1); // dotted: told apart from the solid n limit without colour
+    const x = (v: number) => m.area.left + ((v - m.xMinMps) / (m.xMaxMps - m.xMinMps)) * (m.area.width - 1);
+    const y = m.area.top + (1 - (1.41 - m.yMin) / (m.yMax - m.yMin)) * (m.area.height - 1);
+    expect(band.points).toEqual([
+      [Math.round(x(11.2)), Math.round(y)],
+      [Math.round(x(21.7)), Math.round(y)],
+    ]);
+  });
+
+  it('draws the band at n = 1 below level flight (the band is for max(1, n)), and none without a band', () => {
+    const low = plot({ current: { tasMps: 16, n: 0.6, level: 'normal', sustainedBandMps: [9, 22] } });
+    const one = plot({ current: { tasMps: 16, n: 1, level: 'normal', sustainedBandMps: [9, 22] } });
+    expect(low.polylines.find((l) => l.name === 'band')!.points).toEqual(
+      one.polylines.find((l) => l.name === 'band')!.points,
+    );
+    expect(
+      plot({ current: { tasMps: 16, n: 3, level: 'normal', sustainedBandMps: null } }).polylines,
+    ).not.toContainEqual(expect.objectContaining({ name: 'band' }));
+  });
+
+  it('marks the test point shown with its id at its target speed and load factor', () => {
+    const m = plot({ target: { tasMps: 20, n: Math.SQRT2, id: 'P02' } });
+    const label = m.texts.find((t) => t.text === '+P02')!;
+    const x = m.area.left + ((20 - m.xMinMps) / (m.xMaxMps - m.xMinMps)) * (m.area.width - 1);
+    const y = m.area.top + (1 - (Math.SQRT2 - m.yMin) / (m.yMax - m.yMin)) * (m.area.height - 1);
+    expect(label.col).toBe(Math.floor(Math.round(x) / 2));
+    expect(label.row).toBe(Math.floor(Math.round(y) / 4));
   });
 });

@@ -145,3 +145,20 @@ export async function quitAndCheckRestored(screen: PtyScreen, key: 'q' | 'ctrl-c
 export function bellCount(raw: string): number {
   return raw.replace(/\x1b\][^\x07\x1b]*(?:\x07|\x1b\\)/g, '').split('\x07').length - 1;
 }
+
+/** Foreground colours set by SGR sequences, skipping the 256/true-colour forms (38;5;n, 38;2;r;g;b). */
+export function foregroundCodes(raw: string): number[] {
+  const found: number[] = [];
+  for (const m of raw.matchAll(/\x1b\[([0-9;]*)m/g)) {
+    const params = m[1]!.split(';').map((p) => (p === '' ? 0 : Number(p)));
+    for (let i = 0; i < params.length; i++) {
+      const p = params[i]!;
+      if (p === 38 || p === 48) {
+        i += params[i + 1] === 5 ? 2 : 4;
+        continue;
+      }
+      if ((p >= 30 && p <= 37) || (p >= 90 && p <= 97)) found.push(p);
+    }
+  }
+  return found;
+}

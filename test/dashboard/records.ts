@@ -83,3 +83,5 @@ export function screenInput(overrides: Partial<ScreenInput> = {}): ScreenInput {
 
 export const LAYOUT_80x24 = computeLayout(80, 24);
 export const LAYOUT_120x40 = computeLayout(120, 40);
+export const LAYOUT_80x24_CARD = computeLayout(80, 24, { card: true });
+export const LAYOUT_120x40_CARD = computeLayout(120, 40, { card: true });

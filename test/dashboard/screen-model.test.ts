@@ -9,7 +9,21 @@ import {
   type ScreenModel,
 } from '../../src/dashboard/screen-model.js';
 import type { LimitEvent } from '../../src/core/events.js';
-import { AIRCRAFT, LAYOUT_120x40, LAYOUT_80x24, event, link, screenInput, steadyRecord } from './records.js';
+import type { CardPoint } from '../../src/core/card.js';
+import { createFrameEngine } from '../../src/core/frame-engine.js';
+import type { MarginRecord } from '../../src/core/margin-record.js';
+import { createLiveCard, type LiveCardView } from '../../src/dashboard/live-card.js';
+import {
+  AIRCRAFT,
+  LAYOUT_120x40,
+  LAYOUT_120x40_CARD,
+  LAYOUT_80x24,
+  LAYOUT_80x24_CARD,
+  event,
+  link,
+  screenInput,
+  steadyRecord,
+} from './records.js';
 
 const text = (lines: Line[]): string => lines.map(lineText).join('\n');
 
@@ -388,5 +402,207 @@ describe('keys and layout fit', () => {
   it('asks for a bigger terminal below 80×24', () => {
     const model = buildScreenModel(screenInput(), { ...LAYOUT_80x24, ...{ tooSmall: true, cols: 70, rows: 20 } });
     expect(text(model.tooSmall!)).toContain('needs at least 80×24; this terminal is 70×20');
+  });
+});
+
+describe('the test point panel (--card)', () => {
+  // A 45° level turn at 20 m/s: n = 1.414 (FAA-H-8083-25, load factor chart).
+  const p45: CardPoint = {
+    id: 'P02',
+    step: 0.5,
+    tas_mps: 20,
+    bank_deg: 45,
+    load_factor: Math.SQRT2,
+    hold_s: 3,
+    tolerance: { bank_deg: 3, tas_mps: 1 },
+    predicted: { utilization: { stall: 0.3, thrust: 0.6, structure: 0.37 }, sustained: true, dvdt_mps2: 0.4 },
+  };
+  const p30: CardPoint = { ...p45, id: 'P01', bank_deg: 30, load_factor: 1 / Math.cos(Math.PI / 6) };
+  /** A card of two points followed through the records given; P01 is flown first so that P02 is shown. */
+  const followed = (records: Array<[number, number, number]>): LiveCardView => {
+    const card = createLiveCard([p30, p45], 'card.json');
+    for (let i = 0; i <= 62; i++) card.push({ ...turn45, t_s: i * 0.05, bank_deg: 30, tas_mps: 20 });
+    for (const [t, bank, tas] of records) card.push({ ...turn45, t_s: t, bank_deg: bank, tas_mps: tas });
+    return card.view();
+  };
+  const holding = followed(
+    Array.from({ length: 43 }, (_, i) => [10 + i * 0.05, 44.1, 20.4] as [number, number, number]),
+  );
+
+  for (const layout of [LAYOUT_80x24_CARD, LAYOUT_120x40_CARD]) {
+    it(`shows the point, its targets, the deviation from each and the hold timer, fitting at ${layout.cols}×${layout.rows}`, () => {
+      const model = buildScreenModel(screenInput({ record: turn45, card: holding }), layout);
+      const panel = model.card!;
+      const inner = innerSize(layout.card);
+      expect(panel.lines.length).toBeLessThanOrEqual(inner.height);
+      for (const l of panel.lines) expect(Array.from(lineText(l)).length).toBeLessThanOrEqual(inner.width);
+      expect(Array.from(panel.title).length).toBeLessThanOrEqual(layout.card.width - 6);
+      expect(panel.title).toBe('Test point P02 · 1/2 achieved');
+      const body = text(panel.lines);
+      expect(body).toMatch(/bank 45\.0°/);
+      expect(body).toMatch(/Δ −0\.9°/); // |44.1| − 45
+      expect(body).toMatch(/TAS +20\.0/);
+      expect(body).toMatch(/Δ \+0\.4/); // 20.4 − 20
+      expect(body).toContain('held 2.1 of 3.0 s');
+      expect(body).toMatch(/✓▸~$/m); // P01 achieved, P02 shown and held in part so far
+      // Both deviations within tolerance: in the "ok" tone.
+      const tones = panel.lines
+        .flat()
+        .filter((s) => /^[−+]0\.[49]/.test(s.text))
+        .map((s) => s.tone);
+      expect(tones).toEqual(['ok', 'ok']);
+    });
+  }
+
+  it('says a point is not held, with the best hold so far, and marks a deviation outside its tolerance', () => {
+    const v = followed([
+      [10, 45, 20],
+      [10.5, 45, 20],
+      [11, 49.5, 20],
+    ]);
+    const panel = buildScreenModel(screenInput({ record: turn45, card: v }), LAYOUT_80x24_CARD).card!;
+    const body = text(panel.lines);
+    expect(body).toContain('not held · best 0.5 of 3.0 s');
+    expect(body).toMatch(/Δ \+4\.5°/);
+    expect(panel.lines.flat().find((s) => s.text === '+4.5°')!.tone).toBe('caution');
+  });
+
+  it('says ACHIEVED for a point achieved, and counts the points achieved in the title', () => {
+    const card = createLiveCard([p30, p45], 'card.json');
+    for (let i = 0; i <= 62; i++) card.push({ ...turn45, t_s: i * 0.05, bank_deg: 30, tas_mps: 20 });
+    expect(card.view().point.id).toBe('P02'); // moved on
+    card.step(-1); // back to P01
+    const panel = buildScreenModel(screenInput({ record: turn45, card: card.view() }), LAYOUT_80x24_CARD).card!;
+    expect(panel.title).toBe('Test point P01 · 1/2 achieved');
+    expect(text(panel.lines)).toMatch(/held 3\.1 of 3\.0 s ACHIEVED/);
+  });
+
+  it('gives the speed deviation in the chosen units', () => {
+    const model = buildScreenModel(screenInput({ record: turn45, card: holding, units: 'kt' }), LAYOUT_80x24_CARD);
+    // 20 m/s = 38.9 kt and 0.4 m/s = 0.78 kt (exact knot definition, 1852 m per hour).
+    expect(text(model.card!.lines)).toMatch(/TAS 38\.9 Δ \+0\.8 kt/);
+  });
+
+  it('lists n p among the keys only with a card, and the keys still fit 80 columns', () => {
+    const withCard = buildScreenModel(screenInput({ isReplay: true, card: holding }), LAYOUT_80x24_CARD).keys;
+    const without = buildScreenModel(screenInput({ isReplay: true }), LAYOUT_80x24).keys;
+    expect(lineText(withCard)).toContain('n p point');
+    expect(lineText(without)).not.toContain('n p');
+    expect(Array.from(lineText(withCard)).length).toBe(80);
+    expect(lineText(withCard)).not.toContain('…'); // whole entries only; ? lists the rest
+  });
+
+  it('keeps a note about the card at the top of the event log', () => {
+    const model = buildScreenModel(
+      screenInput({
+        record: turn45,
+        card: holding,
+        notices: ['card.json: the card was made for "Other", not for "Example airframe": its targets may not apply'],
+      }),
+      LAYOUT_80x24_CARD,
+    );
+    const notes = model.events.lines
+      .slice(0, 2)
+      .map((l) => lineText(l).trim())
+      .join(' ');
+    expect(notes).toMatch(/^NOTE card\.json: the card was made for "Other"/);
+  });
+
+  it('has no panel without a card', () => {
+    expect(buildScreenModel(screenInput({ record: turn45 }), LAYOUT_80x24).card).toBeNull();
+  });
+});
+
+describe('energy and predictions (Ps, the sustained band, the time to the stall, the model check)', () => {
+  const all = (model: ScreenModel): string =>
+    [model.banner, model.margins.lines, model.readouts.lines, model.events.lines, model.link.lines]
+      .map((l) => text(l))
+      .join('\n');
+
+  it('shows Ps measured from the engine: a steady climb at constant speed has Ps = the climb rate', () => {
+    // Energy method: Ps = dh/dt + (V/g)·dV/dt (Rutowski 1954; Anderson, Aircraft Performance and Design, ch. 5 —
+    // from memory); at constant speed it is the rate of climb, here 2 m/s.
+    const engine = createFrameEngine(AIRCRAFT);
+    let rec: MarginRecord | null = null;
+    for (let i = 0; i <= 60; i++)
+      rec = engine.push({ tS: i * 0.05, airspeedKind: 'tas', airspeedMps: 20, altM: 100 + 2 * i * 0.05, bankDeg: 0 });
+    for (const layout of [LAYOUT_80x24, LAYOUT_120x40]) {
+      const readouts = text(buildScreenModel(screenInput({ record: rec }), layout).readouts.lines);
+      expect(readouts).toMatch(/Ps {3}\+2\.00 m\/s/);
+      expect(readouts).toMatch(/model —/); // no throttle in the frames: no model
+    }
+  });
+
+  it('shows Ps modelled, and a dash for every energy key that is null, never NaN', () => {
+    const rec = { ...turn45, ps_mps: -0.42, ps_model_mps: 0.61 };
+    expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_80x24).readouts.lines)).toMatch(
+      /Ps {3}−0\.42 m\/s +model \+0\.61 m\/s/,
+    );
+    const empty: MarginRecord = {
+      ...turn45,
+      dvdt_mps2: null,
+      dhdt_mps: null,
+      ps_mps: null,
+      ps_model_mps: null,
+      ps_residual_mps: null,
+      ps_residual_mean_3s_mps: null,
+      time_to_stall_caution_s: null,
+      time_to_stall_warning_s: null,
+      sustained_band_mps: null,
+    };
+    for (const layout of [LAYOUT_80x24, LAYOUT_120x40]) {
+      const screen = all(buildScreenModel(screenInput({ record: empty }), layout));
+      expect(screen).toMatch(/Ps {3}— +model —/);
+      expect(screen).toMatch(/band — at n 1\.41/);
+      expect(screen).not.toMatch(/NaN|undefined|Infinity/);
+    }
+  });
+
+  it('shows the sustained band at the present n, in the chosen units', () => {
+    const rec = { ...turn45, sustained_band_mps: [11.2, 21.7] as [number, number] };
+    expect(text(buildScreenModel(screenInput({ record: rec }), LAYOUT_80x24).readouts.lines)).toContain(
+      'band 11.2–21.7 m/s at n 1.41',
+    );
+    // 11.2 m/s = 21.8 kt, 21.7 m/s = 42.2 kt (exact knot definition, 1852 m per hour).
+    expect(text(buildScreenModel(screenInput({ record: rec, units: 'kt' }), LAYOUT_80x24).readouts.lines)).toContain(
+      'band 21.8–42.2 kt',
+    );
+  });
+
+  it('gives the time to the stall caution under 10 s in the banner, beside the stall bar and in wide readouts', () => {
+    const soon = { ...turn45, time_to_stall_caution_s: 6.24 };
+    for (const layout of [LAYOUT_80x24, LAYOUT_120x40]) {
+      const model = buildScreenModel(screenInput({ record: soon }), layout);
+      expect(text(model.banner)).toMatch(/NORMAL — inside the envelope · stall caution in 6\.2 s/);
+      const stallBar = model.margins.lines[1]!;
+      expect(lineText(stallBar)).toMatch(/in 6\.2 s\s*$/);
+      expect(stallBar.find((s) => s.text.includes('in 6.2 s'))!.tone).toBe('caution');
+    }
+    expect(text(buildScreenModel(screenInput({ record: soon }), LAYOUT_120x40).readouts.lines)).toContain(
+      'stall caution in 6.2 s',
+    );
+    for (const t of [10, 25, 0, null]) {
+      const model = buildScreenModel(screenInput({ record: { ...turn45, time_to_stall_caution_s: t } }), LAYOUT_80x24);
+      expect(all(model)).not.toMatch(/stall caution in|in \d+\.\d s/);
+    }
+  });
+
+  it('advises in plain words when the 3 s mean of the residual is beyond ±0.5 m/s', () => {
+    const words = (mean: number | null): string => {
+      const model = buildScreenModel(
+        screenInput({ record: { ...turn45, ps_residual_mean_3s_mps: mean }, events: [event()] }),
+        LAYOUT_80x24,
+      );
+      return model.events.lines.map((l) => lineText(l).trim()).join(' ');
+    };
+    expect(words(-0.8)).toContain(
+      'climbing/accelerating less than the model predicts: the thrust margin may be optimistic (3 s mean −0.80 m/s)',
+    );
+    expect(words(0.8)).toContain(
+      'climbing/accelerating more than the model predicts: the thrust margin may be pessimistic (3 s mean +0.80 m/s)',
+    );
+    for (const quiet of [0.5, -0.5, 0.2, null]) expect(words(quiet)).not.toMatch(/MODEL|model predicts/);
+    // On the 80×24 screen the advisory takes three lines and the newest event still shows below it.
+    expect(words(-0.8)).toMatch(/STALL/);
   });
 });

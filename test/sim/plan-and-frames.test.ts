@@ -172,4 +172,25 @@ describe('noise and frames', () => {
     expect(run(5)).toEqual(run(5));
     expect(run(5)).not.toEqual(run(6));
   });
+
+  it('adds altitude noise of the asked standard deviation, leaving the airspeed and nz noise of the seed as they were', () => {
+    const segments = [{ type: 'straight', duration_s: 60 }];
+    const quietAlt = plan({ start: { alt_m: 100, tas_mps: 18 }, segments });
+    const noisyAlt = plan({ start: { alt_m: 100, tas_mps: 18 }, noise: { alt_sd_m: 0.5 }, segments });
+    const aircraft = exampleAirframe();
+    const a = [...simulateFlight(aircraft, quietAlt, { rateHz: 20 })].map(
+      createFrameWriter(aircraft, quietAlt, { seed: 3 }),
+    );
+    const b = [...simulateFlight(aircraft, noisyAlt, { rateHz: 20 })].map(
+      createFrameWriter(aircraft, noisyAlt, { seed: 3 }),
+    );
+    expect(b.map((f) => [f['tas_mps'], f['nz']])).toEqual(a.map((f) => [f['tas_mps'], f['nz']]));
+    const d = b.map((f, i) => (f['alt_m'] as number) - (a[i]!['alt_m'] as number));
+    const mean = d.reduce((s, x) => s + x, 0) / d.length;
+    const sd = Math.sqrt(d.reduce((s, x) => s + (x - mean) ** 2, 0) / d.length);
+    // 1201 draws: the sd of the sample sd is about 0.5/√(2·1201) ≈ 0.01 m (common practice: 4σ bounds, plus the
+    // 0.01 m rounding of alt_m).
+    expect(Math.abs(sd - 0.5)).toBeLessThan(0.05);
+    expect(Math.abs(mean)).toBeLessThan(0.07);
+  });
 });

@@ -32,12 +32,18 @@ import { loadAircraftFile, readJson } from '../load.js';
  * Read a card file for simulate, review or check: a malformed card is refused with every problem listed; a card
  * made for another airframe name or mass gives a warning on stderr.
  */
-export function loadCardFile(path: string, aircraft: Aircraft, massKg: number = aircraft.massKg): LoadedCard {
+export function loadCardFile(
+  path: string,
+  aircraft: Aircraft,
+  massKg: number = aircraft.massKg,
+  onWarning?: (line: string) => void,
+): LoadedCard {
   const label = basename(path);
   const result = parseCard(readJson(path, 'card'), label);
   if (!result.ok) throw new InputError(result.problems);
   for (const line of cardAirframeWarnings(result.value, aircraft, massKg, label)) {
     process.stderr.write(`turnmargin: warning: ${line}\n`);
+    onWarning?.(line);
   }
   return result.value;
 }

@@ -7,15 +7,15 @@ import { existsSync } from 'node:fs';
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { createReplay } from '../../engine/replay.js';
-import { numberOption, type CommandSpec, type ParsedArgs } from '../args.js';
+import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { InputError } from '../../errors.js';
-import { runMonitor } from '../live.js';
+import { loadMonitorCard, MONITOR_CARD_OPTION, runMonitor } from '../live.js';
 import { loadAircraftFile } from '../load.js';
 
 export const spec: CommandSpec = {
   name: 'demo',
   summary: 'replay the bundled demo flight with the demo airframe on the dashboard, looping (npm start)',
-  usage: 'turnmargin demo [--speed X] [--no-ui]',
+  usage: 'turnmargin demo [--speed X] [--card CARD.json] [--no-ui]',
   options: [
     {
       name: 'speed',
@@ -29,11 +29,13 @@ export const spec: CommandSpec = {
       type: 'boolean',
       description: 'print the margin records of one pass as JSON lines instead of the dashboard',
     },
+    MONITOR_CARD_OPTION,
   ],
   notes: [
     'The demo airframe and flight (replays/) are an invented scenario: no real aircraft is described.',
     'Keys: q quit, space pause, + and − speed, ← → seek 10 s, m mute the bell, u speed units, c clear the trail,\n' +
-      '? all keys. Without a terminal (stdout piped) the demo prints one pass as JSON lines.',
+      'n and p next/previous test point (with --card), ? all keys. Without a terminal (stdout piped) the demo\n' +
+      'prints one pass as JSON lines.',
   ],
 };
 
@@ -61,6 +63,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   }
   const aircraft = loadAircraftFile(join(replays, DEMO_AIRFRAME));
   const speed = numberOption(args, 'speed', 1, { min: 0, max: 256 });
+  const card = loadMonitorCard(stringOption(args, 'card'), aircraft);
   const headless = args.values['no-ui'] === true || !process.stdout.isTTY;
   if (headless && args.values['no-ui'] !== true) {
     process.stderr.write(
@@ -80,6 +83,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     thresholds: aircraft.thresholds,
     noUi: headless,
     exitOnEnd: headless,
+    ...(card ? { card } : {}),
     ...(headless ? {} : { replay: { transport: source, length: source.length() } }),
   });
 }

@@ -10,7 +10,7 @@ export const spec: CommandSpec = {
   name: 'replay',
   summary: 'play a recorded flight through the monitor',
   usage:
-    'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--no-ui] [--events FILE [--force]]',
+    'turnmargin replay FILE --aircraft FILE [--speed X] [--mapping FILE] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--card CARD.json] [--no-ui] [--events FILE [--force]]',
   options: [
     {
       name: 'speed',
@@ -33,7 +33,8 @@ export const spec: CommandSpec = {
   notes: [
     'FILE is a turnmargin recording (watch --record), NDJSON (one frame per line) or CSV with a header of frame\n' +
       'keys (# comment lines allowed); a mapping file reads logs with other column names and units.',
-    'Dashboard keys: q quit, space pause, + and − speed, ← → seek 10 s, m mute the bell, u speed units, c clear the trail, ? all keys.',
+    'Dashboard keys: q quit, space pause, + and − speed, ← → seek 10 s, m mute the bell, u speed units, c clear the trail,\n' +
+      'n and p next/previous test point (with --card), ? all keys.',
   ],
 };
 

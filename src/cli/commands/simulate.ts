@@ -134,7 +134,7 @@ export const spec: CommandSpec = {
   notes: [
     'Plan (JSON): {"start": {"alt_m", "tas_mps", "heading_deg"?, "t_s"?}, "segments": [...], "mass_kg"?,\n' +
       '"isa_deviation_c"?, "airspeed_key"? ("tas_mps" | "cas_mps" | "ias_mps"), "roll_rate_dps"? (45),\n' +
-      '"noise"? {"nz_sd" (0.02 g), "airspeed_sd_mps" (0.15)}}. Segment types, each with "duration_s":\n' +
+      '"noise"? {"nz_sd" (0.02 g), "airspeed_sd_mps" (0.15), "alt_sd_m" (0)}}. Segment types, each with "duration_s":\n' +
       '  straight      wings level; "vertical_speed_mps"? for a climb (> 0) or descent (< 0)\n' +
       '  turn          "bank_deg" (negative = left) or "load_factor" with "direction"? left|right;\n' +
       '                "vertical_speed_mps"? makes it a climbing or descending turn\n' +
@@ -146,7 +146,7 @@ export const spec: CommandSpec = {
     "The model: a point mass with dV/dt = (T − D)/m − g·sin γ, the airframe's thrust model and drag polar at the\n" +
       'flown CL = n·W/(q·S), density from ISA at the flown altitude, a simple autopilot (roll-rate-limited bank,\n' +
       'load factor to hold the vertical path, autothrottle), lift capped at CLmax. Frames carry t_s, the airspeed,\n' +
-      'alt_m, bank_deg, nz (with seeded noise on nz and on the airspeed), heading_deg, throttle (fraction of the\n' +
+      'alt_m, bank_deg, nz (with seeded noise on nz, the airspeed and alt_m), heading_deg, throttle (fraction of the\n' +
       'thrust available in use), segment and "simulated": true.',
     'With --card, the points of a test card (`turnmargin card --format json`) are flown in order: straight at the\n' +
       "target speed, roll in, hold hold_s + 1 s (full throttle where the card's turn is not sustainable: the speed\n" +

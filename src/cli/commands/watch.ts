@@ -20,7 +20,8 @@ export const spec: CommandSpec = {
   usage:
     'turnmargin watch (--serial PATH [--baud N] | --ws URL [--token T | --token-file FILE] | --udp [HOST:]PORT\n' +
     '                        [--allow-remote]) --aircraft FILE [--record FILE] [--events FILE] [--force]\n' +
-    '                        [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--no-ui]',
+    '                        [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle]\n' +
+    '                        [--card CARD.json] [--no-ui]',
   options: [
     {
       name: 'serial',
