@@ -10,6 +10,7 @@ import {
   modelSpecificExcessPowerMps,
   psResidualMps,
   specificExcessPowerMps,
+  throttleSetting,
   timeToStallS,
   type ThrottleAssumption,
 } from './energy.js';
@@ -112,6 +113,8 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
   const thresholds = { stallCaution: options.thresholds.stallCaution, stallWarning: options.thresholds.stallWarning };
   const assumeThrottle = options.assumeThrottle;
   const speedBand = options.speedBand;
+  let lastSetting: ThrottleAssumption | null = null;
+  let settingSinceS: number | null = null;
   return {
     fill(rec, frame) {
       const tS = rec.t_s;
@@ -149,12 +152,21 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
       rec.ps_mps = ps;
       rec.ps_model_mps = psModel;
       rec.ps_residual_mps = residual;
-      rec.ps_residual_mean_3s_mps = residualMean.push(tS, residual);
+      // The rates lag a throttle step by up to the window: the mean restarts when the setting changes and takes a
+      // residual only once the whole window lies in one setting, so a step does not raise a false advisory.
+      const setting = throttleSetting(throttle, assumeThrottle);
+      if (setting !== lastSetting || settingSinceS === null) {
+        lastSetting = setting;
+        settingSinceS = tS;
+        residualMean.reset();
+      }
+      rec.ps_residual_mean_3s_mps = residualMean.push(tS, tS - settingSinceS >= options.rateWindowS ? residual : null);
       rec.time_to_stall_caution_s = toStall.cautionS;
       rec.time_to_stall_warning_s = toStall.warningS;
       if (speedBand) rec.sustained_band_mps = recordSpeedBand(aircraft, rec);
     },
     reset() {
+      settingSinceS = null;
       speed.reset();
       altitude.reset();
       bank.reset();

@@ -92,7 +92,11 @@ export interface MarginRecord {
   ps_model_mps: number | null;
   /** ps_mps − ps_model_mps, m/s. */
   ps_residual_mps: number | null;
-  /** Mean of ps_residual_mps over the last 3 s of frames that have one (restarted at breaks), m/s. */
+  /**
+   * Mean of ps_residual_mps over the last 3 s of frames that have one, m/s: restarted at breaks and when the
+   * throttle setting (full, idle, other) changes, and taking a residual only once the whole rate window lies in one
+   * setting (the rates lag a step by up to the window). The dashboard's model advisory reads it.
+   */
   ps_residual_mean_3s_mps: number | null;
   /** Time until the stall utilization reaches the stall caution at the present deceleration, s (≤ 60). */
   time_to_stall_caution_s: number | null;

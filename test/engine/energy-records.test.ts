@@ -130,6 +130,23 @@ describe('the energy keys of the margin record', () => {
     expect(assumedIdle.ps_residual_mean_3s_mps).toBeCloseTo(assumedIdle.ps_residual_mps!, 9);
   });
 
+  it('keep the residual mean out of the window after a throttle step, where the rates still lag', () => {
+    const ac = exampleAirframe();
+    const engine = createFrameEngine(ac);
+    const at = (t: number, throttle: number) =>
+      engine.push(frameOf({ t_s: t, tas_mps: 18, alt_m: 100, nz: 1, throttle }))!;
+    let rec: MarginRecord | null = null;
+    for (let i = 0; i <= 60; i++) rec = at(i * 0.05, 0);
+    expect(rec!.ps_residual_mean_3s_mps).not.toBeNull();
+    // Full throttle from t = 3.05 s: a residual at once, but the mean restarts and waits a whole window (1 s).
+    const step = at(3.05, 1);
+    expect(step.ps_residual_mps).not.toBeNull();
+    expect(step.ps_residual_mean_3s_mps).toBeNull();
+    for (let i = 62; i < 81; i++) expect(at(i * 0.05, 1).ps_residual_mean_3s_mps).toBeNull();
+    const after = at(4.1, 1);
+    expect(after.ps_residual_mean_3s_mps).toBeCloseTo(after.ps_residual_mps!, 9);
+  });
+
   it('give the speed band of sustained-band.ts at the record’s density, mass and n', () => {
     const ac = exampleAirframe();
     const engine = createFrameEngine(ac);

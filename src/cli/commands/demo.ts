@@ -10,13 +10,16 @@ import { createReplay } from '../../engine/replay.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { InputError } from '../../errors.js';
 import { loadMonitorCard, MONITOR_CARD_OPTION, runMonitor } from '../live.js';
+import { MARGIN_COMPUTATION_OPTIONS, parseMarginOptions } from '../margin-options.js';
 import { loadAircraftFile } from '../load.js';
 
 export const spec: CommandSpec = {
   name: 'demo',
   summary: 'replay the bundled demo flight with the demo airframe on the dashboard, looping (npm start)',
-  usage: 'turnmargin demo [--speed X] [--card CARD.json] [--no-ui]',
+  usage:
+    'turnmargin demo [--speed X] [--card CARD.json] [--smooth S] [--rate-window S] [--throttle full|idle] [--no-ui]',
   options: [
+    ...MARGIN_COMPUTATION_OPTIONS,
     {
       name: 'speed',
       type: 'string',
@@ -81,6 +84,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     source,
     aircraft,
     thresholds: aircraft.thresholds,
+    margins: parseMarginOptions(args, aircraft.thresholds),
     noUi: headless,
     exitOnEnd: headless,
     ...(card ? { card } : {}),
