@@ -1,6 +1,7 @@
 /**
  * `npm run perf`: benchmarks with targets, side by side in one run, reported as ratios where absolute times drift.
- * Prints a table and writes bench-results/perf.json. Options: --quick (smaller inputs), --no-5m (skip the 5 M run).
+ * Prints a table and writes bench-results/perf.json. Options: --quick (smaller inputs), --no-5m (skip the 5 M run),
+ * --html-only (only the HTML report's benchmark).
  */
 import { mkdirSync, mkdtempSync, rmSync, writeFileSync, readFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -20,6 +21,7 @@ const rows: Row[] = [];
 const results: Record<string, unknown> = {};
 const quick = process.argv.includes('--quick');
 const skip5m = process.argv.includes('--no-5m') || quick;
+const htmlOnly = process.argv.includes('--html-only');
 
 function verdict(ok: boolean): string {
   return ok ? 'met' : 'MISSED';
@@ -209,13 +211,15 @@ async function main(): Promise<void> {
   const dir = mkdtempSync(join(tmpdir(), 'turnmargin-perf-'));
   const aircraft = loadDemoAircraft();
   try {
-    process.stderr.write('perf: core costs…\n');
-    benchCore(aircraft);
-    process.stderr.write('perf: live path at 1 kHz…\n');
-    await benchLive(aircraft);
-    process.stderr.write('perf: start-up…\n');
-    await benchStartup(dir);
-    await benchReview(dir);
+    if (!htmlOnly) {
+      process.stderr.write('perf: core costs…\n');
+      benchCore(aircraft);
+      process.stderr.write('perf: live path at 1 kHz…\n');
+      await benchLive(aircraft);
+      process.stderr.write('perf: start-up…\n');
+      await benchStartup(dir);
+      await benchReview(dir);
+    }
     await benchHtmlReport(dir, quick, rows, results);
   } finally {
     rmSync(dir, { recursive: true, force: true });

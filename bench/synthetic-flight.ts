@@ -15,13 +15,18 @@ export function syntheticFrameLine(i: number, rateHz: number): string {
   return `{"t_s":${t.toFixed(3)},"tas_mps":${tas.toFixed(2)},"alt_m":${alt.toFixed(1)},"bank_deg":${bank.toFixed(2)},"nz":${nz.toFixed(3)}}`;
 }
 
-/** Write `frames` lines of NDJSON at `rateHz` to a file. */
-export async function writeSyntheticFlight(path: string, frames: number, rateHz = 50): Promise<number> {
+/** Write `frames` lines of NDJSON at `rateHz` to a file; `lineAt` may put another line in place of frame i. */
+export async function writeSyntheticFlight(
+  path: string,
+  frames: number,
+  rateHz = 50,
+  lineAt?: (i: number) => string | undefined,
+): Promise<number> {
   const out = createWriteStream(path);
   let bytes = 0;
   let batch: string[] = [];
   for (let i = 0; i < frames; i++) {
-    batch.push(syntheticFrameLine(i, rateHz));
+    batch.push(lineAt?.(i) ?? syntheticFrameLine(i, rateHz));
     if (batch.length === 10_000 || i === frames - 1) {
       const text = batch.join('\n') + '\n';
       bytes += Buffer.byteLength(text);

@@ -10,7 +10,7 @@ const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const html = join(root, 'docs', 'demo-report.html');
 const png = join(root, 'docs', 'demo-report.png');
 const width = Number(process.env.SCREENSHOT_WIDTH ?? 1100);
-const height = Number(process.env.SCREENSHOT_HEIGHT ?? 2780);
+const height = Number(process.env.SCREENSHOT_HEIGHT ?? 3400);
 
 function run(command, args, quiet = false) {
   // Chromium logs harmless complaints (no D-Bus in a container): its stderr is shown only when it fails.

@@ -30,13 +30,16 @@ const COMMANDS: Record<string, CommandEntry> = {
     load: () => import('./commands/watch.js'),
   },
   replay: { summary: 'play a recorded flight through the monitor', load: () => import('./commands/replay.js') },
-  review: { summary: 'report the exceedances of a recorded flight', load: () => import('./commands/review.js') },
+  review: {
+    summary: 'report the exceedances of recorded flights (one or several)',
+    load: () => import('./commands/review.js'),
+  },
   fit: {
     summary: 'estimate the drag polar, the thrust and the demonstrated CL from recorded flights',
     load: () => import('./commands/fit.js'),
   },
   check: {
-    summary: 'pass/fail a recorded flight against the alert levels (for CI)',
+    summary: 'pass/fail recorded flights against the alert levels (for CI)',
     load: () => import('./commands/check.js'),
   },
   serve: {

@@ -1,16 +1,23 @@
 /**
- * Worker thread of `review` and `check` for long files: the frame engine and the flight review run here
- * while the main thread reads and validates the next lines, so the two overlap on two cores.
+ * Worker thread of `review` and `check`. Two ways to use it:
  *
- * Messages in: PackedFrameBatch (frame-batch.ts: packed frames, their line numbers, rejected lines with their codes) in
- * file order, then
- * { end: true }. Out: { ack: true } per batch (the reader's flow control), then { review: FlightReview }.
+ * - Alongside the main thread (one long file): the frame engine and the flight review run here while the main
+ *   thread reads and validates the next lines, so the two overlap on two cores. Messages in: PackedFrameBatch
+ *   (frame-batch.ts: packed frames, their line numbers, rejected lines with their codes) in file order, then
+ *   { end: true }. Out: { ack: true } per batch (the reader's flow control), then { result: ReviewRunResult }.
+ * - On its own (several files at once, one worker per file): `workerData.read` names the file; the worker reads it
+ *   and reviews it. Out: { progress: [bytes, total] } now and then, then { result } or { failure }.
+ *
+ * Either way the test points of a card (`cardPoints`) are followed here too, so a card costs no extra thread hop.
  */
 import { parentPort, workerData } from 'node:worker_threads';
 import type { Aircraft } from '../core/aircraft.js';
-import { createFlightReviewer, type FlightReviewer } from '../core/flight-review.js';
+import type { CardPoint } from '../core/card.js';
+import { createFlightReviewer, type FlightReview, type FlightReviewer } from '../core/flight-review.js';
+import type { DataBreak } from '../core/frame-engine.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import type { MarginOptions } from '../core/margins.js';
+import { createTestPointTracker, type TestPointResult } from '../core/test-point.js';
 import {
   createFrameUnpacker,
   packedAfterReconnect,
@@ -18,16 +25,41 @@ import {
   unpackRejects,
   type PackedFrameBatch,
 } from '../decode/frame-batch.js';
+import { readFramePackedBatches } from '../decode/read-frames.js';
+import { InputError } from '../errors.js';
 
-export interface ReviewWorkerData {
-  /** Marks the worker's own start (the module is also imported by the main thread for feedPackedBatch). */
-  reviewWorker: true;
+export interface ReviewRunSetup {
   aircraft: Aircraft;
   margins: MarginOptions;
+  /** The points of a card to follow (test_points), if any. */
+  cardPoints?: CardPoint[];
+  /** The file name the test points' holds carry (`file`). */
+  fileLabel?: string;
 }
 
-/** A batch as read (read-frames.ts): frames packed, their line numbers, the rejected lines. */
-export type FrameBatchMessage = PackedFrameBatch;
+export interface ReviewWorkerData extends ReviewRunSetup {
+  /** Marks the worker's own start (the module is also imported by the main thread for createReviewRun). */
+  reviewWorker: true;
+  /** Read this file here (one worker per file); without it the main thread sends the batches. */
+  read?: { path: string; mappingPath?: string };
+}
+
+/** First and last receive time (ms since the epoch) of the accepted frames of a recording. */
+export interface ReceivedSpan {
+  firstMs: number;
+  lastMs: number;
+}
+
+export interface ReviewRunResult {
+  review: FlightReview;
+  /** The card's points as this file alone flew them; null without a card. */
+  testPoints: TestPointResult[] | null;
+  /** Null unless the file is a recording (its lines carry receive times). */
+  received: ReceivedSpan | null;
+}
+
+/** What the worker posts when the file cannot be reviewed: the input's problems, or an unexpected error. */
+export type ReviewWorkerFailure = { problems: string[] } | { message: string };
 
 const NEW_SEGMENT = Object.freeze({ newSegment: true });
 const AFTER_RECONNECT = Object.freeze({ afterReconnect: true });
@@ -57,17 +89,95 @@ export function feedPackedBatch(
   for (const { lineNo, rejected } of unpackRejects(rejects)) reviewer.reject(lineNo, rejected);
 }
 
+/** Tracks the first and last receive time a reader reports. */
+export function createReceivedSpan(): { at(ms: number): void; span(): ReceivedSpan | null } {
+  let firstMs = NaN;
+  let lastMs = NaN;
+  return {
+    at(ms) {
+      if (firstMs !== firstMs) firstMs = ms;
+      lastMs = ms;
+    },
+    span: () => (firstMs === firstMs ? { firstMs, lastMs } : null),
+  };
+}
+
+/**
+ * One file's review: the flight reviewer (the frame engine inside) and, with a card, the test-point tracker fed
+ * each record and each of the engine's breaks. The same on the main thread and in the worker.
+ */
+export function createReviewRun(
+  setup: ReviewRunSetup,
+  onRecord?: (rec: MarginRecord) => void,
+  onBreak?: (brk: DataBreak) => void,
+): {
+  feed(batch: PackedFrameBatch): void;
+  finish(received: ReceivedSpan | null): ReviewRunResult;
+} {
+  const tracker = setup.cardPoints ? createTestPointTracker(setup.cardPoints) : null;
+  tracker?.startFile(setup.fileLabel ?? null);
+  const dataBreak =
+    tracker && onBreak
+      ? (brk: DataBreak) => {
+          onBreak(brk);
+          tracker.breakHere();
+        }
+      : tracker
+        ? tracker.breakHere
+        : onBreak;
+  const reviewer = createFlightReviewer(setup.aircraft, setup.margins, dataBreak ? { dataBreak } : {});
+  const each = tracker
+    ? (rec: MarginRecord) => {
+        onRecord?.(rec);
+        tracker.push(rec);
+      }
+    : onRecord;
+  return {
+    feed: (batch) => feedPackedBatch(reviewer, batch, each),
+    finish: (received) => ({ review: reviewer.finish(), testPoints: tracker?.results() ?? null, received }),
+  };
+}
+
+/** Whole-file mode: read and review `read.path` here. */
+async function reviewFileHere(
+  data: ReviewWorkerData & { read: { path: string } },
+  port: NonNullable<typeof parentPort>,
+) {
+  try {
+    const run = createReviewRun(data);
+    const received = createReceivedSpan();
+    const options = {
+      onProgress: (bytes: number, total: number) => port.postMessage({ progress: [bytes, total] }),
+      onReceivedAt: received.at,
+      ...(data.read.mappingPath !== undefined ? { mappingPath: data.read.mappingPath } : {}),
+    };
+    for await (const batch of readFramePackedBatches(data.read.path, options)) run.feed(batch);
+    port.postMessage({ result: run.finish(received.span()) });
+  } catch (err) {
+    const failure: ReviewWorkerFailure =
+      err instanceof InputError ? { problems: err.problems } : { message: (err as Error).stack ?? String(err) };
+    port.postMessage({ failure });
+  }
+  port.close();
+}
+
 const port = parentPort;
 if (port && (workerData as { reviewWorker?: true } | null)?.reviewWorker === true) {
   const data = workerData as ReviewWorkerData;
-  const reviewer = createFlightReviewer(data.aircraft, data.margins);
-  port.on('message', (message: FrameBatchMessage | { end: true }) => {
-    if ('end' in message) {
-      port.postMessage({ review: reviewer.finish() });
-      port.close();
-      return;
-    }
-    feedPackedBatch(reviewer, message);
-    port.postMessage({ ack: true });
-  });
+  if (data.read !== undefined) {
+    void reviewFileHere(data as ReviewWorkerData & { read: { path: string } }, port);
+  } else {
+    const run = createReviewRun(data);
+    let received: ReceivedSpan | null = null;
+    port.on('message', (message: PackedFrameBatch | { end: true; received: ReceivedSpan | null }) => {
+      if ('end' in message) {
+        received = message.received;
+        port.postMessage({ result: run.finish(received) });
+        port.close();
+        return;
+      }
+      run.feed(message);
+      port.postMessage({ ack: true });
+    });
+  }
 }

@@ -216,3 +216,22 @@ export function createTestPointTracker(points: readonly CardPoint[]): TestPointT
     },
   };
 }
+
+/**
+ * The points' results over several files, from each file's own results (files in order, each list in card order):
+ * per point the longest hold wins; of two equally long (within the rounding slack) the earlier file's is kept, as a
+ * single tracker fed the files one after the other would keep it. Lets files be reviewed in parallel.
+ */
+export function mergeTestPointResults(perFile: ReadonlyArray<readonly TestPointResult[]>): TestPointResult[] {
+  const first = perFile[0];
+  if (first === undefined) return [];
+  return first.map((point, i) => {
+    let best = point;
+    for (const results of perFile.slice(1)) {
+      const r = results[i];
+      if (r === undefined || r.id !== point.id) throw new Error(`test point ${point.id}: results of another card`);
+      if (r.longest_hold_s > best.longest_hold_s + HOLD_TIME_SLACK_S) best = r;
+    }
+    return best;
+  });
+}

@@ -85,6 +85,8 @@ export interface TimeHistory {
   breakCounts: Record<BreakKind, number>;
   /** Per bucket: the OR of alertBit() of the alerts on in its frames. */
   alerts: Uint8Array;
+  /** Per bucket: the frames in it (a bucket with frames but no value of a series is a hole in that series). */
+  frameCounts: Uint32Array;
   /**
    * Shift added to t_s to place a frame on the axis: 0 until a clock restart, after which the next frames are
    * placed right after the last one (the axis never runs back). Non-zero only when the clock restarted.
@@ -285,6 +287,7 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         breaks: breaks.slice(0, used),
         breakCounts: { ...breakCounts },
         alerts: alerts.slice(0, used),
+        frameCounts: frameCounts.slice(0, used),
         axisShiftS,
         assumedFrames: { ...assumedFrames },
         reduced: frameCounts.some((c) => c > 2),
@@ -295,8 +298,9 @@ export function createTimeHistory(): TimeHistoryAccumulator {
 
 /**
  * The points to draw for one series, in time order: per bucket its minimum and maximum, ordered by when they
- * occurred (one point when they are the same frame). `penUp` is true on a point drawn after a break or after
- * buckets holding no value of this series where a break lies.
+ * occurred (one point when they are the same frame). `penUp` is true on a point drawn after a break, or after a
+ * bucket whose frames all lacked this series (the modelled Ps at part throttle, say): no line is drawn across a
+ * stretch without values. Buckets without frames (a rate slower than the bucket width) do not lift the pen.
  */
 export function seriesPoints(history: TimeHistory, name: SeriesName): Array<{ tS: number; v: number; penUp: boolean }> {
   const s = history.series[name];
@@ -306,7 +310,10 @@ export function seriesPoints(history: TimeHistory, name: SeriesName): Array<{ tS
   for (let i = 0; i < history.buckets; i++) {
     if (history.breaks[i]! !== 0) breakPending = true;
     const min = s.min[i]!;
-    if (Number.isNaN(min)) continue;
+    if (Number.isNaN(min)) {
+      if (history.frameCounts[i]! > 0) breakPending = true;
+      continue;
+    }
     const max = s.max[i]!;
     const tMin = s.tMin[i]!;
     const tMax = s.tMax[i]!;

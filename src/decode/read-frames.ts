@@ -45,6 +45,8 @@ export interface ReadFrameOptions {
   mappingPath?: string;
   /** Called now and then with bytes read so far and the file size (for a progress indicator). */
   onProgress?(bytesRead: number, totalBytes: number): void;
+  /** readFramePackedBatches: called with the receive time (ms since the epoch) of each accepted frame of a recording. */
+  onReceivedAt?(receivedAtMs: number): void;
 }
 
 export function loadMappingFile(path: string): ColumnMapping {
@@ -346,6 +348,7 @@ export async function* readFramePackedBatches(
       const line = reader.judge(physical);
       if (line === null) return;
       if (line.verdict.ok) {
+        if (line.receivedAtMs !== undefined) options.onReceivedAt?.(line.receivedAtMs);
         room();
         lineNos[count] = line.lineNo;
         packFrame(

@@ -582,6 +582,12 @@ function timeHistorySvg(flight: HtmlFlight, prefix: string): string {
         `<text x="${TH.left + plotW + 5}" y="${num(labelY)}" font-size="10.5" fill="${r.colour}" class="ref-label">${esc(r.label)}</text>`,
       );
     }
+    // A reference too far from the data to draw (V_NE above a slow flight) is still named, with its value.
+    for (const r of panel.refs.filter((q) => q.value > hi)) {
+      out.push(
+        `<text x="${TH.left + plotW + 5}" y="${top + 10}" font-size="10.5" fill="${r.colour}" class="ref-label">${esc(`${r.label} ${num(r.value)} ↑`)}</text>`,
+      );
+    }
     // Series.
     for (const l of panel.lines) {
       const pts = seriesPoints(h, l.name);
@@ -762,6 +768,7 @@ body { font-family: Helvetica, Arial, sans-serif; color: #1a1a1a; background: #f
 h1 { font-size: 22px; margin: 0 0 4px; }
 h2 { font-size: 18px; margin: 28px 0 8px; border-bottom: 2px solid #333333; padding-bottom: 3px; }
 h3 { font-size: 14.5px; margin: 14px 0 6px; }
+h3.part { font-size: 16.5px; margin: 22px 0 8px; border-bottom: 1px solid #8c8c8c; padding-bottom: 2px; }
 p { margin: 6px 0; }
 .dim, .note { color: #4d4d4d; }
 .note { font-size: 12.5px; }
@@ -805,16 +812,17 @@ function flightSection(flight: HtmlFlight, index: number, several: boolean): str
   const out: string[] = [];
   out.push(`<section class="flight" id="flight-${index + 1}">`);
   if (several) out.push(`<h2>Flight ${index + 1}: ${esc(String(flight.json.source))}</h2>`);
-  out.push(`<h${several ? 3 : 2}>Verdict</h${several ? 3 : 2}>`, verdictSection(flight));
-  const hn = several ? 'h3' : 'h2';
-  out.push(`<${hn}>Airframe, thresholds and data</${hn}>`, setupSection(flight));
-  out.push(`<${hn}>Exceedances</${hn}>`, eventsSection(flight));
+  // With several flights a flight's parts are h3, set apart from the smaller h3 inside them (Airframe, …).
+  const heading = (text: string) => (several ? `<h3 class="part">${text}</h3>` : `<h2>${text}</h2>`);
+  out.push(heading('Verdict'), verdictSection(flight));
+  out.push(heading('Airframe, thresholds and data'), setupSection(flight));
+  out.push(heading('Exceedances'), eventsSection(flight));
   out.push(
-    `<${hn}>Time histories</${hn}>`,
+    heading('Time histories'),
     `<figure>${timeHistorySvg(flight, prefix)}<figcaption>${historyNote(flight).replace(/^<p class="note">|<\/p>$/g, '')}</figcaption></figure>`,
   );
   out.push(
-    `<${hn}>The n–V plane</${hn}>`,
+    heading('The n–V plane'),
     `<figure>${renderNvPlotSvg({ ...flight.nvPlot, idPrefix: `${prefix}nv-`, inline: true })}<figcaption>${esc(
       'Curves at the median density and mass of the flight; each point was judged at its own. ' +
         'Markers: circle normal, triangle caution, square warning (the dashboard uses the same colours).',
@@ -822,36 +830,49 @@ function flightSection(flight: HtmlFlight, index: number, several: boolean): str
   );
   const modelCheck = flight.json['model_check'];
   if (modelCheck && typeof modelCheck === 'object')
-    out.push(`<${hn}>Model check</${hn}>`, modelCheckSection(modelCheck as Record<string, unknown>));
+    out.push(heading('Model check'), modelCheckSection(modelCheck as Record<string, unknown>));
   out.push('</section>');
   return out.join('\n');
 }
 
 function summaryTable(flights: readonly HtmlFlight[]): string {
+  // The receive times of a recording (`received_utc` of a several-file review), when any flight has them.
+  const utcOf = (f: HtmlFlight) => f.json['received_utc'] as { start: string; end: string } | undefined;
+  const withUtc = flights.some((f) => utcOf(f) !== undefined);
   const rows = flights.map((f, i) => {
     const j = f.json;
     const peaks = (['stall', 'structure', 'thrust'] as const)
       .map((l) => `${l} ${utilizationText(j.peaks[l].utilization)}`)
       .join(', ');
+    const utc = utcOf(f);
     return [
       `<a href="#flight-${i + 1}">${i + 1}</a>`,
       esc(String(j.source)),
       String(j.accepted),
+      j.first_t_s === null ? '—' : `${fixed(j.first_t_s, 1)} to ${fixed(j.last_t_s, 1)}`,
       fixed(j.duration_s, 1),
+      ...(withUtc ? [utc ? `${esc(utc.start)}<br>${esc(utc.end)}` : '—'] : []),
       String(j.events.length),
       levelBadge(worstOverall(f)),
       esc(peaks),
     ];
   });
-  return table(['#', 'File', 'Frames', 'Duration (s)', 'Events', 'Worst level', 'Peak utilization'], rows, 'summary', [
-    true,
-    false,
-    true,
-    true,
-    true,
-    false,
-    false,
-  ]);
+  return table(
+    [
+      '#',
+      'File',
+      'Frames',
+      'Time span t (s)',
+      'Data (s)',
+      ...(withUtc ? ['UTC start, end (recording)'] : []),
+      'Events',
+      'Worst level',
+      'Peak utilization',
+    ],
+    rows,
+    'summary',
+    [true, false, true, true, true, ...(withUtc ? [false] : []), true, false, false],
+  );
 }
 
 export function renderHtmlReport(input: HtmlReportInput): string {

@@ -220,16 +220,18 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
     );
   }
   out.push('</g>');
+  // Labels inside the plot get a white halo, so a curve running under one does not cut through its letters.
+  const halo = 'stroke="#ffffff" stroke-width="3" stroke-linejoin="round" paint-order="stroke"';
   out.push(
-    `<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitPos) - 6)}" font-size="12">n limit +${num(aircraft.nLimitPos)}</text>`,
+    `<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitPos) - 6)}" font-size="12" ${halo}>n limit +${num(aircraft.nLimitPos)}</text>`,
   );
   out.push(
-    `<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitNeg) + 15)}" font-size="12">n limit ${num(aircraft.nLimitNeg)}</text>`,
+    `<text x="${PLOT.left + 6}" y="${num(sy(aircraft.nLimitNeg) + 15)}" font-size="12" ${halo}>n limit ${num(aircraft.nLimitNeg)}</text>`,
   );
   if (vneX !== undefined) {
     const vneText = input.vneTasMps !== undefined ? `V_NE ${num(input.vneTasMps)} TAS` : 'V_NE (CAS value)';
     out.push(
-      `<text x="${num(sx(vneX) - 4)}" y="${PLOT.top + 14}" text-anchor="end" font-size="12" fill="${STYLE.vne.stroke}">${escapeXml(vneText)}</text>`,
+      `<text x="${num(sx(vneX) - 4)}" y="${PLOT.top + 14}" text-anchor="end" font-size="12" fill="${STYLE.vne.stroke}" ${halo}>${escapeXml(vneText)}</text>`,
     );
   }
   // Vs1 on the stall curve at n = 1 and the corner speed where it meets the structural limit.
@@ -241,7 +243,7 @@ export function renderNvPlotSvg(input: NvPlotInput): string {
     out.push(
       `<g id="${id(name)}"><line x1="${num(sx(v))}" y1="${num(sy(n))}" x2="${num(sx(v))}" y2="${PLOT.bottom}" stroke="#555555" stroke-width="1" stroke-dasharray="1 2"/>` +
         `<circle cx="${num(sx(v))}" cy="${num(sy(n))}" r="4" fill="#ffffff" stroke="${STYLE.stall.stroke}" stroke-width="2"/>` +
-        `<text x="${num(sx(v) + 6)}" y="${PLOT.bottom - 6}" font-size="11.5" fill="#333333">${escapeXml(text)}</text></g>`,
+        `<text x="${num(sx(v) + 6)}" y="${PLOT.bottom - 6}" font-size="11.5" fill="#333333" ${halo}>${escapeXml(text)}</text></g>`,
     );
   }
 

@@ -230,3 +230,24 @@ describe('simulate --card', () => {
     expect(sim.stdout.split('\n')[0]).toMatch(/"mass_kg":4\.6/);
   });
 });
+
+describe('conditions options of card and envelope', () => {
+  it('are one spec: the same words, units and defaults in both helps, and the same refusals', async () => {
+    const options = /^\s+(--(?:altitude|isa-dev|oat|mass) \S+)\s+(.*)$/;
+    const lines = (help: string) =>
+      help
+        .split('\n')
+        .map((l) => options.exec(l))
+        .filter((m) => m !== null)
+        .map((m) => `${m[1]} ${m[2]}`);
+    const [card, envelope] = await Promise.all([runCli(['card', '--help']), runCli(['envelope', '--help'])]);
+    expect(lines(card.stdout)).toHaveLength(4);
+    expect(lines(envelope.stdout)).toEqual(lines(card.stdout));
+    expect(lines(card.stdout)).toContain('--isa-dev K temperature deviation from ISA (unit: K (= °C); default: 0)');
+    for (const command of ['card', 'envelope']) {
+      const both = await runCli([command, '--aircraft', DEMO_AIRFRAME_PATH, '--isa-dev', '5', '--oat', '10']);
+      expect(both.code).toBe(2);
+      expect(both.stderr).toContain('give --isa-dev or --oat, not both');
+    }
+  });
+});

@@ -50,6 +50,15 @@ describe('progress while reading a long file', () => {
     expect(r.output).toContain('lines 60000: 60000 accepted, 0 rejected');
   });
 
+  it('shows one progress line over several files, with how many are done', async () => {
+    const r = await runInPty(['check', bigFile, bigFile, '--aircraft', EXAMPLE_AIRFRAME_PATH]);
+    expect(r.code).toBe(0);
+    expect(r.output).toMatch(/\rreviewing 2 files: +\d+ % \(\d+\.\d of \d+\.\d MiB\), [012] of 2 done/);
+    expect(r.output).toContain('reviewing 2 files: 100 % (');
+    expect(r.output).toContain('\r\x1b[2K');
+    expect(r.output).toContain('ALL PASS: no event reached warning in 2 flights');
+  });
+
   it('keeps stderr quiet when it is not a terminal', async () => {
     const r = await runCli(['check', bigFile, '--aircraft', EXAMPLE_AIRFRAME_PATH]);
     expect(r.code).toBe(0);

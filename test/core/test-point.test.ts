@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import type { CardPoint } from '../../src/core/card.js';
-import { createTestPointTracker, type TestPointRecord } from '../../src/core/test-point.js';
+import fc from 'fast-check';
+import { createTestPointTracker, mergeTestPointResults, type TestPointRecord } from '../../src/core/test-point.js';
 
 const point = (over: Partial<CardPoint> = {}): CardPoint => ({
   id: 'P01',
@@ -112,5 +113,53 @@ describe('test-point tracker', () => {
     expect(result.longest_hold_s).toBeCloseTo(0.4, 9);
     const touch = feed([rec(0, { bank_deg: 0 }), rec(0.1), rec(0.2, { bank_deg: 0 })])[0]!;
     expect(touch.status).toBe('not_flown');
+  });
+});
+
+describe('test points over several files', () => {
+  const points = [point(), point({ id: 'P02', bank_deg: 60, tas_mps: 18 })];
+  /** A file's records at 10 Hz from its start: each record near one point or the other, or off both. */
+  const file = fc
+    .array(fc.constantFrom(0, 1, 2), { maxLength: 60 })
+    .map((picks) =>
+      picks.map((p, i) =>
+        rec(Number((i * 0.1).toFixed(6)), p === 0 ? {} : p === 1 ? { bank_deg: 60, tas_mps: 18 } : { bank_deg: 5 }),
+      ),
+    );
+
+  it('merged per-file results equal one tracker fed the files one after the other (longest hold wins)', () => {
+    fc.assert(
+      fc.property(fc.array(file, { minLength: 1, maxLength: 4 }), (files) => {
+        const one = createTestPointTracker(points);
+        const perFile = files.map((records, i) => {
+          one.startFile(`f${i}.ndjson`);
+          const own = createTestPointTracker(points);
+          own.startFile(`f${i}.ndjson`);
+          for (const r of records) {
+            one.push(r);
+            own.push(r);
+          }
+          return own.results();
+        });
+        expect(mergeTestPointResults(perFile)).toEqual(one.results());
+      }),
+    );
+  });
+
+  it('keeps the earlier file of two equally long holds, and takes a longer one from a later file', () => {
+    const results = (records: TestPointRecord[], name: string) => {
+      const t = createTestPointTracker([point()]);
+      t.startFile(name);
+      for (const r of records) t.push(r);
+      return t.results();
+    };
+    const a = results(run(0, 11), 'a.ndjson'); // 1.0 s
+    const b = results(run(5, 11), 'b.ndjson'); // 1.0 s, same length
+    const c = results(run(9, 35), 'c.ndjson'); // 3.4 s
+    expect(mergeTestPointResults([a, b])[0]!.file).toBe('a.ndjson');
+    const all = mergeTestPointResults([a, b, c])[0]!;
+    expect(all.file).toBe('c.ndjson');
+    expect(all.status).toBe('achieved');
+    expect(all.start_t_s).toBe(9);
   });
 });

@@ -146,4 +146,22 @@ describe('time-history accumulator', () => {
     expect(h.series.ps_mps?.count).toBe(1);
     expect(h.series.ps_model_mps).toBeUndefined();
   });
+
+  it('lifts the pen over a stretch whose frames lack a series, but not over buckets no frame fell in', () => {
+    // The modelled Ps exists at full throttle only: 0–5 s and 10–15 s, none from 5 to 10 s (part throttle).
+    const acc = createTimeHistory();
+    for (let i = 0; i < 150; i++) {
+      const modelled = i < 50 || i >= 100;
+      acc.push(record(i / 10, 1, { ps_model_mps: modelled ? 0.5 : null } as Partial<MarginRecord>));
+    }
+    const ps = seriesPoints(acc.finish(), 'ps_model_mps');
+    const after = ps.find((p) => p.tS >= 10)!;
+    expect(after.tS).toBeCloseTo(10, 9);
+    expect(after.penUp).toBe(true);
+    expect(ps.filter((p) => p.penUp)).toHaveLength(2); // the first point and the one after the hole
+    // Two frames a second in buckets of 0.25 s: every other bucket holds no frame, yet the line runs through.
+    const slow = createTimeHistory();
+    for (let i = 0; i < 300; i++) slow.push(record(i * 0.5, 1));
+    expect(seriesPoints(slow.finish(), 'n_measured').filter((p) => p.penUp)).toHaveLength(1);
+  });
 });

@@ -48,6 +48,13 @@ describe('HTML report renderer', () => {
     expect(html).toContain('Every one of the 200 frames is drawn.');
   });
 
+  it('names V_NE with its value above the airspeed panel when it lies too far above the speeds flown to draw', () => {
+    // The flight holds 20 m/s; the example airframe's vne_mps is far above (a line there would squash the data).
+    const html = renderHtmlReport({ flights: [flight('a.ndjson')] });
+    expect(html).toContain(`V_NE (CAS) ${AIRCRAFT.vneMps} ↑`);
+    expect(html).not.toMatch(/<line class="ref"[^>]*stroke-dasharray="6 3 1 3"/);
+  });
+
   it('shows what later work adds when the review carries it: ended_by, model check, CAS and Ps, test points', () => {
     const f = flight('a.ndjson');
     const events = f.json.events as Array<Record<string, unknown>>;

@@ -170,3 +170,59 @@ describe('review --format html on a long flight', () => {
     expect(existsSync(file)).toBe(true);
   }, 90_000);
 });
+
+describe('review A B --format html (built CLI): several flights in one page', () => {
+  const CLEAN = join(REPO_ROOT, 'test/fixtures/review-clean.ndjson');
+  let html = '';
+  let json: { flights: Array<{ source: string; events: Array<Record<string, unknown>> }> };
+
+  beforeAll(async () => {
+    const dir = tmp();
+    const out = join(dir, 'R.html');
+    // review-flight.ndjson twice (its events), review-clean.ndjson between (no event).
+    const args = ['review', FLIGHT, CLEAN, FLIGHT, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--smooth', '0'];
+    const [h, j] = await Promise.all([
+      runCli([...args, '--format', 'html', '--out', out]),
+      runCli([...args, '--format', 'json']),
+    ]);
+    expect(h.stderr).toBe('');
+    expect(h.code).toBe(0);
+    expect(j.code).toBe(0);
+    html = readFileSync(out, 'utf8');
+    json = JSON.parse(j.stdout);
+  });
+
+  it('parses as HTML5 without an error and loads nothing from anywhere', () => {
+    expect(html5Errors(html)).toEqual([]);
+    expect(html).not.toMatch(/https?:/i);
+    expect(html).not.toMatch(/<script|<link|@import|@font-face|url\((?!#)/i);
+  });
+
+  it('has a summary table on top and one section per flight, each with well-formed charts', () => {
+    const summary = /<table class="summary">([\s\S]*?)<\/table>/.exec(html)![1]!;
+    expect(summary.match(/<tr>/g)).toHaveLength(4); // header and three flights
+    expect(html.indexOf('<table class="summary">')).toBeLessThan(html.indexOf('<section class="flight"'));
+    for (let i = 1; i <= 3; i++) expect(html).toContain(`<section class="flight" id="flight-${i}">`);
+    const charts = svgs(html);
+    expect(charts).toHaveLength(6); // time histories and the n–V plane per flight
+    for (const svg of charts) expect(checkXml(svg)[0]!.name).toBe('svg');
+    const ids = [...html.matchAll(/\sid="([^"]+)"/g)].map((m) => m[1]);
+    expect(new Set(ids).size).toBe(ids.length);
+  });
+
+  it("lists in each flight's exceedance table exactly that flight's events of review --format json", () => {
+    const sections = html.split('<section class="flight"').slice(1);
+    expect(sections).toHaveLength(3);
+    json.flights.forEach((f, i) => {
+      const rows = eventRows(sections[i]!);
+      expect(rows).toHaveLength(f.events.length);
+      f.events.forEach((e, k) => {
+        expect(rows[k]![1]).toBe((e['start_s'] as number).toFixed(2));
+        expect(rows[k]![2]).toBe((e['end_s'] as number).toFixed(2));
+        expect(rows[k]![5]).toContain(String(e['level']).toUpperCase());
+      });
+    });
+    expect(json.flights[0]!.events.length).toBe(8);
+    expect(json.flights[1]!.events.length).toBe(0);
+  });
+});

@@ -2,7 +2,6 @@
 import { existsSync, writeFileSync } from 'node:fs';
 import { basename, resolve as resolvePath } from 'node:path';
 import type { Aircraft } from '../../core/aircraft.js';
-import { MAX_ALTITUDE_M, MIN_ALTITUDE_M, type TemperatureOptions } from '../../core/atmosphere.js';
 import {
   buildCard,
   cardAirframeWarnings,
@@ -13,7 +12,6 @@ import {
   DEFAULT_TOLERANCE_TAS_MPS,
   MIN_CARD_LOAD_FACTOR,
 } from '../../core/card.js';
-import { MASS_MAX_KG, MASS_MIN_KG } from '../../core/units.js';
 import { cardToCsv, cardToJson, cardToMarkdown } from '../../report/card-report.js';
 import {
   choiceOption,
@@ -26,11 +24,9 @@ import {
   type ParsedArgs,
 } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
+import { altitudeFromArgs, CONDITIONS_OPTIONS, massFromArgs, temperatureFromArgs } from '../conditions-options.js';
 import { describeOutputError } from '../output-errors.js';
 import { loadAircraftFile, readJson } from '../load.js';
-import { createTestPointTracker, type TestPointResult } from '../../core/test-point.js';
-import type { MarginRecord } from '../../core/margin-record.js';
-import { testPointsToCsv, testPointsToMarkdown } from '../../report/card-report.js';
 
 /**
  * Read a card file for simulate, review or check: a malformed card is refused with every problem listed; a card
@@ -60,34 +56,6 @@ export const CARD_OPTION: OptionSpec = {
   description: 'a test card (JSON from `turnmargin card`): report which of its points were achieved (test_points)',
 };
 
-/** A card followed through a review: feed it records and breaks, then read the points' results or render them. */
-export interface CardReview {
-  onRecord(rec: MarginRecord): void;
-  onBreak(): void;
-  results(): TestPointResult[];
-  /** The review text with the test points added (JSON: a `test_points` key; Markdown and CSV: a section after). */
-  render(format: 'md' | 'json' | 'csv', reviewJson: object, reviewText: string): string;
-}
-
-/** For review/check: null without --card; the card is read (and refused or warned about) before the flight. */
-export function openCardReview(cardPath: string | undefined, aircraft: Aircraft, file: string): CardReview | null {
-  if (cardPath === undefined) return null;
-  const card = loadCardFile(cardPath, aircraft);
-  const tracker = createTestPointTracker(card.points);
-  tracker.startFile(basename(file));
-  return {
-    onRecord: (rec) => tracker.push(rec),
-    onBreak: () => tracker.breakHere(),
-    results: () => tracker.results(),
-    render(format, reviewJson, reviewText) {
-      const points = tracker.results();
-      if (format === 'json') return JSON.stringify({ ...reviewJson, test_points: points }, null, 2) + '\n';
-      if (format === 'csv') return reviewText + '\n' + testPointsToCsv(points);
-      return reviewText + '\n' + testPointsToMarkdown(points, basename(cardPath));
-    },
-  };
-}
-
 export const spec: CommandSpec = {
   name: 'card',
   summary: 'plan a build-up of turn test points (a test card) from the airframe model',
@@ -97,37 +65,7 @@ export const spec: CommandSpec = {
     '                       [--format md|json|csv] [--out FILE [--force]]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON); required' },
-    {
-      name: 'altitude',
-      type: 'string',
-      valueName: 'M',
-      unit: 'm, pressure altitude',
-      defaultText: '0',
-      description: 'altitude of the test points',
-    },
-    {
-      name: 'isa-dev',
-      type: 'string',
-      valueName: 'K',
-      unit: 'K (= °C)',
-      defaultText: '0',
-      description: 'temperature deviation from ISA',
-    },
-    {
-      name: 'oat',
-      type: 'string',
-      valueName: 'C',
-      unit: '°C',
-      description: 'outside air temperature (instead of --isa-dev)',
-    },
-    {
-      name: 'mass',
-      type: 'string',
-      valueName: 'KG',
-      unit: 'kg',
-      defaultText: "the file's mass_kg",
-      description: 'mass',
-    },
+    ...CONDITIONS_OPTIONS,
     {
       name: 'speeds',
       type: 'string',
@@ -184,22 +122,12 @@ export const spec: CommandSpec = {
   ],
 };
 
-function temperatureOptions(args: ParsedArgs): TemperatureOptions {
-  const isaDev = numberOption(args, 'isa-dev', undefined, { min: -100, max: 100 });
-  const oat = numberOption(args, 'oat', undefined, { min: -100, max: 70 });
-  if (isaDev !== undefined && oat !== undefined) throw new UsageError('give --isa-dev or --oat, not both');
-  const t: TemperatureOptions = {};
-  if (isaDev !== undefined) t.isaDeviationK = isaDev;
-  if (oat !== undefined) t.oatC = oat;
-  return t;
-}
-
 export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
   const aircraftPath = requireOption(args, 'aircraft');
   const format = choiceOption(args, 'format', ['md', 'json', 'csv'] as const, 'md');
-  const temperature = temperatureOptions(args);
-  const altitudeM = numberOption(args, 'altitude', 0, { min: MIN_ALTITUDE_M, max: MAX_ALTITUDE_M });
+  const temperature = temperatureFromArgs(args);
+  const altitudeM = altitudeFromArgs(args);
   const speeds = numberListOption(args, 'speeds', { above: 0, max: 300 });
   const steps = numberListOption(args, 'steps', { above: 0 });
   if (steps?.some((s) => s >= 1)) {
@@ -217,7 +145,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     throw new UsageError(`--out ${out} exists; give --force to overwrite it`);
   }
   const aircraft = loadAircraftFile(aircraftPath);
-  const massKg = numberOption(args, 'mass', aircraft.massKg, { min: MASS_MIN_KG, max: MASS_MAX_KG });
+  const massKg = massFromArgs(args, aircraft);
 
   const result = buildCard(aircraft, {
     altitudeM,

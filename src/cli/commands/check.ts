@@ -1,23 +1,29 @@
 /**
- * `turnmargin check FILE --aircraft FILE [--fail-on caution|warning]`: pass/fail of a recorded flight for an
- * autopilot's CI. Exit 0 when no event reaches the level, 1 when one does, 2 for unusable input.
+ * `turnmargin check FILE… --aircraft FILE [--fail-on caution|warning]`: pass/fail of recorded flights for an
+ * autopilot's CI. Exit 0 when no event of any flight reaches the level, 1 when one does, 2 for unusable input.
  */
 import { checkSummary, failingEvents, type FailLevel } from '../../report/review-report.js';
+import { flightsCheckSummary } from '../../report/multi-review-report.js';
 import { choiceOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { EXIT_CHECK_FAILED, EXIT_OK, UsageError } from '../../errors.js';
 import { testPointSummary } from '../../report/card-report.js';
-import { CARD_OPTION, openCardReview } from './card.js';
-import { FLIGHT_INPUT_OPTIONS, parseFlightInput, reviewFlight } from './review.js';
+import { parseFlightInputs, reviewFlights, testPointsOverFlights } from '../review-flights.js';
+import { CARD_OPTION, loadCardFile } from './card.js';
+import { FLIGHT_INPUT_OPTIONS } from './review.js';
 
 export const spec: CommandSpec = {
   name: 'check',
-  summary: 'pass/fail a recorded flight against the alert levels (for CI)',
+  summary: 'pass/fail recorded flights against the alert levels (for CI)',
   usage:
-    'turnmargin check FILE --aircraft FILE [--fail-on caution|warning] [--card CARD.json [--require-points]] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--mapping FILE]',
+    'turnmargin check FILE... --aircraft FILE [--fail-on caution|warning] [--card CARD.json [--require-points]] [--thresholds FILE] [--smooth S] [--rate-window S] [--throttle full|idle] [--mapping FILE]',
   options: [
     ...FLIGHT_INPUT_OPTIONS,
     CARD_OPTION,
-    { name: 'require-points', type: 'boolean', description: 'with --card: fail (exit 1) when a point is not achieved' },
+    {
+      name: 'require-points',
+      type: 'boolean',
+      description: 'with --card: fail (exit 1) when a point is not achieved in any of the flights',
+    },
     {
       name: 'fail-on',
       type: 'string',
@@ -31,22 +37,36 @@ export const spec: CommandSpec = {
       '(unreadable file, invalid airframe or thresholds, no accepted frame, or no limit computable on any flying frame: ' +
       'nothing checked is not a pass). Rejected lines are reported but do not by ' +
       'themselves fail the check.',
+    'Several FILEs are checked together (in parallel, one per core): a summary per flight, then the verdict over ' +
+      'all of them; exit 1 when any flight fails. With --card the points count over all flights (the longest hold ' +
+      'in any file), so --require-points passes when every point was achieved in some flight.',
     "Advisory only; the aircraft's approved limits, the operator's procedures and local aviation rules take precedence.",
   ],
 };
 
 export async function run(args: ParsedArgs): Promise<number> {
   const failOn = choiceOption<FailLevel>(args, 'fail-on', ['caution', 'warning'], 'warning');
-  const input = parseFlightInput(args, 'check');
+  const inputs = parseFlightInputs(args, 'check');
   if (args.values['require-points'] === true && args.values['card'] === undefined)
     throw new UsageError('--require-points needs --card FILE');
-  const card = openCardReview(stringOption(args, 'card'), input.aircraft, input.file);
-  const review = await reviewFlight(input, card?.onRecord, card?.onBreak);
+  const cardPath = stringOption(args, 'card');
+  const card = cardPath !== undefined ? loadCardFile(cardPath, inputs[0]!.aircraft) : undefined;
+  const flights = await reviewFlights(inputs, card ? { cardPoints: card.points } : {});
+  const reported = flights.map((f) => ({
+    review: f.review,
+    ctx: { source: f.input.file, aircraft: f.input.aircraft, aircraftFile: f.input.aircraftFile },
+    label: f.label,
+    received: f.received,
+  }));
   process.stdout.write(
-    checkSummary(review, { source: input.file, aircraft: input.aircraft, aircraftFile: input.aircraftFile }, failOn),
+    reported.length === 1
+      ? checkSummary(reported[0]!.review, reported[0]!.ctx, failOn)
+      : flightsCheckSummary(reported, failOn),
   );
-  const missed = card ? card.results().filter((p) => p.status !== 'achieved') : [];
-  if (card) process.stdout.write(testPointSummary(card.results()));
+  const points = testPointsOverFlights(flights);
+  if (points !== null) process.stdout.write(testPointSummary(points));
+  const missed = points?.filter((p) => p.status !== 'achieved') ?? [];
   const pointsFail = args.values['require-points'] === true && missed.length > 0;
-  return failingEvents(review, failOn).length > 0 || pointsFail ? EXIT_CHECK_FAILED : EXIT_OK;
+  const eventsFail = flights.some((f) => failingEvents(f.review, failOn).length > 0);
+  return eventsFail || pointsFail ? EXIT_CHECK_FAILED : EXIT_OK;
 }

@@ -1,10 +1,8 @@
 /** `turnmargin envelope`: the turn envelope at one condition, or a bank-limit schedule over altitudes and masses. */
-import { MAX_ALTITUDE_M, MIN_ALTITUDE_M } from '../../core/atmosphere.js';
 import { computeBankSchedule } from '../../core/bank-schedule.js';
 import { computeEnvelope, type Envelope } from '../../core/envelope.js';
 import { stallSpeedMps, topSpeedMps, vneTasMps } from '../../core/performance.js';
-import { MASS_MAX_KG, MASS_MIN_KG } from '../../core/units.js';
-import { computeAirState, type TemperatureOptions } from '../../core/atmosphere.js';
+import { computeAirState } from '../../core/atmosphere.js';
 import type { Aircraft } from '../../core/aircraft.js';
 import { bankScheduleToCsv, bankScheduleToJson, bankScheduleToTable } from '../../report/bank-schedule-report.js';
 import { envelopeToCsv, envelopeToJson, envelopeToTable, turnsToCsv } from '../../report/envelope-report.js';
@@ -18,48 +16,26 @@ import {
   type ParsedArgs,
 } from '../args.js';
 import { UsageError } from '../../errors.js';
+import {
+  ALTITUDE_RULE,
+  altitudeFromArgs,
+  CONDITIONS_OPTIONS,
+  MASS_RULE,
+  massFromArgs,
+  temperatureFromArgs,
+} from '../conditions-options.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
 
 export const spec: CommandSpec = {
   name: 'envelope',
   summary: 'print the turn envelope (load-factor limits against TAS) of an airframe',
   usage:
-    'turnmargin envelope --aircraft FILE [--altitude M] [--isa-dev C | --oat C] [--mass KG] ' +
+    'turnmargin envelope --aircraft FILE [--altitude M] [--isa-dev K | --oat C] [--mass KG] ' +
     '[--speeds V1,V2,… | --from V --to V --step V] [--banks B1,B2,…] [--format table|json|csv]\n' +
     '       turnmargin envelope --aircraft FILE --altitudes A1,A2,… [--masses M1,M2,…] [--thresholds FILE] [--format csv|json|table]',
   options: [
     { name: 'aircraft', type: 'string', valueName: 'FILE', description: 'airframe model (JSON)' },
-    {
-      name: 'altitude',
-      type: 'string',
-      valueName: 'M',
-      unit: 'm, pressure altitude',
-      defaultText: '0',
-      description: 'altitude of the envelope',
-    },
-    {
-      name: 'isa-dev',
-      type: 'string',
-      valueName: 'C',
-      unit: '°C (= K)',
-      defaultText: '0',
-      description: 'temperature deviation from ISA',
-    },
-    {
-      name: 'oat',
-      type: 'string',
-      valueName: 'C',
-      unit: '°C',
-      description: 'outside air temperature (instead of --isa-dev)',
-    },
-    {
-      name: 'mass',
-      type: 'string',
-      valueName: 'KG',
-      unit: 'kg',
-      defaultText: "the file's mass_kg",
-      description: 'aircraft mass',
-    },
+    ...CONDITIONS_OPTIONS,
     { name: 'speeds', type: 'string', valueName: 'V1,V2,…', unit: 'm/s TAS', description: 'speeds to tabulate' },
     {
       name: 'from',
@@ -139,21 +115,9 @@ export const spec: CommandSpec = {
   ],
 };
 
-const ALTITUDE_RULE = { min: MIN_ALTITUDE_M, max: MAX_ALTITUDE_M };
-const MASS_RULE = { min: MASS_MIN_KG, max: MASS_MAX_KG };
 const MAX_POINTS = 100_000;
 const MAX_CONDITIONS = 10_000;
 const MAX_SCHEDULE_ROWS = 1_000_000;
-
-function temperatureOptions(args: ParsedArgs): TemperatureOptions {
-  const isaDev = numberOption(args, 'isa-dev', undefined, { min: -100, max: 100 });
-  const oat = numberOption(args, 'oat', undefined, { min: -100, max: 70 });
-  if (isaDev !== undefined && oat !== undefined) throw new UsageError('give --isa-dev or --oat, not both');
-  const t: TemperatureOptions = {};
-  if (isaDev !== undefined) t.isaDeviationK = isaDev;
-  if (oat !== undefined) t.oatC = oat;
-  return t;
-}
 
 function speedList(
   args: ParsedArgs,
@@ -229,7 +193,7 @@ function speedNotes(aircraft: Aircraft, envelope: Envelope): string[] {
 export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
   const aircraftPath = requireOption(args, 'aircraft');
-  const temperature = temperatureOptions(args);
+  const temperature = temperatureFromArgs(args);
   const altitudes = numberListOption(args, 'altitudes', ALTITUDE_RULE);
   const masses = numberListOption(args, 'masses', MASS_RULE);
   const thresholdsPath = stringOption(args, 'thresholds');
@@ -291,8 +255,8 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (thresholdsPath) throw new UsageError('--thresholds goes with --altitudes (the schedule applies them)');
 
   const format = choiceOption(args, 'format', ['table', 'json', 'csv'] as const, 'table');
-  const altitudeM = numberOption(args, 'altitude', 0, ALTITUDE_RULE);
-  const massKg = numberOption(args, 'mass', aircraft.massKg, MASS_RULE);
+  const altitudeM = altitudeFromArgs(args);
+  const massKg = massFromArgs(args, aircraft);
   const air = computeAirState(altitudeM, temperature);
   const rho = air.densityKgM3;
   const speeds = speedList(

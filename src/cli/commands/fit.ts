@@ -23,7 +23,7 @@ import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { choiceOption, numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { loadAircraftFile, readJson } from '../load.js';
 import { checkOutputPath, createOutputFile, inputFilesOf } from '../output-path.js';
-import { reviewFlight, type FlightInput } from './review.js';
+import { reviewFlights, type FlightInput } from '../review-flights.js';
 
 /** Rate windows accepted, s (shorter is noise, longer smears every manoeuvre). */
 const RATE_WINDOW_MIN_S = 0.2;
@@ -152,7 +152,9 @@ export async function run(args: ParsedArgs): Promise<number> {
     };
     if (mappingPath !== undefined) input.mappingPath = mappingPath;
     accumulator.startFile();
-    const review = await reviewFlight(input, accumulator.record, accumulator.breakData);
+    // One file at a time: the accumulator takes the records of all files in order.
+    const flights = await reviewFlights([input], { onRecord: accumulator.record, onBreak: accumulator.breakData });
+    const review = flights[0]!.review;
     if (review.rejected > 0)
       rejectedNotes.push(
         `${file}: ${review.rejected} rejected line${review.rejected === 1 ? '' : 's'} not used (see turnmargin review for the reasons)`,
