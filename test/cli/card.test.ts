@@ -1,4 +1,4 @@
-import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { linkSync, mkdtempSync, readdirSync, readFileSync, rmSync, symlinkSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
@@ -78,6 +78,38 @@ describe('turnmargin card', () => {
     expect(step.code).toBe(2);
     expect(step.stderr).toMatch(/--steps must be fractions above 0 and below 1/);
   });
+});
+
+it('never writes --out over the airframe file, not even through a symbolic or hard link with --force', async () => {
+  const airframe = join(dir, 'airframe-kept.json');
+  const original = readFileSync(DEMO_AIRFRAME_PATH, 'utf8');
+  writeFileSync(airframe, original);
+  const soft = join(dir, 'soft-link.json');
+  const hard = join(dir, 'hard-link.json');
+  symlinkSync(airframe, soft);
+  linkSync(airframe, hard);
+  for (const out of [airframe, soft, hard]) {
+    const r = await runCli(['card', '--aircraft', airframe, '--format', 'json', '--out', out, '--force']);
+    expect(r.code, out).toBe(2);
+    expect(r.stderr).toMatch(/is the --aircraft file.*would destroy it/);
+    expect(readFileSync(airframe, 'utf8')).toBe(original);
+  }
+});
+
+it('refuses a missing directory, a directory and an empty name for --out, and leaves no temporary file', async () => {
+  const missing = await runCli(['card', '--aircraft', DEMO_AIRFRAME_PATH, '--out', join(dir, 'nowhere', 'c.json')]);
+  expect(missing.code).toBe(2);
+  expect(missing.stderr).toMatch(/no such directory/);
+  const directory = await runCli(['card', '--aircraft', DEMO_AIRFRAME_PATH, '--out', dir]);
+  expect(directory.code).toBe(2);
+  expect(directory.stderr).toMatch(/is a directory/);
+  const empty = await runCli(['card', '--aircraft', DEMO_AIRFRAME_PATH, '--out', '']);
+  expect(empty.code).toBe(2);
+  const written = join(dir, 'fresh-card.md');
+  const ok = await runCli(['card', '--aircraft', DEMO_AIRFRAME_PATH, '--out', written]);
+  expect(ok.code, ok.stderr).toBe(0);
+  expect(readFileSync(written, 'utf8')).toMatch(/^# Turn test card/);
+  expect(readdirSync(dir).filter((f) => f.includes('fresh-card') && f !== 'fresh-card.md')).toEqual([]);
 });
 
 describe('simulate --card', () => {

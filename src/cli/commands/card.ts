@@ -1,6 +1,5 @@
 /** `turnmargin card`: plan a build-up of level-turn test points from the airframe model at one condition. */
-import { existsSync, writeFileSync } from 'node:fs';
-import { basename, resolve as resolvePath } from 'node:path';
+import { basename } from 'node:path';
 import type { Aircraft } from '../../core/aircraft.js';
 import {
   buildCard,
@@ -25,7 +24,7 @@ import {
 } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { altitudeFromArgs, CONDITIONS_OPTIONS, massFromArgs, temperatureFromArgs } from '../conditions-options.js';
-import { describeOutputError } from '../output-errors.js';
+import { checkOutputPath, createOutputFile, inputFilesOf } from '../output-path.js';
 import { loadAircraftFile, readJson } from '../load.js';
 
 /**
@@ -138,11 +137,10 @@ export async function run(args: ParsedArgs): Promise<number> {
   const tolTas = numberOption(args, 'tolerance-speed', DEFAULT_TOLERANCE_TAS_MPS, { above: 0, max: 20 });
   const out = stringOption(args, 'out');
   if (args.values['force'] && out === undefined) throw new UsageError('--force applies to --out only');
-  if (out !== undefined && resolvePath(out) === resolvePath(aircraftPath)) {
-    throw new UsageError(`--out ${out} is the --aircraft file: writing there would overwrite it`);
-  }
-  if (out !== undefined && existsSync(out) && !args.values['force']) {
-    throw new UsageError(`--out ${out} exists; give --force to overwrite it`);
+  // The shared check: an input by any name (a symbolic or hard link to the airframe too), FIFOs, directories, a
+  // missing directory, and an existing file without --force are refused before any work.
+  if (out !== undefined) {
+    checkOutputPath({ option: 'out', path: out, force: args.values['force'] === true, inputs: inputFilesOf(args) });
   }
   const aircraft = loadAircraftFile(aircraftPath);
   const massKg = massFromArgs(args, aircraft);
@@ -172,11 +170,9 @@ export async function run(args: ParsedArgs): Promise<number> {
     process.stdout.write(text);
     return EXIT_OK;
   }
-  try {
-    writeFileSync(out, text);
-  } catch (err) {
-    throw new InputError([`${out}: cannot write (${describeOutputError(err as NodeJS.ErrnoException)})`]);
-  }
+  const writer = createOutputFile(out);
+  writer.write(text);
+  writer.commit();
   process.stderr.write(`wrote ${card.points.length} points to ${out}\n`);
   return EXIT_OK;
 }
