@@ -274,6 +274,21 @@ describe('turnmargin simulate', () => {
     expect(() => readFileSync(out)).toThrow();
   });
 
+  it('refuses a malformed --udp or --ws-listen address before it flies the plan (no flight summary first)', async () => {
+    const cases: Array<[string[], RegExp]> = [
+      [['--udp', '5000'], /--udp must be HOST:PORT/],
+      [['--udp', '127.0.0.1:0'], /--udp needs the port the receiver listens on/],
+      [['--ws-listen', 'abc'], /--ws-listen must be HOST:PORT/],
+      [['--ws-listen', '0.0.0.0:0'], /not a loopback address; give --allow-remote/],
+    ];
+    for (const [option, message] of cases) {
+      const r = await runCli(['simulate', '--aircraft', EXAMPLE_AIRFRAME_PATH, '--plan', shortPlan, ...option]);
+      expect(r.code, option.join(' ')).toBe(2);
+      expect(r.stderr).toMatch(message);
+      expect(r.stderr).not.toMatch(/simulated "/);
+    }
+  });
+
   it('states in --help what the model ignores', async () => {
     const r = await runCli(['simulate', '--help']);
     expect(r.code).toBe(0);

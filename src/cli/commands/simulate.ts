@@ -404,17 +404,20 @@ async function openPtySink(): Promise<LiveSink & { path: string }> {
   };
 }
 
-async function openWsSink(hostPort: string, allowRemote: boolean): Promise<LiveSink> {
+/** The --ws-listen address, checked before the flight is simulated (a usage slip costs no work). */
+function wsListenAddress(hostPort: string, allowRemote: boolean): { host: string; port: number } {
   const parsed = parseListenAddress(hostPort);
   if (!parsed.ok) throw new UsageError(`--ws-listen ${parsed.reason}`);
-  const { host, port } = parsed.value;
-  if (!isLoopbackHost(host)) {
-    if (!allowRemote)
-      throw new UsageError(
-        `--ws-listen ${host} is not a loopback address; give --allow-remote to listen on the network`,
-      );
+  const { host } = parsed.value;
+  if (!isLoopbackHost(host) && !allowRemote)
+    throw new UsageError(`--ws-listen ${host} is not a loopback address; give --allow-remote to listen on the network`);
+  return parsed.value;
+}
+
+async function openWsSink(hostPort: string, address: { host: string; port: number }): Promise<LiveSink> {
+  const { host, port } = address;
+  if (!isLoopbackHost(host))
     process.stderr.write(`turnmargin: warning: listening on ${host}: anyone who can reach this machine can connect\n`);
-  }
   const { WebSocketServer, WebSocket } = await import('ws');
   const wss = new WebSocketServer({ host, port, maxPayload: 64 * 1024 });
   await new Promise<void>((resolve, reject) => {
@@ -454,11 +457,16 @@ async function openWsSink(hostPort: string, allowRemote: boolean): Promise<LiveS
 export const END_OF_FLIGHT = 'end of flight';
 
 /** UDP: each frame line is one datagram, sent to HOST:PORT (no connection, no reader to wait for). */
-async function openUdpSink(hostPort: string): Promise<LiveSink> {
+/** The --udp destination, checked before the flight is simulated (a usage slip costs no work). */
+function udpDestination(hostPort: string): { host: string; port: number } {
   const parsed = parseListenAddress(hostPort);
   if (!parsed.ok) throw new UsageError(`--udp ${parsed.reason}`);
-  const { host, port } = parsed.value;
-  if (port === 0) throw new UsageError('--udp needs the port the receiver listens on (not 0)');
+  if (parsed.value.port === 0) throw new UsageError('--udp needs the port the receiver listens on (not 0)');
+  return parsed.value;
+}
+
+async function openUdpSink(hostPort: string, destination: { host: string; port: number }): Promise<LiveSink> {
+  const { host, port } = destination;
   const socket = createSocket(isIPv6(host) ? 'udp6' : 'udp4');
   let failure: Error | null = null;
   socket.on('error', (err) => (failure = err));
@@ -597,6 +605,9 @@ export async function run(args: ParsedArgs): Promise<number> {
     throw new UsageError('--allow-remote applies to --ws-listen only');
   if (out !== undefined)
     checkOutputPath({ option: 'out', path: out, force: args.values['force'] === true, inputs: inputFilesOf(args) });
+  const udpTarget = udp !== undefined ? udpDestination(udp) : undefined;
+  const wsAddress =
+    wsListen !== undefined ? wsListenAddress(wsListen, args.values['allow-remote'] === true) : undefined;
   if (plan.airspeedKey === 'ias_mps') {
     try {
       createFrameWriter(aircraft, plan, { seed });
@@ -663,10 +674,10 @@ export async function run(args: ParsedArgs): Promise<number> {
       process.stdout.write(`pseudo-terminal ${ptySink.path}\n`);
       process.stderr.write(`turnmargin: try: turnmargin watch --serial ${ptySink.path} --aircraft FILE\n`);
       sink = ptySink;
-    } else if (udp !== undefined) {
-      sink = await openUdpSink(udp);
+    } else if (udp !== undefined && udpTarget !== undefined) {
+      sink = await openUdpSink(udp, udpTarget);
     } else {
-      sink = await openWsSink(wsListen!, args.values['allow-remote'] === true);
+      sink = await openWsSink(wsListen!, wsAddress!);
     }
     let count = 0;
     try {
