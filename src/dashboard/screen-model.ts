@@ -14,7 +14,7 @@ import type { AlertThresholds } from '../core/thresholds.js';
 import { STALE_AFTER_S, type LinkHealth, type LinkState } from '../sources/link-health.js';
 import { LIMITS, closestLimit, describeAlert, levelTone, levelWord, limitLevel, limitWord } from './format-alert.js';
 import { buildUtilizationBar } from './format-bars.js';
-import { fitLine, lineWidth, seg, type Line, type Tone } from './format-tags.js';
+import { fitLine, lineWidth, seg, type Line, type Segment, type Tone } from './format-tags.js';
 import {
   fitPathTail,
   fitText,
@@ -780,6 +780,30 @@ function signedWithUnit(value: number | null, decimals: number, unit: string): s
 }
 
 /**
+ * The row of marks, one per point (▸ before the point shown), in at most `room` columns: a long card, or a long
+ * hold text beside it, shows the stretch around the point shown with … where points are left out; nothing when
+ * even a few marks do not fit.
+ */
+function cardMarks(statuses: readonly TestPointStatus[], selected: number, room: number): Line {
+  const mark = (st: TestPointStatus, i: number): Segment[] => [
+    seg(i === selected ? '▸' : '', 'key'),
+    seg(STATUS_MARK[st], st === 'achieved' ? 'ok' : st === 'partial' ? 'caution' : 'dim'),
+  ];
+  const all = statuses.length + 2; // a space before, and ▸
+  if (all <= room) return [seg(' '), ...statuses.flatMap(mark)];
+  const shown = room - 4; // a space, ▸ and an ellipsis at each end
+  if (shown < 3) return [];
+  const start = Math.max(0, Math.min(selected - Math.floor(shown / 2), statuses.length - shown));
+  const end = start + shown;
+  return [
+    seg(' '),
+    seg(start > 0 ? '…' : '', 'dim'),
+    ...statuses.slice(start, end).flatMap((st, k) => mark(st, start + k)),
+    seg(end < statuses.length ? '…' : '', 'dim'),
+  ];
+}
+
+/**
  * The test point panel: the point shown (the next not yet achieved, or the one stepped to with n/p), its targets
  * with the present deviation from each, the hold timer, and a mark per point of the card (✓ achieved, ~ partly
  * held, · not yet).
@@ -818,17 +842,9 @@ export function buildCardPanel(input: ScreenInput, view: LiveCardView, stale: bo
   } else {
     hold = [seg('not held', 'caution'), seg(` · hold ${formatFixed(p.hold_s, 1)} s`, 'dim')];
   }
-  const marks: Line = [seg(' ')];
-  view.statuses.forEach((st, i) => {
-    marks.push(
-      seg(i === view.selected ? '▸' : '', 'key'),
-      seg(STATUS_MARK[st], st === 'achieved' ? 'ok' : st === 'partial' ? 'caution' : 'dim'),
-    );
-  });
+  const marks = cardMarks(view.statuses, view.selected, width - lineWidth(hold) - 1);
   const holdLine =
-    lineWidth(hold) + lineWidth(marks) + 1 <= width
-      ? [...hold, seg(' '.repeat(width - lineWidth(hold) - lineWidth(marks))), ...marks]
-      : hold;
+    marks.length > 0 ? [...hold, seg(' '.repeat(width - lineWidth(hold) - lineWidth(marks))), ...marks] : hold;
 
   const lines: Line[] = [];
   if (height >= 3) {

@@ -477,6 +477,37 @@ describe('the test point panel (--card)', () => {
     expect(text(panel.lines)).toMatch(/held 3\.1 of 3\.0 s ACHIEVED/);
   });
 
+  it('keeps the row of marks at 80×24 beside a long hold text, and shows the stretch around the point of a long card', () => {
+    const cardOf = (count: number): CardPoint[] =>
+      Array.from({ length: count }, (_, i) => ({
+        ...(i === 0 ? p30 : p45),
+        id: `P${String(i + 1).padStart(2, '0')}`,
+      }));
+    const width = innerSize(LAYOUT_80x24_CARD.card).width;
+    const holdLineOf = (points: CardPoint[], shown: number): string => {
+      const card = createLiveCard(points, 'card.json');
+      // 0.5 s at P01's 30°: held in part, so P01 stays the point shown with its best hold.
+      for (let i = 0; i <= 10; i++) card.push({ ...turn45, t_s: i * 0.05, bank_deg: 30, tas_mps: 20 });
+      card.push({ ...turn45, t_s: 0.6, bank_deg: 0, tas_mps: 20 });
+      for (let i = 0; i < shown; i++) card.step(1);
+      const panel = buildScreenModel(screenInput({ record: turn45, card: card.view() }), LAYOUT_80x24_CARD).card!;
+      for (const l of panel.lines) expect(Array.from(lineText(l)).length).toBeLessThanOrEqual(width);
+      return lineText(panel.lines.at(-1)!);
+    };
+    // The default card of `card` has 14 points: beside "not held · best 0.5 of 3.0 s" the row used to vanish; now
+    // it shows the first points, P01 marked as shown and held in part, and … for the rest.
+    const fourteen = holdLineOf(cardOf(14), 0);
+    expect(fourteen).toContain('not held · best 0.5 of 3.0 s');
+    expect(fourteen).toMatch(/ ▸~·{3,}…$/);
+    // Beside a short hold text the whole row fits: the two points of a shorter card.
+    expect(holdLineOf(cardOf(2), 1)).toMatch(/ ~▸·$/);
+    // 40 points: the stretch around the point shown (P21), the points left out marked with … at each end.
+    const forty = holdLineOf(cardOf(40), 20);
+    expect(forty).toMatch(/ …·+▸·+…$/);
+    const marks = forty.slice(forty.indexOf('…'));
+    expect(Array.from(marks).length).toBeLessThan(40);
+  });
+
   it('gives the speed deviation in the chosen units', () => {
     const model = buildScreenModel(screenInput({ record: turn45, card: holding, units: 'kt' }), LAYOUT_80x24_CARD);
     // 20 m/s = 38.9 kt and 0.4 m/s = 0.78 kt (exact knot definition, 1852 m per hour).
