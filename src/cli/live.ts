@@ -309,8 +309,12 @@ export async function runMonitor(options: MonitorOptions): Promise<number> {
     dashboard?.destroy();
     removeCrashHandlers?.();
   }
-  // A reader that has stopped reading must not keep the process alive: wait for it a short while only.
+  // A reader that has stopped reading must not keep the process alive: wait for it a short while only. A signal
+  // during that bounded wait must not kill the process before the summary and the count of records not printed.
+  const duringSettle = (): void => undefined;
+  for (const signal of ['SIGINT', 'SIGTERM', 'SIGHUP'] as const) process.on(signal, duringSettle);
   const drained = outputBroken || ((await out?.settle(1500)) ?? true);
+  for (const signal of ['SIGINT', 'SIGTERM', 'SIGHUP'] as const) process.off(signal, duringSettle);
   out?.close();
   if (!drained && stdout === process.stdout) setTimeout(() => process.exit(process.exitCode ?? 0), 200);
   // After the dashboard has restored the terminal, the summary goes to stderr in both modes.

@@ -227,4 +227,29 @@ describe('watch --ws under abuse', () => {
     expect(recorded.length).toBe(Number(/lines (\d+), accepted/.exec(stderr)![1]));
     expect(recorded.length).toBeGreaterThanOrEqual(accepted);
   }, 60_000);
+
+  it('a SIGTERM while a headless replay that has ended waits for a stopped stdout reader still gives the summary and the count not printed, exit 0', async () => {
+    const flight = join(dir, 'ended-replay.ndjson');
+    const frames: string[] = [];
+    for (let i = 0; i < 3000; i++)
+      frames.push(JSON.stringify({ t_s: i * 0.01, tas_mps: 20, alt_m: 150, bank_deg: 30 }));
+    writeFileSync(flight, frames.join('\n') + '\n');
+    const child = spawn(
+      process.execPath,
+      [CLI_PATH, 'replay', flight, '--aircraft', EXAMPLE_AIRFRAME_PATH, '--speed', '0', '--no-ui'],
+      { cwd: REPO_ROOT, env: { ...process.env, NO_COLOR: '1', TURNMARGIN_MAX_PENDING_STDOUT_BYTES: '65536' } },
+    );
+    cleanup.push(() => child.kill('SIGKILL'));
+    child.stdout.pause(); // nobody reads stdout
+    let stderr = '';
+    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
+    const exited = new Promise<number | null>((resolve) => child.on('exit', (code) => resolve(code)));
+    await expect.poll(() => stderr, { timeout: 20_000 }).toMatch(/stdout too slow: margin records are not printed/);
+    // The 3000 frames are judged in well under a second: the replay has ended and gives the reader its last 1.5 s.
+    await new Promise((r) => setTimeout(r, 500));
+    child.kill('SIGTERM');
+    expect(await exited).toBe(0);
+    expect(stderr).toMatch(/link summary — file .*ended-replay\.ndjson: ended/);
+    expect(Number(/stdout too slow: (\d+) records not printed\n/.exec(stderr)?.[1])).toBeGreaterThan(0);
+  }, 30_000);
 });
