@@ -183,9 +183,12 @@ export function buildCard(aircraft: Aircraft, request: CardRequest): CardResult 
         continue;
       }
       if (n < MIN_CARD_LOAD_FACTOR) {
-        exclude(
-          `load factor ${fmt(n, 3)} is below ${MIN_CARD_LOAD_FACTOR} (too close to wings level at ${fmt(v, 1)} m/s)`,
-        );
+        // Below Vs1 no level flight exists at all: say so rather than "too close to wings level".
+        const why =
+          v < vs1
+            ? `${fmt(v, 1)} m/s is below the 1-g stall speed Vs1 ${fmt(vs1)} m/s TAS: no level flight there`
+            : `too close to wings level at ${fmt(v, 1)} m/s`;
+        exclude(`load factor ${fmt(n, 3)} is below ${MIN_CARD_LOAD_FACTOR} (${why})`);
         continue;
       }
       const uStall = n / nStall;

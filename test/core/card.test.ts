@@ -84,6 +84,21 @@ describe('card: targets', () => {
     expect(c.points.length + c.excluded.length).toBe(3 * speeds.length);
   });
 
+  it('says a speed below the 1-g stall speed has no level flight, not that it is too close to wings level', () => {
+    const a = exampleAirframe();
+    // Vs1 = √(2W/(ρ·S·CLmax)) = √(2·3.2·9.80665/(1.225·0.55·1.2)) = 8.81 m/s (common practice; FAA-H-8083-25
+    // "stall speed"; ρ0 from USSA 1976): 8 m/s lies below it, 10 m/s above (n_stall 1.29, 0.5·1.29 < 1.05).
+    const vs1 = Math.sqrt((2 * 3.2 * G0) / (RHO_SL * 0.55 * 1.2));
+    expect(vs1).toBeCloseTo(8.81, 2);
+    const c = card(buildCard(a, { altitudeM: 0, temperature: {}, massKg: 3.2, speedsMps: [8, 10], steps: [0.5] }));
+    const [at10, at8] = c.excluded;
+    expect(at8!.tas_mps).toBe(8);
+    expect(at8!.reason).toMatch(
+      /below 1\.05 \(8\.0 m\/s is below the 1-g stall speed Vs1 8\.81 m\/s TAS: no level flight/,
+    );
+    expect(at10!.reason).toMatch(/below 1\.05 \(too close to wings level at 10\.0 m\/s\)/);
+  });
+
   it('a bank of 60° at n = 2 as on the FAA load-factor chart', () => {
     // FAA-H-8083-25, "Load factors" chart: 60° of bank → 2.0 g. Structure-limited at 28 m/s (n_stall 7.3 > 4).
     const b = exampleAirframe({ n_limit_pos: 4 });
