@@ -113,7 +113,8 @@ export function cardToMarkdown(card: TestCard): string {
     }),
     '',
     'stall, thrust, structure: predicted utilization (load factor ÷ limit) at the target; dV/dt: full-throttle',
-    'acceleration (T − D)/m in the level turn (negative: the speed bleeds).',
+    'acceleration (T − D)/m in the level turn (negative: the speed bleeds). A thrust of — : full thrust cannot',
+    'hold even level flight at that speed (no turn is sustainable there), or the thrust is unknown there.',
   ];
   if (card.excluded.length > 0) {
     lines.push('', '## Excluded targets', '', '| step | TAS m/s | n | reason |', '|---|---|---|---|');

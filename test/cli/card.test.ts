@@ -33,6 +33,15 @@ describe('turnmargin card', () => {
     expect(r.stdout).toMatch(/## Excluded targets[\s\S]*below 1\.05/);
   });
 
+  it('explains a thrust utilization shown as — (the demo motor cannot hold level flight at 23.5 m/s)', async () => {
+    const r = await runCli(['card', '--aircraft', DEMO_AIRFRAME_PATH, '--altitude', '150']);
+    expect(r.code, r.stderr).toBe(0);
+    // P01 at 23.5 m/s: T = η·P/V·σ = 0.6·240/23.5·0.986 = 6.04 N below the 1-g drag 7.0 N (D = q·S·(CD0 + k·CL²),
+    // Anderson, Aircraft Performance and Design, ch. 2), so no level flight, let alone a turn, is sustainable.
+    expect(r.stdout).toMatch(/\| P01 \| 0\.5 \| 23\.5 \|[^\n]*\| — \|[^\n]*no \(speed bleeds\)/);
+    expect(r.stdout).toMatch(/A thrust of — : full thrust cannot\nhold even level flight at that speed/);
+  });
+
   it('gives {conditions, points, excluded} in JSON and one CSV row per point', async () => {
     const json = await runCli(['card', '--aircraft', DEMO_AIRFRAME_PATH, '--altitude', '150', '--format', 'json']);
     expect(json.code, json.stderr).toBe(0);
