@@ -53,6 +53,22 @@ export interface RateEstimator {
   readonly count: number;
 }
 
+/** An estimator's whole state, to start another exactly where it stands (see createSharedRateWindows). */
+interface RateEstimatorSeed {
+  times: Float64Array;
+  values: Float64Array;
+  head: number;
+  count: number;
+  lastT: number;
+  t0: number;
+  y0: number;
+  sumT: number;
+  sumY: number;
+  sumTT: number;
+  sumTY: number;
+  addedSinceRebuild: number;
+}
+
 /**
  * Running sums over a ring buffer: O(1) amortised per sample. Sums are kept relative to a reference time and value
  * (the oldest sample at the last rebuild) and rebuilt from the buffer every time as many samples have been added as
@@ -61,20 +77,24 @@ export interface RateEstimator {
 export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): RateEstimator {
   if (!(windowS > 0) || !Number.isFinite(windowS))
     throw new RangeError(`rate window must be positive (got ${windowS})`);
+  return rateEstimatorFrom(windowS, undefined);
+}
+
+function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined): RateEstimator {
   // The ring's capacity is a power of two (16, doubled when full): an index wraps with a mask, not a division.
-  let times = new Float64Array(16);
-  let values = new Float64Array(16);
+  let times = seed?.times ?? new Float64Array(16);
+  let values = seed?.values ?? new Float64Array(16);
   let mask = times.length - 1;
-  let head = 0; // index of the oldest sample
-  let count = 0;
-  let lastT = -Infinity;
-  let t0 = 0;
-  let y0 = 0;
-  let sumT = 0;
-  let sumY = 0;
-  let sumTT = 0;
-  let sumTY = 0;
-  let addedSinceRebuild = 0;
+  let head = seed?.head ?? 0; // index of the oldest sample
+  let count = seed?.count ?? 0;
+  let lastT = seed?.lastT ?? -Infinity;
+  let t0 = seed?.t0 ?? 0;
+  let y0 = seed?.y0 ?? 0;
+  let sumT = seed?.sumT ?? 0;
+  let sumY = seed?.sumY ?? 0;
+  let sumTT = seed?.sumTT ?? 0;
+  let sumTY = seed?.sumTY ?? 0;
+  let addedSinceRebuild = seed?.addedSinceRebuild ?? 0;
 
   const at = (k: number): number => (head + k) & mask;
 
@@ -160,6 +180,192 @@ export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): Ra
     reset,
     get count() {
       return count;
+    },
+  };
+}
+
+/**
+ * Several rate estimators over one time axis (the energy keys' speed, altitude and bank): the same slopes as one
+ * createRateEstimator per series, to the last bit, for less work. While every series has a value at every time since
+ * the last reset, their rings hold the same times, so the times and the time sums (Σt, Σt²) are kept once and each
+ * series keeps only its values, Σy and Σty. A series that misses a value leaves the shared ring: it goes on as an
+ * estimator of its own, started from the shared state as it stood, until the next reset (a break, or a time not
+ * after the last) brings it back.
+ */
+export interface SharedRateWindows {
+  /**
+   * Add one time with a value per series (null or not finite: none) and set `slopes[k]` to series k's slope over
+   * [tS − W, tS], or null — what `push` of series k's own estimator would return.
+   */
+  push(tS: number, values: ArrayLike<number | null>): void;
+  /** The slopes of the last push, by series (one array, rewritten by each push). */
+  readonly slopes: (number | null)[];
+  /** Forget every sample of every series. */
+  reset(): void;
+}
+
+export function createSharedRateWindows(windowS: number, seriesCount: number): SharedRateWindows {
+  if (!(windowS > 0) || !Number.isFinite(windowS))
+    throw new RangeError(`rate window must be positive (got ${windowS})`);
+  let times = new Float64Array(16);
+  let values: Float64Array[] = Array.from({ length: seriesCount }, () => new Float64Array(16));
+  let mask = 15;
+  let head = 0;
+  let count = 0;
+  let lastT = -Infinity;
+  let t0 = 0;
+  let sumT = 0;
+  let sumTT = 0;
+  let addedSinceRebuild = 0;
+  const y0 = new Float64Array(seriesCount);
+  const sumY = new Float64Array(seriesCount);
+  const sumTY = new Float64Array(seriesCount);
+  /** A series' own estimator once it left the shared ring; undefined while it is in it. */
+  const own: (RateEstimator | undefined)[] = Array.from({ length: seriesCount }, () => undefined);
+  let detached = 0;
+  const slopes: (number | null)[] = Array.from({ length: seriesCount }, () => null);
+
+  const rebuild = (): void => {
+    sumT = sumTT = 0;
+    sumY.fill(0);
+    sumTY.fill(0);
+    addedSinceRebuild = 0;
+    if (count === 0) return;
+    t0 = times[head]!;
+    for (let s = 0; s < seriesCount; s++) {
+      if (own[s] === undefined) y0[s] = values[s]![head]!;
+    }
+    for (let k = 0; k < count; k++) {
+      const dt = times[(head + k) & mask]! - t0;
+      sumT += dt;
+      sumTT += dt * dt;
+    }
+    for (let s = 0; s < seriesCount; s++) {
+      if (own[s] !== undefined) continue;
+      const vs = values[s]!;
+      const v0 = y0[s]!;
+      let sy = 0;
+      let sty = 0;
+      for (let k = 0; k < count; k++) {
+        const i = (head + k) & mask;
+        const dt = times[i]! - t0;
+        const dy = vs[i]! - v0;
+        sy += dy;
+        sty += dt * dy;
+      }
+      sumY[s] = sy;
+      sumTY[s] = sty;
+    }
+  };
+
+  const reset = (): void => {
+    head = 0;
+    count = 0;
+    lastT = -Infinity;
+    own.fill(undefined);
+    detached = 0;
+    rebuild();
+  };
+
+  /** Series s leaves the ring: its own estimator, with the state the ring holds for it now. */
+  const detach = (s: number): RateEstimator => {
+    const ownTimes = new Float64Array(times.length);
+    ownTimes.set(times);
+    const ownValues = new Float64Array(times.length);
+    ownValues.set(values[s]!);
+    const estimator = rateEstimatorFrom(windowS, {
+      times: ownTimes,
+      values: ownValues,
+      head,
+      count,
+      lastT,
+      t0,
+      y0: y0[s]!,
+      sumT,
+      sumY: sumY[s]!,
+      sumTT,
+      sumTY: sumTY[s]!,
+      addedSinceRebuild,
+    });
+    own[s] = estimator;
+    detached++;
+    return estimator;
+  };
+
+  return {
+    slopes,
+    reset,
+    push(tS, given) {
+      if (!Number.isFinite(tS)) {
+        slopes.fill(null);
+        return;
+      }
+      if (tS <= lastT) reset();
+      // A series without a value leaves the ring before this time touches it.
+      for (let s = 0; s < seriesCount; s++) {
+        if (own[s] !== undefined) continue;
+        const v = given[s];
+        if (v === null || v === undefined || !Number.isFinite(v)) detach(s);
+      }
+      for (let s = 0; s < seriesCount; s++) {
+        const o = own[s];
+        if (o !== undefined) slopes[s] = o.push(tS, given[s] ?? null);
+      }
+      lastT = tS;
+      if (detached === seriesCount) return;
+      // Evict what left the window (as each estimator's evictBefore does).
+      const tMin = tS - windowS;
+      while (count > 0 && times[head]! < tMin) {
+        const dt = times[head]! - t0;
+        sumT -= dt;
+        sumTT -= dt * dt;
+        for (let s = 0; s < seriesCount; s++) {
+          if (own[s] !== undefined) continue;
+          const dy = values[s]![head]! - y0[s]!;
+          sumY[s] = sumY[s]! - dy;
+          sumTY[s] = sumTY[s]! - dt * dy;
+        }
+        head = (head + 1) & mask;
+        count--;
+      }
+      if (count === 0) rebuild();
+      if (count === times.length) {
+        const nt = new Float64Array(times.length * 2);
+        for (let k = 0; k < count; k++) nt[k] = times[(head + k) & mask]!;
+        const nvs = values.map((vs) => {
+          const nv = new Float64Array(vs.length * 2);
+          for (let k = 0; k < count; k++) nv[k] = vs[(head + k) & mask]!;
+          return nv;
+        });
+        times = nt;
+        values = nvs;
+        mask = times.length - 1;
+        head = 0;
+      }
+      const i = (head + count) & mask;
+      times[i] = tS;
+      const first = count === 0;
+      if (first) t0 = tS;
+      const dt = tS - t0;
+      for (let s = 0; s < seriesCount; s++) {
+        if (own[s] !== undefined) continue;
+        const v = given[s] as number;
+        values[s]![i] = v;
+        if (first) y0[s] = v;
+        const dy = v - y0[s]!;
+        sumY[s] = sumY[s]! + dy;
+        sumTY[s] = sumTY[s]! + dt * dy;
+      }
+      count++;
+      sumT += dt;
+      sumTT += dt * dt;
+      if (++addedSinceRebuild >= Math.max(count, 16)) rebuild();
+      const usable = rateWindowUsable(count, tS - times[head]!, windowS);
+      const stt = sumTT - (sumT * sumT) / count;
+      for (let s = 0; s < seriesCount; s++) {
+        if (own[s] !== undefined) continue;
+        slopes[s] = usable && stt > 0 ? (sumTY[s]! - (sumT * sumY[s]!) / count) / stt : null;
+      }
     },
   };
 }
