@@ -112,7 +112,8 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
   // Speed, altitude and bank share one time axis (their slopes as three estimators would give them).
   const rates = createSharedRateWindows(options.rateWindowS, 3);
   const slopes = rates.slopes;
-  const rateInputs: (number | null)[] = [0, 0, null];
+  const hasSlope = rates.hasSlope;
+  const rateInputs = new Float64Array(3);
   const residualMean = createWindowMean(RESIDUAL_MEAN_WINDOW_S);
   const stallCaution = options.thresholds.stallCaution;
   const stallWarning = options.thresholds.stallWarning;
@@ -125,11 +126,11 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
       const tS = rec.t_s;
       rateInputs[0] = rec.tas_raw_mps;
       rateInputs[1] = rec.alt_m;
-      rateInputs[2] = rec.bank_deg;
+      rateInputs[2] = rec.bank_deg ?? NaN;
       rates.push(tS, rateInputs);
-      const dvdt = slopes[0]!;
-      const dhdt = slopes[1]!;
-      const bankRate = slopes[2]!;
+      const dvdt = hasSlope[0] === 1 ? slopes[0]! : null;
+      const dhdt = hasSlope[1] === 1 ? slopes[1]! : null;
+      const bankRate = hasSlope[2] === 1 ? slopes[2]! : null;
       const throttle = frame.throttle ?? null;
       const ps = specificExcessPowerMps(dhdt, rec.tas_mps, dvdt);
       const psModel = modelPsMps(

@@ -194,12 +194,14 @@ function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined)
  */
 export interface SharedRateWindows {
   /**
-   * Add one time with a value per series (null or not finite: none) and set `slopes[k]` to series k's slope over
-   * [tS − W, tS], or null — what `push` of series k's own estimator would return.
+   * Add one time with a value per series (not finite, NaN for instance: none) and set series k's slope over
+   * [tS − W, tS] — what `push` of its own estimator would return — as `hasSlope[k]` 1 and `slopes[k]`, or
+   * `hasSlope[k]` 0 for null. Typed arrays in and out: no number is boxed per frame.
    */
-  push(tS: number, values: ArrayLike<number | null>): void;
-  /** The slopes of the last push, by series (one array, rewritten by each push). */
-  readonly slopes: (number | null)[];
+  push(tS: number, values: Float64Array): void;
+  /** The slopes of the last push, by series (rewritten by each push); read only where hasSlope is 1. */
+  readonly slopes: Float64Array;
+  readonly hasSlope: Uint8Array;
   /** Forget every sample of every series. */
   reset(): void;
 }
@@ -223,7 +225,15 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
   /** A series' own estimator once it left the shared ring; undefined while it is in it. */
   const own: (RateEstimator | undefined)[] = Array.from({ length: seriesCount }, () => undefined);
   let detached = 0;
-  const slopes: (number | null)[] = Array.from({ length: seriesCount }, () => null);
+  const slopes = new Float64Array(seriesCount);
+  const hasSlope = new Uint8Array(seriesCount);
+  const setSlope = (s: number, slope: number | null): void => {
+    if (slope === null) hasSlope[s] = 0;
+    else {
+      hasSlope[s] = 1;
+      slopes[s] = slope;
+    }
+  };
 
   const rebuild = (): void => {
     sumT = sumTT = 0;
@@ -294,22 +304,22 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
 
   return {
     slopes,
+    hasSlope,
     reset,
     push(tS, given) {
       if (!Number.isFinite(tS)) {
-        slopes.fill(null);
+        hasSlope.fill(0);
         return;
       }
       if (tS <= lastT) reset();
       // A series without a value leaves the ring before this time touches it.
       for (let s = 0; s < seriesCount; s++) {
         if (own[s] !== undefined) continue;
-        const v = given[s];
-        if (v === null || v === undefined || !Number.isFinite(v)) detach(s);
+        if (!Number.isFinite(given[s]!)) detach(s);
       }
       for (let s = 0; s < seriesCount; s++) {
         const o = own[s];
-        if (o !== undefined) slopes[s] = o.push(tS, given[s] ?? null);
+        if (o !== undefined) setSlope(s, o.push(tS, given[s]!));
       }
       lastT = tS;
       if (detached === seriesCount) return;
@@ -349,7 +359,7 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
       const dt = tS - t0;
       for (let s = 0; s < seriesCount; s++) {
         if (own[s] !== undefined) continue;
-        const v = given[s] as number;
+        const v = given[s]!;
         values[s]![i] = v;
         if (first) y0[s] = v;
         const dy = v - y0[s]!;
@@ -364,7 +374,10 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
       const stt = sumTT - (sumT * sumT) / count;
       for (let s = 0; s < seriesCount; s++) {
         if (own[s] !== undefined) continue;
-        slopes[s] = usable && stt > 0 ? (sumTY[s]! - (sumT * sumY[s]!) / count) / stt : null;
+        if (usable && stt > 0) {
+          hasSlope[s] = 1;
+          slopes[s] = (sumTY[s]! - (sumT * sumY[s]!) / count) / stt;
+        } else hasSlope[s] = 0;
       }
     },
   };
