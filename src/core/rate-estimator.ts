@@ -209,97 +209,115 @@ export interface SharedRateWindows {
 export function createSharedRateWindows(windowS: number, seriesCount: number): SharedRateWindows {
   if (!(windowS > 0) || !Number.isFinite(windowS))
     throw new RangeError(`rate window must be positive (got ${windowS})`);
+  const S = seriesCount;
+  // One ring of times and one of values, interleaved (slot·S + series); capacities a power of two.
   let times = new Float64Array(16);
-  let values: Float64Array[] = Array.from({ length: seriesCount }, () => new Float64Array(16));
+  let values = new Float64Array(16 * S);
   let mask = 15;
   let head = 0;
   let count = 0;
-  let lastT = -Infinity;
-  let t0 = 0;
-  let sumT = 0;
-  let sumTT = 0;
+  // The running scalars live in a typed array: a double kept in a closure's variable is boxed at every store.
+  const st = new Float64Array(4);
+  const LAST_T = 0;
+  const T0 = 1;
+  const SUM_T = 2;
+  const SUM_TT = 3;
+  st[LAST_T] = -Infinity;
   let addedSinceRebuild = 0;
-  const y0 = new Float64Array(seriesCount);
-  const sumY = new Float64Array(seriesCount);
-  const sumTY = new Float64Array(seriesCount);
+  const y0 = new Float64Array(S);
+  const sumY = new Float64Array(S);
+  const sumTY = new Float64Array(S);
   /** A series' own estimator once it left the shared ring; undefined while it is in it. */
-  const own: (RateEstimator | undefined)[] = Array.from({ length: seriesCount }, () => undefined);
+  const own: (RateEstimator | undefined)[] = Array.from({ length: S }, () => undefined);
+  /** 1 while series s is in the shared ring. */
+  const inRing = new Uint8Array(S).fill(1);
   let detached = 0;
-  const slopes = new Float64Array(seriesCount);
-  const hasSlope = new Uint8Array(seriesCount);
-  const setSlope = (s: number, slope: number | null): void => {
-    if (slope === null) hasSlope[s] = 0;
-    else {
-      hasSlope[s] = 1;
-      slopes[s] = slope;
-    }
-  };
+  const slopes = new Float64Array(S);
+  const hasSlope = new Uint8Array(S);
 
   const rebuild = (): void => {
-    sumT = sumTT = 0;
+    let sumT = 0;
+    let sumTT = 0;
     sumY.fill(0);
     sumTY.fill(0);
     addedSinceRebuild = 0;
-    if (count === 0) return;
-    t0 = times[head]!;
-    for (let s = 0; s < seriesCount; s++) {
-      if (own[s] === undefined) y0[s] = values[s]![head]!;
+    if (count === 0) {
+      st[SUM_T] = st[SUM_TT] = 0;
+      return;
     }
+    const t0 = times[head]!;
+    st[T0] = t0;
+    for (let s = 0; s < S; s++) if (inRing[s] === 1) y0[s] = values[head * S + s]!;
     for (let k = 0; k < count; k++) {
       const dt = times[(head + k) & mask]! - t0;
       sumT += dt;
       sumTT += dt * dt;
     }
-    for (let s = 0; s < seriesCount; s++) {
-      if (own[s] !== undefined) continue;
-      const vs = values[s]!;
+    for (let s = 0; s < S; s++) {
+      if (inRing[s] !== 1) continue;
       const v0 = y0[s]!;
       let sy = 0;
       let sty = 0;
       for (let k = 0; k < count; k++) {
         const i = (head + k) & mask;
         const dt = times[i]! - t0;
-        const dy = vs[i]! - v0;
+        const dy = values[i * S + s]! - v0;
         sy += dy;
         sty += dt * dy;
       }
       sumY[s] = sy;
       sumTY[s] = sty;
     }
+    st[SUM_T] = sumT;
+    st[SUM_TT] = sumTT;
   };
 
   const reset = (): void => {
     head = 0;
     count = 0;
-    lastT = -Infinity;
+    st[LAST_T] = -Infinity;
     own.fill(undefined);
+    inRing.fill(1);
     detached = 0;
     rebuild();
   };
 
   /** Series s leaves the ring: its own estimator, with the state the ring holds for it now. */
-  const detach = (s: number): RateEstimator => {
+  const detach = (s: number): void => {
     const ownTimes = new Float64Array(times.length);
     ownTimes.set(times);
     const ownValues = new Float64Array(times.length);
-    ownValues.set(values[s]!);
-    const estimator = rateEstimatorFrom(windowS, {
+    for (let i = 0; i < times.length; i++) ownValues[i] = values[i * S + s]!;
+    own[s] = rateEstimatorFrom(windowS, {
       times: ownTimes,
       values: ownValues,
       head,
       count,
-      lastT,
-      t0,
+      lastT: st[LAST_T]!,
+      t0: st[T0]!,
       y0: y0[s]!,
-      sumT,
+      sumT: st[SUM_T]!,
       sumY: sumY[s]!,
-      sumTT,
+      sumTT: st[SUM_TT]!,
       sumTY: sumTY[s]!,
       addedSinceRebuild,
     });
-    own[s] = estimator;
+    inRing[s] = 0;
     detached++;
-    return estimator;
+  };
+
+  const grow = (): void => {
+    const nt = new Float64Array(times.length * 2);
+    const nv = new Float64Array(values.length * 2);
+    for (let k = 0; k < count; k++) {
+      const from = (head + k) & mask;
+      nt[k] = times[from]!;
+      for (let s = 0; s < S; s++) nv[k * S + s] = values[from * S + s]!;
+    }
+    times = nt;
+    values = nv;
+    mask = times.length - 1;
+    head = 0;
   };
 
   return {
@@ -311,56 +329,58 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
         hasSlope.fill(0);
         return;
       }
-      if (tS <= lastT) reset();
+      if (tS <= st[LAST_T]!) reset();
       // A series without a value leaves the ring before this time touches it.
-      for (let s = 0; s < seriesCount; s++) {
-        if (own[s] !== undefined) continue;
-        if (!Number.isFinite(given[s]!)) detach(s);
+      for (let s = 0; s < S; s++) if (inRing[s] === 1 && !Number.isFinite(given[s]!)) detach(s);
+      if (detached > 0) {
+        for (let s = 0; s < S; s++) {
+          const o = own[s];
+          if (o === undefined) continue;
+          const slope = o.push(tS, given[s]!);
+          if (slope === null) hasSlope[s] = 0;
+          else {
+            hasSlope[s] = 1;
+            slopes[s] = slope;
+          }
+        }
       }
-      for (let s = 0; s < seriesCount; s++) {
-        const o = own[s];
-        if (o !== undefined) setSlope(s, o.push(tS, given[s]!));
-      }
-      lastT = tS;
-      if (detached === seriesCount) return;
+      st[LAST_T] = tS;
+      if (detached === S) return;
       // Evict what left the window (as each estimator's evictBefore does).
       const tMin = tS - windowS;
+      let t0 = st[T0]!;
+      let sumT = st[SUM_T]!;
+      let sumTT = st[SUM_TT]!;
       while (count > 0 && times[head]! < tMin) {
         const dt = times[head]! - t0;
         sumT -= dt;
         sumTT -= dt * dt;
-        for (let s = 0; s < seriesCount; s++) {
-          if (own[s] !== undefined) continue;
-          const dy = values[s]![head]! - y0[s]!;
+        const base = head * S;
+        for (let s = 0; s < S; s++) {
+          if (inRing[s] !== 1) continue;
+          const dy = values[base + s]! - y0[s]!;
           sumY[s] = sumY[s]! - dy;
           sumTY[s] = sumTY[s]! - dt * dy;
         }
         head = (head + 1) & mask;
         count--;
       }
-      if (count === 0) rebuild();
-      if (count === times.length) {
-        const nt = new Float64Array(times.length * 2);
-        for (let k = 0; k < count; k++) nt[k] = times[(head + k) & mask]!;
-        const nvs = values.map((vs) => {
-          const nv = new Float64Array(vs.length * 2);
-          for (let k = 0; k < count; k++) nv[k] = vs[(head + k) & mask]!;
-          return nv;
-        });
-        times = nt;
-        values = nvs;
-        mask = times.length - 1;
-        head = 0;
+      if (count === 0) {
+        rebuild();
+        sumT = st[SUM_T]!;
+        sumTT = st[SUM_TT]!;
       }
+      if (count === times.length) grow();
       const i = (head + count) & mask;
       times[i] = tS;
       const first = count === 0;
       if (first) t0 = tS;
       const dt = tS - t0;
-      for (let s = 0; s < seriesCount; s++) {
-        if (own[s] !== undefined) continue;
+      const base = i * S;
+      for (let s = 0; s < S; s++) {
+        if (inRing[s] !== 1) continue;
         const v = given[s]!;
-        values[s]![i] = v;
+        values[base + s] = v;
         if (first) y0[s] = v;
         const dy = v - y0[s]!;
         sumY[s] = sumY[s]! + dy;
@@ -369,11 +389,18 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
       count++;
       sumT += dt;
       sumTT += dt * dt;
-      if (++addedSinceRebuild >= Math.max(count, 16)) rebuild();
+      st[T0] = t0;
+      st[SUM_T] = sumT;
+      st[SUM_TT] = sumTT;
+      if (++addedSinceRebuild >= Math.max(count, 16)) {
+        rebuild();
+        sumT = st[SUM_T]!;
+        sumTT = st[SUM_TT]!;
+      }
       const usable = rateWindowUsable(count, tS - times[head]!, windowS);
       const stt = sumTT - (sumT * sumT) / count;
-      for (let s = 0; s < seriesCount; s++) {
-        if (own[s] !== undefined) continue;
+      for (let s = 0; s < S; s++) {
+        if (inRing[s] !== 1) continue;
         if (usable && stt > 0) {
           hasSlope[s] = 1;
           slopes[s] = (sumTY[s]! - (sumT * sumY[s]!) / count) / stt;
