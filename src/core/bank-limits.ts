@@ -24,10 +24,11 @@ export function computeBankLimits(
   thresholds: AlertThresholds,
 ): BankLimits {
   const nInstant = Math.min(thresholds.stallCaution * nStall, thresholds.structureCaution * nLimitPos);
+  const nSustained = nThrust === null ? nInstant : Math.min(nInstant, thresholds.thrustCaution * nThrust);
+  const bankLimitDeg = bankForLoadFactorDeg(nInstant);
+  // Where thrust does not bind, the same load factor gives the same bank: one acos, not two.
   return {
-    bankLimitDeg: bankForLoadFactorDeg(nInstant),
-    bankSustainedDeg: bankForLoadFactorDeg(
-      nThrust === null ? nInstant : Math.min(nInstant, thresholds.thrustCaution * nThrust),
-    ),
+    bankLimitDeg,
+    bankSustainedDeg: nSustained === nInstant ? bankLimitDeg : bankForLoadFactorDeg(nSustained),
   };
 }

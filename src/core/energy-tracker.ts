@@ -7,17 +7,17 @@
 import type { Aircraft } from './aircraft.js';
 import { isaPressurePa } from './atmosphere.js';
 import {
-  modelSpecificExcessPowerMps,
+  modelPsMps,
   psResidualMps,
   specificExcessPowerMps,
   throttleSetting,
-  timeToStallS,
+  timeToUtilizationS,
   type ThrottleAssumption,
 } from './energy.js';
 import type { Frame } from './frame.js';
 import type { MarginRecord } from './margin-record.js';
 import { stallSpeedMps, topSpeedMps, vneTasMps } from './performance.js';
-import { createRateEstimator } from './rate-estimator.js';
+import { createSharedRateWindows } from './rate-estimator.js';
 import { sustainedBandMps } from './sustained-band.js';
 import type { AlertThresholds } from './thresholds.js';
 
@@ -109,11 +109,14 @@ function recordSpeedBand(aircraft: Aircraft, rec: MarginRecord): [number, number
 }
 
 export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions): EnergyTracker {
-  const speed = createRateEstimator(options.rateWindowS);
-  const altitude = createRateEstimator(options.rateWindowS);
-  const bank = createRateEstimator(options.rateWindowS);
+  // Speed, altitude and bank share one time axis (their slopes as three estimators would give them).
+  const rates = createSharedRateWindows(options.rateWindowS, 3);
+  const slopes = rates.slopes;
+  const hasSlope = rates.hasSlope;
+  const rateInputs = new Float64Array(3);
   const residualMean = createWindowMean(RESIDUAL_MEAN_WINDOW_S);
-  const thresholds = { stallCaution: options.thresholds.stallCaution, stallWarning: options.thresholds.stallWarning };
+  const stallCaution = options.thresholds.stallCaution;
+  const stallWarning = options.thresholds.stallWarning;
   const assumeThrottle = options.assumeThrottle;
   const speedBand = options.speedBand;
   let lastSetting: ThrottleAssumption | null = null;
@@ -121,33 +124,26 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
   return {
     fill(rec, frame) {
       const tS = rec.t_s;
-      const dvdt = speed.push(tS, rec.tas_raw_mps);
-      const dhdt = altitude.push(tS, rec.alt_m);
-      const bankRate = bank.push(tS, rec.bank_deg);
+      rateInputs[0] = rec.tas_raw_mps;
+      rateInputs[1] = rec.alt_m;
+      rateInputs[2] = rec.bank_deg ?? NaN;
+      rates.push(tS, rateInputs);
+      const dvdt = hasSlope[0] === 1 ? slopes[0]! : null;
+      const dhdt = hasSlope[1] === 1 ? slopes[1]! : null;
+      const bankRate = hasSlope[2] === 1 ? slopes[2]! : null;
       const throttle = frame.throttle ?? null;
       const ps = specificExcessPowerMps(dhdt, rec.tas_mps, dvdt);
-      const psModelInput = {
-        tasMps: rec.tas_mps,
-        densityKgM3: rec.density_kg_m3,
-        massKg: rec.mass_kg,
-        loadFactor: rec.n_measured,
-        throttle,
-      };
-      const psModel = modelSpecificExcessPowerMps(
+      const psModel = modelPsMps(
         aircraft,
-        assumeThrottle === undefined ? psModelInput : { ...psModelInput, assumeThrottle },
+        rec.tas_mps,
+        rec.density_kg_m3,
+        rec.mass_kg,
+        rec.n_measured,
+        throttle,
+        assumeThrottle,
       );
       const residual = psResidualMps(ps, psModel);
-      const toStall = timeToStallS(
-        {
-          flying: rec.flying,
-          tasMps: rec.tas_mps,
-          loadFactor: rec.n_measured,
-          stallUtilization: rec.utilization.stall,
-          dvdtMps2: dvdt,
-        },
-        thresholds,
-      );
+      const stallU = rec.utilization.stall;
       rec.throttle = throttle;
       rec.dvdt_mps2 = dvdt;
       rec.dhdt_mps = dhdt;
@@ -164,15 +160,27 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
         residualMean.reset();
       }
       rec.ps_residual_mean_3s_mps = residualMean.push(tS, tS - settingSinceS >= options.rateWindowS ? residual : null);
-      rec.time_to_stall_caution_s = toStall.cautionS;
-      rec.time_to_stall_warning_s = toStall.warningS;
+      rec.time_to_stall_caution_s = timeToUtilizationS(
+        rec.flying,
+        rec.tas_mps,
+        rec.n_measured,
+        stallU,
+        dvdt,
+        stallCaution,
+      );
+      rec.time_to_stall_warning_s = timeToUtilizationS(
+        rec.flying,
+        rec.tas_mps,
+        rec.n_measured,
+        stallU,
+        dvdt,
+        stallWarning,
+      );
       if (speedBand) rec.sustained_band_mps = recordSpeedBand(aircraft, rec);
     },
     reset() {
       settingSinceS = null;
-      speed.reset();
-      altitude.reset();
-      bank.reset();
+      rates.reset();
       residualMean.reset();
     },
   };

@@ -74,9 +74,29 @@ export interface ModelPsInput {
  * T from `modelThrustN`. Null when the thrust is null, or V, density or mass is not positive.
  */
 export function modelSpecificExcessPowerMps(aircraft: Aircraft, input: ModelPsInput): number | null {
-  const { tasMps, densityKgM3, massKg, loadFactor } = input;
+  return modelPsMps(
+    aircraft,
+    input.tasMps,
+    input.densityKgM3,
+    input.massKg,
+    input.loadFactor,
+    input.throttle,
+    input.assumeThrottle,
+  );
+}
+
+/** modelSpecificExcessPowerMps with its inputs as arguments (the engine's per-frame call: no object). */
+export function modelPsMps(
+  aircraft: Aircraft,
+  tasMps: number,
+  densityKgM3: number,
+  massKg: number,
+  loadFactor: number,
+  throttle: number | null,
+  assumeThrottle: ThrottleAssumption | undefined,
+): number | null {
   if (!(tasMps > 0) || !(densityKgM3 > 0) || !(massKg > 0) || !Number.isFinite(loadFactor)) return null;
-  const thrustN = modelThrustN(aircraft, input.throttle, tasMps, densityKgM3, input.assumeThrottle);
+  const thrustN = modelThrustN(aircraft, throttle, tasMps, densityKgM3, assumeThrottle);
   if (thrustN === null) return null;
   const dragN = dragAtLoadFactorN(aircraft, tasMps, densityKgM3, massKg, loadFactor);
   return (tasMps * (thrustN - dragN)) / (massKg * G0_MPS2);
@@ -115,7 +135,25 @@ export interface TimeToStallInput {
  * Null when not flying, n ≤ 0, dV/dt ≥ 0 or null, the utilization is unknown or not positive, or t > 60 s.
  */
 export function timeToStallUtilizationS(input: TimeToStallInput, targetUtilization: number): number | null {
-  const { flying, tasMps, loadFactor, stallUtilization: u, dvdtMps2 } = input;
+  return timeToUtilizationS(
+    input.flying,
+    input.tasMps,
+    input.loadFactor,
+    input.stallUtilization,
+    input.dvdtMps2,
+    targetUtilization,
+  );
+}
+
+/** timeToStallUtilizationS with its inputs as arguments (the engine's per-frame call: no object). */
+export function timeToUtilizationS(
+  flying: boolean,
+  tasMps: number,
+  loadFactor: number,
+  u: number | null,
+  dvdtMps2: number | null,
+  targetUtilization: number,
+): number | null {
   if (!flying || !(loadFactor > 0) || dvdtMps2 === null || !(dvdtMps2 < 0)) return null;
   if (u === null || !(u > 0) || !(tasMps > 0) || !(targetUtilization > 0)) return null;
   if (u >= targetUtilization) return 0;

@@ -133,11 +133,12 @@ export function createEventTracker(): EventTracker {
   const all: LimitEvent[] = [];
   // Few alerts exist (one per limit and level): a short array beats a map on the per-frame path.
   let open: OpenEntry[] = [];
-  let lastTS: number | null = null;
+  // The last record's t_s in a typed array (NaN before any): a double stored in a closure variable is boxed.
+  const lastTS = new Float64Array(1).fill(NaN);
   const closeOpen = (endedBy: BreakKind): LimitEvent[] => {
     const closed: LimitEvent[] = [];
     for (const entry of open) {
-      closeEvent(entry.event, entry.clearSinceS ?? lastTS ?? entry.event.end_s, endedBy);
+      closeEvent(entry.event, entry.clearSinceS ?? (lastTS[0] === lastTS[0] ? lastTS[0]! : entry.event.end_s), endedBy);
       closed.push(entry.event);
     }
     open = [];
@@ -145,7 +146,7 @@ export function createEventTracker(): EventTracker {
   };
   return {
     push(rec) {
-      lastTS = rec.t_s;
+      lastTS[0] = rec.t_s;
       const alerts = rec.alerts as readonly AlertWithClear[];
       // Most frames: no alert on and none open.
       if (open.length === 0 && alerts.length === 0) return NO_CHANGE;

@@ -57,18 +57,17 @@ export function lowPassStepInPlace(
 }
 
 /** The last step and τ and their gain: telemetry comes at a steady rate, so Δt repeats from sample to sample. */
-let lastGainDtS = NaN;
-let lastGainTauS = NaN;
-let lastGain = NaN;
+// In a typed array (Δt, τ, gain): a double stored in a module variable is boxed at every store.
+const lastGainOf = new Float64Array(3).fill(NaN);
 
 /** 1 − e^(−Δt/τ), the gain of one step (the same value as computing it each time). */
 export function filterGain(dtS: number, tauS: number): number {
-  if (dtS !== lastGainDtS || tauS !== lastGainTauS) {
-    lastGain = 1 - Math.exp(-dtS / tauS);
-    lastGainDtS = dtS;
-    lastGainTauS = tauS;
+  if (dtS !== lastGainOf[0] || tauS !== lastGainOf[1]) {
+    lastGainOf[2] = 1 - Math.exp(-dtS / tauS);
+    lastGainOf[0] = dtS;
+    lastGainOf[1] = tauS;
   }
-  return lastGain;
+  return lastGainOf[2]!;
 }
 
 /**

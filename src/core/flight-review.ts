@@ -138,7 +138,8 @@ export function createFlightReviewer(
   const rejects: RejectedLine[] = [];
   let rejected = 0;
   let accepted = 0;
-  let durationS = 0;
+  // Summed every frame: a typed array, as a double stored in a closure variable is boxed at every store.
+  const duration = new Float64Array(1);
   let firstTS: number | null = null;
   let previous: MarginRecord | null = null;
   /** The break between the previous record and the next one, if any. */
@@ -215,7 +216,7 @@ export function createFlightReviewer(
         conditions.segments = 1;
       } else if (pendingBreak === null || pendingBreak === 'data_gap') {
         const dtS = rec.t_s - previous.t_s;
-        durationS += dtS;
+        duration[0] = duration[0]! + dtS;
         if (pendingBreak === 'data_gap') {
           conditions.gaps += 1;
           conditions.gapS += dtS;
@@ -277,7 +278,7 @@ export function createFlightReviewer(
         accepted,
         rejected,
         rejects,
-        durationS,
+        durationS: duration[0]!,
         firstTS,
         lastTS: previous?.t_s ?? null,
         events,

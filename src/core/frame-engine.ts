@@ -84,13 +84,15 @@ export function createFrameEngine(
     ...(resolved.assumeThrottle !== undefined ? { assumeThrottle: resolved.assumeThrottle } : {}),
   });
   const events = createEventTracker();
-  let last: number | null = null;
+  // t_s of the last accepted frame since the last break, NaN for none (a typed array: a double stored in a
+  // closure variable is boxed at every store).
+  const lastAt = new Float64Array(1).fill(NaN);
   let refused: FrameRejection | null = null;
 
   const breakData = (kind: BreakKind): void => {
-    if (last === null) return;
-    const t_s = last;
-    last = null;
+    const t_s = lastAt[0]!;
+    if (t_s !== t_s) return;
+    lastAt[0] = NaN;
     margins.reset();
     energy.reset();
     const ended = events.closeOpen(kind);
@@ -111,14 +113,15 @@ export function createFrameEngine(
         refused = { ...r, reason: rejectionWords(r) };
       } else refused = null;
       if (refused !== null) return null;
-      if (last !== null) {
+      const last = lastAt[0]!;
+      if (last === last) {
         const dtS = frame.tS - last;
         if (!(dtS > 0)) breakData('clock_restart');
         else if (dtS > DATA_GAP_S) breakData('data_gap');
       }
       const rec = margins.push(frame);
       energy.fill(rec, frame);
-      last = frame.tS;
+      lastAt[0] = frame.tS;
       const change = events.push(rec);
       if (change.ended.length > 0 && listener.eventEnded) for (const ev of change.ended) listener.eventEnded(ev);
       if (change.started.length > 0 && listener.eventStarted)
@@ -132,7 +135,7 @@ export function createFrameEngine(
       return events.events() as LimitEvent[];
     },
     events: () => events.events(),
-    lastTS: () => last,
+    lastTS: () => (lastAt[0] === lastAt[0] ? lastAt[0]! : null),
     options: resolved,
   };
 }

@@ -17,7 +17,8 @@ import type { Frame } from './frame.js';
 import type { ActiveAlert, Assumption, MarginRecord, Utilization } from './margin-record.js';
 import {
   dynamicPressurePa,
-  levelTurnAt,
+  levelTurnRadiusM,
+  levelTurnRateDps,
   negativeStallLoadFactor,
   stallLoadFactor,
   stallSpeedMps,
@@ -392,7 +393,7 @@ function advanceMarginRecord(
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
   // The turn readouts use the load factor actually used: 1/cos(bank) clamped near 90°.
   const nTurn = nFromBank !== null ? Math.min(nFromBank, MAX_BANK_LOAD_FACTOR) : null;
-  const turn = nTurn !== null && nTurn >= 1 ? levelTurnAt(nTurn, tasMps) : null;
+  const turning = nTurn !== null && nTurn >= 1;
 
   const record: MarginRecord = {
     t_s: tS,
@@ -417,8 +418,8 @@ function advanceMarginRecord(
     stall_speed_mps: stallSpeed,
     stall_speed_margin_pct: stallSpeed !== null && stallSpeed > 0 ? (tasMps / stallSpeed - 1) * 100 : null,
     cl: qS > 0 ? (nF * massKg * G0_MPS2) / qS : null,
-    turn_rate_dps: turn?.turnRateDps ?? null,
-    radius_m: turn?.radiusM ?? null,
+    turn_rate_dps: turning ? levelTurnRateDps(nTurn, tasMps) : null,
+    radius_m: turning ? levelTurnRadiusM(nTurn, tasMps) : null,
     uncoordinated: coordination.uncoordinated,
     flying,
     n_raw: nRaw,

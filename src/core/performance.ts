@@ -100,12 +100,26 @@ const UNIT_LOAD_FACTOR_TOLERANCE = 1e-9;
 export function levelTurnAt(loadFactor: number, tasMps: number): TurnGeometry {
   if (Math.abs(loadFactor - 1) <= UNIT_LOAD_FACTOR_TOLERANCE) return { bankDeg: 0, turnRateDps: 0, radiusM: null };
   if (!(loadFactor >= 1)) return { bankDeg: null, turnRateDps: null, radiusM: null };
-  const root = Math.sqrt(loadFactor * loadFactor - 1);
   return {
     bankDeg: radToDeg(Math.acos(1 / loadFactor)),
-    turnRateDps: tasMps > 0 ? radToDeg((G0_MPS2 * root) / tasMps) : null,
-    radiusM: root > 0 ? (tasMps * tasMps) / (G0_MPS2 * root) : null,
+    turnRateDps: levelTurnRateDps(loadFactor, tasMps),
+    radiusM: levelTurnRadiusM(loadFactor, tasMps),
   };
+}
+
+/** levelTurnAt(n, V).turnRateDps alone (the per-frame record needs no bank from it: no acos). */
+export function levelTurnRateDps(loadFactor: number, tasMps: number): number | null {
+  if (Math.abs(loadFactor - 1) <= UNIT_LOAD_FACTOR_TOLERANCE) return 0;
+  if (!(loadFactor >= 1)) return null;
+  return tasMps > 0 ? radToDeg((G0_MPS2 * Math.sqrt(loadFactor * loadFactor - 1)) / tasMps) : null;
+}
+
+/** levelTurnAt(n, V).radiusM alone. */
+export function levelTurnRadiusM(loadFactor: number, tasMps: number): number | null {
+  if (Math.abs(loadFactor - 1) <= UNIT_LOAD_FACTOR_TOLERANCE) return null;
+  if (!(loadFactor >= 1)) return null;
+  const root = Math.sqrt(loadFactor * loadFactor - 1);
+  return root > 0 ? (tasMps * tasMps) / (G0_MPS2 * root) : null;
 }
 
 /** Load factor of a level coordinated turn at a bank angle: n = 1/cos(bank). */

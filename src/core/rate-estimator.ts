@@ -53,6 +53,22 @@ export interface RateEstimator {
   readonly count: number;
 }
 
+/** An estimator's whole state, to start another exactly where it stands (see createSharedRateWindows). */
+interface RateEstimatorSeed {
+  times: Float64Array;
+  values: Float64Array;
+  head: number;
+  count: number;
+  lastT: number;
+  t0: number;
+  y0: number;
+  sumT: number;
+  sumY: number;
+  sumTT: number;
+  sumTY: number;
+  addedSinceRebuild: number;
+}
+
 /**
  * Running sums over a ring buffer: O(1) amortised per sample. Sums are kept relative to a reference time and value
  * (the oldest sample at the last rebuild) and rebuilt from the buffer every time as many samples have been added as
@@ -61,20 +77,24 @@ export interface RateEstimator {
 export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): RateEstimator {
   if (!(windowS > 0) || !Number.isFinite(windowS))
     throw new RangeError(`rate window must be positive (got ${windowS})`);
+  return rateEstimatorFrom(windowS, undefined);
+}
+
+function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined): RateEstimator {
   // The ring's capacity is a power of two (16, doubled when full): an index wraps with a mask, not a division.
-  let times = new Float64Array(16);
-  let values = new Float64Array(16);
+  let times = seed?.times ?? new Float64Array(16);
+  let values = seed?.values ?? new Float64Array(16);
   let mask = times.length - 1;
-  let head = 0; // index of the oldest sample
-  let count = 0;
-  let lastT = -Infinity;
-  let t0 = 0;
-  let y0 = 0;
-  let sumT = 0;
-  let sumY = 0;
-  let sumTT = 0;
-  let sumTY = 0;
-  let addedSinceRebuild = 0;
+  let head = seed?.head ?? 0; // index of the oldest sample
+  let count = seed?.count ?? 0;
+  let lastT = seed?.lastT ?? -Infinity;
+  let t0 = seed?.t0 ?? 0;
+  let y0 = seed?.y0 ?? 0;
+  let sumT = seed?.sumT ?? 0;
+  let sumY = seed?.sumY ?? 0;
+  let sumTT = seed?.sumTT ?? 0;
+  let sumTY = seed?.sumTY ?? 0;
+  let addedSinceRebuild = seed?.addedSinceRebuild ?? 0;
 
   const at = (k: number): number => (head + k) & mask;
 
@@ -160,6 +180,232 @@ export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): Ra
     reset,
     get count() {
       return count;
+    },
+  };
+}
+
+/**
+ * Several rate estimators over one time axis (the energy keys' speed, altitude and bank): the same slopes as one
+ * createRateEstimator per series, to the last bit, for less work. While every series has a value at every time since
+ * the last reset, their rings hold the same times, so the times and the time sums (Σt, Σt²) are kept once and each
+ * series keeps only its values, Σy and Σty. A series that misses a value leaves the shared ring: it goes on as an
+ * estimator of its own, started from the shared state as it stood, until the next reset (a break, or a time not
+ * after the last) brings it back.
+ */
+export interface SharedRateWindows {
+  /**
+   * Add one time with a value per series (not finite, NaN for instance: none) and set series k's slope over
+   * [tS − W, tS] — what `push` of its own estimator would return — as `hasSlope[k]` 1 and `slopes[k]`, or
+   * `hasSlope[k]` 0 for null. Typed arrays in and out: no number is boxed per frame.
+   */
+  push(tS: number, values: Float64Array): void;
+  /** The slopes of the last push, by series (rewritten by each push); read only where hasSlope is 1. */
+  readonly slopes: Float64Array;
+  readonly hasSlope: Uint8Array;
+  /** Forget every sample of every series. */
+  reset(): void;
+}
+
+export function createSharedRateWindows(windowS: number, seriesCount: number): SharedRateWindows {
+  if (!(windowS > 0) || !Number.isFinite(windowS))
+    throw new RangeError(`rate window must be positive (got ${windowS})`);
+  const S = seriesCount;
+  // One ring of times and one of values, interleaved (slot·S + series); capacities a power of two.
+  let times = new Float64Array(16);
+  let values = new Float64Array(16 * S);
+  let mask = 15;
+  let head = 0;
+  let count = 0;
+  // The running scalars live in a typed array: a double kept in a closure's variable is boxed at every store.
+  const st = new Float64Array(4);
+  const LAST_T = 0;
+  const T0 = 1;
+  const SUM_T = 2;
+  const SUM_TT = 3;
+  st[LAST_T] = -Infinity;
+  let addedSinceRebuild = 0;
+  const y0 = new Float64Array(S);
+  const sumY = new Float64Array(S);
+  const sumTY = new Float64Array(S);
+  /** A series' own estimator once it left the shared ring; undefined while it is in it. */
+  const own: (RateEstimator | undefined)[] = Array.from({ length: S }, () => undefined);
+  /** 1 while series s is in the shared ring. */
+  const inRing = new Uint8Array(S).fill(1);
+  let detached = 0;
+  const slopes = new Float64Array(S);
+  const hasSlope = new Uint8Array(S);
+
+  const rebuild = (): void => {
+    let sumT = 0;
+    let sumTT = 0;
+    sumY.fill(0);
+    sumTY.fill(0);
+    addedSinceRebuild = 0;
+    if (count === 0) {
+      st[SUM_T] = st[SUM_TT] = 0;
+      return;
+    }
+    const t0 = times[head]!;
+    st[T0] = t0;
+    for (let s = 0; s < S; s++) if (inRing[s] === 1) y0[s] = values[head * S + s]!;
+    for (let k = 0; k < count; k++) {
+      const dt = times[(head + k) & mask]! - t0;
+      sumT += dt;
+      sumTT += dt * dt;
+    }
+    for (let s = 0; s < S; s++) {
+      if (inRing[s] !== 1) continue;
+      const v0 = y0[s]!;
+      let sy = 0;
+      let sty = 0;
+      for (let k = 0; k < count; k++) {
+        const i = (head + k) & mask;
+        const dt = times[i]! - t0;
+        const dy = values[i * S + s]! - v0;
+        sy += dy;
+        sty += dt * dy;
+      }
+      sumY[s] = sy;
+      sumTY[s] = sty;
+    }
+    st[SUM_T] = sumT;
+    st[SUM_TT] = sumTT;
+  };
+
+  const reset = (): void => {
+    head = 0;
+    count = 0;
+    st[LAST_T] = -Infinity;
+    own.fill(undefined);
+    inRing.fill(1);
+    detached = 0;
+    rebuild();
+  };
+
+  /** Series s leaves the ring: its own estimator, with the state the ring holds for it now. */
+  const detach = (s: number): void => {
+    const ownTimes = new Float64Array(times.length);
+    ownTimes.set(times);
+    const ownValues = new Float64Array(times.length);
+    for (let i = 0; i < times.length; i++) ownValues[i] = values[i * S + s]!;
+    own[s] = rateEstimatorFrom(windowS, {
+      times: ownTimes,
+      values: ownValues,
+      head,
+      count,
+      lastT: st[LAST_T]!,
+      t0: st[T0]!,
+      y0: y0[s]!,
+      sumT: st[SUM_T]!,
+      sumY: sumY[s]!,
+      sumTT: st[SUM_TT]!,
+      sumTY: sumTY[s]!,
+      addedSinceRebuild,
+    });
+    inRing[s] = 0;
+    detached++;
+  };
+
+  const grow = (): void => {
+    const nt = new Float64Array(times.length * 2);
+    const nv = new Float64Array(values.length * 2);
+    for (let k = 0; k < count; k++) {
+      const from = (head + k) & mask;
+      nt[k] = times[from]!;
+      for (let s = 0; s < S; s++) nv[k * S + s] = values[from * S + s]!;
+    }
+    times = nt;
+    values = nv;
+    mask = times.length - 1;
+    head = 0;
+  };
+
+  return {
+    slopes,
+    hasSlope,
+    reset,
+    push(tS, given) {
+      if (!Number.isFinite(tS)) {
+        hasSlope.fill(0);
+        return;
+      }
+      if (tS <= st[LAST_T]!) reset();
+      // A series without a value leaves the ring before this time touches it.
+      for (let s = 0; s < S; s++) if (inRing[s] === 1 && !Number.isFinite(given[s]!)) detach(s);
+      if (detached > 0) {
+        for (let s = 0; s < S; s++) {
+          const o = own[s];
+          if (o === undefined) continue;
+          const slope = o.push(tS, given[s]!);
+          if (slope === null) hasSlope[s] = 0;
+          else {
+            hasSlope[s] = 1;
+            slopes[s] = slope;
+          }
+        }
+      }
+      st[LAST_T] = tS;
+      if (detached === S) return;
+      // Evict what left the window (as each estimator's evictBefore does).
+      const tMin = tS - windowS;
+      let t0 = st[T0]!;
+      let sumT = st[SUM_T]!;
+      let sumTT = st[SUM_TT]!;
+      while (count > 0 && times[head]! < tMin) {
+        const dt = times[head]! - t0;
+        sumT -= dt;
+        sumTT -= dt * dt;
+        const base = head * S;
+        for (let s = 0; s < S; s++) {
+          if (inRing[s] !== 1) continue;
+          const dy = values[base + s]! - y0[s]!;
+          sumY[s] = sumY[s]! - dy;
+          sumTY[s] = sumTY[s]! - dt * dy;
+        }
+        head = (head + 1) & mask;
+        count--;
+      }
+      if (count === 0) {
+        rebuild();
+        sumT = st[SUM_T]!;
+        sumTT = st[SUM_TT]!;
+      }
+      if (count === times.length) grow();
+      const i = (head + count) & mask;
+      times[i] = tS;
+      const first = count === 0;
+      if (first) t0 = tS;
+      const dt = tS - t0;
+      const base = i * S;
+      for (let s = 0; s < S; s++) {
+        if (inRing[s] !== 1) continue;
+        const v = given[s]!;
+        values[base + s] = v;
+        if (first) y0[s] = v;
+        const dy = v - y0[s]!;
+        sumY[s] = sumY[s]! + dy;
+        sumTY[s] = sumTY[s]! + dt * dy;
+      }
+      count++;
+      sumT += dt;
+      sumTT += dt * dt;
+      st[T0] = t0;
+      st[SUM_T] = sumT;
+      st[SUM_TT] = sumTT;
+      if (++addedSinceRebuild >= Math.max(count, 16)) {
+        rebuild();
+        sumT = st[SUM_T]!;
+        sumTT = st[SUM_TT]!;
+      }
+      const usable = rateWindowUsable(count, tS - times[head]!, windowS);
+      const stt = sumTT - (sumT * sumT) / count;
+      for (let s = 0; s < S; s++) {
+        if (inRing[s] !== 1) continue;
+        if (usable && stt > 0) {
+          hasSlope[s] = 1;
+          slopes[s] = (sumTY[s]! - (sumT * sumY[s]!) / count) / stt;
+        } else hasSlope[s] = 0;
+      }
     },
   };
 }

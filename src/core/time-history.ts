@@ -174,8 +174,11 @@ export function createTimeHistory(): TimeHistoryAccumulator {
   let bucketS = FIRST_BUCKET_S;
   let used = 0;
   let frames = 0;
-  let lastS = NaN;
-  let lastTS = NaN;
+  // The last frame's axis time and t_s, stored every frame: in a typed array, as a double stored in a closure
+  // variable is boxed at every store.
+  const last = new Float64Array(2).fill(NaN);
+  const LAST_S = 0;
+  const LAST_TS = 1;
   let axisShiftS = 0;
   // Frames per bucket: the series are reduced once a bucket holds more than two (its min and max are drawn).
   const frameCounts = new Uint32Array(MAX_BUCKETS);
@@ -205,7 +208,8 @@ export function createTimeHistory(): TimeHistoryAccumulator {
 
   return {
     push(rec, breakBefore) {
-      if (frames > 0 && rec.t_s <= lastTS) {
+      const lastS = last[LAST_S]!;
+      if (frames > 0 && rec.t_s <= last[LAST_TS]!) {
         // The sender's clock ran back: keep the axis running forward from the last frame.
         axisShiftS = lastS - rec.t_s + (lastS - t0S > 0 ? Math.min(1, (lastS - t0S) * 0.001) : 0);
         breakBefore ??= 'clock_restart';
@@ -260,8 +264,8 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         }
       }
       frames += 1;
-      lastS = tS;
-      lastTS = rec.t_s;
+      last[LAST_S] = tS;
+      last[LAST_TS] = rec.t_s;
     },
     finish() {
       // Copies of the used part only: the result crosses threads and goes into reports.
@@ -282,7 +286,7 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         bucketS,
         buckets: used,
         frames,
-        lastS: frames > 0 ? lastS : 0,
+        lastS: frames > 0 ? last[LAST_S]! : 0,
         series: out,
         breaks: breaks.slice(0, used),
         breakCounts: { ...breakCounts },

@@ -13,32 +13,40 @@ export interface TimeGate {
   reset(): void;
 }
 
+/** The two answers for a frame in order, shared (callers only read them): no object per frame. */
+const IN_ORDER: { ok: true; newSegment: boolean } = Object.freeze({ ok: true, newSegment: false });
+const NEW_SEGMENT: { ok: true; newSegment: boolean } = Object.freeze({ ok: true, newSegment: true });
+
 export function createTimeGate(): TimeGate {
-  let lastS: number | undefined;
+  // The last accepted time (NaN: none yet) and the last time of the run behind it, in a typed array: a double stored
+  // in a closure variable is boxed at every store, and lastS is stored at every frame.
+  const times = new Float64Array([NaN, -Infinity]);
+  const LAST_S = 0;
+  const RUN_LAST_S = 1;
   // Times of the consecutive frames behind lastS that increase among themselves.
   let runLength = 0;
-  let runLastS = -Infinity;
   return {
     check(tS) {
-      if (lastS === undefined || tS > lastS) {
-        lastS = tS;
+      const lastS = times[LAST_S]!;
+      if (lastS !== lastS || tS > lastS) {
+        times[LAST_S] = tS;
         runLength = 0;
-        return { ok: true, newSegment: false };
+        return IN_ORDER;
       }
-      if (runLength > 0 && tS > runLastS) runLength += 1;
+      if (runLength > 0 && tS > times[RUN_LAST_S]!) runLength += 1;
       else runLength = 1;
-      runLastS = tS;
+      times[RUN_LAST_S] = tS;
       if (runLength >= RESTART_RUN) {
-        lastS = tS;
+        times[LAST_S] = tS;
         runLength = 0;
-        return { ok: true, newSegment: true };
+        return NEW_SEGMENT;
       }
       return TIME_NOT_INCREASING;
     },
     reset() {
-      lastS = undefined;
+      times[LAST_S] = NaN;
       runLength = 0;
-      runLastS = -Infinity;
+      times[RUN_LAST_S] = -Infinity;
     },
   };
 }

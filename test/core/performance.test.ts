@@ -5,6 +5,8 @@ import {
   cornerSpeedMps,
   dragAtLoadFactorN,
   levelTurnAt,
+  levelTurnRadiusM,
+  levelTurnRateDps,
   loadFactorForBank,
   stallSpeedMps,
   thrustAvailableN,
@@ -65,6 +67,21 @@ describe('bank and load factor in a level coordinated turn', () => {
     expect(levelTurnAt(0.9, 20)).toEqual({ bankDeg: null, turnRateDps: null, radiusM: null });
     expect(levelTurnAt(1, 20).radiusM).toBeNull();
     expect(levelTurnAt(1, 20).bankDeg).toBe(0);
+  });
+
+  it('gives the turn rate and radius alone exactly as levelTurnAt gives them', () => {
+    // Anderson, Aircraft Performance and Design, ch. 6: R = V²/(g·tan φ) and ω = g·tan φ/V at n = 1/cos φ.
+    const v = 25;
+    const tan = Math.tan((50 * Math.PI) / 180);
+    expect(levelTurnRadiusM(loadFactorForBank(50), v)).toBeCloseTo((v * v) / (G0_MPS2 * tan), 9);
+    expect(levelTurnRateDps(loadFactorForBank(50), v)).toBeCloseTo(((G0_MPS2 * tan) / v) * (180 / Math.PI), 9);
+    for (const n of [0.5, 0.9999, 1, 1.0000001, 1.2, 2, 3.7, 9]) {
+      for (const tasMps of [0, 12, 31.5]) {
+        const turn = levelTurnAt(n, tasMps);
+        expect(levelTurnRateDps(n, tasMps)).toBe(turn.turnRateDps);
+        expect(levelTurnRadiusM(n, tasMps)).toBe(turn.radiusM);
+      }
+    }
   });
 });
 

@@ -1,5 +1,11 @@
 import { describe, expect, it } from 'vitest';
-import { createEnergyRateTracker, createRateEstimator, leastSquaresSlope } from '../../src/core/rate-estimator.js';
+import fc from 'fast-check';
+import {
+  createEnergyRateTracker,
+  createRateEstimator,
+  createSharedRateWindows,
+  leastSquaresSlope,
+} from '../../src/core/rate-estimator.js';
 
 /** A seeded normal generator (Box–Muller over a 32-bit LCG; Numerical Recipes constants), for reproducible noise. */
 function gaussian(seed: number): () => number {
@@ -140,5 +146,66 @@ describe('the energy rate tracker', () => {
     for (let i = 1; i <= 10; i++) last = rates.push(i * 0.1, 20 + i * 0.1, null);
     expect(last.dvdtMps2).toBeCloseTo(1, 9);
     expect(last.dhdtMps).toBeNull();
+  });
+});
+
+describe('rate windows sharing one time axis', () => {
+  /** One step of a stream: a time step (negative: the clock runs back), a value per series, or a reset. */
+  const step = fc.record({
+    dtS: fc.oneof(
+      { weight: 12, arbitrary: fc.double({ min: 0.001, max: 0.1, noNaN: true }) },
+      { weight: 1, arbitrary: fc.constantFrom(0, -0.5, 2, Number.NaN) },
+    ),
+    values: fc.array(
+      fc.oneof(
+        { weight: 10, arbitrary: fc.double({ min: -500, max: 500, noNaN: true }) },
+        { weight: 1, arbitrary: fc.constantFrom(null, Number.NaN, Number.POSITIVE_INFINITY) },
+      ),
+      { minLength: 3, maxLength: 3 },
+    ),
+    reset: fc.oneof({ weight: 40, arbitrary: fc.constant(false) }, { weight: 1, arbitrary: fc.constant(true) }),
+  });
+
+  it('give every series the slope its own estimator gives, bit for bit, with values missing (property)', () => {
+    fc.assert(
+      fc.property(
+        fc.array(step, { minLength: 50, maxLength: 600, size: 'max' }),
+        fc.constantFrom(0.05, 0.3, 1),
+        (steps, windowS) => {
+          const shared = createSharedRateWindows(windowS, 3);
+          const own = [0, 1, 2].map(() => createRateEstimator(windowS));
+          let t = 1000;
+          for (const s of steps) {
+            if (s.reset) {
+              shared.reset();
+              for (const e of own) e.reset();
+            }
+            t = Number.isNaN(s.dtS) ? t : t + s.dtS;
+            const tS = Number.isNaN(s.dtS) ? Number.NaN : t;
+            shared.push(
+              tS,
+              Float64Array.from(s.values, (v) => v ?? Number.NaN),
+            );
+            const expected = own.map((e, k) => e.push(tS, s.values[k]!));
+            // toEqual compares numbers with Object.is: the same bits (−0 apart from 0), not merely close.
+            expect([0, 1, 2].map((k) => (shared.hasSlope[k] === 1 ? shared.slopes[k] : null))).toEqual(expected);
+          }
+        },
+      ),
+      { numRuns: 300 },
+    );
+  });
+
+  it('give the slopes of straight lines over a long flight at 50 Hz, a series absent from some frames', () => {
+    // Straight lines have exact least-squares slopes (normal equations of linear regression).
+    const shared = createSharedRateWindows(1, 3);
+    for (let i = 0; i < 5000; i++) {
+      const t = 3600 + i * 0.02;
+      shared.push(t, Float64Array.of(20 - 0.4 * t, 100 + 3 * t, i % 400 < 100 ? Number.NaN : 2 * t));
+    }
+    expect([...shared.hasSlope]).toEqual([1, 1, 1]);
+    expect(shared.slopes[0]).toBeCloseTo(-0.4, 6);
+    expect(shared.slopes[1]).toBeCloseTo(3, 6);
+    expect(shared.slopes[2]).toBeCloseTo(2, 6);
   });
 });
