@@ -10,9 +10,18 @@ export const DEFAULT_RATE_WINDOW_S = 1.0;
 /** Fewest samples for a slope. */
 export const RATE_MIN_SAMPLES = 3;
 
-/** Conditions for a slope: at least 3 samples spanning at least half the window. */
-export function rateWindowUsable(count: number, spanS: number, windowS: number): boolean {
-  return count >= RATE_MIN_SAMPLES && spanS >= windowS / 2;
+/**
+ * Slack of a comparison of frame times with a window edge, s: a few units in the last place of t. Frame times are
+ * decimals held in binary floats, so t − W can land a hair above a frame that lies exactly W earlier (128.8 − 1 gives
+ * 127.80000000000001 > 127.8): without the slack that frame would leave [t − W, t] in some windows and not in others.
+ */
+export function windowEdgeSlackS(tS: number): number {
+  return 4 * Number.EPSILON * Math.max(1, Math.abs(tS));
+}
+
+/** Conditions for a slope: at least 3 samples spanning at least half the window (`slackS`: see windowEdgeSlackS). */
+export function rateWindowUsable(count: number, spanS: number, windowS: number, slackS = 0): boolean {
+  return count >= RATE_MIN_SAMPLES && spanS >= windowS / 2 - slackS;
 }
 
 /**
@@ -134,7 +143,8 @@ export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): Ra
       if (!Number.isFinite(tS)) return null;
       if (tS <= lastT) reset();
       lastT = tS;
-      evictBefore(tS - windowS);
+      const slackS = windowEdgeSlackS(tS);
+      evictBefore(tS - windowS - slackS);
       if (value === null || !Number.isFinite(value)) return null;
       if (count === times.length) grow();
       const i = at(count);
@@ -152,7 +162,7 @@ export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): Ra
       sumTT += dt * dt;
       sumTY += dt * dy;
       if (++addedSinceRebuild >= Math.max(count, 16)) rebuild();
-      if (!rateWindowUsable(count, tS - times[head]!, windowS)) return null;
+      if (!rateWindowUsable(count, tS - times[head]!, windowS, slackS)) return null;
       const stt = sumTT - (sumT * sumT) / count;
       if (!(stt > 0)) return null;
       return (sumTY - (sumT * sumY) / count) / stt;
