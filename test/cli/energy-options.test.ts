@@ -132,6 +132,14 @@ describe('the energy keys in the outputs of the record', () => {
     expect(bad.stderr).toContain('--throttle must be one of full, idle');
     const badWindow = await runCli([...base, '--rate-window', '0']);
     expect(badWindow.code).toBe(2);
-    expect(badWindow.stderr).toContain('--rate-window');
+    expect(badWindow.stderr).toContain('--rate-window must be a number from 0.05 to 60 (got "0")');
+  });
+
+  it('say in --help which rate windows are accepted, the bounds the refusal names', async () => {
+    for (const command of ['review', 'watch', 'replay', 'serve', 'demo']) {
+      const help = await runCli([command, '--help']);
+      expect(help.code, command).toBe(0);
+      expect(help.stdout, command).toMatch(/--rate-window S .*\(0\.05 to 60\) \(unit: s; default: 1\)/);
+    }
   });
 });
