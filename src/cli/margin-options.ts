@@ -28,8 +28,7 @@ export const MARGIN_COMPUTATION_OPTIONS: OptionSpec[] = [
     valueName: 'S',
     unit: 's',
     defaultText: String(DEFAULT_RATE_WINDOW_S),
-    description:
-      'window W of the rates dV/dt and dh/dt (least-squares slope over the last W seconds of frames) behind the measured Ps and the time to the stall',
+    description: `window W of the rates dV/dt and dh/dt (least-squares slope over the last W seconds of frames) behind the measured Ps and the time to the stall (${RATE_WINDOW_MIN_S} to ${RATE_WINDOW_MAX_S})`,
   },
   {
     name: 'throttle',

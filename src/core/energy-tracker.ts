@@ -17,7 +17,7 @@ import {
 import type { Frame } from './frame.js';
 import type { MarginRecord } from './margin-record.js';
 import { stallSpeedMps, topSpeedMps, vneTasMps } from './performance.js';
-import { createSharedRateWindows } from './rate-estimator.js';
+import { createSharedRateWindows, windowEdgeSlackS } from './rate-estimator.js';
 import { sustainedBandMps } from './sustained-band.js';
 import type { AlertThresholds } from './thresholds.js';
 
@@ -59,7 +59,8 @@ function createWindowMean(windowS: number): {
   const at = (k: number): number => (head + k) & mask;
   return {
     push(tS, value) {
-      while (count > 0 && times[head]! < tS - windowS) {
+      const edgeS = tS - windowS - windowEdgeSlackS(tS);
+      while (count > 0 && times[head]! < edgeS) {
         sum -= values[head]!;
         head = (head + 1) & mask;
         count--;
@@ -159,7 +160,8 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
         settingSinceS = tS;
         residualMean.reset();
       }
-      rec.ps_residual_mean_3s_mps = residualMean.push(tS, tS - settingSinceS >= options.rateWindowS ? residual : null);
+      const wholeWindowInSetting = tS - settingSinceS >= options.rateWindowS - windowEdgeSlackS(tS);
+      rec.ps_residual_mean_3s_mps = residualMean.push(tS, wholeWindowInSetting ? residual : null);
       rec.time_to_stall_caution_s = timeToUtilizationS(
         rec.flying,
         rec.tas_mps,

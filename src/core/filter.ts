@@ -3,6 +3,7 @@
  * y ← y + (1 − e^(−Δt/τ))·(x − y). It restarts at the raw value on the first sample, after a gap Δt above
  * `maxGapS`, and when time does not advance (a new segment of the sender's clock).
  */
+import { windowEdgeSlackS } from './rate-estimator.js';
 
 export interface LowPassState {
   /** Time of the last sample, s. */
@@ -20,6 +21,14 @@ export interface LowPassStep {
   restarted: boolean;
 }
 
+/**
+ * An interval between frames longer than `maxGapS`, allowing for the rounding of decimal frame times held in binary
+ * floats (8.3 − 7.3 gives 1.0000000000000142): frames exactly 1 s apart are never a gap, whatever their times.
+ */
+export function isOverGap(dtS: number, maxGapS: number, tS: number): boolean {
+  return dtS > maxGapS + windowEdgeSlackS(tS);
+}
+
 /** One step of the filter. τ = 0 turns it off (the output is the input). */
 export function lowPassStep(
   previous: LowPassState | null,
@@ -30,7 +39,7 @@ export function lowPassStep(
 ): LowPassStep {
   if (previous === null) return { state: { tS, value: input }, restarted: true };
   const dtS = tS - previous.tS;
-  if (!(dtS > 0) || dtS > maxGapS) return { state: { tS, value: input }, restarted: true };
+  if (!(dtS > 0) || isOverGap(dtS, maxGapS, tS)) return { state: { tS, value: input }, restarted: true };
   if (tauS <= 0) return { state: { tS, value: input }, restarted: false };
   const gain = filterGain(dtS, tauS);
   return { state: { tS, value: previous.value + gain * (input - previous.value) }, restarted: false };
@@ -50,7 +59,7 @@ export function lowPassStepInPlace(
 ): LowPassState {
   if (previous === null) return { tS, value: input };
   const dtS = tS - previous.tS;
-  if (!(dtS > 0) || dtS > maxGapS) return { tS, value: input };
+  if (!(dtS > 0) || isOverGap(dtS, maxGapS, tS)) return { tS, value: input };
   previous.value = tauS <= 0 ? input : previous.value + filterGain(dtS, tauS) * (input - previous.value);
   previous.tS = tS;
   return previous;

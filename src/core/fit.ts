@@ -13,6 +13,7 @@ import { specificExcessPowerMps, THROTTLE_FULL_MIN, THROTTLE_IDLE_MAX } from './
 import { lowPassRampDelayS } from './filter.js';
 import { fitLine, fitScale, studentTQuantile, type Estimate, type LineFit } from './least-squares.js';
 import { dynamicPressurePa, thrustAvailableN } from './performance.js';
+import { windowEdgeSlackS } from './rate-estimator.js';
 import type { MarginRecord } from './margin-record.js';
 import { G0_MPS2 } from './units.js';
 
@@ -401,7 +402,8 @@ export function createFitCollector(rateWindowS: number, smoothTauS: number): Fit
       stretchStartS ??= f.tS;
       if (f.throttle === null) counts.withoutThrottle += 1;
       recent.push(f);
-      while (head < recent.length - 1 && recent[head]!.tS < f.tS - rateWindowS) head++;
+      const slackS = windowEdgeSlackS(f.tS);
+      while (head < recent.length - 1 && recent[head]!.tS < f.tS - rateWindowS - slackS) head++;
       if (head > 1024) {
         recent = recent.slice(head);
         head = 0;
@@ -412,14 +414,14 @@ export function createFitCollector(rateWindowS: number, smoothTauS: number): Fit
       if (!f.flying) return;
       if (f.cl !== null) held.push(f.tS, f.cl);
       if (regime === null || f.dvdtMps2 === null || f.dhdtMps === null) return;
-      if (f.tS - stretchStartS < rateWindowS) return;
+      if (f.tS - stretchStartS < rateWindowS - slackS) return;
       if (f.bankDeg !== null && (f.bankRateDps === null || !(Math.abs(f.bankRateDps) < MAX_BANK_RATE_DPS))) return;
       counts.usable += 1;
       counts[regime] += 1;
 
-      if (regimeSinceS === null || f.tS - regimeSinceS < rateWindowS) return;
+      if (regimeSinceS === null || f.tS - regimeSinceS < rateWindowS - slackS) return;
       const kept = lastKeptS[regime];
-      if (kept !== null && !(f.tS - kept > rateWindowS)) return;
+      if (kept !== null && !(f.tS - kept > rateWindowS + slackS)) return;
       let nLo = Infinity;
       let nHi = -Infinity;
       for (let i = head; i < recent.length; i++) {

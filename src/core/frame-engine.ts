@@ -15,7 +15,7 @@
 import type { Aircraft } from './aircraft.js';
 import { createEnergyTracker } from './energy-tracker.js';
 import { createEventTracker, type BreakKind, type LimitEvent } from './events.js';
-import { FILTER_RESTART_GAP_S } from './filter.js';
+import { FILTER_RESTART_GAP_S, isOverGap } from './filter.js';
 import type { Frame } from './frame.js';
 import { createMarginTracker, frameRejection, resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { MarginRecord } from './margin-record.js';
@@ -117,7 +117,7 @@ export function createFrameEngine(
       if (last === last) {
         const dtS = frame.tS - last;
         if (!(dtS > 0)) breakData('clock_restart');
-        else if (dtS > DATA_GAP_S) breakData('data_gap');
+        else if (isOverGap(dtS, DATA_GAP_S, frame.tS)) breakData('data_gap');
       }
       const rec = margins.push(frame);
       energy.fill(rec, frame);

@@ -10,9 +10,18 @@ export const DEFAULT_RATE_WINDOW_S = 1.0;
 /** Fewest samples for a slope. */
 export const RATE_MIN_SAMPLES = 3;
 
-/** Conditions for a slope: at least 3 samples spanning at least half the window. */
-export function rateWindowUsable(count: number, spanS: number, windowS: number): boolean {
-  return count >= RATE_MIN_SAMPLES && spanS >= windowS / 2;
+/**
+ * Slack of a comparison of frame times with a window edge, s: a few units in the last place of t. Frame times are
+ * decimals held in binary floats, so t − W can land a hair above a frame that lies exactly W earlier (128.8 − 1 gives
+ * 127.80000000000001 > 127.8): without the slack that frame would leave [t − W, t] in some windows and not in others.
+ */
+export function windowEdgeSlackS(tS: number): number {
+  return 4 * Number.EPSILON * Math.max(1, Math.abs(tS));
+}
+
+/** Conditions for a slope: at least 3 samples spanning at least half the window (`slackS`: see windowEdgeSlackS). */
+export function rateWindowUsable(count: number, spanS: number, windowS: number, slackS = 0): boolean {
+  return count >= RATE_MIN_SAMPLES && spanS >= windowS / 2 - slackS;
 }
 
 /**
@@ -154,7 +163,8 @@ function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined)
       if (!Number.isFinite(tS)) return null;
       if (tS <= lastT) reset();
       lastT = tS;
-      evictBefore(tS - windowS);
+      const slackS = windowEdgeSlackS(tS);
+      evictBefore(tS - windowS - slackS);
       if (value === null || !Number.isFinite(value)) return null;
       if (count === times.length) grow();
       const i = at(count);
@@ -172,7 +182,7 @@ function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined)
       sumTT += dt * dt;
       sumTY += dt * dy;
       if (++addedSinceRebuild >= Math.max(count, 16)) rebuild();
-      if (!rateWindowUsable(count, tS - times[head]!, windowS)) return null;
+      if (!rateWindowUsable(count, tS - times[head]!, windowS, slackS)) return null;
       const stt = sumTT - (sumT * sumT) / count;
       if (!(stt > 0)) return null;
       return (sumTY - (sumT * sumY) / count) / stt;
@@ -347,7 +357,8 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
       st[LAST_T] = tS;
       if (detached === S) return;
       // Evict what left the window (as each estimator's evictBefore does).
-      const tMin = tS - windowS;
+      const slackS = windowEdgeSlackS(tS);
+      const tMin = tS - windowS - slackS;
       let t0 = st[T0]!;
       let sumT = st[SUM_T]!;
       let sumTT = st[SUM_TT]!;
@@ -397,7 +408,7 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
         sumT = st[SUM_T]!;
         sumTT = st[SUM_TT]!;
       }
-      const usable = rateWindowUsable(count, tS - times[head]!, windowS);
+      const usable = rateWindowUsable(count, tS - times[head]!, windowS, slackS);
       const stt = sumTT - (sumT * sumT) / count;
       for (let s = 0; s < S; s++) {
         if (inRing[s] !== 1) continue;

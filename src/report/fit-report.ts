@@ -185,7 +185,7 @@ export function fitToMarkdown(input: FitReportInput): string {
   L.push(
     `| max sustained turn rate, °/s | ${opt(a.maxSustainedTurnRateDps, 1)} | ${opt(b.maxSustainedTurnRateDps, 1)} |`,
   );
-  L.push(`| min sustained radius, m | ${opt(a.minSustainedRadiusM, 0)} | ${opt(b.minSustainedRadiusM, 0)} |`, '');
+  L.push(`| min sustained radius, m | ${opt(a.minSustainedRadiusM, 1)} | ${opt(b.minSustainedRadiusM, 1)} |`, '');
   if (input.writtenAirframe !== undefined)
     L.push(
       `The fitted airframe is written to \`${input.writtenAirframe}\`; its full envelope: \`${envelopeCommand(input.writtenAirframe, c)}\`.`,

@@ -166,10 +166,14 @@ export function reviewToCsv(review: FlightReview): string {
     const m = check[setting];
     return [m?.frames ?? null, m?.mean_residual_mps ?? null, m?.sd_residual_mps ?? null, m?.drag_error_pct ?? null];
   });
+  const flightCells = [...ASSUMPTIONS.map((a) => shares[a]), ...checkCells];
   const rows = review.events.map((e) => {
     const j = eventJson(e);
-    return csvRow([...EVENT_CSV_COLUMNS.map((k) => j[k]), ...ASSUMPTIONS.map((a) => shares[a]), ...checkCells]);
+    return csvRow([...EVENT_CSV_COLUMNS.map((k) => j[k]), ...flightCells]);
   });
+  // A flight without events still has its flight-level columns (the model check of a clean flight is the one most
+  // worth having): one row with the event columns empty, which no reader can take for an event (no limit).
+  if (rows.length === 0) rows.push(csvRow([...EVENT_CSV_COLUMNS.map(() => null), ...flightCells]));
   return (
     [[...EVENT_CSV_COLUMNS, ...ASSUMED_CSV_COLUMNS, ...MODEL_CHECK_CSV_COLUMNS].join(','), ...rows].join('\n') + '\n'
   );

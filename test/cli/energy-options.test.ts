@@ -3,11 +3,12 @@
  * --rate-window and --throttle reach the engine, through the built CLI. The flight is the bundled demo flight (an
  * invented scenario simulated from replays/plans/demo-flight.json with the demo airframe, so the model matches).
  */
-import { mkdtempSync, readFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
-import { DEMO_AIRFRAME_PATH } from '../helpers/airframes.js';
+import { airframe, DEMO_AIRFRAME_PATH } from '../helpers/airframes.js';
+import { demoAirframeJson, NO_NOISE, ndjson, simulateFrames } from '../helpers/fit-flights.js';
 import { REPO_ROOT, runCli } from '../helpers/run-cli.js';
 
 const DEMO_FLIGHT = join(REPO_ROOT, 'replays/demo-flight.ndjson');
@@ -83,6 +84,36 @@ describe('the energy keys in the outputs of the record', () => {
     expect(csv.stdout.split('\n')[0]).toContain('model_check_full_mean_residual_mps');
   });
 
+  it('keep the model check in the CSV of a flight without any event, on a row with the event columns empty', async () => {
+    // Glides and a gentle full-throttle climb, flown by the simulator with the file's own airframe: no limit comes
+    // near its caution, so there is no event row to carry the flight-level columns.
+    const dir = mkdtempSync(join(tmpdir(), 'tm-energy-csv-'));
+    const flight = join(dir, 'calm.ndjson');
+    const plan = {
+      start: { alt_m: 400, tas_mps: 16 },
+      noise: NO_NOISE,
+      segments: [
+        { type: 'glide' as const, duration_s: 12, tas_mps: 15 },
+        { type: 'straight' as const, duration_s: 12, throttle: 1 },
+      ],
+    };
+    writeFileSync(flight, ndjson(simulateFrames(airframe(demoAirframeJson()), plan, 1)));
+    const base = ['review', flight, '--aircraft', DEMO_AIRFRAME_PATH];
+    const [j, csv] = await Promise.all([runCli([...base, '--format', 'json']), runCli([...base, '--format', 'csv'])]);
+    expect(j.code, j.stderr).toBe(0);
+    const out = JSON.parse(j.stdout);
+    expect(out.events).toEqual([]);
+    expect(out.model_check.full.frames).toBeGreaterThan(50);
+    expect(out.model_check.idle.frames).toBeGreaterThan(50);
+    const [header, ...rows] = csv.stdout.trimEnd().split('\n');
+    expect(rows).toHaveLength(1);
+    const cell = (column: string): string => rows[0]!.split(',')[header!.split(',').indexOf(column)]!;
+    expect(cell('limit')).toBe('');
+    for (const setting of ['full', 'idle'])
+      for (const key of ['frames', 'mean_residual_mps', 'sd_residual_mps', 'drag_error_pct'])
+        expect(cell(`model_check_${setting}_${key}`), `${setting} ${key}`).toBe(String(out.model_check[setting][key]));
+  });
+
   it('take the rate window from --rate-window and the throttle assumption from --throttle', async () => {
     const frames = join(REPO_ROOT, 'test/fixtures/review-flight.ndjson');
     const base = ['review', frames, '--aircraft', join(REPO_ROOT, 'test/fixtures/example-airframe.json')];
@@ -101,6 +132,14 @@ describe('the energy keys in the outputs of the record', () => {
     expect(bad.stderr).toContain('--throttle must be one of full, idle');
     const badWindow = await runCli([...base, '--rate-window', '0']);
     expect(badWindow.code).toBe(2);
-    expect(badWindow.stderr).toContain('--rate-window');
+    expect(badWindow.stderr).toContain('--rate-window must be a number from 0.05 to 60 (got "0")');
+  });
+
+  it('say in --help which rate windows are accepted, the bounds the refusal names', async () => {
+    for (const command of ['review', 'watch', 'replay', 'serve', 'demo']) {
+      const help = await runCli([command, '--help']);
+      expect(help.code, command).toBe(0);
+      expect(help.stdout, command).toMatch(/--rate-window S .*\(0\.05 to 60\) \(unit: s; default: 1\)/);
+    }
   });
 });

@@ -156,6 +156,22 @@ describe('turnmargin fit', () => {
     expect(r.stdout).toMatch(/\| max sustained load factor \| [\d.]+ at [\d.]+ m\/s \| [\d.]+ at [\d.]+ m\/s \|/);
   });
 
+  it('shows the sustained radius to 0.1 m in Markdown, as JSON gives it, so a change of under a metre is seen', async () => {
+    // The bundled flight's fit moves the smallest sustained radius from about 9.7 m to about 10.0 m: shown to whole
+    // metres both read "10" and the table hid the change it is there to show.
+    const [md, json] = await Promise.all([
+      runCli(['fit', FIT_FLIGHT, '--aircraft', DEMO_AIRFRAME_PATH]),
+      runCli(['fit', FIT_FLIGHT, '--aircraft', DEMO_AIRFRAME_PATH, '--format', 'json']),
+    ]);
+    expect(md.code, md.stderr).toBe(0);
+    const env = JSON.parse(json.stdout).envelope;
+    const shown = (side: 'file' | 'fitted') =>
+      `${env[side].min_sustained_radius.radius_m.toFixed(1)} at ${env[side].min_sustained_radius.speed_mps.toFixed(1)} m/s`;
+    const radius = (side: 'file' | 'fitted'): number => env[side].min_sustained_radius.radius_m;
+    expect(radius('file').toFixed(1)).not.toBe(radius('fitted').toFixed(1));
+    expect(md.stdout).toContain(`| min sustained radius, m | ${shown('file')} | ${shown('fitted')} |`);
+  });
+
   it('draws the polar and the Ps residual to an SVG file, refusing to replace one without --force', async () => {
     const dir = tmp();
     const plot = join(dir, 'fit.svg');

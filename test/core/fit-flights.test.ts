@@ -92,18 +92,25 @@ describe('fit on simulated flights', () => {
     expect(envelopeFitted.stallSpeedMps).toBe(envelopeFile.stallSpeedMps);
     expect(envelopeFitted.maxSustainedLoadFactor!.value).toBeLessThan(envelopeFile.maxSustainedLoadFactor!.value);
     expect(outcome.fitted.clMax).toBe(file.clMax);
-    // And it comes close to the envelope of the airframe that flew.
+    // And it comes close to the envelope of the airframe that flew, within what the fit's own intervals allow. The
+    // largest sustained load factor at constant thrust is n_max = (T/W)/(2·√(CD0·k)) (a standard performance
+    // relation — from memory), so its relative error is about δs/s + ½·δCD0/CD0 + ½·δk/k: the bound adds the 95 %
+    // half-widths (over 20 noise seeds the error ranges over about ±6 %, so a fixed few-% bound only fits some seeds).
     const c = outcome.conditions;
     const flown = computeEnvelope(truth, {
       altitudeM: c.altitudeM,
       temperature: { isaDeviationK: c.isaDeviationK },
       massKg: c.massKg,
     });
+    const halfWidth = (e: Estimate): number => (e.ci95[1] - e.ci95[0]) / 2 / e.value;
+    const { polar, thrustScale } = outcome.fit;
+    const bound = halfWidth(thrustScale!.scale) + halfWidth(polar!.cd0) / 2 + halfWidth(polar!.k) / 2;
+    expect(bound).toBeLessThan(0.2);
     expect(
       relativeError(envelopeFitted.maxSustainedLoadFactor!.value, flown.maxSustainedLoadFactor!.value),
-    ).toBeLessThan(0.03);
+    ).toBeLessThan(bound);
     expect(
       relativeError(envelopeFitted.maxSustainedTurnRateDps!.value, flown.maxSustainedTurnRateDps!.value),
-    ).toBeLessThan(0.03);
+    ).toBeLessThan(bound);
   });
 });

@@ -56,6 +56,16 @@ describe('frame engine', () => {
     ]);
   });
 
+  it('takes frames 1 s apart as continuous whatever the rounding of their decimal times (1 Hz telemetry)', () => {
+    // 8.3 − 7.3 is 1.0000000000000142 in binary floating point: still no gap.
+    const breaks: DataBreak[] = [];
+    const engine = createFrameEngine(exampleAirframe(), {}, { dataBreak: (b) => breaks.push(b) });
+    for (let i = 0; i < 40; i++) engine.push(frame(Number((0.3 + i).toFixed(1)), 0.5));
+    expect(breaks).toEqual([]);
+    engine.push(frame(41.4, 0.5));
+    expect(breaks).toEqual([{ kind: 'data_gap', t_s: 39.3 }]);
+  });
+
   it('restarts smoothing and alert state at a break: hysteresis does not carry an alert across it', () => {
     // u 0.79 is inside the caution hysteresis band (0.80 − 0.02 ≤ u < 0.80): it holds an alert that is on but does
     // not raise one. After a link loss the alert state restarts, so 0.79 raises nothing.

@@ -113,6 +113,31 @@ describe('the rate estimator', () => {
     expect(est.count).toBe(3);
   });
 
+  it('keeps the frame exactly W earlier in decimal time stamps, whatever the rounding of t − W in binary', () => {
+    // Frames at 10 Hz whose t_s are read from decimal text (0.1, 0.2, … as JSON.parse gives them): the window
+    // [t − 1, t] holds 11 of them (both ends included: the definition of the window). In binary 128.8 − 1 gives
+    // 127.80000000000001 > 127.8, which used to drop the frame at 127.8 from some windows and not from others.
+    const est = createRateEstimator(1.0);
+    const counts = new Set<number>();
+    let slopeError = 0;
+    for (let i = 0; i <= 3000; i++) {
+      const t = Number.parseFloat((i / 10).toFixed(1));
+      const r = est.push(t, 5 + 2 * t + (i % 2 === 0 ? 0.1 : -0.1));
+      if (i < 10) continue;
+      counts.add(est.count);
+      // A zig-zag of ±0.1 about a line of slope 2 over 11 samples: its least-squares slope is 2 + Σ(t − t̄)·e / Σ(t − t̄)²
+      // with the alternating e; any window of 11 gives the same |deviation|, computed here directly.
+      const ts = Array.from({ length: 11 }, (_, k) => k / 10);
+      const es = ts.map((_, k) => ((i - 10 + k) % 2 === 0 ? 0.1 : -0.1));
+      const tMean = 0.5;
+      const expected =
+        2 + ts.reduce((p, x, k) => p + (x - tMean) * es[k]!, 0) / ts.reduce((p, x) => p + (x - tMean) ** 2, 0);
+      slopeError = Math.max(slopeError, Math.abs(r! - expected));
+    }
+    expect([...counts]).toEqual([11]);
+    expect(slopeError).toBeLessThan(1e-9);
+  });
+
   it('restarts when time goes backwards and skips a frame without a value', () => {
     const est = createRateEstimator(1.0);
     for (let i = 0; i <= 10; i++) est.push(10 + i * 0.1, i);

@@ -34,7 +34,9 @@ describe('review renderers', () => {
         'min_time_to_stall_caution_s,assumed_n_from_bank_share,assumed_temperature_isa_share,' +
         'assumed_n_limit_default_share,model_check_full_frames,model_check_full_mean_residual_mps,' +
         'model_check_full_sd_residual_mps,model_check_full_drag_error_pct,model_check_idle_frames,' +
-        'model_check_idle_mean_residual_mps,model_check_idle_sd_residual_mps,model_check_idle_drag_error_pct\n',
+        'model_check_idle_mean_residual_mps,model_check_idle_sd_residual_mps,model_check_idle_drag_error_pct\n' +
+        // no event: one row with the event columns empty, carrying the flight's assumed shares (no model check here)
+        ',,,,,,,,,,,0,1,0,,,,,,,,\n',
     );
     expect(reviewToJson(review, ctx).events).toEqual([]);
     expect(checkSummary(review, ctx, 'caution').trimEnd().split('\n').pop()).toBe('PASS: no event reached caution');

@@ -66,7 +66,7 @@ export const spec: CommandSpec = {
       valueName: 'FORMAT',
       defaultText: 'md',
       description:
-        'report format: md (for a flight-test record), json, csv (one row per event), or html (one self-contained page with time histories and the n–V plane, printable)',
+        'report format: md (for a flight-test record), json, csv (one row per event; one with the event columns empty when there is none), or html (one self-contained page with time histories and the n–V plane, printable)',
     },
     {
       name: 'out',
