@@ -17,7 +17,7 @@ import {
 import type { Frame } from './frame.js';
 import type { MarginRecord } from './margin-record.js';
 import { stallSpeedMps, topSpeedMps, vneTasMps } from './performance.js';
-import { createSharedRateWindows, windowEdgeSlackS } from './rate-estimator.js';
+import { createSharedRateWindows, grownRing, windowEdgeSlackS } from './rate-estimator.js';
 import { sustainedBandMps } from './sustained-band.js';
 import type { AlertThresholds } from './thresholds.js';
 
@@ -67,14 +67,8 @@ function createWindowMean(windowS: number): {
       }
       if (value !== null && Number.isFinite(value)) {
         if (count === times.length) {
-          const nt = new Float64Array(times.length * 2);
-          const nv = new Float64Array(values.length * 2);
-          for (let k = 0; k < count; k++) {
-            nt[k] = times[at(k)]!;
-            nv[k] = values[at(k)]!;
-          }
-          times = nt;
-          values = nv;
+          times = grownRing(times, head, count);
+          values = grownRing(values, head, count);
           mask = times.length - 1;
           head = 0;
         }

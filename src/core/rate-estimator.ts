@@ -19,6 +19,14 @@ export function windowEdgeSlackS(tS: number): number {
   return 4 * Number.EPSILON * Math.max(1, Math.abs(tS));
 }
 
+/** A full ring's `count` items from `head`, in order, at the start of an array twice its length (power of two). */
+export function grownRing(ring: Float64Array, head: number, count: number): Float64Array<ArrayBuffer> {
+  const mask = ring.length - 1;
+  const out = new Float64Array(ring.length * 2);
+  for (let k = 0; k < count; k++) out[k] = ring[(head + k) & mask]!;
+  return out;
+}
+
 /** Conditions for a slope: at least 3 samples spanning at least half the window (`slackS`: see windowEdgeSlackS). */
 export function rateWindowUsable(count: number, spanS: number, windowS: number, slackS = 0): boolean {
   return count >= RATE_MIN_SAMPLES && spanS >= windowS / 2 - slackS;
@@ -125,14 +133,8 @@ function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined)
   };
 
   const grow = (): void => {
-    const nt = new Float64Array(times.length * 2);
-    const nv = new Float64Array(values.length * 2);
-    for (let k = 0; k < count; k++) {
-      nt[k] = times[at(k)]!;
-      nv[k] = values[at(k)]!;
-    }
-    times = nt;
-    values = nv;
+    times = grownRing(times, head, count);
+    values = grownRing(values, head, count);
     mask = times.length - 1;
     head = 0;
   };
