@@ -83,8 +83,9 @@ export function feedPackedBatch(
       : packedAfterReconnect(frames, i)
         ? AFTER_RECONNECT
         : NEW_SEGMENT;
-    const rec = reviewer.accept(unpackFrame(frames, i), marks, lineNos[i]);
-    if (rec !== null) onRecord?.(rec);
+    // The record is made only for a caller that wants it (per-frame output, a card): the sums need none.
+    if (reviewer.advance(unpackFrame(frames, i), marks, lineNos[i]) && onRecord !== undefined)
+      onRecord(reviewer.record());
   }
   for (const { lineNo, rejected } of unpackRejects(rejects)) reviewer.reject(lineNo, rejected);
 }

@@ -77,6 +77,30 @@ export interface AlertInputs {
   tS: number;
 }
 
+/** AlertInputs as the frame engine holds them (MarginValues fits): NaN where the utilization or n_thrust is null. */
+export interface AlertValues {
+  uStall: number;
+  uThrust: number;
+  uStructure: number;
+  uSpeed: number;
+  nThrust: number;
+  flying: boolean;
+  tS: number;
+}
+
+function utilizationOf(v: AlertValues, limit: LimitName): number {
+  switch (limit) {
+    case 'stall':
+      return v.uStall;
+    case 'thrust':
+      return v.uThrust;
+    case 'structure':
+      return v.uStructure;
+    case 'speed':
+      return v.uSpeed;
+  }
+}
+
 function find(previous: readonly ActiveAlert[], limit: LimitName, level: AlertLevel): ActiveAlert | undefined {
   for (let i = 0; i < previous.length; i++) {
     const p = previous[i]!;
@@ -89,21 +113,19 @@ const NO_ALERTS = Object.freeze([]) as unknown as ActiveAlert[];
 
 /**
  * Whether any alert would come on at a flying frame with none on before: a utilization at its threshold, or
- * n_thrust = 0. Without one, updateAlerts has nothing to do (the usual frame), and nothing is allocated.
+ * n_thrust = 0. Without one, nextAlerts has nothing to do (the usual frame), and nothing is allocated.
  */
-function anyAlertReached(inputs: AlertInputs, thresholds: AlertThresholds): boolean {
-  if (inputs.nThrust === 0) return true;
+function anyAlertReached(v: AlertValues, thresholds: AlertThresholds): boolean {
+  if (v.nThrust === 0) return true;
   const lowest = lowestThresholds(thresholds);
-  const u = inputs.utilization;
+  // NaN (no utilization) reaches nothing.
   return (
-    reaches(u.stall, lowest.stall) ||
-    reaches(u.structure, lowest.structure) ||
-    reaches(u.thrust, lowest.thrust) ||
-    reaches(u.speed, lowest.speed)
+    v.uStall >= lowest.stall ||
+    v.uStructure >= lowest.structure ||
+    v.uThrust >= lowest.thrust ||
+    v.uSpeed >= lowest.speed
   );
 }
-
-const reaches = (value: number | null, threshold: number): boolean => value !== null && value >= threshold;
 
 /** The lowest threshold of each limit's alerts (Infinity for a limit without one), for the last thresholds used. */
 let lowestOf: { thresholds: AlertThresholds; lowest: Record<LimitName, number> } | null = null;
@@ -123,30 +145,48 @@ function lowestThresholds(thresholds: AlertThresholds): Record<LimitName, number
 }
 
 /** The alerts on at this frame, given those on at the previous one (most severe first). Runs once per frame. */
+export function nextAlerts(
+  previous: readonly ActiveAlert[],
+  v: AlertValues,
+  thresholds: AlertThresholds,
+): readonly ActiveAlert[] {
+  // Most frames: nothing on before and nothing can come on (the shared empty list: records only read it).
+  if (previous.length === 0 && (!v.flying || !anyAlertReached(v, thresholds))) return NO_ALERTS;
+  const on: ActiveAlert[] = [];
+  const h = thresholds.hysteresis;
+  for (let i = 0; i < KINDS.length; i++) {
+    const { limit, level } = KINDS[i]!;
+    const threshold = alertThreshold(limit, level, thresholds)!;
+    const value = utilizationOf(v, limit);
+    const defined = v.flying && value === value;
+    // n_thrust = 0: level flight cannot be sustained at all, a thrust caution by itself.
+    const unsustainable = limit === 'thrust' && v.flying && v.nThrust === 0;
+    const above = unsustainable || (defined && value >= threshold);
+    const held = unsustainable || (defined && value >= threshold - h);
+    const prev = previous.length === 0 ? undefined : find(previous, limit, level);
+    const next = alertStep(prev, limit, level, above, held, v.tS, thresholds.clearS);
+    if (next !== null) on.push(next);
+  }
+  return on;
+}
+
+/** nextAlerts for inputs with null utilizations (a utilization object, as records carry it). */
 export function updateAlerts(
   previous: readonly ActiveAlert[],
   inputs: AlertInputs,
   thresholds: AlertThresholds,
 ): ActiveAlert[] {
-  // Most frames: nothing on before and nothing can come on (the shared empty list: records only read it).
-  if (previous.length === 0 && (!inputs.flying || !anyAlertReached(inputs, thresholds))) return NO_ALERTS;
-  const on: ActiveAlert[] = [];
   const u = inputs.utilization;
-  const h = thresholds.hysteresis;
-  for (let i = 0; i < KINDS.length; i++) {
-    const { limit, level } = KINDS[i]!;
-    const threshold = alertThreshold(limit, level, thresholds)!;
-    const value = u[limit];
-    const defined = inputs.flying && value !== null && !Number.isNaN(value);
-    // n_thrust = 0: level flight cannot be sustained at all, a thrust caution by itself.
-    const unsustainable = limit === 'thrust' && inputs.flying && inputs.nThrust === 0;
-    const above = unsustainable || (defined && value >= threshold);
-    const held = unsustainable || (defined && value >= threshold - h);
-    const prev = previous.length === 0 ? undefined : find(previous, limit, level);
-    const next = alertStep(prev, limit, level, above, held, inputs.tS, thresholds.clearS);
-    if (next !== null) on.push(next);
-  }
-  return on;
+  const values: AlertValues = {
+    uStall: u.stall ?? NaN,
+    uThrust: u.thrust ?? NaN,
+    uStructure: u.structure ?? NaN,
+    uSpeed: u.speed ?? NaN,
+    nThrust: inputs.nThrust ?? NaN,
+    flying: inputs.flying,
+    tS: inputs.tS,
+  };
+  return nextAlerts(previous, values, thresholds) as ActiveAlert[];
 }
 
 /** The record's overall level: the most severe alert on. */

@@ -2,7 +2,7 @@
  * Inputs a margin record had to assume (taken from a default rather than measured or given): the list, the words
  * the dashboard shows, and a counter of the share of frames each held for the flight review. Pure.
  */
-import type { Assumption, MarginRecord } from './margin-record.js';
+import type { Assumption } from './margin-record.js';
 
 /** Every assumption, in the order a record lists them. */
 export const ASSUMPTIONS: readonly Assumption[] = Object.freeze([
@@ -20,7 +20,7 @@ export const ASSUMPTION_WORDS: Readonly<Record<Assumption, string>> = Object.fre
 
 export interface AssumptionCounter {
   /** Count one record. */
-  push(rec: Pick<MarginRecord, 'assumed'>): void;
+  push(rec: { readonly assumed: readonly Assumption[] }): void;
   /** Records counted. */
   frames(): number;
   /** Frames in which each assumption held. */

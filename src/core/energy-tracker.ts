@@ -14,8 +14,7 @@ import {
   timeToUtilizationS,
   type ThrottleAssumption,
 } from './energy.js';
-import type { Frame } from './frame.js';
-import type { MarginRecord } from './margin-record.js';
+import { orNull, type MarginValues } from './margin-values.js';
 import { stallSpeedMps, topSpeedMps, vneTasMps } from './performance.js';
 import { createSharedRateWindows, grownRing, windowEdgeSlackS } from './rate-estimator.js';
 import { sustainedBandMps } from './sustained-band.js';
@@ -37,15 +36,16 @@ export interface EnergyOptions {
 }
 
 export interface EnergyTracker {
-  /** Fill the energy keys of `rec` (made from `frame`); call once per accepted frame, in order. */
-  fill(rec: MarginRecord, frame: Frame): void;
+  /** Fill the energy values of `v` (its margins made); call once per accepted frame, in order. */
+  fill(v: MarginValues): void;
   /** A break: every window restarts. */
   reset(): void;
 }
 
 /** Mean of the values pushed over the last `windowS` of frame time (a ring with a running sum). */
 function createWindowMean(windowS: number): {
-  push(tS: number, value: number | null): number | null;
+  /** Push a value (null: none at this frame) and return the mean, NaN when the window holds none. */
+  push(tS: number, value: number | null): number;
   reset(): void;
 } {
   // Capacity a power of two (64, doubled when full): indices wrap with a mask.
@@ -54,14 +54,15 @@ function createWindowMean(windowS: number): {
   let mask = times.length - 1;
   let head = 0;
   let count = 0;
-  let sum = 0;
+  // The running sum in a typed array: a double stored in a closure variable is boxed at every store.
+  const sum = new Float64Array(1);
   let sinceRebuild = 0;
   const at = (k: number): number => (head + k) & mask;
   return {
     push(tS, value) {
       const edgeS = tS - windowS - windowEdgeSlackS(tS);
       while (count > 0 && times[head]! < edgeS) {
-        sum -= values[head]!;
+        sum[0] = sum[0]! - values[head]!;
         head = (head + 1) & mask;
         count--;
       }
@@ -76,31 +77,33 @@ function createWindowMean(windowS: number): {
         times[i] = tS;
         values[i] = value;
         count++;
-        sum += value;
+        sum[0] = sum[0]! + value;
         // Rebuild the sum now and then so that rounding does not accumulate over a long flight.
         if (++sinceRebuild >= Math.max(count, 64)) {
           sinceRebuild = 0;
-          sum = 0;
-          for (let k = 0; k < count; k++) sum += values[at(k)]!;
+          let rebuilt = 0;
+          for (let k = 0; k < count; k++) rebuilt += values[at(k)]!;
+          sum[0] = rebuilt;
         }
       }
-      return count > 0 ? sum / count : null;
+      return count > 0 ? sum[0]! / count : NaN;
     },
     reset() {
       head = 0;
       count = 0;
-      sum = 0;
+      sum[0] = 0;
       sinceRebuild = 0;
     },
   };
 }
 
-/** The sustainable speed band at the record's density, mass and n (a search over speeds: sustained-band.ts). */
-function recordSpeedBand(aircraft: Aircraft, rec: MarginRecord): [number, number] | null {
-  const vs1 = stallSpeedMps(aircraft, rec.density_kg_m3, rec.mass_kg);
-  const top = topSpeedMps(vneTasMps(aircraft, isaPressurePa(rec.alt_m), rec.temperature_k), vs1);
-  const found = sustainedBandMps(aircraft, rec.density_kg_m3, rec.mass_kg, rec.n_measured, top);
-  return found === null ? null : [found.loMps, found.hiMps];
+/** The sustainable speed band at the frame's density, mass and n into v (a search over speeds: sustained-band.ts). */
+function fillSpeedBand(aircraft: Aircraft, v: MarginValues): void {
+  const vs1 = stallSpeedMps(aircraft, v.densityKgM3, v.massKg);
+  const top = topSpeedMps(vneTasMps(aircraft, isaPressurePa(v.altM), v.temperatureK), vs1);
+  const found = sustainedBandMps(aircraft, v.densityKgM3, v.massKg, v.nMeasured, top);
+  v.bandLoMps = found === null ? NaN : found.loMps;
+  v.bandHiMps = found === null ? NaN : found.hiMps;
 }
 
 export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions): EnergyTracker {
@@ -115,67 +118,49 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
   const assumeThrottle = options.assumeThrottle;
   const speedBand = options.speedBand;
   let lastSetting: ThrottleAssumption | null = null;
-  let settingSinceS: number | null = null;
+  // The frame time the setting began (NaN: none since the last break), in a typed array: a double stored in a
+  // closure variable is boxed at every store.
+  const settingSinceS = new Float64Array(1).fill(NaN);
   return {
-    fill(rec, frame) {
-      const tS = rec.t_s;
-      rateInputs[0] = rec.tas_raw_mps;
-      rateInputs[1] = rec.alt_m;
-      rateInputs[2] = rec.bank_deg ?? NaN;
+    fill(v) {
+      const tS = v.tS;
+      rateInputs[0] = v.tasRawMps;
+      rateInputs[1] = v.altM;
+      rateInputs[2] = v.bankDeg;
       rates.push(tS, rateInputs);
       const dvdt = hasSlope[0] === 1 ? slopes[0]! : null;
       const dhdt = hasSlope[1] === 1 ? slopes[1]! : null;
-      const bankRate = hasSlope[2] === 1 ? slopes[2]! : null;
-      const throttle = frame.throttle ?? null;
-      const ps = specificExcessPowerMps(dhdt, rec.tas_mps, dvdt);
-      const psModel = modelPsMps(
-        aircraft,
-        rec.tas_mps,
-        rec.density_kg_m3,
-        rec.mass_kg,
-        rec.n_measured,
-        throttle,
-        assumeThrottle,
-      );
+      const throttle = orNull(v.throttle);
+      const tasMps = v.tasMps;
+      const ps = specificExcessPowerMps(dhdt, tasMps, dvdt);
+      const psModel = modelPsMps(aircraft, tasMps, v.densityKgM3, v.massKg, v.nMeasured, throttle, assumeThrottle);
       const residual = psResidualMps(ps, psModel);
-      const stallU = rec.utilization.stall;
-      rec.throttle = throttle;
-      rec.dvdt_mps2 = dvdt;
-      rec.dhdt_mps = dhdt;
-      rec.bank_rate_dps = bankRate;
-      rec.ps_mps = ps;
-      rec.ps_model_mps = psModel;
-      rec.ps_residual_mps = residual;
+      v.dvdtMps2 = dvdt ?? NaN;
+      v.dhdtMps = dhdt ?? NaN;
+      v.bankRateDps = hasSlope[2] === 1 ? slopes[2]! : NaN;
+      v.psMps = ps ?? NaN;
+      v.psModelMps = psModel ?? NaN;
+      v.psResidualMps = residual ?? NaN;
       // The rates lag a throttle step by up to the window: the mean restarts when the setting changes and takes a
       // residual only once the whole window lies in one setting, so a step does not raise a false advisory.
       const setting = throttleSetting(throttle, assumeThrottle);
-      if (setting !== lastSetting || settingSinceS === null) {
+      if (setting !== lastSetting || settingSinceS[0] !== settingSinceS[0]) {
         lastSetting = setting;
-        settingSinceS = tS;
+        settingSinceS[0] = tS;
         residualMean.reset();
       }
-      const wholeWindowInSetting = tS - settingSinceS >= options.rateWindowS - windowEdgeSlackS(tS);
-      rec.ps_residual_mean_3s_mps = residualMean.push(tS, wholeWindowInSetting ? residual : null);
-      rec.time_to_stall_caution_s = timeToUtilizationS(
-        rec.flying,
-        rec.tas_mps,
-        rec.n_measured,
-        stallU,
-        dvdt,
-        stallCaution,
-      );
-      rec.time_to_stall_warning_s = timeToUtilizationS(
-        rec.flying,
-        rec.tas_mps,
-        rec.n_measured,
-        stallU,
-        dvdt,
-        stallWarning,
-      );
-      if (speedBand) rec.sustained_band_mps = recordSpeedBand(aircraft, rec);
+      const wholeWindowInSetting = tS - settingSinceS[0]! >= options.rateWindowS - windowEdgeSlackS(tS);
+      v.psResidualMean3sMps = residualMean.push(tS, wholeWindowInSetting ? residual : null);
+      const stallU = orNull(v.uStall);
+      const flying = v.flying;
+      const nF = v.nMeasured;
+      v.timeToStallCautionS = timeToUtilizationS(flying, tasMps, nF, stallU, dvdt, stallCaution) ?? NaN;
+      v.timeToStallWarningS = timeToUtilizationS(flying, tasMps, nF, stallU, dvdt, stallWarning) ?? NaN;
+      if (speedBand) fillSpeedBand(aircraft, v);
+      else v.bandLoMps = v.bandHiMps = NaN;
     },
     reset() {
-      settingSinceS = null;
+      settingSinceS[0] = NaN;
       rates.reset();
       residualMean.reset();
     },

@@ -9,6 +9,7 @@
  * break: the frame engine (src/engine/frame-engine.ts) decides where breaks are and calls closeOpen.
  */
 import type { ActiveAlert, AlertLevel, MarginRecord } from './margin-record.js';
+import { marginValuesOf, MarginValues } from './margin-values.js';
 import type { LimitName } from './performance.js';
 
 /** What ended a data stretch (a break): every open event ends there. */
@@ -56,6 +57,8 @@ export interface EventChanges {
 export interface EventTracker {
   /** Feed the next record; returns the events that started and ended at it (the same empty object when none). */
   push(rec: MarginRecord): Readonly<EventChanges>;
+  /** push for the frame engine's values of the next frame. */
+  pushValues(v: MarginValues): Readonly<EventChanges>;
   /** Closes open events at a break (see the rules above) and returns all events. */
   finish(endedBy?: BreakKind): LimitEvent[];
   /**
@@ -69,48 +72,59 @@ export interface EventTracker {
 
 /** The utilization an event's peak is measured on; n_thrust = 0 counts as unbounded. */
 export function eventUtilization(rec: MarginRecord, limit: LimitName): number | null {
-  const u = rec.utilization[limit];
-  if (u !== null) return u;
-  if (limit === 'thrust' && rec.n_thrust === 0 && rec.flying) return Infinity;
-  return null;
+  const u = valuesEventUtilization(marginValuesOf(rec), limit);
+  return u === u ? u : null;
 }
 
-function startEvent(rec: MarginRecord, limit: LimitName, level: AlertLevel): LimitEvent {
+/** eventUtilization on values: NaN for null. */
+function valuesEventUtilization(v: MarginValues, limit: LimitName): number {
+  const u =
+    limit === 'stall' ? v.uStall : limit === 'thrust' ? v.uThrust : limit === 'structure' ? v.uStructure : v.uSpeed;
+  if (u === u) return u;
+  if (limit === 'thrust' && v.nThrust === 0 && v.flying) return Infinity;
+  return NaN;
+}
+
+function startEvent(v: MarginValues, limit: LimitName, level: AlertLevel): LimitEvent {
+  const u = valuesEventUtilization(v, limit);
   return {
     limit,
     level,
-    start_s: rec.t_s,
-    end_s: rec.t_s,
+    start_s: v.tS,
+    end_s: v.tS,
     duration_s: 0,
-    peak_utilization: eventUtilization(rec, limit) ?? -Infinity,
-    peak_t_s: rec.t_s,
-    speed_at_peak_mps: rec.tas_mps,
-    n_at_peak: rec.n_measured,
+    peak_utilization: u === u ? u : -Infinity,
+    peak_t_s: v.tS,
+    speed_at_peak_mps: v.tasMps,
+    n_at_peak: v.nMeasured,
     open: true,
     ended_by: null,
-    min_time_to_stall_caution_s: rec.time_to_stall_caution_s,
+    min_time_to_stall_caution_s: v.timeToStallCautionS === v.timeToStallCautionS ? v.timeToStallCautionS : null,
   };
 }
 
 /** A finite utilization beats the stand-ins (Infinity for n_thrust = 0, −Infinity for none), so peaks agree with the records. */
-function isNewPeak(u: number | null, peak: number): u is number {
-  if (u === null) return false;
+function isNewPeak(u: number, peak: number): boolean {
+  if (u !== u) return false;
   if (Number.isFinite(peak)) return Number.isFinite(u) && u > peak;
   return Number.isFinite(u) || u > peak;
 }
 
-function extendEvent(event: LimitEvent, rec: MarginRecord): void {
-  event.end_s = rec.t_s;
-  event.duration_s = rec.t_s - event.start_s;
-  const toStall = rec.time_to_stall_caution_s;
-  if (toStall !== null && (event.min_time_to_stall_caution_s === null || toStall < event.min_time_to_stall_caution_s))
+function extendEvent(event: LimitEvent, v: MarginValues): void {
+  event.end_s = v.tS;
+  event.duration_s = v.tS - event.start_s;
+  const toStall = v.timeToStallCautionS;
+  if (
+    toStall === toStall &&
+    (event.min_time_to_stall_caution_s === null || toStall < event.min_time_to_stall_caution_s)
+  )
     event.min_time_to_stall_caution_s = toStall;
-  const u = eventUtilization(rec, event.limit);
+  const u = valuesEventUtilization(v, event.limit);
   if (isNewPeak(u, event.peak_utilization)) {
     event.peak_utilization = u;
-    event.peak_t_s = rec.t_s;
-    event.speed_at_peak_mps = rec.tas_mps;
-    event.n_at_peak = rec.n_measured;
+    event.peak_t_s = v.tS;
+    event.speed_at_peak_mps = v.tasMps;
+    event.n_at_peak = v.nMeasured;
   }
 }
 
@@ -144,10 +158,12 @@ export function createEventTracker(): EventTracker {
     open = [];
     return closed;
   };
-  return {
-    push(rec) {
-      lastTS[0] = rec.t_s;
-      const alerts = rec.alerts as readonly AlertWithClear[];
+  const scratch = new MarginValues();
+  const tracker: EventTracker = {
+    push: (rec) => tracker.pushValues(marginValuesOf(rec, scratch)),
+    pushValues(v) {
+      lastTS[0] = v.tS;
+      const alerts = v.alerts as readonly AlertWithClear[];
       // Most frames: no alert on and none open.
       if (open.length === 0 && alerts.length === 0) return NO_CHANGE;
       let ended: LimitEvent[] | undefined;
@@ -155,7 +171,7 @@ export function createEventTracker(): EventTracker {
       for (const entry of open) {
         const on = alerts.find((a) => a.limit === entry.event.limit && a.level === entry.event.level);
         if (on === undefined) {
-          closeEvent(entry.event, entry.clearSinceS ?? rec.t_s, 'cleared');
+          closeEvent(entry.event, entry.clearSinceS ?? v.tS, 'cleared');
           (ended ??= []).push(entry.event);
         } else {
           still.push(entry);
@@ -169,10 +185,10 @@ export function createEventTracker(): EventTracker {
           if (alert.level !== level) continue;
           const entry = open.find((e) => e.event.limit === alert.limit && e.event.level === level);
           if (entry) {
-            extendEvent(entry.event, rec);
+            extendEvent(entry.event, v);
             entry.clearSinceS = alert.clear_since_s;
           } else {
-            const event = startEvent(rec, alert.limit, level);
+            const event = startEvent(v, alert.limit, level);
             open.push({ event, clearSinceS: alert.clear_since_s });
             all.push(event);
             (started ??= []).push(event);
@@ -190,4 +206,5 @@ export function createEventTracker(): EventTracker {
       return all;
     },
   };
+  return tracker;
 }

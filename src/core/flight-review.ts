@@ -13,6 +13,7 @@ import type { BreakKind, LimitEvent } from './events.js';
 import type { Frame } from './frame.js';
 import { resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { Assumption, Level, MarginRecord } from './margin-record.js';
+import type { MarginValues } from './margin-values.js';
 import type { LimitName } from './performance.js';
 import { createModelCheckAccumulator, type ModelCheck } from './model-check.js';
 import { createTimeHistory, type TimeHistory } from './time-history.js';
@@ -102,15 +103,34 @@ export interface FlightReview {
   modelCheck: ModelCheck;
 }
 
-/** The peak raised to the utilization when it is higher (or the first defined). */
-function raisePeak(peak: Peak, utilization: number | null, tS: number): void {
-  if (utilization !== null && (peak.utilization === null || utilization > peak.utilization)) {
+/** Slots of the reviewer's ranges. */
+const ALT_MIN = 0;
+const ALT_MAX = 1;
+const TAS_MIN = 2;
+const TAS_MAX = 3;
+const N_MIN = 4;
+const N_MAX = 5;
+const TEMP_MIN = 6;
+const TEMP_MAX = 7;
+
+/** The peak raised to the utilization (NaN: none) when it is higher (or the first defined). */
+function raisePeak(peak: Peak, utilization: number, tS: number): void {
+  if (utilization === utilization && (peak.utilization === null || utilization > peak.utilization)) {
     peak.utilization = utilization;
     peak.t_s = tS;
   }
 }
 
 export interface FlightReviewer {
+  /**
+   * accept without making the record: true when the engine took the frame (its numbers are then in `values()`),
+   * false when it refused it (counted as a rejected line). For callers that need no record.
+   */
+  advance(frame: Frame, marks?: FrameMarks, lineNo?: number): boolean;
+  /** The engine's numbers of the last accepted frame (written over at each frame). */
+  values(): Readonly<MarginValues>;
+  /** The margin record of the last accepted frame. */
+  record(): MarginRecord;
   /**
    * The margin record of the next accepted frame (the marks tell of a clock restart or a reconnect before it), or
    * null when the engine refused the frame: it is then counted as a rejected line, `lineNo` naming it.
@@ -141,7 +161,11 @@ export function createFlightReviewer(
   // Summed every frame: a typed array, as a double stored in a closure variable is boxed at every store.
   const duration = new Float64Array(1);
   let firstTS: number | null = null;
-  let previous: MarginRecord | null = null;
+  // The previous accepted frame's time (NaN before any), level and coordination: an interval counts at the level
+  // of the frame that begins it.
+  const previousTS = new Float64Array(1).fill(NaN);
+  let previousLevel: Level = 'normal';
+  let previousUncoordinated = false;
   /** The break between the previous record and the next one, if any. */
   let pendingBreak: BreakKind | null = null;
   const onAtEnd: LimitEvent[] = [];
@@ -175,14 +199,9 @@ export function createFlightReviewer(
   const history = createTimeHistory();
   const modelCheck = createModelCheckAccumulator(aircraft, resolved.assumeThrottle);
   const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
-  let altMin = Infinity;
-  let altMax = -Infinity;
-  let tasMin = Infinity;
-  let tasMax = -Infinity;
-  let nMin = Infinity;
-  let nMax = -Infinity;
-  let tempMin = Infinity;
-  let tempMax = -Infinity;
+  // The ranges' ends (min, max of altitude, TAS, n and temperature) in a typed array: a double stored in a closure
+  // variable is boxed at every store.
+  const ranges = new Float64Array([Infinity, -Infinity, Infinity, -Infinity, Infinity, -Infinity, Infinity, -Infinity]);
   const engine = createFrameEngine(aircraft, resolved, {
     dataBreak(brk) {
       pendingBreak = brk.kind;
@@ -204,72 +223,85 @@ export function createFlightReviewer(
     }
   };
 
-  return {
-    accept(frame, marks, lineNo = 0) {
-      const rec = engine.push(frame, marks);
-      if (rec === null) {
-        const why = engine.rejection()!;
-        reject(lineNo, why);
-        return null;
-      }
-      if (previous === null) {
-        conditions.segments = 1;
-      } else if (pendingBreak === null || pendingBreak === 'data_gap') {
-        const dtS = rec.t_s - previous.t_s;
-        duration[0] = duration[0]! + dtS;
-        if (pendingBreak === 'data_gap') {
-          conditions.gaps += 1;
-          conditions.gapS += dtS;
-        } else {
-          // Each interval counts at the level of the frame that begins it.
-          timeInLevelS[previous.level] += dtS;
-          if (previous.uncoordinated) conditions.uncoordinatedS += dtS;
-        }
+  const v = engine.values as MarginValues;
+  const advance = (frame: Frame, marks?: FrameMarks, lineNo = 0): boolean => {
+    if (!engine.advance(frame, marks)) {
+      const why = engine.rejection()!;
+      reject(lineNo, why);
+      return false;
+    }
+    const tS = v.tS;
+    if (accepted === 0) {
+      conditions.segments = 1;
+    } else if (pendingBreak === null || pendingBreak === 'data_gap') {
+      const dtS = tS - previousTS[0]!;
+      duration[0] = duration[0]! + dtS;
+      if (pendingBreak === 'data_gap') {
+        conditions.gaps += 1;
+        conditions.gapS += dtS;
       } else {
-        // A new stretch of data (clock restart, reconnect): no interval across it.
-        conditions.segments += 1;
+        // Each interval counts at the level of the frame that begins it.
+        timeInLevelS[previousLevel] += dtS;
+        if (previousUncoordinated) conditions.uncoordinatedS += dtS;
       }
-      history.push(rec, pendingBreak === null ? undefined : pendingBreak === 'end_of_data' ? 'other' : pendingBreak);
-      pendingBreak = null;
+    } else {
+      // A new stretch of data (clock restart, reconnect): no interval across it.
+      conditions.segments += 1;
+    }
+    history.pushValues(v, pendingBreak === null ? undefined : pendingBreak === 'end_of_data' ? 'other' : pendingBreak);
+    pendingBreak = null;
 
-      raisePeak(peaks.stall, rec.utilization.stall, rec.t_s);
-      raisePeak(peaks.thrust, rec.utilization.thrust, rec.t_s);
-      raisePeak(peaks.structure, rec.utilization.structure, rec.t_s);
-      raisePeak(peaks.speed, rec.utilization.speed, rec.t_s);
-      assumed.push(rec);
-      modelCheck.push(rec);
-      // Plain numbers on the per-frame path; the ranges are made at finish.
-      if (rec.alt_m < altMin) altMin = rec.alt_m;
-      if (rec.alt_m > altMax) altMax = rec.alt_m;
-      if (rec.tas_mps < tasMin) tasMin = rec.tas_mps;
-      if (rec.tas_mps > tasMax) tasMax = rec.tas_mps;
-      if (rec.n_measured < nMin) nMin = rec.n_measured;
-      if (rec.n_measured > nMax) nMax = rec.n_measured;
-      if (rec.temperature_k < tempMin) tempMin = rec.temperature_k;
-      if (rec.temperature_k > tempMax) tempMax = rec.temperature_k;
-      if (!rec.flying) conditions.notFlyingFrames += 1;
-      // Sample objects only for the items the decimators keep.
-      if (conditionSamples.keepsNext()) conditionSamples.push({ densityKgM3: rec.density_kg_m3, massKg: rec.mass_kg });
-      else conditionSamples.skip();
-      const levelPlot = plot[rec.level];
-      if (levelPlot.keepsNext()) levelPlot.push({ tasMps: rec.tas_mps, n: rec.n_measured, level: rec.level });
-      else levelPlot.skip();
+    raisePeak(peaks.stall, v.uStall, tS);
+    raisePeak(peaks.thrust, v.uThrust, tS);
+    raisePeak(peaks.structure, v.uStructure, tS);
+    raisePeak(peaks.speed, v.uSpeed, tS);
+    assumed.push(v);
+    modelCheck.pushValues(v);
+    // Plain numbers on the per-frame path; the ranges are made at finish.
+    const altM = v.altM;
+    const tasMps = v.tasMps;
+    const nF = v.nMeasured;
+    const temperatureK = v.temperatureK;
+    if (altM < ranges[ALT_MIN]!) ranges[ALT_MIN] = altM;
+    if (altM > ranges[ALT_MAX]!) ranges[ALT_MAX] = altM;
+    if (tasMps < ranges[TAS_MIN]!) ranges[TAS_MIN] = tasMps;
+    if (tasMps > ranges[TAS_MAX]!) ranges[TAS_MAX] = tasMps;
+    if (nF < ranges[N_MIN]!) ranges[N_MIN] = nF;
+    if (nF > ranges[N_MAX]!) ranges[N_MAX] = nF;
+    if (temperatureK < ranges[TEMP_MIN]!) ranges[TEMP_MIN] = temperatureK;
+    if (temperatureK > ranges[TEMP_MAX]!) ranges[TEMP_MAX] = temperatureK;
+    if (!v.flying) conditions.notFlyingFrames += 1;
+    // Sample objects only for the items the decimators keep.
+    if (conditionSamples.keepsNext()) conditionSamples.push({ densityKgM3: v.densityKgM3, massKg: v.massKg });
+    else conditionSamples.skip();
+    const level = v.level;
+    const levelPlot = plot[level];
+    if (levelPlot.keepsNext()) levelPlot.push({ tasMps, n: nF, level });
+    else levelPlot.skip();
 
-      firstTS ??= rec.t_s;
-      accepted += 1;
-      previous = rec;
-      return rec;
-    },
+    if (accepted === 0) firstTS = tS;
+    accepted += 1;
+    previousTS[0] = tS;
+    previousLevel = level;
+    previousUncoordinated = v.uncoordinated;
+    return true;
+  };
+
+  return {
+    advance,
+    values: () => v,
+    record: () => engine.record(),
+    accept: (frame, marks, lineNo) => (advance(frame, marks, lineNo) ? engine.record() : null),
     reject,
     breakData: (kind) => engine.breakData(kind),
     counts: () => ({ frames: accepted + rejected, accepted, rejected }),
     finish() {
       const events = engine.finish();
       const range = (min: number, max: number): Range | null => (accepted > 0 ? { min, max } : null);
-      conditions.altitudeM = range(altMin, altMax);
-      conditions.tasMps = range(tasMin, tasMax);
-      conditions.nMeasured = range(nMin, nMax);
-      conditions.temperatureK = range(tempMin, tempMax);
+      conditions.altitudeM = range(ranges[ALT_MIN]!, ranges[ALT_MAX]!);
+      conditions.tasMps = range(ranges[TAS_MIN]!, ranges[TAS_MAX]!);
+      conditions.nMeasured = range(ranges[N_MIN]!, ranges[N_MAX]!);
+      conditions.temperatureK = range(ranges[TEMP_MIN]!, ranges[TEMP_MAX]!);
       const samples = conditionSamples.items();
       conditions.medianDensityKgM3 = median(samples.map((s) => s.densityKgM3));
       conditions.medianMassKg = median(samples.map((s) => s.massKg));
@@ -280,7 +312,7 @@ export function createFlightReviewer(
         rejects,
         durationS: duration[0]!,
         firstTS,
-        lastTS: previous?.t_s ?? null,
+        lastTS: accepted > 0 ? previousTS[0]! : null,
         events,
         onAtEnd,
         peaks,

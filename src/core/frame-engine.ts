@@ -17,7 +17,8 @@ import { createEnergyTracker } from './energy-tracker.js';
 import { createEventTracker, type BreakKind, type LimitEvent } from './events.js';
 import { FILTER_RESTART_GAP_S, isOverGap } from './filter.js';
 import type { Frame } from './frame.js';
-import { createMarginTracker, frameRejection, resolveMarginOptions, type MarginOptions } from './margins.js';
+import { createMarginTracker, marginRecordOf, resolveMarginOptions, type MarginOptions } from './margins.js';
+import { MarginValues } from './margin-values.js';
 import type { MarginRecord } from './margin-record.js';
 import { rejectionWords, type Rejection } from '../decode/rejections.js';
 
@@ -52,6 +53,15 @@ export interface FrameMarks {
 }
 
 export interface FrameEngine {
+  /**
+   * push without making the record: true when the frame was accepted (its numbers are then in `values`), false when
+   * refused. For callers that only sum the records up; `record()` makes the record when one is wanted.
+   */
+  advance(frame: Frame, marks?: FrameMarks): boolean;
+  /** The numbers of the last accepted frame's record (one object, written over at each frame). */
+  readonly values: Readonly<MarginValues>;
+  /** The margin record of the last accepted frame (a new object at each call). */
+  record(): MarginRecord;
   /**
    * The margin record of the next accepted frame, after any break it implies; null when the engine refuses the
    * frame (then `rejection()` says why, and nothing else changed).
@@ -100,34 +110,41 @@ export function createFrameEngine(
     listener.dataBreak?.({ kind, t_s });
   };
 
+  const values = new MarginValues();
+  const advance = (frame: Frame, marks?: FrameMarks): boolean => {
+    if (marks !== undefined) {
+      if (marks.afterReconnect === true) breakData('link_lost');
+      else if (marks.newSegment === true) breakData('clock_restart');
+    }
+    // A frame at or above Mach 1 is refused like a decoder's rejection; the words name the key and its value.
+    const found = margins.rejection(frame);
+    if (found !== null) {
+      const r: Rejection = { code: found.code, key: found.key, got: String(found.got), detail: found.reason };
+      refused = { ...r, reason: rejectionWords(r) };
+      return false;
+    }
+    refused = null;
+    const last = lastAt[0]!;
+    if (last === last) {
+      const dtS = frame.tS - last;
+      if (!(dtS > 0)) breakData('clock_restart');
+      else if (isOverGap(dtS, DATA_GAP_S, frame.tS)) breakData('data_gap');
+    }
+    margins.advance(frame, values);
+    energy.fill(values);
+    lastAt[0] = frame.tS;
+    const change = events.pushValues(values);
+    if (change.ended.length > 0 && listener.eventEnded) for (const ev of change.ended) listener.eventEnded(ev);
+    if (change.started.length > 0 && listener.eventStarted) for (const ev of change.started) listener.eventStarted(ev);
+    return true;
+  };
+  const record = (): MarginRecord => marginRecordOf(aircraft, resolved, values);
+
   return {
-    push(frame, marks) {
-      if (marks !== undefined) {
-        if (marks.afterReconnect === true) breakData('link_lost');
-        else if (marks.newSegment === true) breakData('clock_restart');
-      }
-      // A frame at or above Mach 1 is refused like a decoder's rejection; the words name the key and its value.
-      const found = frameRejection(aircraft, frame);
-      if (found !== null) {
-        const r: Rejection = { code: found.code, key: found.key, got: String(found.got), detail: found.reason };
-        refused = { ...r, reason: rejectionWords(r) };
-      } else refused = null;
-      if (refused !== null) return null;
-      const last = lastAt[0]!;
-      if (last === last) {
-        const dtS = frame.tS - last;
-        if (!(dtS > 0)) breakData('clock_restart');
-        else if (isOverGap(dtS, DATA_GAP_S, frame.tS)) breakData('data_gap');
-      }
-      const rec = margins.push(frame);
-      energy.fill(rec, frame);
-      lastAt[0] = frame.tS;
-      const change = events.push(rec);
-      if (change.ended.length > 0 && listener.eventEnded) for (const ev of change.ended) listener.eventEnded(ev);
-      if (change.started.length > 0 && listener.eventStarted)
-        for (const ev of change.started) listener.eventStarted(ev);
-      return rec;
-    },
+    advance,
+    values,
+    record,
+    push: (frame, marks) => (advance(frame, marks) ? record() : null),
     rejection: () => refused,
     breakData,
     finish() {

@@ -10,11 +10,12 @@
 import type { Aircraft } from './aircraft.js';
 import { computeAirState, type AirState } from './atmosphere.js';
 import { casToTasMps, iasToCasMps, tasToCasMps, tasToEasMps } from './airspeed.js';
-import { levelOfAlerts, updateAlerts, type AlertInputs } from './alerts.js';
+import { levelOfAlerts, nextAlerts } from './alerts.js';
 import { computeBankLimits } from './bank-limits.js';
 import { lowPassStepInPlace, type LowPassState } from './filter.js';
 import type { Frame } from './frame.js';
 import type { ActiveAlert, Assumption, MarginRecord, Utilization } from './margin-record.js';
+import { MarginValues, orNull } from './margin-values.js';
 import {
   dynamicPressurePa,
   levelTurnRadiusM,
@@ -172,7 +173,10 @@ export interface FrameRejection {
  * relations no longer hold). Call it before computing the frame's record.
  */
 export function frameRejection(aircraft: Aircraft, frame: Frame): FrameRejection | null {
-  const air = frameAirState(frame);
+  return machRejection(aircraft, frame, frameAirState(frame));
+}
+
+function machRejection(aircraft: Aircraft, frame: Frame, air: AirState): FrameRejection | null {
   const mach = frameTasMps(aircraft, frame, air) / air.speedOfSoundMps;
   if (!(mach >= MAX_MACH) && Number.isFinite(mach)) return null;
   return {
@@ -230,13 +234,27 @@ export function computeUtilization(
   speed: number | null = null,
 ): Utilization {
   if (!flying) return { stall: null, thrust: null, structure: null, speed: null };
-  const negative = n < 0;
   return {
-    stall: negative ? (limits.nStallNeg === null ? null : n / limits.nStallNeg) : n / limits.nStall,
-    thrust: limits.nThrust === null || limits.nThrust === 0 ? null : Math.abs(n) / limits.nThrust,
-    structure: negative ? n / limits.nLimitNeg : n / limits.nLimitPos,
+    stall: stallUtilization(n, limits.nStall, limits.nStallNeg),
+    thrust: thrustUtilization(n, limits.nThrust),
+    structure: structureUtilization(n, limits.nLimitPos, limits.nLimitNeg),
     speed,
   };
+}
+
+/** The stall utilization of computeUtilization (flying). */
+function stallUtilization(n: number, nStall: number, nStallNeg: number | null): number | null {
+  return n < 0 ? (nStallNeg === null ? null : n / nStallNeg) : n / nStall;
+}
+
+/** The thrust utilization of computeUtilization (flying). */
+function thrustUtilization(n: number, nThrust: number | null): number | null {
+  return nThrust === null || nThrust === 0 ? null : Math.abs(n) / nThrust;
+}
+
+/** The structure utilization of computeUtilization (flying). */
+function structureUtilization(n: number, nLimitPos: number, nLimitNeg: number): number {
+  return n < 0 ? n / nLimitNeg : n / nLimitPos;
 }
 
 /** Stall speed (TAS) at load factor n: Vs1·√n for n > 0; with cl_min for n < 0; null otherwise. */
@@ -282,18 +300,9 @@ export function computeMarginRecord(
     disagreeSinceS: state.disagreeSinceS,
   };
   if (state.air !== undefined) next.air = state.air;
-  const record = advanceMarginRecord(aircraft, options, next, frame);
+  const record = advanceMarginRecord(aircraft, options, next, frame, new MarginValues());
   return { record, state: next };
 }
-
-/** Scratch inputs of computeUtilization and updateAlerts (read during the call only): no objects per frame. */
-const scratchLimits: LimitsForUtilization = { nStall: 0, nStallNeg: null, nThrust: null, nLimitPos: 0, nLimitNeg: 0 };
-const scratchAlertInputs: AlertInputs = {
-  utilization: { stall: null, thrust: null, structure: null, speed: null },
-  nThrust: null,
-  flying: false,
-  tS: 0,
-};
 
 /** √(ρ/ρ0) of the last density (EAS = TAS·√σ): the density repeats from frame to frame. */
 let lastSigmaDensityKgM3 = NaN;
@@ -319,24 +328,32 @@ function oneGStallSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: numb
   return mps;
 }
 
+/** The frame's air state, reused from `state` while altitude and OAT repeat (and kept there for the next frame). */
+function stateAirState(state: MarginState, frame: Frame): AirState {
+  const cached = state.air;
+  if (cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC)) {
+    return cached.state;
+  }
+  const airState = frameAirState(frame);
+  state.air = { altM: frame.altM, oatC: frame.oatC, state: airState };
+  return airState;
+}
+
 /**
- * computeMarginRecord on a state the caller owns: `state` becomes the state for the next frame (updated in place,
- * the filters included), and the record is returned. The margin tracker's per-frame path.
+ * The margins of one frame into `v` (the engine's values, written over), with `state` advanced in place to the
+ * state for the next frame (the filters included). Only what the alerts, the events, the energy keys and the
+ * summaries need is computed here; the readouts derived from these numbers alone (EAS, bank limits, stall speed,
+ * CL, turn rate and radius) are made with the record, by marginRecordOf. The energy keys are left to the frame
+ * engine's energy tracker (NaN here).
  */
-function advanceMarginRecord(
+export function advanceMarginValues(
   aircraft: Aircraft,
   options: MarginOptions,
   state: MarginState,
   frame: Frame,
-): MarginRecord {
-  const cached = state.air;
-  let airState: AirState;
-  if (cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC)) {
-    airState = cached.state;
-  } else {
-    airState = frameAirState(frame);
-    state.air = { altM: frame.altM, oatC: frame.oatC, state: airState };
-  }
+  v: MarginValues,
+): void {
+  const airState = stateAirState(state, frame);
   const tasRawMps = frameTasMps(aircraft, frame, airState);
   const densityKgM3 = airState.densityKgM3;
   const massKg = frame.massKg ?? aircraft.massKg;
@@ -359,26 +376,42 @@ function advanceMarginRecord(
   const nStall = stallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
   const nStallNeg = negativeStallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
   const nThrust = thrustLoadFactor(aircraft, tasMps, densityKgM3, massKg);
-  const limits = scratchLimits;
-  limits.nStall = nStall;
-  limits.nStallNeg = nStallNeg;
-  limits.nThrust = nThrust;
-  limits.nLimitPos = aircraft.nLimitPos;
-  limits.nLimitNeg = aircraft.nLimitNeg;
-
   const flying = tasMps >= FLYING_FRACTION_OF_VS1 * oneGStallSpeedMps(aircraft, densityKgM3, massKg);
   const vneMps = aircraft.vneMps;
-  const utilization = computeUtilization(nF, limits, flying, vneMps !== undefined ? casMps / vneMps : null);
-  const alertInputs = scratchAlertInputs;
-  alertInputs.utilization = utilization;
-  alertInputs.nThrust = nThrust;
-  alertInputs.flying = flying;
-  alertInputs.tS = tS;
-  const alerts = updateAlerts(state.alerts, alertInputs, options.thresholds);
-  state.alerts = alerts;
-  const bank = computeBankLimits(nStall, nThrust, aircraft.nLimitPos, options.thresholds);
 
-  const nFromBank = frame.bankDeg !== undefined ? loadFactorFromBank(frame.bankDeg) : null;
+  v.tS = tS;
+  v.tasMps = tasMps;
+  v.tasRawMps = tasRawMps;
+  v.casMps = casMps;
+  v.densityKgM3 = densityKgM3;
+  v.temperatureK = airState.temperatureK;
+  v.altM = frame.altM;
+  v.massKg = massKg;
+  v.nMeasured = nF;
+  v.nRaw = nRaw;
+  v.nStall = nStall;
+  v.nStallNeg = nStallNeg ?? NaN;
+  v.nThrust = nThrust ?? NaN;
+  v.flying = flying;
+  // The utilizations of computeUtilization, NaN for null.
+  if (flying) {
+    v.uStall = stallUtilization(nF, nStall, nStallNeg) ?? NaN;
+    v.uThrust = thrustUtilization(nF, nThrust) ?? NaN;
+    v.uStructure = structureUtilization(nF, aircraft.nLimitPos, aircraft.nLimitNeg);
+    v.uSpeed = vneMps !== undefined ? casMps / vneMps : NaN;
+  } else {
+    v.uStall = NaN;
+    v.uThrust = NaN;
+    v.uStructure = NaN;
+    v.uSpeed = NaN;
+  }
+  const alerts = nextAlerts(state.alerts, v, options.thresholds);
+  state.alerts = alerts;
+  v.alerts = alerts;
+  v.level = levelOfAlerts(alerts);
+
+  const bankDeg = frame.bankDeg;
+  const nFromBank = bankDeg !== undefined ? loadFactorFromBank(bankDeg) : null;
   // Comparing n with 1/cos(bank) means something only when n comes from an accelerometer.
   const coordination = coordinationStep(
     state.disagreeSinceS,
@@ -388,66 +421,103 @@ function advanceMarginRecord(
     restarted,
   );
   state.disagreeSinceS = coordination.disagreeSinceS;
+  v.uncoordinated = coordination.uncoordinated;
+  v.bankDeg = bankDeg ?? NaN;
+  v.nz = frame.nz ?? NaN;
+  v.nFromBank = nFromBank ?? NaN;
+  v.throttle = frame.throttle ?? NaN;
+  v.simulated = frame.simulated === true;
+  v.assumed = recordAssumptions(aircraft, frame);
+}
 
+/**
+ * The margin record of the engine's values: their numbers (NaN as null) and the readouts derived from them alone
+ * (EAS, bank limits, stall speed and its margin, CL, turn rate and radius), computed here as they were per frame.
+ */
+export function marginRecordOf(aircraft: Aircraft, options: MarginOptions, v: MarginValues): MarginRecord {
+  const tasMps = v.tasMps;
+  const nF = v.nMeasured;
+  const densityKgM3 = v.densityKgM3;
+  const massKg = v.massKg;
+  const nThrust = orNull(v.nThrust);
+  const flying = v.flying;
+  const bank = computeBankLimits(v.nStall, nThrust, aircraft.nLimitPos, options.thresholds);
   const stallSpeed = stallSpeedAtLoadFactorMps(aircraft, densityKgM3, massKg, nF);
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
+  const nFromBank = orNull(v.nFromBank);
   // The turn readouts use the load factor actually used: 1/cos(bank) clamped near 90°.
   const nTurn = nFromBank !== null ? Math.min(nFromBank, MAX_BANK_LOAD_FACTOR) : null;
   const turning = nTurn !== null && nTurn >= 1;
-
   const record: MarginRecord = {
-    t_s: tS,
+    t_s: v.tS,
     tas_mps: tasMps,
     eas_mps: easOf(tasMps, densityKgM3),
     density_kg_m3: densityKgM3,
     n_measured: nF,
-    n_stall: nStall,
+    n_stall: v.nStall,
     n_thrust: nThrust,
     n_structural: aircraft.nLimitPos,
-    utilization,
+    utilization: flying
+      ? { stall: orNull(v.uStall), thrust: orNull(v.uThrust), structure: orNull(v.uStructure), speed: orNull(v.uSpeed) }
+      : { stall: null, thrust: null, structure: null, speed: null },
     bank_limit_deg: bank.bankLimitDeg,
     bank_sustained_deg: bank.bankSustainedDeg,
-    level: levelOfAlerts(alerts),
-    alerts,
-    alt_m: frame.altM,
+    level: v.level,
+    alerts: v.alerts as ActiveAlert[],
+    alt_m: v.altM,
     mass_kg: massKg,
-    temperature_k: airState.temperatureK,
-    bank_deg: frame.bankDeg ?? null,
-    nz: frame.nz ?? null,
+    temperature_k: v.temperatureK,
+    bank_deg: orNull(v.bankDeg),
+    nz: orNull(v.nz),
     n_from_bank: nFromBank,
     stall_speed_mps: stallSpeed,
     stall_speed_margin_pct: stallSpeed !== null && stallSpeed > 0 ? (tasMps / stallSpeed - 1) * 100 : null,
     cl: qS > 0 ? (nF * massKg * G0_MPS2) / qS : null,
     turn_rate_dps: turning ? levelTurnRateDps(nTurn, tasMps) : null,
     radius_m: turning ? levelTurnRadiusM(nTurn, tasMps) : null,
-    uncoordinated: coordination.uncoordinated,
+    uncoordinated: v.uncoordinated,
     flying,
-    n_raw: nRaw,
-    n_stall_neg: nStallNeg,
+    n_raw: v.nRaw,
+    n_stall_neg: orNull(v.nStallNeg),
     n_structural_neg: aircraft.nLimitNeg,
-    tas_raw_mps: tasRawMps,
-    cas_mps: casMps,
-    assumed: recordAssumptions(aircraft, frame),
-    // The energy keys need the rate windows: the frame engine's energy tracker fills them.
-    throttle: frame.throttle ?? null,
-    dvdt_mps2: null,
-    dhdt_mps: null,
-    bank_rate_dps: null,
-    ps_mps: null,
-    ps_model_mps: null,
-    ps_residual_mps: null,
-    ps_residual_mean_3s_mps: null,
-    time_to_stall_caution_s: null,
-    time_to_stall_warning_s: null,
-    sustained_band_mps: null,
+    tas_raw_mps: v.tasRawMps,
+    cas_mps: v.casMps,
+    assumed: v.assumed as Assumption[],
+    throttle: orNull(v.throttle),
+    dvdt_mps2: orNull(v.dvdtMps2),
+    dhdt_mps: orNull(v.dhdtMps),
+    bank_rate_dps: orNull(v.bankRateDps),
+    ps_mps: orNull(v.psMps),
+    ps_model_mps: orNull(v.psModelMps),
+    ps_residual_mps: orNull(v.psResidualMps),
+    ps_residual_mean_3s_mps: orNull(v.psResidualMean3sMps),
+    time_to_stall_caution_s: orNull(v.timeToStallCautionS),
+    time_to_stall_warning_s: orNull(v.timeToStallWarningS),
+    sustained_band_mps: v.bandLoMps === v.bandLoMps ? [v.bandLoMps, v.bandHiMps] : null,
   };
-  if (frame.simulated === true) record.simulated = true;
+  if (v.simulated) record.simulated = true;
   return record;
 }
 
+/** computeMarginRecord on a state the caller owns (advanced in place): the margin tracker's per-frame path. */
+function advanceMarginRecord(
+  aircraft: Aircraft,
+  options: MarginOptions,
+  state: MarginState,
+  frame: Frame,
+  v: MarginValues,
+): MarginRecord {
+  advanceMarginValues(aircraft, options, state, frame, v);
+  return marginRecordOf(aircraft, options, v);
+}
+
 export interface MarginTracker {
-  /** The margin record of the next accepted frame. */
+  /** The margin record of the next accepted frame (its energy keys null: the frame engine fills those). */
   push(frame: Frame): MarginRecord;
+  /** The margins of the next accepted frame into `into` (see advanceMarginValues), without making a record. */
+  advance(frame: Frame, into: MarginValues): void;
+  /** frameRejection(aircraft, frame), with the air state kept for the frame's margins (call it first). */
+  rejection(frame: Frame): FrameRejection | null;
   /** At a break (reconnect, seek, gap, clock restart): the filters restart; alert and coordination state clear. */
   reset(): void;
 }
@@ -455,9 +525,12 @@ export interface MarginTracker {
 export function createMarginTracker(aircraft: Aircraft, options?: Partial<MarginOptions>): MarginTracker {
   const resolved = resolveMarginOptions(aircraft, options);
   let state = initialMarginState();
+  const values = new MarginValues();
   return {
     // The tracker owns its state: it is advanced in place.
-    push: (frame) => advanceMarginRecord(aircraft, resolved, state, frame),
+    push: (frame) => advanceMarginRecord(aircraft, resolved, state, frame, values),
+    advance: (frame, into) => advanceMarginValues(aircraft, resolved, state, frame, into),
+    rejection: (frame) => machRejection(aircraft, frame, stateAirState(state, frame)),
     reset() {
       state = initialMarginState();
     },

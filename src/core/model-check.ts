@@ -7,6 +7,7 @@
 import type { Aircraft } from './aircraft.js';
 import { impliedDragErrorPct, throttleSetting, type ThrottleAssumption } from './energy.js';
 import type { MarginRecord } from './margin-record.js';
+import { marginValuesOf, MarginValues, orNull } from './margin-values.js';
 import { dragAtLoadFactorN } from './performance.js';
 
 export interface ModelCheckSetting {
@@ -25,6 +26,8 @@ export interface ModelCheck {
 
 export interface ModelCheckAccumulator {
   push(rec: MarginRecord): void;
+  /** push for the frame engine's values of the next frame. */
+  pushValues(v: MarginValues): void;
   finish(): ModelCheck;
 }
 
@@ -63,16 +66,19 @@ export function createModelCheckAccumulator(
 ): ModelCheckAccumulator {
   const full = createSettingSums();
   const idle = createSettingSums();
-  return {
-    push(rec) {
-      const residual = rec.ps_residual_mps;
-      if (residual === null) return;
-      const setting = throttleSetting(rec.throttle, assumeThrottle);
+  const scratch = new MarginValues();
+  const accumulator: ModelCheckAccumulator = {
+    push: (rec) => accumulator.pushValues(marginValuesOf(rec, scratch)),
+    pushValues(v) {
+      const residual = v.psResidualMps;
+      if (residual !== residual) return;
+      const setting = throttleSetting(orNull(v.throttle), assumeThrottle);
       if (setting === null) return;
-      const dragN = dragAtLoadFactorN(aircraft, rec.tas_mps, rec.density_kg_m3, rec.mass_kg, rec.n_measured);
-      const error = impliedDragErrorPct(residual, rec.tas_mps, dragN, rec.mass_kg);
+      const dragN = dragAtLoadFactorN(aircraft, v.tasMps, v.densityKgM3, v.massKg, v.nMeasured);
+      const error = impliedDragErrorPct(residual, v.tasMps, dragN, v.massKg);
       (setting === 'full' ? full : idle).add(residual, error);
     },
     finish: () => ({ full: full.result(), idle: idle.result() }),
   };
+  return accumulator;
 }

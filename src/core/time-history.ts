@@ -7,6 +7,7 @@
  * margin records in order.
  */
 import type { MarginRecord } from './margin-record.js';
+import { marginValuesOf, MarginValues } from './margin-values.js';
 
 /** Buckets kept at most: two points (min and max) each, so at most 2 000 points per series. */
 export const MAX_BUCKETS = 1000;
@@ -101,15 +102,9 @@ export interface TimeHistory {
 export interface TimeHistoryAccumulator {
   /** Feed the next record; `breakBefore` when a break lies between the previous frame and this one. */
   push(rec: MarginRecord, breakBefore?: BreakKind): void;
+  /** push for the frame engine's values of the next frame. */
+  pushValues(v: MarginValues, breakBefore?: BreakKind): void;
   finish(): TimeHistory;
-}
-
-/** Record keys that only some records carry (added by later work); read when present. */
-interface OptionalKeys {
-  cas_mps?: number | null;
-  ps_mps?: number | null;
-  ps_model_mps?: number | null;
-  assumed?: readonly string[];
 }
 
 function newSeries(): ReducedSeries {
@@ -185,8 +180,9 @@ export function createTimeHistory(): TimeHistoryAccumulator {
 
   // The series by their index in SERIES_NAMES (made at their first value): no lookup by name per frame.
   const byIndex: Array<ReducedSeries | undefined> = SERIES_NAMES.map(() => undefined);
-  const add = (index: number, value: number | null | undefined, bucket: number, tS: number): void => {
-    if (value === null || value === undefined || !Number.isFinite(value)) return;
+  const add = (index: number, value: number, bucket: number, tS: number): void => {
+    // NaN (no value) and ±Infinity are not drawn.
+    if (!(value - value === 0)) return;
     let s = byIndex[index];
     if (s === undefined) {
       s = newSeries();
@@ -206,15 +202,18 @@ export function createTimeHistory(): TimeHistoryAccumulator {
     }
   };
 
-  return {
-    push(rec, breakBefore) {
+  const scratch = new MarginValues();
+  const accumulator: TimeHistoryAccumulator = {
+    push: (rec, breakBefore) => accumulator.pushValues(marginValuesOf(rec, scratch), breakBefore),
+    pushValues(v, breakBefore) {
+      const recTS = v.tS;
       const lastS = last[LAST_S]!;
-      if (frames > 0 && rec.t_s <= last[LAST_TS]!) {
+      if (frames > 0 && recTS <= last[LAST_TS]!) {
         // The sender's clock ran back: keep the axis running forward from the last frame.
-        axisShiftS = lastS - rec.t_s + (lastS - t0S > 0 ? Math.min(1, (lastS - t0S) * 0.001) : 0);
+        axisShiftS = lastS - recTS + (lastS - t0S > 0 ? Math.min(1, (lastS - t0S) * 0.001) : 0);
         breakBefore ??= 'clock_restart';
       }
-      const tS = rec.t_s + axisShiftS;
+      const tS = recTS + axisShiftS;
       if (frames === 0) t0S = tS;
       let bucket = Math.floor((tS - t0S) / bucketS);
       while (bucket >= MAX_BUCKETS) {
@@ -229,43 +228,39 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         bucket = Math.floor((tS - t0S) / bucketS);
       }
       frameCounts[bucket] = frameCounts[bucket]! + 1;
-      used = Math.max(used, bucket + 1);
+      if (bucket + 1 > used) used = bucket + 1;
       if (breakBefore !== undefined && frames > 0) {
         breaks[bucket] = breaks[bucket]! | BREAK_BITS[breakBefore];
         breakCounts[breakBefore] += 1;
       }
-      const recAlerts = rec.alerts;
+      const recAlerts = v.alerts;
       for (let i = 0; i < recAlerts.length; i++) {
         const a = recAlerts[i]!;
         if (!(ALERT_LIMITS as readonly string[]).includes(a.limit)) continue;
         const limit = a.limit as AlertLimit;
         alerts[bucket] = alerts[bucket]! | alertBit(limit, a.level) | alertBit(limit, 'caution');
       }
-      const u = rec.utilization as MarginRecord['utilization'] & { speed?: number | null };
-      const extra = rec as MarginRecord & OptionalKeys;
       // Each series by its index (SERIES_INDEX).
-      add(SERIES_INDEX.u_stall, u.stall, bucket, tS);
-      add(SERIES_INDEX.u_thrust, u.thrust, bucket, tS);
-      add(SERIES_INDEX.u_structure, u.structure, bucket, tS);
-      add(SERIES_INDEX.u_speed, u.speed, bucket, tS);
-      add(SERIES_INDEX.tas_mps, rec.tas_mps, bucket, tS);
-      add(SERIES_INDEX.cas_mps, extra.cas_mps, bucket, tS);
-      add(SERIES_INDEX.n_measured, rec.n_measured, bucket, tS);
-      add(SERIES_INDEX.n_from_bank, rec.n_from_bank, bucket, tS);
-      add(SERIES_INDEX.bank_deg, rec.bank_deg, bucket, tS);
-      add(SERIES_INDEX.alt_m, rec.alt_m, bucket, tS);
-      add(SERIES_INDEX.ps_mps, extra.ps_mps, bucket, tS);
-      add(SERIES_INDEX.ps_model_mps, extra.ps_model_mps, bucket, tS);
-      const assumed = extra.assumed;
-      if (assumed) {
-        for (let i = 0; i < assumed.length; i++) {
-          const flag = assumed[i]!;
-          assumedFrames[flag] = (assumedFrames[flag] ?? 0) + 1;
-        }
+      add(SERIES_INDEX.u_stall, v.uStall, bucket, tS);
+      add(SERIES_INDEX.u_thrust, v.uThrust, bucket, tS);
+      add(SERIES_INDEX.u_structure, v.uStructure, bucket, tS);
+      add(SERIES_INDEX.u_speed, v.uSpeed, bucket, tS);
+      add(SERIES_INDEX.tas_mps, v.tasMps, bucket, tS);
+      add(SERIES_INDEX.cas_mps, v.casMps, bucket, tS);
+      add(SERIES_INDEX.n_measured, v.nMeasured, bucket, tS);
+      add(SERIES_INDEX.n_from_bank, v.nFromBank, bucket, tS);
+      add(SERIES_INDEX.bank_deg, v.bankDeg, bucket, tS);
+      add(SERIES_INDEX.alt_m, v.altM, bucket, tS);
+      add(SERIES_INDEX.ps_mps, v.psMps, bucket, tS);
+      add(SERIES_INDEX.ps_model_mps, v.psModelMps, bucket, tS);
+      const assumed = v.assumed;
+      for (let i = 0; i < assumed.length; i++) {
+        const flag = assumed[i]!;
+        assumedFrames[flag] = (assumedFrames[flag] ?? 0) + 1;
       }
       frames += 1;
       last[LAST_S] = tS;
-      last[LAST_TS] = rec.t_s;
+      last[LAST_TS] = recTS;
     },
     finish() {
       // Copies of the used part only: the result crosses threads and goes into reports.
@@ -298,6 +293,7 @@ export function createTimeHistory(): TimeHistoryAccumulator {
       };
     },
   };
+  return accumulator;
 }
 
 /**

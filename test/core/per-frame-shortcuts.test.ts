@@ -11,7 +11,14 @@ import { lowPassStep } from '../../src/core/filter.js';
 import { thrustAvailableN } from '../../src/core/performance.js';
 import { createFrameUnpacker, FRAME_SLOTS, packFrame, unpackFrame } from '../../src/decode/frame-batch.js';
 import type { Frame } from '../../src/core/frame.js';
-import { computeMarginRecord, initialMarginState, resolveMarginOptions } from '../../src/core/margins.js';
+import {
+  computeMarginRecord,
+  initialMarginState,
+  marginRecordOf,
+  resolveMarginOptions,
+} from '../../src/core/margins.js';
+import { createFrameEngine } from '../../src/core/frame-engine.js';
+import { marginValuesOf } from '../../src/core/margin-values.js';
 import { exampleAirframe } from '../helpers/airframes.js';
 
 const frameArb = fc.record({
@@ -84,6 +91,38 @@ describe('per-frame shortcuts', () => {
     expect(computeAirState(0, { isaDeviationK: 0 }).temperatureK).toBe(computeAirState(0, {}).temperatureK);
     expect(computeAirState(0, { oatC: 30 }).temperatureK).not.toBe(
       computeAirState(0, { isaDeviationK: 0 }).temperatureK,
+    );
+  });
+
+  it("the engine's values and the record made from them agree, and advance then record() equals push (property)", () => {
+    const aircraft = exampleAirframe({ vne_mps: 35, cl_min: -0.8 });
+    fc.assert(
+      fc.property(fc.array(frameArb, { minLength: 1, maxLength: 40 }), (parts) => {
+        const pushed = createFrameEngine(aircraft);
+        const advanced = createFrameEngine(aircraft);
+        let tS = 0;
+        for (const p of parts) {
+          tS += p.dtS;
+          const f: Frame = {
+            tS,
+            airspeedKind: p.kind as Frame['airspeedKind'],
+            airspeedMps: p.airspeedMps,
+            altM: p.altM,
+          };
+          if (p.oatC !== undefined) f.oatC = p.oatC;
+          if (p.bankDeg !== undefined) f.bankDeg = p.bankDeg;
+          else f.nz = p.nz;
+          const rec = pushed.push(f);
+          const took = advanced.advance(f);
+          expect(took).toBe(rec !== null);
+          if (rec === null) continue;
+          expect(advanced.record()).toEqual(rec);
+          // The values read back from the record are the engine's values: one reading of each key.
+          expect(marginValuesOf(rec)).toEqual(advanced.values);
+          expect(marginRecordOf(aircraft, advanced.options, marginValuesOf(rec))).toEqual(rec);
+        }
+      }),
+      { numRuns: 200 },
     );
   });
 
