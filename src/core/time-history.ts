@@ -43,11 +43,6 @@ export const SERIES_NAMES: readonly SeriesName[] = [
   'ps_model_mps',
 ];
 
-/** Each series' index in SERIES_NAMES, as constants for the per-frame path. */
-const SERIES_INDEX: Readonly<Record<SeriesName, number>> = Object.freeze(
-  Object.fromEntries(SERIES_NAMES.map((name, i) => [name, i])) as Record<SeriesName, number>,
-);
-
 export type BreakKind = 'data_gap' | 'clock_restart' | 'link_lost' | 'seek' | 'other';
 const BREAK_BITS: Record<BreakKind, number> = { data_gap: 1, clock_restart: 2, link_lost: 4, seek: 8, other: 16 };
 export const BREAK_KINDS = Object.keys(BREAK_BITS) as BreakKind[];
@@ -159,8 +154,16 @@ function orHalve(bits: Uint8Array, used: number): void {
   bits.fill(0, Math.ceil(used / 2));
 }
 
+/** Slots of a series in the running bucket: its min, the time of the min, its max, the time of the max. */
+const CUR_MIN = 0;
+const CUR_T_MIN = 1;
+const CUR_MAX = 2;
+const CUR_T_MAX = 3;
+
 export function createTimeHistory(): TimeHistoryAccumulator {
-  const series: Partial<Record<SeriesName, ReducedSeries>> = {};
+  const seriesCount = SERIES_NAMES.length;
+  // Every series' buckets, in place for its whole life: made now (a few hundred kB), kept only if it had a value.
+  const all: ReducedSeries[] = SERIES_NAMES.map(() => newSeries());
   const breaks = new Uint8Array(MAX_BUCKETS);
   const alerts = new Uint8Array(MAX_BUCKETS);
   const breakCounts: Record<BreakKind, number> = { data_gap: 0, clock_restart: 0, link_lost: 0, seek: 0, other: 0 };
@@ -177,28 +180,31 @@ export function createTimeHistory(): TimeHistoryAccumulator {
   let axisShiftS = 0;
   // Frames per bucket: the series are reduced once a bucket holds more than two (its min and max are drawn).
   const frameCounts = new Uint32Array(MAX_BUCKETS);
-
-  // The series by their index in SERIES_NAMES (made at their first value): no lookup by name per frame.
-  const byIndex: Array<ReducedSeries | undefined> = SERIES_NAMES.map(() => undefined);
-  const add = (index: number, value: number, bucket: number, tS: number): void => {
-    // NaN (no value) and ±Infinity are not drawn.
-    if (!(value - value === 0)) return;
-    let s = byIndex[index];
-    if (s === undefined) {
-      s = newSeries();
-      byIndex[index] = s;
-      series[SERIES_NAMES[index]!] = s;
+  // The bucket frames are going to (−1: none yet), with every series' min and max of it held here (CUR_* slots,
+  // four per series) and written to the series when the frames move to another bucket: the per-frame work is a
+  // few compares in one small array.
+  let running = -1;
+  const current = new Float64Array(4 * seriesCount);
+  const counts = new Float64Array(seriesCount);
+  const inputs = new Float64Array(seriesCount);
+  const store = (): void => {
+    if (running < 0) return;
+    for (let k = 0; k < seriesCount; k++) {
+      const s = all[k]!;
+      s.min[running] = current[4 * k + CUR_MIN]!;
+      s.tMin[running] = current[4 * k + CUR_T_MIN]!;
+      s.max[running] = current[4 * k + CUR_MAX]!;
+      s.tMax[running] = current[4 * k + CUR_T_MAX]!;
     }
-    s.count += 1;
-    const min = s.min[bucket]!;
-    if (!(value >= min)) {
-      s.min[bucket] = value;
-      s.tMin[bucket] = tS;
-    }
-    const max = s.max[bucket]!;
-    if (!(value <= max)) {
-      s.max[bucket] = value;
-      s.tMax[bucket] = tS;
+  };
+  const load = (bucket: number): void => {
+    running = bucket;
+    for (let k = 0; k < seriesCount; k++) {
+      const s = all[k]!;
+      current[4 * k + CUR_MIN] = s.min[bucket]!;
+      current[4 * k + CUR_T_MIN] = s.tMin[bucket]!;
+      current[4 * k + CUR_MAX] = s.max[bucket]!;
+      current[4 * k + CUR_T_MAX] = s.tMax[bucket]!;
     }
   };
 
@@ -216,16 +222,24 @@ export function createTimeHistory(): TimeHistoryAccumulator {
       const tS = recTS + axisShiftS;
       if (frames === 0) t0S = tS;
       let bucket = Math.floor((tS - t0S) / bucketS);
-      while (bucket >= MAX_BUCKETS) {
-        for (const s of Object.values(series)) halve(s, used);
-        orHalve(breaks, used);
-        orHalve(alerts, used);
-        for (let i = 0; i < Math.ceil(used / 2); i++)
-          frameCounts[i] = frameCounts[2 * i]! + (2 * i + 1 < used ? frameCounts[2 * i + 1]! : 0);
-        frameCounts.fill(0, Math.ceil(used / 2));
-        used = Math.ceil(used / 2);
-        bucketS *= 2;
-        bucket = Math.floor((tS - t0S) / bucketS);
+      if (bucket >= MAX_BUCKETS) {
+        store();
+        running = -1;
+        while (bucket >= MAX_BUCKETS) {
+          for (const s of all) halve(s, used);
+          orHalve(breaks, used);
+          orHalve(alerts, used);
+          for (let i = 0; i < Math.ceil(used / 2); i++)
+            frameCounts[i] = frameCounts[2 * i]! + (2 * i + 1 < used ? frameCounts[2 * i + 1]! : 0);
+          frameCounts.fill(0, Math.ceil(used / 2));
+          used = Math.ceil(used / 2);
+          bucketS *= 2;
+          bucket = Math.floor((tS - t0S) / bucketS);
+        }
+      }
+      if (bucket !== running) {
+        store();
+        load(bucket);
       }
       frameCounts[bucket] = frameCounts[bucket]! + 1;
       if (bucket + 1 > used) used = bucket + 1;
@@ -240,19 +254,34 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         const limit = a.limit as AlertLimit;
         alerts[bucket] = alerts[bucket]! | alertBit(limit, a.level) | alertBit(limit, 'caution');
       }
-      // Each series by its index (SERIES_INDEX).
-      add(SERIES_INDEX.u_stall, v.uStall, bucket, tS);
-      add(SERIES_INDEX.u_thrust, v.uThrust, bucket, tS);
-      add(SERIES_INDEX.u_structure, v.uStructure, bucket, tS);
-      add(SERIES_INDEX.u_speed, v.uSpeed, bucket, tS);
-      add(SERIES_INDEX.tas_mps, v.tasMps, bucket, tS);
-      add(SERIES_INDEX.cas_mps, v.casMps, bucket, tS);
-      add(SERIES_INDEX.n_measured, v.nMeasured, bucket, tS);
-      add(SERIES_INDEX.n_from_bank, v.nFromBank, bucket, tS);
-      add(SERIES_INDEX.bank_deg, v.bankDeg, bucket, tS);
-      add(SERIES_INDEX.alt_m, v.altM, bucket, tS);
-      add(SERIES_INDEX.ps_mps, v.psMps, bucket, tS);
-      add(SERIES_INDEX.ps_model_mps, v.psModelMps, bucket, tS);
+      // In SERIES_NAMES order.
+      inputs[0] = v.uStall;
+      inputs[1] = v.uThrust;
+      inputs[2] = v.uStructure;
+      inputs[3] = v.uSpeed;
+      inputs[4] = v.tasMps;
+      inputs[5] = v.casMps;
+      inputs[6] = v.nMeasured;
+      inputs[7] = v.nFromBank;
+      inputs[8] = v.bankDeg;
+      inputs[9] = v.altM;
+      inputs[10] = v.psMps;
+      inputs[11] = v.psModelMps;
+      for (let k = 0; k < seriesCount; k++) {
+        const value = inputs[k]!;
+        // NaN (no value) and ±Infinity are not drawn.
+        if (!(value - value === 0)) continue;
+        counts[k] = counts[k]! + 1;
+        const at = 4 * k;
+        if (!(value >= current[at + CUR_MIN]!)) {
+          current[at + CUR_MIN] = value;
+          current[at + CUR_T_MIN] = tS;
+        }
+        if (!(value <= current[at + CUR_MAX]!)) {
+          current[at + CUR_MAX] = value;
+          current[at + CUR_T_MAX] = tS;
+        }
+      }
       const assumed = v.assumed;
       for (let i = 0; i < assumed.length; i++) {
         const flag = assumed[i]!;
@@ -263,19 +292,20 @@ export function createTimeHistory(): TimeHistoryAccumulator {
       last[LAST_TS] = recTS;
     },
     finish() {
+      store();
       // Copies of the used part only: the result crosses threads and goes into reports.
       const out: Partial<Record<SeriesName, ReducedSeries>> = {};
-      for (const name of SERIES_NAMES) {
-        const s = series[name];
-        if (!s) continue;
+      SERIES_NAMES.forEach((name, k) => {
+        const s = all[k]!;
+        if (counts[k] === 0) return;
         out[name] = {
           min: s.min.slice(0, used),
           max: s.max.slice(0, used),
           tMin: s.tMin.slice(0, used),
           tMax: s.tMax.slice(0, used),
-          count: s.count,
+          count: counts[k]!,
         };
-      }
+      });
       return {
         t0S: frames > 0 ? t0S : 0,
         bucketS,
