@@ -49,7 +49,19 @@ export function casToTasMps(casMps: number, pressurePa: number, temperatureK: nu
  * CAS = a0·√(5[(qc/p0 + 1)^(2/7) − 1]).
  */
 export function tasToCasMps(tasMps: number, pressurePa: number, temperatureK: number): number {
-  const mach = tasMps / Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
+  return machToCasMps(tasMps / Math.sqrt(GAMMA_AIR * R_AIR * temperatureK), pressurePa);
+}
+
+/**
+ * tasToCasMps at a known speed of sound √(γRT) (an air state's speedOfSoundMps, the same root): the per-frame
+ * path, which reuses the air state's root.
+ */
+export function tasToCasAtMps(tasMps: number, pressurePa: number, speedOfSoundMps: number): number {
+  return machToCasMps(tasMps / speedOfSoundMps, pressurePa);
+}
+
+/** CAS from the Mach number at static pressure p: qc = p[(1 + 0.2M²)^3.5 − 1]; CAS = a0·√(5[(qc/p0 + 1)^(2/7) − 1]). */
+function machToCasMps(mach: number, pressurePa: number): number {
   const impactPressurePa = pressurePa * (power3p5(1 + 0.2 * mach * mach) - 1);
   return A0_MPS * Math.sqrt(5 * ((impactPressurePa / P0_PA + 1) ** (2 / 7) - 1));
 }

@@ -32,15 +32,30 @@ export interface AssumptionCounter {
 export function createAssumptionCounter(): AssumptionCounter {
   let frames = 0;
   const counts: Record<Assumption, number> = { n_from_bank: 0, temperature_isa: 0, n_limit_default: 0 };
+  // Records share one frozen list per combination and it changes seldom: frames are counted per run of the same
+  // list and added to each of its flags when the list changes.
+  let runList: readonly Assumption[] = [];
+  let runFrames = 0;
+  const settle = (): void => {
+    for (let i = 0; i < runList.length; i++) counts[runList[i]!] += runFrames;
+    runFrames = 0;
+  };
   return {
     push(rec) {
       frames += 1;
-      const assumed = rec.assumed;
-      for (let i = 0; i < assumed.length; i++) counts[assumed[i]!] += 1;
+      if (rec.assumed !== runList) {
+        settle();
+        runList = rec.assumed;
+      }
+      runFrames += 1;
     },
     frames: () => frames,
-    counts: () => ({ ...counts }),
+    counts: () => {
+      settle();
+      return { ...counts };
+    },
     shares() {
+      settle();
       const share = (n: number) => (frames > 0 ? n / frames : null);
       return {
         n_from_bank: share(counts.n_from_bank),

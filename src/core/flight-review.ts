@@ -103,6 +103,9 @@ export interface FlightReview {
   modelCheck: ModelCheck;
 }
 
+/** Each level's slot in the reviewer's time at level. */
+const LEVEL_SLOT: Readonly<Record<Level, number>> = { normal: 0, caution: 1, warning: 2 };
+
 /** Slots of the reviewer's ranges. */
 const ALT_MIN = 0;
 const ALT_MAX = 1;
@@ -176,7 +179,8 @@ export function createFlightReviewer(
     speed: { utilization: null, t_s: null },
   };
   const assumed = createAssumptionCounter();
-  const timeInLevelS: Record<Level, number> = { normal: 0, caution: 0, warning: 0 };
+  // Seconds at each level (LEVEL_SLOT order), summed every frame: a typed array, not an object's fields.
+  const levelS = new Float64Array(3);
   const conditions: FlightConditions = {
     altitudeM: null,
     tasMps: null,
@@ -241,7 +245,8 @@ export function createFlightReviewer(
         conditions.gapS += dtS;
       } else {
         // Each interval counts at the level of the frame that begins it.
-        timeInLevelS[previousLevel] += dtS;
+        const slot = LEVEL_SLOT[previousLevel];
+        levelS[slot] = levelS[slot]! + dtS;
         if (previousUncoordinated) conditions.uncoordinatedS += dtS;
       }
     } else {
@@ -316,7 +321,7 @@ export function createFlightReviewer(
         events,
         onAtEnd,
         peaks,
-        timeInLevelS,
+        timeInLevelS: { normal: levelS[0]!, caution: levelS[1]!, warning: levelS[2]! },
         conditions,
         plotPoints: [...plot.normal.items(), ...plot.caution.items(), ...plot.warning.items()],
         plotPointsOf: accepted,

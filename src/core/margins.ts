@@ -9,7 +9,7 @@
  */
 import type { Aircraft } from './aircraft.js';
 import { computeAirState, type AirState } from './atmosphere.js';
-import { casToTasMps, iasToCasMps, tasToCasMps, tasToEasMps } from './airspeed.js';
+import { casToTasMps, iasToCasMps, tasToCasAtMps, tasToEasMps } from './airspeed.js';
 import { levelOfAlerts, nextAlerts } from './alerts.js';
 import { computeBankLimits } from './bank-limits.js';
 import { lowPassStepInPlace, type LowPassState } from './filter.js';
@@ -370,7 +370,7 @@ export function advanceMarginValues(
   const tasFilter = lowPassStepInPlace(state.tasFilter, tS, tasRawMps, options.smoothTauS);
   state.tasFilter = tasFilter;
   const tasMps = tasFilter.value;
-  const casMps = tasToCasMps(tasMps, airState.pressurePa, airState.temperatureK);
+  const casMps = tasToCasAtMps(tasMps, airState.pressurePa, airState.speedOfSoundMps);
 
   // The two limits of computeLimits this record needs, without its other fields.
   const nStall = stallLoadFactor(aircraft, tasMps, densityKgM3, massKg);

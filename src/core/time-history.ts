@@ -7,6 +7,7 @@
  * margin records in order.
  */
 import type { MarginRecord } from './margin-record.js';
+import { createAssumptionCounter } from './assumptions.js';
 import { marginValuesOf, MarginValues } from './margin-values.js';
 
 /** Buckets kept at most: two points (min and max) each, so at most 2 000 points per series. */
@@ -167,7 +168,7 @@ export function createTimeHistory(): TimeHistoryAccumulator {
   const breaks = new Uint8Array(MAX_BUCKETS);
   const alerts = new Uint8Array(MAX_BUCKETS);
   const breakCounts: Record<BreakKind, number> = { data_gap: 0, clock_restart: 0, link_lost: 0, seek: 0, other: 0 };
-  const assumedFrames: Record<string, number> = {};
+  const assumedCounter = createAssumptionCounter();
   let t0S = NaN;
   let bucketS = FIRST_BUCKET_S;
   let used = 0;
@@ -282,11 +283,7 @@ export function createTimeHistory(): TimeHistoryAccumulator {
           current[at + CUR_T_MAX] = tS;
         }
       }
-      const assumed = v.assumed;
-      for (let i = 0; i < assumed.length; i++) {
-        const flag = assumed[i]!;
-        assumedFrames[flag] = (assumedFrames[flag] ?? 0) + 1;
-      }
+      assumedCounter.push(v);
       frames += 1;
       last[LAST_S] = tS;
       last[LAST_TS] = recTS;
@@ -318,7 +315,8 @@ export function createTimeHistory(): TimeHistoryAccumulator {
         alerts: alerts.slice(0, used),
         frameCounts: frameCounts.slice(0, used),
         axisShiftS,
-        assumedFrames: { ...assumedFrames },
+        // Only the flags some frame carried.
+        assumedFrames: Object.fromEntries(Object.entries(assumedCounter.counts()).filter(([, n]) => n > 0)),
         reduced: frameCounts.some((c) => c > 2),
       };
     },
