@@ -20,8 +20,9 @@ import type { PackedFrameBatch } from '../decode/frame-batch.js';
 import { readFramePackedBatches, type ReadFrameOptions } from '../decode/read-frames.js';
 import { InputError, UsageError } from '../errors.js';
 import { systemErrorWords } from '../system-errors.js';
-import { requireOption, stringOption, type ParsedArgs } from './args.js';
-import { parseMarginOptions } from './margin-options.js';
+import { describeDefaultThresholds } from '../core/thresholds.js';
+import { requireOption, stringOption, type OptionSpec, type ParsedArgs } from './args.js';
+import { MARGIN_COMPUTATION_OPTIONS, parseMarginOptions } from './margin-options.js';
 import { loadAircraftFile, loadThresholdsFile } from './load.js';
 import {
   createReceivedSpan,
@@ -31,6 +32,40 @@ import {
   type ReviewWorkerData,
   type ReviewWorkerFailure,
 } from './review-worker.js';
+
+/** Options shared by review and check. */
+export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
+  {
+    name: 'aircraft',
+    type: 'string',
+    valueName: 'FILE',
+    description:
+      "airframe model file (JSON; its vne_mps is a calibrated airspeed, compared with each frame's CAS); required",
+  },
+  {
+    name: 'thresholds',
+    type: 'string',
+    valueName: 'FILE',
+    description: "alert thresholds file (JSON), over the airframe's own",
+    defaultText: `the airframe's, else ${describeDefaultThresholds()}`,
+  },
+  ...MARGIN_COMPUTATION_OPTIONS,
+  {
+    name: 'mapping',
+    type: 'string',
+    valueName: 'FILE',
+    description:
+      'column mapping file (JSON) for a CSV log with a header line: which column feeds which frame key, in which unit',
+  },
+];
+
+/** The --card option of review and check. */
+export const CARD_OPTION: OptionSpec = {
+  name: 'card',
+  type: 'string',
+  valueName: 'FILE',
+  description: 'a test card (JSON from `turnmargin card`): report which of its points were achieved (test_points)',
+};
 
 export interface FlightInput {
   file: string;

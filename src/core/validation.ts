@@ -1,6 +1,15 @@
 /** Turns zod issues into user-facing lines: `file: key.path must be … (got value)`. */
 import type { z } from 'zod';
 
+/**
+ * A value (a schema) built on its first use: a command that never reads such a document does not pay for building
+ * it at start-up.
+ */
+export function builtOnFirstUse<T>(build: () => T): () => T {
+  let built: T | undefined;
+  return () => (built ??= build());
+}
+
 export type Checked<T> = { ok: true; value: T; warnings: string[] } | { ok: false; problems: string[] };
 
 function valueAt(input: unknown, path: ReadonlyArray<PropertyKey>): { found: boolean; value: unknown } {

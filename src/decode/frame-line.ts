@@ -12,6 +12,7 @@
  */
 import { z } from 'zod';
 import type { AirspeedKind, Frame } from '../core/frame.js';
+import { builtOnFirstUse } from '../core/validation.js';
 import { AIRSPEED_KINDS, FRAME_SLOTS, PACKED_AIRSPEED, PACKED_AIRSPEED_KIND, PACKED_KEYS } from './frame-batch.js';
 import {
   AIRSPEED_KEYS,
@@ -51,7 +52,9 @@ function keySchema(rule: FrameKeyRule): z.ZodType {
 }
 
 /** The frame keys of the table as a zod schema; other keys pass through untouched. */
-const FrameSchema = z.looseObject(Object.fromEntries(FRAME_KEYS.map((rule) => [rule.key, keySchema(rule)])));
+const frameSchema = builtOnFirstUse(() =>
+  z.looseObject(Object.fromEntries(FRAME_KEYS.map((rule) => [rule.key, keySchema(rule)]))),
+);
 
 /**
  * The frame keys' values as the fast check sees them, one slot per row of the table: a kind and, for a number, its
@@ -160,7 +163,7 @@ export function validateWithSchema(input: unknown): LineVerdict {
     return rejected({ code: 'not_an_object', got: Array.isArray(input) ? 'an array' : shownValue(input) });
   }
   const raw = input as Record<string, unknown>;
-  const result = FrameSchema.safeParse(raw);
+  const result = frameSchema().safeParse(raw);
   if (!result.success) {
     // One reason per line: the first problem, in the key order of the schema.
     const key = String(result.error.issues[0]?.path[0] ?? '');

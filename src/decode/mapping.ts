@@ -13,45 +13,47 @@
  * Columns not named in "keys" pass through unchanged (a column already called tas_mps is used as is).
  */
 import { z } from 'zod';
-import { describeIssues } from '../core/validation.js';
+import { builtOnFirstUse, describeIssues } from '../core/validation.js';
 import { FRAME_KEYS, frameKeyRule, type UnitConversion } from './frame-keys.js';
 
-const KeyMappingSchema = z.strictObject({
-  column: z.string({ error: 'must be the column name in the log (text)' }).min(1, { error: 'must not be empty' }),
-  unit: z.string({ error: 'must be a unit name (text)' }),
-  scale: z.number({ error: 'must be a number' }).optional(),
-  offset: z.number({ error: 'must be a number' }).optional(),
-});
-
-const MappingSchema = z
-  .strictObject({
-    description: z.string().optional(),
-    delimiter: z.enum([',', ';', '\t'], { error: 'must be ",", ";" or "\\t"' }).optional(),
-    keys: z.record(z.string(), KeyMappingSchema),
-  })
-  .check((ctx) => {
-    for (const [key, entry] of Object.entries(ctx.value.keys)) {
-      const rule = frameKeyRule(key);
-      if (!rule) {
-        ctx.issues.push({
-          code: 'custom',
-          input: key,
-          path: ['keys', key],
-          message: `is not a frame key (frame keys: ${FRAME_KEYS.map((r) => r.key).join(', ')})`,
-        });
-        continue;
-      }
-      const units = Object.keys(rule.units);
-      if (!units.includes(entry.unit)) {
-        ctx.issues.push({
-          code: 'custom',
-          input: entry.unit,
-          path: ['keys', key, 'unit'],
-          message: `must be one of ${units.join(', ')} for ${key}`,
-        });
-      }
-    }
+const mappingSchema = builtOnFirstUse(() => {
+  const KeyMappingSchema = z.strictObject({
+    column: z.string({ error: 'must be the column name in the log (text)' }).min(1, { error: 'must not be empty' }),
+    unit: z.string({ error: 'must be a unit name (text)' }),
+    scale: z.number({ error: 'must be a number' }).optional(),
+    offset: z.number({ error: 'must be a number' }).optional(),
   });
+
+  return z
+    .strictObject({
+      description: z.string().optional(),
+      delimiter: z.enum([',', ';', '\t'], { error: 'must be ",", ";" or "\\t"' }).optional(),
+      keys: z.record(z.string(), KeyMappingSchema),
+    })
+    .check((ctx) => {
+      for (const [key, entry] of Object.entries(ctx.value.keys)) {
+        const rule = frameKeyRule(key);
+        if (!rule) {
+          ctx.issues.push({
+            code: 'custom',
+            input: key,
+            path: ['keys', key],
+            message: `is not a frame key (frame keys: ${FRAME_KEYS.map((r) => r.key).join(', ')})`,
+          });
+          continue;
+        }
+        const units = Object.keys(rule.units);
+        if (!units.includes(entry.unit)) {
+          ctx.issues.push({
+            code: 'custom',
+            input: entry.unit,
+            path: ['keys', key, 'unit'],
+            message: `must be one of ${units.join(', ')} for ${key}`,
+          });
+        }
+      }
+    });
+});
 
 export interface ColumnMapping {
   delimiter: string;
@@ -62,7 +64,7 @@ export interface ColumnMapping {
 export type MappingResult = { ok: true; mapping: ColumnMapping } | { ok: false; problems: string[] };
 
 export function parseMapping(input: unknown, label: string): MappingResult {
-  const result = MappingSchema.safeParse(input);
+  const result = mappingSchema().safeParse(input);
   if (!result.success) return { ok: false, problems: describeIssues(label, input, result.error.issues) };
   const keys = Object.entries(result.data.keys).map(([key, entry]) => {
     const toUnit = frameKeyRule(key)!.units[entry.unit]!;

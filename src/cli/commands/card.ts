@@ -19,7 +19,6 @@ import {
   requireOption,
   stringOption,
   type CommandSpec,
-  type OptionSpec,
   type ParsedArgs,
 } from '../args.js';
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
@@ -46,14 +45,6 @@ export function loadCardFile(
   }
   return result.value;
 }
-
-/** The --card option of review and check. */
-export const CARD_OPTION: OptionSpec = {
-  name: 'card',
-  type: 'string',
-  valueName: 'FILE',
-  description: 'a test card (JSON from `turnmargin card`): report which of its points were achieved (test_points)',
-};
 
 export const spec: CommandSpec = {
   name: 'card',

@@ -3,13 +3,15 @@
  * autopilot's CI. Exit 0 when no event of any flight reaches the level, 1 when one does, 2 for unusable input.
  */
 import { checkSummary, failingEvents, type FailLevel } from '../../report/review-report.js';
-import { flightsCheckSummary } from '../../report/multi-review-report.js';
 import { choiceOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { EXIT_CHECK_FAILED, EXIT_OK, UsageError } from '../../errors.js';
-import { testPointSummary } from '../../report/card-report.js';
-import { parseFlightInputs, reviewFlights, testPointsOverFlights } from '../review-flights.js';
-import { CARD_OPTION, loadCardFile } from './card.js';
-import { FLIGHT_INPUT_OPTIONS } from './review.js';
+import {
+  CARD_OPTION,
+  FLIGHT_INPUT_OPTIONS,
+  parseFlightInputs,
+  reviewFlights,
+  testPointsOverFlights,
+} from '../review-flights.js';
 
 export const spec: CommandSpec = {
   name: 'check',
@@ -50,7 +52,9 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (args.values['require-points'] === true && args.values['card'] === undefined)
     throw new UsageError('--require-points needs --card FILE');
   const cardPath = stringOption(args, 'card');
-  const card = cardPath !== undefined ? loadCardFile(cardPath, inputs[0]!.aircraft) : undefined;
+  // The card and several-flight code is loaded only by the runs that use it: a plain check starts faster.
+  const card =
+    cardPath !== undefined ? (await import('./card.js')).loadCardFile(cardPath, inputs[0]!.aircraft) : undefined;
   const flights = await reviewFlights(inputs, card ? { cardPoints: card.points } : {});
   const reported = flights.map((f) => ({
     review: f.review,
@@ -61,10 +65,10 @@ export async function run(args: ParsedArgs): Promise<number> {
   process.stdout.write(
     reported.length === 1
       ? checkSummary(reported[0]!.review, reported[0]!.ctx, failOn)
-      : flightsCheckSummary(reported, failOn),
+      : (await import('../../report/multi-review-report.js')).flightsCheckSummary(reported, failOn),
   );
   const points = testPointsOverFlights(flights);
-  if (points !== null) process.stdout.write(testPointSummary(points));
+  if (points !== null) process.stdout.write((await import('../../report/card-report.js')).testPointSummary(points));
   const missed = points?.filter((p) => p.status !== 'achieved') ?? [];
   const pointsFail = args.values['require-points'] === true && missed.length > 0;
   const eventsFail = flights.some((f) => failingEvents(f.review, failOn).length > 0);

@@ -6,51 +6,21 @@
  */
 import { basename } from 'node:path';
 import type { TestPointResult } from '../../core/test-point.js';
-import { MARGIN_COMPUTATION_OPTIONS } from '../margin-options.js';
 import type { MarginRecord } from '../../core/margin-record.js';
-import { renderNvPlotSvg } from '../../report/nv-plot-svg.js';
 import { reviewToCsv, reviewToJson, reviewToMarkdown } from '../../report/review-report.js';
-import { testPointsToCsv, testPointsToMarkdown } from '../../report/card-report.js';
-import { htmlFlightFrom, nvPlotInputFrom, renderHtmlReport } from '../../report/html-report.js';
-import {
-  flightJson,
-  flightsToCsv,
-  flightsToJson,
-  flightsToMarkdown,
-  type ReportedFlight,
-} from '../../report/multi-review-report.js';
-import { choiceOption, stringOption, type CommandSpec, type OptionSpec, type ParsedArgs } from '../args.js';
+import type { ReportedFlight } from '../../report/multi-review-report.js';
+import { choiceOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { EXIT_OK, UsageError } from '../../errors.js';
 import { checkOutputPath, createOutputFile, inputFilesOf } from '../output-path.js';
-import { DEFAULT_THRESHOLDS, describeDefaultThresholds } from '../../core/thresholds.js';
-import { parseFlightInputs, reviewFlights, testPointsOverFlights, type ReviewedFlight } from '../review-flights.js';
-import { CARD_OPTION, loadCardFile } from './card.js';
-
-/** Options shared by review and check. */
-export const FLIGHT_INPUT_OPTIONS: OptionSpec[] = [
-  {
-    name: 'aircraft',
-    type: 'string',
-    valueName: 'FILE',
-    description:
-      "airframe model file (JSON; its vne_mps is a calibrated airspeed, compared with each frame's CAS); required",
-  },
-  {
-    name: 'thresholds',
-    type: 'string',
-    valueName: 'FILE',
-    description: "alert thresholds file (JSON), over the airframe's own",
-    defaultText: `the airframe's, else ${describeDefaultThresholds()}`,
-  },
-  ...MARGIN_COMPUTATION_OPTIONS,
-  {
-    name: 'mapping',
-    type: 'string',
-    valueName: 'FILE',
-    description:
-      'column mapping file (JSON) for a CSV log with a header line: which column feeds which frame key, in which unit',
-  },
-];
+import { DEFAULT_THRESHOLDS } from '../../core/thresholds.js';
+import {
+  CARD_OPTION,
+  FLIGHT_INPUT_OPTIONS,
+  parseFlightInputs,
+  reviewFlights,
+  testPointsOverFlights,
+  type ReviewedFlight,
+} from '../review-flights.js';
 
 export const spec: CommandSpec = {
   name: 'review',
@@ -134,7 +104,9 @@ export async function run(args: ParsedArgs): Promise<number> {
   if (outPath !== undefined) checkOutputPath({ option: 'out', path: outPath, force, inputs: inputFilesOf(args) });
 
   const cardPath = stringOption(args, 'card');
-  const card = cardPath !== undefined ? loadCardFile(cardPath, inputs[0]!.aircraft) : undefined;
+  // What only some runs need is loaded by those runs: a plain review starts without the card, HTML and plot code.
+  const card =
+    cardPath !== undefined ? (await import('./card.js')).loadCardFile(cardPath, inputs[0]!.aircraft) : undefined;
   const perFrame = perFramePath !== undefined ? createOutputFile(perFramePath) : undefined;
   let flights: ReviewedFlight[];
   try {
@@ -156,6 +128,8 @@ export async function run(args: ParsedArgs): Promise<number> {
   const testPoints = testPointsOverFlights(flights);
   if (plotPath !== undefined) {
     const { review, ctx } = reported[0]!;
+    const { renderNvPlotSvg } = await import('../../report/nv-plot-svg.js');
+    const { nvPlotInputFrom } = await import('../../report/html-report.js');
     const svg = renderNvPlotSvg({ ...nvPlotInputFrom(review, ctx), source: basename(ctx.source) });
     const writer = createOutputFile(plotPath);
     writer.write(svg);
@@ -165,21 +139,10 @@ export async function run(args: ParsedArgs): Promise<number> {
   const cardName = cardPath !== undefined ? basename(cardPath) : undefined;
   const output =
     format === 'html'
-      ? renderHtmlReport({
-          flights: reported.map((f, i) => {
-            const html = htmlFlightFrom(f.review, f.ctx, i);
-            return several ? { ...html, json: { ...html.json, ...flightJson(f) } } : html;
-          }),
-          ...(testPoints !== null ? { testPoints: testPoints as unknown as Record<string, unknown>[] } : {}),
-          command: reviewCommandLine(args),
-        })
+      ? await htmlReport(reported, testPoints, several, args)
       : several
-        ? format === 'json'
-          ? JSON.stringify(flightsToJson(reported, testPoints), null, 2) + '\n'
-          : format === 'csv'
-            ? flightsToCsv(reported, testPoints)
-            : flightsToMarkdown(reported, testPoints, cardName)
-        : oneFlightText(format, reported[0]!, testPoints, cardName);
+        ? await severalFlightsText(format, reported, testPoints, cardName)
+        : await oneFlightText(format, reported[0]!, testPoints, cardName);
   if (outPath !== undefined) {
     const writer = createOutputFile(outPath);
     writer.write(output);
@@ -190,13 +153,45 @@ export async function run(args: ParsedArgs): Promise<number> {
   return EXIT_OK;
 }
 
+/** The HTML page of one or several flights. */
+async function htmlReport(
+  reported: ReportedFlight[],
+  testPoints: TestPointResult[] | null,
+  several: boolean,
+  args: ParsedArgs,
+): Promise<string> {
+  const { htmlFlightFrom, renderHtmlReport } = await import('../../report/html-report.js');
+  const { flightJson } = await import('../../report/multi-review-report.js');
+  return renderHtmlReport({
+    flights: reported.map((f, i) => {
+      const html = htmlFlightFrom(f.review, f.ctx, i);
+      return several ? { ...html, json: { ...html.json, ...flightJson(f) } } : html;
+    }),
+    ...(testPoints !== null ? { testPoints: testPoints as unknown as Record<string, unknown>[] } : {}),
+    command: reviewCommandLine(args),
+  });
+}
+
+/** The report over several files (md, json or csv). */
+async function severalFlightsText(
+  format: 'md' | 'json' | 'csv',
+  reported: ReportedFlight[],
+  testPoints: TestPointResult[] | null,
+  cardName: string | undefined,
+): Promise<string> {
+  const { flightsToCsv, flightsToJson, flightsToMarkdown } = await import('../../report/multi-review-report.js');
+  if (format === 'json') return JSON.stringify(flightsToJson(reported, testPoints), null, 2) + '\n';
+  if (format === 'csv') return flightsToCsv(reported, testPoints);
+  return flightsToMarkdown(reported, testPoints, cardName);
+}
+
 /** The report of one file, in the shape it has always had (test_points added after it with a card). */
-function oneFlightText(
+async function oneFlightText(
   format: 'md' | 'json' | 'csv',
   flight: ReportedFlight,
   testPoints: TestPointResult[] | null,
   cardName: string | undefined,
-): string {
+): Promise<string> {
   const { review, ctx } = flight;
   if (format === 'json') {
     const json = reviewToJson(review, ctx);
@@ -204,10 +199,14 @@ function oneFlightText(
   }
   if (format === 'csv') {
     const csv = reviewToCsv(review);
-    return testPoints !== null ? csv + '\n' + testPointsToCsv(testPoints) : csv;
+    if (testPoints === null) return csv;
+    const { testPointsToCsv } = await import('../../report/card-report.js');
+    return csv + '\n' + testPointsToCsv(testPoints);
   }
   const md = reviewToMarkdown(review, ctx);
-  return testPoints !== null ? md + '\n' + testPointsToMarkdown(testPoints, cardName ?? 'card') : md;
+  if (testPoints === null) return md;
+  const { testPointsToMarkdown } = await import('../../report/card-report.js');
+  return md + '\n' + testPointsToMarkdown(testPoints, cardName ?? 'card');
 }
 
 /** The command as a user would type it again (file names only: no machine paths in the report). */

@@ -1,6 +1,5 @@
 /** `turnmargin serve`: answer an autopilot on the bench with margin records over a websocket. */
 import { MARGIN_COMPUTATION_OPTIONS, parseMarginOptions } from '../margin-options.js';
-import { readFileSync } from 'node:fs';
 import { makeDirectory } from '../../recording/make-directory.js';
 import {
   startServeServer,
@@ -15,6 +14,7 @@ import { numberOption, requireOption, stringOption, type CommandSpec, type Parse
 import { EXIT_OK, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, loadThresholdsFile } from '../load.js';
 import { systemErrorWords } from '../../system-errors.js';
+import { readToken } from '../token-option.js';
 
 export const DEFAULT_LISTEN = '127.0.0.1:8765';
 
@@ -101,26 +101,6 @@ export const spec: CommandSpec = {
       'closed (1001), recordings flushed, a summary goes to stderr, exit 0.',
   ],
 };
-
-/** --token T or --token-file FILE (its first line); undefined when neither is given. Shared with `watch --ws`. */
-export function readToken(args: ParsedArgs): string | undefined {
-  const given = stringOption(args, 'token');
-  const file = stringOption(args, 'token-file');
-  if (given !== undefined && file !== undefined) throw new UsageError('give --token or --token-file, not both');
-  let token = given;
-  if (file !== undefined) {
-    try {
-      token = (readFileSync(file, 'utf8').split(/\r?\n/)[0] ?? '').trim();
-    } catch (err) {
-      throw new InputError([
-        `--token-file ${file}: cannot read it (${(err as NodeJS.ErrnoException).code ?? (err as Error).message})`,
-      ]);
-    }
-    if (token === '') throw new InputError([`--token-file ${file}: the first line is empty`]);
-  }
-  if (token !== undefined && token.length === 0) throw new UsageError('--token must not be empty');
-  return token;
-}
 
 export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);

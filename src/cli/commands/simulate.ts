@@ -17,7 +17,7 @@ import { formatWsUrl, isLoopbackHost, parseListenAddress } from '../../serve/lis
 import { numberOption, requireOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { describeOutputError, isClosedPipe } from '../output-errors.js';
 import { checkOutputPath, createOutputFile, inputFilesOf } from '../output-path.js';
-import { DEFAULT_BAUD } from '../../sources/serial.js';
+import { DEFAULT_BAUD } from '../../sources/serial-path.js';
 import { formatUdpAddress } from '../../sources/udp.js';
 import { EXIT_OK, EXIT_UNUSABLE, InputError, UsageError } from '../../errors.js';
 import { loadAircraftFile, readJson } from '../load.js';

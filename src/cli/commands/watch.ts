@@ -2,9 +2,9 @@
 import { existsSync } from 'node:fs';
 import { openRecorder, type Recorder } from '../../recording/recorder.js';
 import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
-import { createSerialSource, DEFAULT_BAUD, NO_SUCH_PORT_YET, whyNotASerialPort } from '../../sources/serial.js';
+import { DEFAULT_BAUD, NO_SUCH_PORT_YET, whyNotASerialPort } from '../../sources/serial-path.js';
 import { createUdpSource } from '../../sources/udp.js';
-import { createWebSocketSource, redactUrl } from '../../sources/websocket.js';
+import { redactUrl } from '../../sources/redact-url.js';
 import type { TelemetrySource } from '../../sources/source.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
 import { UsageError } from '../../errors.js';
@@ -12,7 +12,7 @@ import { COMMON_MONITOR_OPTIONS, loadMonitorSetup, runMonitor } from '../live.js
 import { checkOutputPath, inputFilesOf } from '../output-path.js';
 
 export const DEFAULT_UDP_HOST = '127.0.0.1';
-import { readToken } from './serve.js';
+import { readToken } from '../token-option.js';
 
 export const spec: CommandSpec = {
   name: 'watch',
@@ -105,8 +105,8 @@ function udpAddress(text: string, allowRemote: boolean): { host: string; port: n
   return parsed.value;
 }
 
-/** The link, and a note to print once everything else is checked. */
-function sourceFromArgs(args: ParsedArgs): { source: TelemetrySource; note?: string } {
+/** The link, and a note to print once everything else is checked. Only the chosen link's driver is loaded. */
+async function sourceFromArgs(args: ParsedArgs): Promise<{ source: TelemetrySource; note?: string }> {
   const serial = stringOption(args, 'serial');
   const ws = stringOption(args, 'ws');
   const udp = stringOption(args, 'udp');
@@ -129,6 +129,7 @@ function sourceFromArgs(args: ParsedArgs): { source: TelemetrySource; note?: str
     const baudRate = numberOption(args, 'baud', DEFAULT_BAUD, { integer: true, min: 50, max: 4_000_000 });
     // Said at once, not after a failed open: a radio not plugged in yet is normal, a typo is not.
     const note = existsSync(serial) ? undefined : `${serial}: ${NO_SUCH_PORT_YET}`;
+    const { createSerialSource } = await import('../../sources/serial.js');
     return { source: createSerialSource({ path: serial, baudRate }), ...(note ? { note } : {}) };
   }
   if (udp !== undefined) return { source: createUdpSource(udpAddress(udp, args.values['allow-remote'] === true)) };
@@ -141,12 +142,13 @@ function sourceFromArgs(args: ParsedArgs): { source: TelemetrySource; note?: str
   if (url.protocol !== 'ws:' && url.protocol !== 'wss:')
     throw new UsageError(`--ws must start with ws:// or wss:// (got "${redactUrl(ws!)}")`);
   const token = readToken(args);
+  const { createWebSocketSource } = await import('../../sources/websocket.js');
   return { source: createWebSocketSource({ url: url.href, ...(token !== undefined ? { token } : {}) }) };
 }
 
 export async function run(args: ParsedArgs): Promise<number> {
   if (args.positionals.length > 0) throw new UsageError(`unexpected argument "${args.positionals[0]}"`);
-  const { source, note } = sourceFromArgs(args);
+  const { source, note } = await sourceFromArgs(args);
   const setup = loadMonitorSetup(args);
   const recordPath = stringOption(args, 'record');
   if (args.values['force'] && recordPath === undefined && stringOption(args, 'events') === undefined)
