@@ -1,5 +1,5 @@
 /** Measuring helpers for the benchmarks: child processes with wall time and peak RSS, percentiles. */
-import { spawn } from 'node:child_process';
+import { spawn, spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 
 export const REPO_ROOT = fileURLToPath(new URL('../../', import.meta.url));
@@ -9,17 +9,34 @@ export const RSS_PROBE = fileURLToPath(new URL('./rss-probe.js', import.meta.url
 export interface ChildRun {
   wallMs: number;
   maxRssMb: number | null;
+  /** CPU time of the child (user + system, all its threads), ms; null without the probe. */
+  cpuMs: number | null;
   code: number | null;
   stdoutBytes: number;
   stderr: string;
 }
 
-/** Run `node [--import rss-probe] script args…`, discarding stdout, and measure it. */
-export function runNode(script: string, args: string[], options: { probe?: boolean } = {}): Promise<ChildRun> {
+/** Whether `taskset` (util-linux) can pin a child to one core here. */
+export function canPinToOneCore(): boolean {
+  if (process.platform !== 'linux') return false;
+  return spawnSync('taskset', ['-c', '0', process.execPath, '-e', '0'], { stdio: 'ignore' }).status === 0;
+}
+
+/**
+ * Run `node [--import rss-probe] script args…`, discarding stdout, and measure it. `oneCore`: pinned to core 0
+ * with taskset (see canPinToOneCore), so the figure is that of a one-core machine.
+ */
+export function runNode(
+  script: string,
+  args: string[],
+  options: { probe?: boolean; oneCore?: boolean } = {},
+): Promise<ChildRun> {
   return new Promise((resolve, reject) => {
     const nodeArgs = [...(options.probe === false ? [] : ['--import', RSS_PROBE]), script, ...args];
     const start = process.hrtime.bigint();
-    const child = spawn(process.execPath, nodeArgs, { cwd: REPO_ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
+    const [command, commandArgs] =
+      options.oneCore === true ? ['taskset', ['-c', '0', process.execPath, ...nodeArgs]] : [process.execPath, nodeArgs];
+    const child = spawn(command, commandArgs, { cwd: REPO_ROOT, stdio: ['ignore', 'pipe', 'pipe'] });
     let stdoutBytes = 0;
     let stderr = '';
     child.stdout.on('data', (d: Buffer) => (stdoutBytes += d.length));
@@ -30,13 +47,14 @@ export function runNode(script: string, args: string[], options: { probe?: boole
     child.on('error', reject);
     child.on('close', (code) => {
       const wallMs = Number(process.hrtime.bigint() - start) / 1e6;
-      const m = /@@maxrss_kib=(\d+)/.exec(stderr);
+      const m = /@@maxrss_kib=(\d+) cpu_us=(\d+)/.exec(stderr);
       resolve({
         wallMs,
         maxRssMb: m ? Number(m[1]) / 1024 : null,
+        cpuMs: m ? Number(m[2]) / 1000 : null,
         code,
         stdoutBytes,
-        stderr: stderr.replace(/\n?@@maxrss_kib=\d+\n/, ''),
+        stderr: stderr.replace(/\n?@@maxrss_kib=\d+ cpu_us=\d+\n/, ''),
       });
     });
   });

@@ -11,7 +11,7 @@ import { createFrameEngine } from '../src/core/frame-engine.js';
 import { createFrameDecoder } from '../src/decode/frame-decoder.js';
 import { parseFrameLine } from '../src/decode/frame-line.js';
 import type { Frame } from '../src/core/frame.js';
-import { CLI, REPO_ROOT, formatTable, median, percentile, runNode } from './measure.js';
+import { CLI, REPO_ROOT, canPinToOneCore, formatTable, median, percentile, runNode } from './measure.js';
 import { syntheticFrameLine, writeSyntheticFlight } from './synthetic-flight.js';
 import { createLivePath } from './live-path.js';
 import { benchHtmlReport } from './html-report.js';
@@ -132,6 +132,33 @@ async function benchReview(dir: string): Promise<void> {
       '≤ 1.5× (stretch 1.2×)',
       verdict(ratio <= 1.5),
     ]);
+    if (frames === sizes[0] && canPinToOneCore()) {
+      // One core (taskset -c 0), CPU time: review reads and computes in one thread there, as on a one-core machine.
+      const pairs = quick ? 3 : 7;
+      const bareCpu: number[] = [];
+      const reviewCpu: number[] = [];
+      for (let i = 0; i < pairs; i++) {
+        process.stderr.write(`perf: one core, review vs bare loop, ${frames} frames, pair ${i + 1}/${pairs}…\n`);
+        const b = await runNode(bare, [file], { oneCore: true });
+        const r = await runNode(CLI, ['review', file, '--aircraft', demo, '--format', 'json'], { oneCore: true });
+        if (r.code !== 0) throw new Error(`review exited ${r.code}: ${r.stderr.slice(0, 500)}`);
+        bareCpu.push(b.cpuMs ?? NaN);
+        reviewCpu.push(r.cpuMs ?? NaN);
+      }
+      const oneCoreRatio = median(reviewCpu) / median(bareCpu);
+      perSize[perSize.length - 1]!['one_core'] = {
+        pairs,
+        bare_cpu_ms: median(bareCpu),
+        review_cpu_ms: median(reviewCpu),
+        ratio: oneCoreRatio,
+      };
+      rows.push([
+        `review ${frames / 1e6} M frames ÷ bare loop, one core (CPU time)`,
+        `${oneCoreRatio.toFixed(2)}× (${(median(reviewCpu) / 1000).toFixed(2)} s vs ${(median(bareCpu) / 1000).toFixed(2)} s)`,
+        '≤ 1.2× (stretch 1.0×)',
+        verdict(oneCoreRatio <= 1.2),
+      ]);
+    }
     rows.push([
       `review ${frames / 1e6} M frames peak RSS`,
       `${reviewRss.toFixed(0)} MB`,

@@ -1,4 +1,8 @@
-/** Preloaded with `node --import` into a measured child: reports its peak RSS (KiB) on stderr at exit. */
+/**
+ * Preloaded with `node --import` into a measured child: reports its peak RSS (KiB) and its CPU time (user + system,
+ * all threads, µs) on stderr at exit.
+ */
 process.on('exit', () => {
-  process.stderr.write(`\n@@maxrss_kib=${process.resourceUsage().maxRSS}\n`);
+  const usage = process.resourceUsage();
+  process.stderr.write(`\n@@maxrss_kib=${usage.maxRSS} cpu_us=${usage.userCPUTime + usage.systemCPUTime}\n`);
 });
