@@ -341,7 +341,8 @@ export async function* readFrameBatches(
 /**
  * readFrameBatches for a reader that hands the frames to another thread: each batch's accepted frames packed
  * (packFrame, with the new-segment mark of a clock restart or a reconnect) and its rejected lines with their
- * codes and words (packReject). A plain NDJSON frame line is read from its bytes straight into the batch, without objects.
+ * codes and words (packReject). A plain NDJSON frame line is read from its bytes straight into the batch, without
+ * objects; runs of lines of the shape of the last such line are taken at once (line-shape.ts). Reads are 1 MiB.
  */
 export async function* readFramePackedBatches(
   path: string,
