@@ -15,6 +15,7 @@ import { CLI, REPO_ROOT, canPinToOneCore, formatTable, median, percentile, runNo
 import { syntheticFrameLine, writeSyntheticFlight } from './synthetic-flight.js';
 import { createLivePath } from './live-path.js';
 import { benchHtmlReport } from './html-report.js';
+import { readPathOnce } from './read-path.js';
 
 type Row = [string, string, string, string];
 const rows: Row[] = [];
@@ -117,6 +118,13 @@ async function benchReview(dir: string): Promise<void> {
       reviewMs.push(r.wallMs);
       reviewRss = Math.max(reviewRss, r.maxRssMb ?? 0);
     }
+    // The reading side alone (file to packed batches, nothing computed), in this process: a report row.
+    const readNs: number[] = [];
+    for (let i = 0; i < repeats; i++) {
+      const read = await readPathOnce(file);
+      readNs.push((read.ms * 1e6) / (read.frames + read.rejected));
+    }
+    rows.push([`review reading path ${frames / 1e6} M frames`, `${median(readNs).toFixed(0)} ns/line`, 'report', '—']);
     const ratio = median(reviewMs) / median(bareMs);
     perSize.push({
       frames,
@@ -125,6 +133,7 @@ async function benchReview(dir: string): Promise<void> {
       review_ms: median(reviewMs),
       ratio,
       review_peak_rss_mb: reviewRss,
+      read_path_ns_per_line: median(readNs),
     });
     rows.push([
       `review ${frames / 1e6} M frames ÷ bare loop`,

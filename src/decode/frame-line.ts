@@ -323,7 +323,7 @@ const OPEN_BRACE = 0x7b;
 const CLOSE_BRACE = 0x7d;
 
 /** Index of the first byte at or after i (before end) that is not JSON whitespace. */
-function skipJsonSpace(bytes: Uint8Array, i: number, end: number): number {
+export function skipJsonSpace(bytes: Uint8Array, i: number, end: number): number {
   while (i < end) {
     const c = bytes[i]!;
     if (c !== SPACE && c !== TAB && c !== LF && c !== CR) return i;
@@ -344,13 +344,19 @@ const EXACT_POWERS_OF_TEN = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`
 const EXACT_DIGITS = 15;
 
 /**
- * Reads the JSON number (RFC 8259 grammar) starting at `start` into slotNumbers[slot] (when slot ≥ 0) and returns
- * where it ends, or -1 when there is none. The value is the one JSON.parse gives: with at most 15 significant
+ * Reads the JSON number (RFC 8259 grammar) starting at `start` into target[at] (when at ≥ 0) and returns where it
+ * ends, or -1 when there is none. The value is the one JSON.parse gives: with at most 15 significant
  * digits and a power of ten up to 22, the digits and the power are exact doubles and one IEEE division or product
  * rounds correctly (the classic exact case of decimal-to-binary conversion); other numbers go through Number(),
  * which rounds correctly too.
  */
-function scanJsonNumber(bytes: Uint8Array, start: number, end: number, slot: number): number {
+export function scanJsonNumber(
+  bytes: Uint8Array,
+  start: number,
+  end: number,
+  target: Float64Array,
+  at: number,
+): number {
   let i = start;
   const negative = bytes[i] === MINUS;
   if (negative) i++;
@@ -386,19 +392,19 @@ function scanJsonNumber(bytes: Uint8Array, start: number, end: number, slot: num
     if (i - exponentStart > 3) exactExponent = false;
     if (sign === MINUS) exponent = -exponent;
   }
-  if (slot < 0) return i;
+  if (at < 0) return i;
   const power = exponent - fractionDigits;
   if (!exactExponent || digits > EXACT_DIGITS || power > 22 || power < -22) {
-    slotNumbers[slot] = Number(Buffer.from(bytes.buffer, bytes.byteOffset + start, i - start).toString('latin1'));
+    target[at] = Number(Buffer.from(bytes.buffer, bytes.byteOffset + start, i - start).toString('latin1'));
   } else {
     const magnitude = power < 0 ? mantissa / EXACT_POWERS_OF_TEN[-power]! : mantissa * EXACT_POWERS_OF_TEN[power]!;
-    slotNumbers[slot] = negative ? -magnitude : magnitude;
+    target[at] = negative ? -magnitude : magnitude;
   }
   return i;
 }
 
 /** End of the JSON string whose opening quote is at i (just after its closing quote), or -1 for escapes or controls. */
-function plainJsonStringEnd(bytes: Uint8Array, i: number, end: number): number {
+export function plainJsonStringEnd(bytes: Uint8Array, i: number, end: number): number {
   for (let j = i + 1; j < end; j++) {
     const c = bytes[j]!;
     if (c === QUOTE) return j + 1;
@@ -424,7 +430,7 @@ function sameBytes(bytes: Uint8Array, start: number, name: Buffer): boolean {
 }
 
 /** Which frame key the bytes from start (length bytes) name: its row in the table, or -1. */
-function frameKeyAt(bytes: Uint8Array, start: number, length: number): number {
+export function frameKeyAt(bytes: Uint8Array, start: number, length: number): number {
   // The candidate from the length and the first letter, then a check of every byte.
   if (length > LONGEST_KEY || length === 0) return -1;
   const k = KEY_BY_LENGTH_AND_FIRST[length * 256 + bytes[start]!]!;
@@ -437,7 +443,7 @@ function frameKeyAt(bytes: Uint8Array, start: number, length: number): number {
   return -1;
 }
 
-function matchesWord(bytes: Uint8Array, i: number, end: number, word: string): boolean {
+export function matchesWord(bytes: Uint8Array, i: number, end: number, word: string): boolean {
   if (i + word.length > end) return false;
   for (let j = 0; j < word.length; j++) if (bytes[i + j] !== word.charCodeAt(j)) return false;
   return true;
@@ -483,7 +489,7 @@ function scanFlatFrameBytes(bytes: Uint8Array, start: number, end: number): bool
       kind = KIND_FALSE;
       i += 5;
     } else {
-      i = scanJsonNumber(bytes, i, end, slot);
+      i = scanJsonNumber(bytes, i, end, slotNumbers, slot);
       if (i < 0) return false;
       kind = KIND_NUMBER;
     }

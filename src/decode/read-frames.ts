@@ -26,6 +26,7 @@ import {
 } from './frame-line.js';
 import { createLineSplitter, DEFAULT_MAX_LINE_BYTES, type RawLine } from './line-splitter.js';
 import { applyMapping, missingColumnProblems, parseMapping, type ColumnMapping } from './mapping.js';
+import { createLineShape, type PackedRun } from './line-shape.js';
 import { lineTooLong, rejected } from './rejections.js';
 import { systemErrorWords } from '../system-errors.js';
 
@@ -47,7 +48,17 @@ export interface ReadFrameOptions {
   onProgress?(bytesRead: number, totalBytes: number): void;
   /** readFramePackedBatches: called with the receive time (ms since the epoch) of each accepted frame of a recording. */
   onReceivedAt?(receivedAtMs: number): void;
+  /** Bytes per read (tests use small reads to put lines across read boundaries). */
+  readChunkBytes?: number;
 }
+
+/** Bytes per read for readers that hold a chunk's lines as objects (a batch of lines per read). */
+const LINE_CHUNK_BYTES = 64 * 1024;
+/**
+ * Bytes per read for readFramePackedBatches, which holds no line objects: a large read costs far less per byte than
+ * 64 KiB ones (fewer reads and fewer fresh pages).
+ */
+const PACKED_CHUNK_BYTES = 1 << 20;
 
 export function loadMappingFile(path: string): ColumnMapping {
   let text: string;
@@ -107,6 +118,16 @@ const FILE_LINE_CAP_BYTES = DEFAULT_MAX_LINE_BYTES + 64;
 interface LineSink {
   plain(block: Buffer, start: number, end: number, physicalNo: number): boolean;
   line(line: PhysicalLine): void;
+  /**
+   * Offered first at each line of an ASCII block (no DEL), block[at.pos, lastLf] being whole lines: takes as many
+   * lines as it can at once, moving `at` past them (at.physicalNo: the number of the last line taken).
+   */
+  run?(block: Buffer, lastLf: number, at: LineCursor): void;
+}
+
+interface LineCursor {
+  pos: number;
+  physicalNo: number;
 }
 
 /**
@@ -134,7 +155,9 @@ export async function* physicalBatches(
     throw new InputError([`${path}: cannot read the telemetry file (${systemErrorWords(err)})`]);
   }
   const splitter = createLineSplitter(FILE_LINE_CAP_BYTES);
-  const stream = createReadStream(path, { highWaterMark: 64 * 1024 });
+  const stream = createReadStream(path, {
+    highWaterMark: options.readChunkBytes ?? (sink ? PACKED_CHUNK_BYTES : LINE_CHUNK_BYTES),
+  });
   let physicalNo = 0;
   let bytesRead = 0;
   let lastProgress = 0;
@@ -187,7 +210,6 @@ export async function* physicalBatches(
       let nl = text.indexOf('\n', pos);
       if (nl < 0) nl = text.length;
       const length = nl - pos;
-      // (A 64 KiB chunk cannot hold a line over the cap; kept should the chunk size change.)
       if (length > FILE_LINE_CAP_BYTES) return from + pos;
       physicalNo += 1;
       if (length > 1 || (length === 1 && text.charCodeAt(pos) !== 0x0d)) {
@@ -214,9 +236,18 @@ export async function* physicalBatches(
    * asBlock for a block of plain ASCII (no DEL) when a sink takes the lines: each line is offered by its bytes
    * first, and only a line the sink does not take is decoded (byte offsets are character offsets here).
    */
+  const cursor: LineCursor = { pos: 0, physicalNo: 0 };
   const asciiBlock = (chunk: Buffer, from: number, lastLf: number): number => {
     let pos = from;
     for (;;) {
+      if (sink!.run !== undefined) {
+        cursor.pos = pos;
+        cursor.physicalNo = physicalNo;
+        sink!.run(chunk, lastLf, cursor);
+        pos = cursor.pos;
+        physicalNo = cursor.physicalNo;
+        if (pos > lastLf) return lastLf + 1;
+      }
       let nl = chunk.indexOf(0x0a, pos);
       if (nl < 0 || nl > lastLf) nl = lastLf;
       const length = nl - pos;
@@ -310,37 +341,49 @@ export async function* readFrameBatches(
 /**
  * readFrameBatches for a reader that hands the frames to another thread: each batch's accepted frames packed
  * (packFrame, with the new-segment mark of a clock restart or a reconnect) and its rejected lines with their
- * codes and words (packReject). A plain NDJSON frame line is read from its bytes straight into the batch, without objects.
+ * codes and words (packReject). A plain NDJSON frame line is read from its bytes straight into the batch, without
+ * objects; runs of lines of the shape of the last such line are taken at once (line-shape.ts). Reads are 1 MiB.
  */
 export async function* readFramePackedBatches(
   path: string,
   options: ReadFrameOptions = {},
 ): AsyncGenerator<PackedFrameBatch> {
   const reader = createLineReader(path, options.mappingPath, false);
-  // A new array per batch: the consumer may transfer the one it was given to another thread.
-  let capacity = 1024;
-  let frames = new Float64Array(capacity * FRAME_SLOTS);
-  let lineNos = new Int32Array(capacity);
-  let count = 0;
+  const shape = createLineShape();
   let rejects: Array<number | string> = [];
+  // A new array per batch: the consumer may transfer the one it was given to another thread.
+  const packed: PackedRun = {
+    frames: new Float64Array(1024 * FRAME_SLOTS),
+    lineNos: new Int32Array(1024),
+    count: 0,
+    capacity: 1024,
+    pos: 0,
+    physicalNo: 0,
+    grow() {
+      packed.capacity *= 2;
+      const larger = new Float64Array(packed.capacity * FRAME_SLOTS);
+      larger.set(packed.frames);
+      packed.frames = larger;
+      const moreNos = new Int32Array(packed.capacity);
+      moreNos.set(packed.lineNos);
+      packed.lineNos = moreNos;
+    },
+    checkTime: (tS) => reader.checkTime(tS),
+    reject: (physicalNo, r) => packReject(rejects, physicalNo, r),
+  };
   const room = (): void => {
-    if (count < capacity) return;
-    capacity *= 2;
-    const larger = new Float64Array(capacity * FRAME_SLOTS);
-    larger.set(frames);
-    frames = larger;
-    const moreNos = new Int32Array(capacity);
-    moreNos.set(lineNos);
-    lineNos = moreNos;
+    if (packed.count === packed.capacity) packed.grow();
   };
   const sink: LineSink = {
     plain(block, start, end, physicalNo) {
       if (!reader.plainNdjson() || !acceptAsciiFrameBytes(block, start, end)) return false;
+      // Lines like this one are taken by `run` from now on.
+      shape.learn(block, start, block[end - 1] === 0x0d ? end - 1 : end);
       const order = reader.checkTime(acceptedFrameTime());
       if (order.ok) {
         room();
-        lineNos[count] = physicalNo;
-        packAcceptedFrame(frames, count++, order.newSegment);
+        packed.lineNos[packed.count] = physicalNo;
+        packAcceptedFrame(packed.frames, packed.count++, order.newSegment);
       } else packReject(rejects, physicalNo, order);
       return true;
     },
@@ -350,22 +393,30 @@ export async function* readFramePackedBatches(
       if (line.verdict.ok) {
         if (line.receivedAtMs !== undefined) options.onReceivedAt?.(line.receivedAtMs);
         room();
-        lineNos[count] = line.lineNo;
+        packed.lineNos[packed.count] = line.lineNo;
         packFrame(
-          frames,
-          count++,
+          packed.frames,
+          packed.count++,
           line.verdict.frame,
           line.afterReconnect === true ? PACKED_AFTER_RECONNECT : line.newSegment === true,
         );
       } else packReject(rejects, line.lineNo, line.verdict);
     },
+    run(block, lastLf, at) {
+      if (!shape.learned() || !reader.plainNdjson()) return;
+      packed.pos = at.pos;
+      packed.physicalNo = at.physicalNo;
+      shape.take(block, lastLf, FILE_LINE_CAP_BYTES, packed);
+      at.pos = packed.pos;
+      at.physicalNo = packed.physicalNo;
+    },
   };
   for await (const _chunk of physicalBatches(path, options, sink)) {
-    if (count === 0 && rejects.length === 0) continue;
-    yield { frames, count, lineNos, rejects };
-    frames = new Float64Array(capacity * FRAME_SLOTS);
-    lineNos = new Int32Array(capacity);
-    count = 0;
+    if (packed.count === 0 && rejects.length === 0) continue;
+    yield { frames: packed.frames, count: packed.count, lineNos: packed.lineNos, rejects };
+    packed.frames = new Float64Array(packed.capacity * FRAME_SLOTS);
+    packed.lineNos = new Int32Array(packed.capacity);
+    packed.count = 0;
     rejects = [];
   }
 }
