@@ -203,8 +203,11 @@ function workerMinFileBytes(): number {
     : 8 * 1024 * 1024;
 }
 
-/** Batches read ahead of the worker at most: bounds the memory when the computation is the slower side. */
-const MAX_BATCHES_IN_FLIGHT = 128;
+/**
+ * Frames read ahead of the worker at most (in batches handed over and not yet acknowledged): bounds the memory when
+ * the computation is the slower side, whatever the size of a batch. At least one batch is always in flight.
+ */
+const MAX_FRAMES_IN_FLIGHT = 32_768;
 
 /** The worker script when the file is long enough to pay for a worker (and the built script is there). */
 function reviewWorkerUrl(file: string): URL | undefined {
@@ -314,7 +317,7 @@ function startWorker(
 
 /**
  * One file with the computation in a worker thread: this thread reads and validates, packs the accepted frames of
- * each batch and hands them over in file order; reading waits while MAX_BATCHES_IN_FLIGHT are queued.
+ * each batch and hands them over in file order; reading waits while MAX_FRAMES_IN_FLIGHT are queued.
  */
 async function reviewAlongsideWorker(
   script: URL,
@@ -324,11 +327,13 @@ async function reviewAlongsideWorker(
   options: ReviewFlightsOptions,
   stop: StopSignal,
 ): Promise<ReviewRunResult> {
-  let inFlight = 0;
+  // The frame count of each batch handed over and not yet acknowledged (acknowledgements come in order).
+  const inFlight: number[] = [];
+  let framesInFlight = 0;
   let failure: Error | undefined;
   let wake: (() => void) | undefined;
   const { worker, settled } = startWorker(script, workerDataOf(input, options, label), input.file, () => {
-    inFlight -= 1;
+    framesInFlight -= inFlight.shift() ?? 0;
     wake?.();
   });
   settled.catch((err: Error) => {
@@ -342,8 +347,11 @@ async function reviewAlongsideWorker(
       if (stop.stopped) throw STOPPED;
       const message: PackedFrameBatch = batch;
       worker.postMessage(message, [batch.frames.buffer, batch.lineNos.buffer]);
-      inFlight += 1;
-      while (inFlight >= MAX_BATCHES_IN_FLIGHT && failure === undefined && !stop.stopped)
+      // A batch without frames still takes a place (its rejected lines), so its ack is counted.
+      const frames = Math.max(1, batch.count);
+      inFlight.push(frames);
+      framesInFlight += frames;
+      while (framesInFlight >= MAX_FRAMES_IN_FLIGHT && failure === undefined && !stop.stopped)
         await new Promise<void>((resolve) => (wake = resolve));
       if (failure) throw failure;
     }
