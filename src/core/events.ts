@@ -70,13 +70,7 @@ export interface EventTracker {
   events(): readonly LimitEvent[];
 }
 
-/** The utilization an event's peak is measured on; n_thrust = 0 counts as unbounded. */
-export function eventUtilization(rec: MarginRecord, limit: LimitName): number | null {
-  const u = valuesEventUtilization(marginValuesOf(rec), limit);
-  return u === u ? u : null;
-}
-
-/** eventUtilization on values: NaN for null. */
+/** The utilization an event's peak is measured on (NaN for none); n_thrust = 0 counts as unbounded. */
 function valuesEventUtilization(v: MarginValues, limit: LimitName): number {
   const u =
     limit === 'stall' ? v.uStall : limit === 'thrust' ? v.uThrust : limit === 'structure' ? v.uStructure : v.uSpeed;
