@@ -116,6 +116,8 @@ export interface ReviewFlightsOptions {
   onRecord?: (rec: MarginRecord) => void;
   /** Each break the engine reports, before the record after it (with onRecord). */
   onBreak?: (brk: DataBreak) => void;
+  /** Keep each flight's time history (default true; only the HTML report draws it). */
+  timeHistory?: boolean;
 }
 
 /** Labels of the inputs: base names, unless two inputs share one (then the paths as given). */
@@ -253,6 +255,7 @@ const STOPPED = new Error('stopped: another file failed');
 
 function workerDataOf(input: FlightInput, options: ReviewFlightsOptions, label: string): ReviewWorkerData {
   const data: ReviewWorkerData = { reviewWorker: true, aircraft: input.aircraft, margins: input.margins };
+  if (options.timeHistory !== undefined) data.timeHistory = options.timeHistory;
   if (options.cardPoints) {
     data.cardPoints = options.cardPoints;
     data.fileLabel = label;

@@ -35,6 +35,8 @@ export interface ReviewRunSetup {
   cardPoints?: CardPoint[];
   /** The file name the test points' holds carry (`file`). */
   fileLabel?: string;
+  /** Keep the time history (the HTML report's): FlightReviewParts. */
+  timeHistory?: boolean;
 }
 
 export interface ReviewWorkerData extends ReviewRunSetup {
@@ -126,7 +128,12 @@ export function createReviewRun(
       : tracker
         ? tracker.breakHere
         : onBreak;
-  const reviewer = createFlightReviewer(setup.aircraft, setup.margins, dataBreak ? { dataBreak } : {});
+  const reviewer = createFlightReviewer(
+    setup.aircraft,
+    setup.margins,
+    dataBreak ? { dataBreak } : {},
+    setup.timeHistory !== undefined ? { timeHistory: setup.timeHistory } : {},
+  );
   const each = tracker
     ? (rec: MarginRecord) => {
         onRecord?.(rec);

@@ -95,8 +95,8 @@ export interface FlightReview {
   /** Accepted frames the plot sample was drawn from. */
   plotPointsOf: number;
   options: MarginOptions;
-  /** Every series against time, reduced for drawing (min and max per bucket). */
-  timeHistory: TimeHistory;
+  /** Every series against time, reduced for drawing (min and max per bucket); null when not asked for. */
+  timeHistory: TimeHistory | null;
   /** Share of the accepted frames (0…1) in which each input was assumed; null without frames. */
   assumedShare: Record<Assumption, number | null>;
   /** Measured against modelled Ps at full throttle and at idle. */
@@ -152,10 +152,20 @@ export interface FlightReviewListener {
   dataBreak?(brk: DataBreak): void;
 }
 
+/** What a review keeps beyond its sums. */
+export interface FlightReviewParts {
+  /**
+   * Keep the time history (default true). Only the HTML report draws it, and it costs a tenth of the review's
+   * per-frame work: the other reports turn it off.
+   */
+  timeHistory?: boolean;
+}
+
 export function createFlightReviewer(
   aircraft: Aircraft,
   options?: Partial<MarginOptions>,
   listener: FlightReviewListener = {},
+  parts: FlightReviewParts = {},
 ): FlightReviewer {
   const resolved = resolveMarginOptions(aircraft, options);
   const rejects: RejectedLine[] = [];
@@ -200,7 +210,7 @@ export function createFlightReviewer(
     caution: createDecimator(PLOT_POINTS_PER_LEVEL),
     warning: createDecimator(PLOT_POINTS_PER_LEVEL),
   };
-  const history = createTimeHistory();
+  const history = parts.timeHistory === false ? null : createTimeHistory();
   const modelCheck = createModelCheckAccumulator(aircraft, resolved.assumeThrottle);
   const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
   // The ranges' ends (min, max of altitude, TAS, n and temperature) in a typed array: a double stored in a closure
@@ -253,7 +263,7 @@ export function createFlightReviewer(
       // A new stretch of data (clock restart, reconnect): no interval across it.
       conditions.segments += 1;
     }
-    history.pushValues(v, pendingBreak === null ? undefined : pendingBreak === 'end_of_data' ? 'other' : pendingBreak);
+    history?.pushValues(v, pendingBreak === null ? undefined : pendingBreak === 'end_of_data' ? 'other' : pendingBreak);
     pendingBreak = null;
 
     raisePeak(peaks.stall, v.uStall, tS);
@@ -326,7 +336,7 @@ export function createFlightReviewer(
         plotPoints: [...plot.normal.items(), ...plot.caution.items(), ...plot.warning.items()],
         plotPointsOf: accepted,
         options: resolved,
-        timeHistory: history.finish(),
+        timeHistory: history?.finish() ?? null,
         assumedShare: assumed.shares(),
         modelCheck: modelCheck.finish(),
       };

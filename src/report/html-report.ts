@@ -49,7 +49,9 @@ export interface HtmlReportInput {
 export function htmlFlightFrom(review: FlightReview, ctx: ReviewContext, index = 0): HtmlFlight {
   const json = reviewToJson(review, ctx) as ReviewJson & Record<string, unknown>;
   const nvPlot = { ...nvPlotInputFrom(review, ctx), idPrefix: `f${index + 1}-nv-`, inline: true };
-  return { json, history: review.timeHistory, aircraft: ctx.aircraft, thresholds: review.options.thresholds, nvPlot };
+  const history = review.timeHistory;
+  if (history === null) throw new Error(`${ctx.source}: the HTML report needs the review's time history`);
+  return { json, history, aircraft: ctx.aircraft, thresholds: review.options.thresholds, nvPlot };
 }
 
 /** The n–V plot of a reviewed flight: its points, the thresholds in force, V_NE at its TAS when the envelope has it. */

@@ -25,6 +25,19 @@ describe('flight review accumulation', () => {
     expect(review.events[0]!.end_s).toBeCloseTo(1.5, 9);
   });
 
+  it('gives the same summary without the time history, which it then leaves out', () => {
+    const feed = (timeHistory: boolean) => {
+      const r = createFlightReviewer(exampleAirframe(), { smoothTauS: 0 }, {}, { timeHistory });
+      for (let i = 0; i <= 40; i++) r.accept(f(i / 10 + (i > 20 ? 2 : 0), i >= 10 && i < 30 ? 1.6 : 1.0));
+      return r.finish();
+    };
+    const withHistory = feed(true);
+    const without = feed(false);
+    expect(withHistory.timeHistory?.frames).toBe(41);
+    expect(without.timeHistory).toBeNull();
+    expect({ ...without, timeHistory: withHistory.timeHistory }).toEqual(withHistory);
+  });
+
   it('keeps peaks per limit with their time', () => {
     const r = createFlightReviewer(exampleAirframe(), { smoothTauS: 0 });
     [1.0, 1.3, 1.6, 1.2].forEach((nz, i) => r.accept(f(i * 0.1, nz)));

@@ -55,7 +55,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   // The card and several-flight code is loaded only by the runs that use it: a plain check starts faster.
   const card =
     cardPath !== undefined ? (await import('./card.js')).loadCardFile(cardPath, inputs[0]!.aircraft) : undefined;
-  const flights = await reviewFlights(inputs, card ? { cardPoints: card.points } : {});
+  const flights = await reviewFlights(inputs, { timeHistory: false, ...(card ? { cardPoints: card.points } : {}) });
   const reported = flights.map((f) => ({
     review: f.review,
     ctx: { source: f.input.file, aircraft: f.input.aircraft, aircraftFile: f.input.aircraftFile },

@@ -153,7 +153,11 @@ export async function run(args: ParsedArgs): Promise<number> {
     if (mappingPath !== undefined) input.mappingPath = mappingPath;
     accumulator.startFile();
     // One file at a time: the accumulator takes the records of all files in order.
-    const flights = await reviewFlights([input], { onRecord: accumulator.record, onBreak: accumulator.breakData });
+    const flights = await reviewFlights([input], {
+      timeHistory: false,
+      onRecord: accumulator.record,
+      onBreak: accumulator.breakData,
+    });
     const review = flights[0]!.review;
     if (review.rejected > 0)
       rejectedNotes.push(

@@ -111,6 +111,7 @@ export async function run(args: ParsedArgs): Promise<number> {
   let flights: ReviewedFlight[];
   try {
     flights = await reviewFlights(inputs, {
+      timeHistory: format === 'html',
       ...(card ? { cardPoints: card.points } : {}),
       ...(perFrame ? { onRecord: (rec: MarginRecord) => perFrame.write(JSON.stringify(rec) + '\n') } : {}),
     });
