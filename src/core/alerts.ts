@@ -191,7 +191,8 @@ export function updateAlerts(
 
 /** The record's overall level: the most severe alert on. */
 export function levelOfAlerts(alerts: readonly ActiveAlert[]): Level {
-  if (alerts.some((a) => a.level === 'warning')) return 'warning';
-  if (alerts.length > 0) return 'caution';
-  return 'normal';
+  if (alerts.length === 0) return 'normal';
+  // A loop, not alerts.some(callback): this runs once per frame, and the callback would be a new closure each time.
+  for (let i = 0; i < alerts.length; i++) if (alerts[i]!.level === 'warning') return 'warning';
+  return 'caution';
 }

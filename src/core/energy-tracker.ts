@@ -7,14 +7,14 @@
 import type { Aircraft } from './aircraft.js';
 import { isaPressurePa } from './atmosphere.js';
 import {
-  modelPsMps,
-  psResidualMps,
-  specificExcessPowerMps,
+  measuredPsOrNaN,
+  modelPsAtSettingOrNaN,
+  psResidualOrNaN,
   throttleSetting,
-  timeToUtilizationS,
+  timeToUtilizationOrNaN,
   type ThrottleAssumption,
 } from './energy.js';
-import { orNull, type MarginValues } from './margin-values.js';
+import type { MarginValues } from './margin-values.js';
 import { stallSpeedMps, topSpeedMps, vneTasMps } from './performance.js';
 import { createSharedRateWindows, grownRing, windowEdgeSlackS } from './rate-estimator.js';
 import { sustainedBandMps } from './sustained-band.js';
@@ -44,8 +44,8 @@ export interface EnergyTracker {
 
 /** Mean of the values pushed over the last `windowS` of frame time (a ring with a running sum). */
 function createWindowMean(windowS: number): {
-  /** Push a value (null: none at this frame) and return the mean, NaN when the window holds none. */
-  push(tS: number, value: number | null): number;
+  /** Push a value (NaN: none at this frame) and return the mean, NaN when the window holds none. */
+  push(tS: number, value: number): number;
   reset(): void;
 } {
   // Capacity a power of two (64, doubled when full): indices wrap with a mask.
@@ -66,7 +66,7 @@ function createWindowMean(windowS: number): {
         head = (head + 1) & mask;
         count--;
       }
-      if (value !== null && Number.isFinite(value)) {
+      if (Number.isFinite(value)) {
         if (count === times.length) {
           times = grownRing(times, head, count);
           values = grownRing(values, head, count);
@@ -128,34 +128,34 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
       rateInputs[1] = v.altM;
       rateInputs[2] = v.bankDeg;
       rates.push(tS, rateInputs);
-      const dvdt = hasSlope[0] === 1 ? slopes[0]! : null;
-      const dhdt = hasSlope[1] === 1 ? slopes[1]! : null;
-      const throttle = orNull(v.throttle);
+      // NaN stands for null throughout (no number boxed per frame): it carries through the sums below.
+      const dvdt = hasSlope[0] === 1 ? slopes[0]! : NaN;
+      const dhdt = hasSlope[1] === 1 ? slopes[1]! : NaN;
       const tasMps = v.tasMps;
-      const ps = specificExcessPowerMps(dhdt, tasMps, dvdt);
-      const psModel = modelPsMps(aircraft, tasMps, v.densityKgM3, v.massKg, v.nMeasured, throttle, assumeThrottle);
-      const residual = psResidualMps(ps, psModel);
-      v.dvdtMps2 = dvdt ?? NaN;
-      v.dhdtMps = dhdt ?? NaN;
+      const ps = measuredPsOrNaN(dhdt, tasMps, dvdt);
+      const setting = throttleSetting(v.throttle, assumeThrottle);
+      const psModel = modelPsAtSettingOrNaN(aircraft, tasMps, v.densityKgM3, v.massKg, v.nMeasured, setting);
+      const residual = psResidualOrNaN(ps, psModel);
+      v.dvdtMps2 = dvdt;
+      v.dhdtMps = dhdt;
       v.bankRateDps = hasSlope[2] === 1 ? slopes[2]! : NaN;
-      v.psMps = ps ?? NaN;
-      v.psModelMps = psModel ?? NaN;
-      v.psResidualMps = residual ?? NaN;
+      v.psMps = ps;
+      v.psModelMps = psModel;
+      v.psResidualMps = residual;
       // The rates lag a throttle step by up to the window: the mean restarts when the setting changes and takes a
       // residual only once the whole window lies in one setting, so a step does not raise a false advisory.
-      const setting = throttleSetting(throttle, assumeThrottle);
       if (setting !== lastSetting || settingSinceS[0] !== settingSinceS[0]) {
         lastSetting = setting;
         settingSinceS[0] = tS;
         residualMean.reset();
       }
       const wholeWindowInSetting = tS - settingSinceS[0]! >= options.rateWindowS - windowEdgeSlackS(tS);
-      v.psResidualMean3sMps = residualMean.push(tS, wholeWindowInSetting ? residual : null);
-      const stallU = orNull(v.uStall);
+      v.psResidualMean3sMps = residualMean.push(tS, wholeWindowInSetting ? residual : NaN);
+      const stallU = v.uStall;
       const flying = v.flying;
       const nF = v.nMeasured;
-      v.timeToStallCautionS = timeToUtilizationS(flying, tasMps, nF, stallU, dvdt, stallCaution) ?? NaN;
-      v.timeToStallWarningS = timeToUtilizationS(flying, tasMps, nF, stallU, dvdt, stallWarning) ?? NaN;
+      v.timeToStallCautionS = timeToUtilizationOrNaN(flying, tasMps, nF, stallU, dvdt, stallCaution);
+      v.timeToStallWarningS = timeToUtilizationOrNaN(flying, tasMps, nF, stallU, dvdt, stallWarning);
       if (speedBand) fillSpeedBand(aircraft, v);
       else v.bandLoMps = v.bandHiMps = NaN;
     },

@@ -4,7 +4,8 @@
  * warning at the present deceleration. Pure: the rates come from `rate-estimator.ts`, the state from the engine.
  */
 import type { Aircraft } from './aircraft.js';
-import { dragAtLoadFactorN, thrustAvailableN } from './performance.js';
+import { orNull } from './margin-values.js';
+import { dragAtLoadFactorN, thrustAvailableOrNaN } from './performance.js';
 import { G0_MPS2 } from './units.js';
 
 /** Throttle at or above this fraction counts as full throttle (common practice: a little below the stop). */
@@ -23,16 +24,20 @@ export function specificExcessPowerMps(
   tasMps: number | null,
   dvdtMps2: number | null,
 ): number | null {
-  if (dhdtMps === null || tasMps === null || dvdtMps2 === null) return null;
+  return orNull(measuredPsOrNaN(dhdtMps ?? NaN, tasMps ?? NaN, dvdtMps2 ?? NaN));
+}
+
+/** specificExcessPowerMps with NaN for null, in and out (the per-frame form). */
+export function measuredPsOrNaN(dhdtMps: number, tasMps: number, dvdtMps2: number): number {
   return dhdtMps + (tasMps / G0_MPS2) * dvdtMps2;
 }
 
 /**
  * The setting the model knows a frame to be at: full (throttle ≥ 0.98), idle (≤ 0.02), the assumption for a frame
- * without a throttle, or null (part throttle, or unknown with no assumption).
+ * without a throttle (null, or NaN on the per-frame path), or null (part throttle, or unknown with no assumption).
  */
 export function throttleSetting(throttle: number | null, assume?: ThrottleAssumption): ThrottleAssumption | null {
-  if (throttle === null) return assume ?? null;
+  if (throttle === null || throttle !== throttle) return assume ?? null;
   if (throttle >= THROTTLE_FULL_MIN) return 'full';
   if (throttle <= THROTTLE_IDLE_MAX) return 'idle';
   return null;
@@ -50,10 +55,19 @@ export function modelThrustN(
   densityKgM3: number,
   assume?: ThrottleAssumption,
 ): number | null {
-  const setting = throttleSetting(throttle, assume);
-  if (setting === null) return null;
+  return orNull(modelThrustOrNaN(aircraft, throttleSetting(throttle, assume), tasMps, densityKgM3));
+}
+
+/** modelThrustN at a known setting, NaN for null (the per-frame form). */
+function modelThrustOrNaN(
+  aircraft: Aircraft,
+  setting: ThrottleAssumption | null,
+  tasMps: number,
+  densityKgM3: number,
+): number {
+  if (setting === null) return NaN;
   if (setting === 'idle') return 0;
-  return thrustAvailableN(aircraft.thrust, tasMps, densityKgM3);
+  return thrustAvailableOrNaN(aircraft.thrust, tasMps, densityKgM3);
 }
 
 export interface ModelPsInput {
@@ -95,16 +109,35 @@ export function modelPsMps(
   throttle: number | null,
   assumeThrottle: ThrottleAssumption | undefined,
 ): number | null {
-  if (!(tasMps > 0) || !(densityKgM3 > 0) || !(massKg > 0) || !Number.isFinite(loadFactor)) return null;
-  const thrustN = modelThrustN(aircraft, throttle, tasMps, densityKgM3, assumeThrottle);
-  if (thrustN === null) return null;
+  return orNull(
+    modelPsAtSettingOrNaN(aircraft, tasMps, densityKgM3, massKg, loadFactor, throttleSetting(throttle, assumeThrottle)),
+  );
+}
+
+/** modelPsMps at a known throttle setting, NaN for null (the per-frame form). */
+export function modelPsAtSettingOrNaN(
+  aircraft: Aircraft,
+  tasMps: number,
+  densityKgM3: number,
+  massKg: number,
+  loadFactor: number,
+  setting: ThrottleAssumption | null,
+): number {
+  if (!(tasMps > 0) || !(densityKgM3 > 0) || !(massKg > 0) || !Number.isFinite(loadFactor)) return NaN;
+  const thrustN = modelThrustOrNaN(aircraft, setting, tasMps, densityKgM3);
+  if (thrustN !== thrustN) return NaN;
   const dragN = dragAtLoadFactorN(aircraft, tasMps, densityKgM3, massKg, loadFactor);
   return (tasMps * (thrustN - dragN)) / (massKg * G0_MPS2);
 }
 
 /** ps_residual_mps = measured − modelled; null if either is null. */
 export function psResidualMps(psMps: number | null, psModelMps: number | null): number | null {
-  return psMps === null || psModelMps === null ? null : psMps - psModelMps;
+  return psMps === null || psModelMps === null ? null : psResidualOrNaN(psMps, psModelMps);
+}
+
+/** psResidualMps with NaN for null (the per-frame form). */
+export function psResidualOrNaN(psMps: number, psModelMps: number): number {
+  return psMps - psModelMps;
 }
 
 /**
@@ -154,12 +187,25 @@ export function timeToUtilizationS(
   dvdtMps2: number | null,
   targetUtilization: number,
 ): number | null {
-  if (!flying || !(loadFactor > 0) || dvdtMps2 === null || !(dvdtMps2 < 0)) return null;
-  if (u === null || !(u > 0) || !(tasMps > 0) || !(targetUtilization > 0)) return null;
+  return orNull(timeToUtilizationOrNaN(flying, tasMps, loadFactor, u ?? NaN, dvdtMps2 ?? NaN, targetUtilization));
+}
+
+/** timeToUtilizationS with NaN for null, in and out (the per-frame form). */
+export function timeToUtilizationOrNaN(
+  flying: boolean,
+  tasMps: number,
+  loadFactor: number,
+  u: number,
+  dvdtMps2: number,
+  targetUtilization: number,
+): number {
+  // NaN fails every comparison: an unknown rate or utilization gives no prediction.
+  if (!flying || !(loadFactor > 0) || !(dvdtMps2 < 0)) return NaN;
+  if (!(u > 0) || !(tasMps > 0) || !(targetUtilization > 0)) return NaN;
   if (u >= targetUtilization) return 0;
   const vStar = tasMps * Math.sqrt(u / targetUtilization);
   const t = (tasMps - vStar) / -dvdtMps2;
-  return t > TIME_TO_STALL_MAX_S ? null : t;
+  return t > TIME_TO_STALL_MAX_S ? NaN : t;
 }
 
 export interface TimeToStall {

@@ -20,10 +20,10 @@ import {
   dynamicPressurePa,
   levelTurnRadiusM,
   levelTurnRateDps,
-  negativeStallLoadFactor,
+  negativeStallLoadFactorOrNaN,
   stallLoadFactor,
   stallSpeedMps,
-  thrustLoadFactor,
+  thrustLoadFactorOrNaN,
 } from './performance.js';
 import type { AlertThresholds } from './thresholds.js';
 import type { ThrottleAssumption } from './energy.js';
@@ -72,8 +72,8 @@ export interface MarginState {
   /** The TAS filter: the same filter and τ as n, restarted together with it. */
   tasFilter: LowPassState | null;
   alerts: readonly ActiveAlert[];
-  /** Start time of the present run of frames where n_measured and 1/cos(bank) disagree, or null. */
-  disagreeSinceS: number | null;
+  /** Start time of the present run of frames where n_measured and 1/cos(bank) disagree, NaN for none. */
+  disagreeSinceS: number;
   /**
    * The air state of the last frame and the altitude and OAT it was computed from: reused while they stay the same
    * (telemetry repeats them from frame to frame), as computing it again would give the same values.
@@ -82,7 +82,7 @@ export interface MarginState {
 }
 
 export function initialMarginState(): MarginState {
-  return { filter: null, tasFilter: null, alerts: [], disagreeSinceS: null };
+  return { filter: null, tasFilter: null, alerts: [], disagreeSinceS: NaN };
 }
 
 export interface FrameAir {
@@ -131,8 +131,13 @@ function frameTasMps(aircraft: Aircraft, frame: Frame, air: AirState): number {
 
 /** 1/cos(bank): the load factor of a level coordinated turn at that bank; null where cos(bank) is about 0. */
 export function loadFactorFromBank(bankDeg: number): number | null {
+  return orNull(loadFactorFromBankOrNaN(bankDeg));
+}
+
+/** loadFactorFromBank with NaN for null (the per-frame form). */
+function loadFactorFromBankOrNaN(bankDeg: number): number {
   const c = Math.cos((bankDeg * Math.PI) / 180);
-  return Math.abs(c) < 1e-9 ? null : 1 / c;
+  return Math.abs(c) < 1e-9 ? NaN : 1 / c;
 }
 
 /** Bound on a load factor derived from bank alone (the same as the plausibility bound on nz), g. */
@@ -150,8 +155,14 @@ export function clampedLoadFactorFromBank(bankDeg: number): number {
 
 /** The frame's measured load factor: nz when present, else 1/cos(bank) (clamped). */
 export function rawLoadFactor(frame: Frame): number {
-  if (frame.nz !== undefined) return frame.nz;
-  if (frame.bankDeg !== undefined) return clampedLoadFactorFromBank(frame.bankDeg);
+  const nz = frame.nz;
+  if (nz !== undefined) return nz;
+  const bankDeg = frame.bankDeg;
+  return bankDeg !== undefined ? clampedLoadFactorFromBank(bankDeg) : noLoadFactor(frame);
+}
+
+/** The decoder lets no such frame through: a frame built by hand without either. */
+function noLoadFactor(frame: Frame): never {
   throw new RangeError(`frame at t_s ${frame.tS} has neither bank_deg nor nz`);
 }
 
@@ -198,20 +209,21 @@ export function frameAssumptions(aircraft: Aircraft, frame: Frame): Assumption[]
 
 /**
  * frameAssumptions as one shared, frozen list per combination (records only read it): no array per frame. Indexed
- * by (nz absent) + 2·(oat_c absent), per airframe.
+ * by (nz absent) + 2·(oat_c absent), for the last airframe asked about (an engine has one; a WeakMap lookup per
+ * frame cost more than the rest of this).
  */
-const sharedAssumptions = new WeakMap<Aircraft, readonly Assumption[][]>();
+let assumptionsOf: { aircraft: Aircraft; lists: readonly Assumption[][] } | null = null;
 function recordAssumptions(aircraft: Aircraft, frame: Frame): Assumption[] {
-  let lists = sharedAssumptions.get(aircraft);
-  if (lists === undefined) {
+  let cached = assumptionsOf;
+  if (cached === null || cached.aircraft !== aircraft) {
     const of = (nz: number | undefined, oatC: number | undefined): Assumption[] =>
       Object.freeze(
         frameAssumptions(aircraft, { tS: 0, airspeedKind: 'tas', airspeedMps: 0, altM: 0, nz, oatC }),
       ) as Assumption[];
-    lists = [of(1, 0), of(undefined, 0), of(1, undefined), of(undefined, undefined)];
-    sharedAssumptions.set(aircraft, lists);
+    cached = { aircraft, lists: [of(1, 0), of(undefined, 0), of(1, undefined), of(undefined, undefined)] };
+    assumptionsOf = cached;
   }
-  return lists[(frame.nz === undefined ? 1 : 0) + (frame.oatC === undefined ? 2 : 0)]!;
+  return cached.lists[(frame.nz === undefined ? 1 : 0) + (frame.oatC === undefined ? 2 : 0)]!;
 }
 
 export interface LimitsForUtilization {
@@ -235,21 +247,21 @@ export function computeUtilization(
 ): Utilization {
   if (!flying) return { stall: null, thrust: null, structure: null, speed: null };
   return {
-    stall: stallUtilization(n, limits.nStall, limits.nStallNeg),
-    thrust: thrustUtilization(n, limits.nThrust),
+    stall: orNull(stallUtilization(n, limits.nStall, limits.nStallNeg ?? NaN)),
+    thrust: orNull(thrustUtilization(n, limits.nThrust ?? NaN)),
     structure: structureUtilization(n, limits.nLimitPos, limits.nLimitNeg),
     speed,
   };
 }
 
-/** The stall utilization of computeUtilization (flying). */
-function stallUtilization(n: number, nStall: number, nStallNeg: number | null): number | null {
-  return n < 0 ? (nStallNeg === null ? null : n / nStallNeg) : n / nStall;
+/** The stall utilization of computeUtilization (flying), NaN for null; nStallNeg NaN without cl_min. */
+function stallUtilization(n: number, nStall: number, nStallNeg: number): number {
+  return n < 0 ? n / nStallNeg : n / nStall;
 }
 
-/** The thrust utilization of computeUtilization (flying). */
-function thrustUtilization(n: number, nThrust: number | null): number | null {
-  return nThrust === null || nThrust === 0 ? null : Math.abs(n) / nThrust;
+/** The thrust utilization of computeUtilization (flying), NaN for null; nThrust NaN when unknown. */
+function thrustUtilization(n: number, nThrust: number): number {
+  return nThrust === 0 ? NaN : Math.abs(n) / nThrust;
 }
 
 /** The structure utilization of computeUtilization (flying). */
@@ -271,19 +283,26 @@ export function stallSpeedAtLoadFactorMps(
   return null;
 }
 
-/** One step of the coordination check: returns the new start of the disagreement run and the flag. */
-export function coordinationStep(
-  disagreeSinceS: number | null,
+/**
+ * One step of the coordination check on `state` (its disagreeSinceS advanced): whether the turn is flagged
+ * uncoordinated at this frame. `nFromBank` is NaN when there is nothing to compare.
+ */
+function coordinationStep(
+  state: MarginState,
   tS: number,
   nMeasured: number,
-  nFromBank: number | null,
+  nFromBank: number,
   restarted: boolean,
-): { disagreeSinceS: number | null; uncoordinated: boolean } {
-  if (nFromBank === null || !(Math.abs(nMeasured - nFromBank) > COORDINATION_TOLERANCE)) {
-    return { disagreeSinceS: null, uncoordinated: false };
+): boolean {
+  // NaN (nothing to compare) is never over the tolerance.
+  if (!(Math.abs(nMeasured - nFromBank) > COORDINATION_TOLERANCE)) {
+    state.disagreeSinceS = NaN;
+    return false;
   }
-  const since = disagreeSinceS === null || restarted ? tS : disagreeSinceS;
-  return { disagreeSinceS: since, uncoordinated: tS - since > COORDINATION_DURATION_S };
+  const previous = state.disagreeSinceS;
+  const since = previous !== previous || restarted ? tS : previous;
+  state.disagreeSinceS = since;
+  return tS - since > COORDINATION_DURATION_S;
 }
 
 /** The margin record of one frame, and the state for the next. `state` is left as it was. */
@@ -374,8 +393,8 @@ export function advanceMarginValues(
 
   // The two limits of computeLimits this record needs, without its other fields.
   const nStall = stallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
-  const nStallNeg = negativeStallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
-  const nThrust = thrustLoadFactor(aircraft, tasMps, densityKgM3, massKg);
+  const nStallNeg = negativeStallLoadFactorOrNaN(aircraft, tasMps, densityKgM3, massKg);
+  const nThrust = thrustLoadFactorOrNaN(aircraft, tasMps, densityKgM3, massKg);
   const flying = tasMps >= FLYING_FRACTION_OF_VS1 * oneGStallSpeedMps(aircraft, densityKgM3, massKg);
   const vneMps = aircraft.vneMps;
 
@@ -390,13 +409,13 @@ export function advanceMarginValues(
   v.nMeasured = nF;
   v.nRaw = nRaw;
   v.nStall = nStall;
-  v.nStallNeg = nStallNeg ?? NaN;
-  v.nThrust = nThrust ?? NaN;
+  v.nStallNeg = nStallNeg;
+  v.nThrust = nThrust;
   v.flying = flying;
   // The utilizations of computeUtilization, NaN for null.
   if (flying) {
-    v.uStall = stallUtilization(nF, nStall, nStallNeg) ?? NaN;
-    v.uThrust = thrustUtilization(nF, nThrust) ?? NaN;
+    v.uStall = stallUtilization(nF, nStall, nStallNeg);
+    v.uThrust = thrustUtilization(nF, nThrust);
     v.uStructure = structureUtilization(nF, aircraft.nLimitPos, aircraft.nLimitNeg);
     v.uSpeed = vneMps !== undefined ? casMps / vneMps : NaN;
   } else {
@@ -411,20 +430,13 @@ export function advanceMarginValues(
   v.level = levelOfAlerts(alerts);
 
   const bankDeg = frame.bankDeg;
-  const nFromBank = bankDeg !== undefined ? loadFactorFromBank(bankDeg) : null;
+  const nz = frame.nz;
+  const nFromBank = bankDeg !== undefined ? loadFactorFromBankOrNaN(bankDeg) : NaN;
   // Comparing n with 1/cos(bank) means something only when n comes from an accelerometer.
-  const coordination = coordinationStep(
-    state.disagreeSinceS,
-    tS,
-    nF,
-    frame.nz !== undefined ? nFromBank : null,
-    restarted,
-  );
-  state.disagreeSinceS = coordination.disagreeSinceS;
-  v.uncoordinated = coordination.uncoordinated;
+  v.uncoordinated = coordinationStep(state, tS, nF, nz !== undefined ? nFromBank : NaN, restarted);
   v.bankDeg = bankDeg ?? NaN;
-  v.nz = frame.nz ?? NaN;
-  v.nFromBank = nFromBank ?? NaN;
+  v.nz = nz ?? NaN;
+  v.nFromBank = nFromBank;
   v.throttle = frame.throttle ?? NaN;
   v.simulated = frame.simulated === true;
   v.assumed = recordAssumptions(aircraft, frame);

@@ -4,9 +4,9 @@
  */
 import type { Aircraft, ThrustModel } from './aircraft.js';
 import { casToTasMps } from './airspeed.js';
+import { orNull } from './margin-values.js';
 import { G0_MPS2, RHO0_KG_M3, radToDeg } from './units.js';
 
-/** Thrust available, N, or null where a table model does not cover the speed (never extrapolated). */
 /** The last density and exponent and their factor: the density repeats from frame to frame (same altitude). */
 let lastDensityKgM3 = NaN;
 let lastDensityExponent = NaN;
@@ -22,7 +22,16 @@ function densityFactorOf(densityKgM3: number, exponent: number): number {
   return lastDensityFactor;
 }
 
+/** Thrust available, N, or null where a table model does not cover the speed (never extrapolated). */
 export function thrustAvailableN(thrust: ThrustModel, tasMps: number, densityKgM3: number): number | null {
+  return orNull(thrustAvailableOrNaN(thrust, tasMps, densityKgM3));
+}
+
+/**
+ * thrustAvailableN with NaN for null: the per-frame form (a number that may be null is a heap allocation per call,
+ * a NaN is not).
+ */
+export function thrustAvailableOrNaN(thrust: ThrustModel, tasMps: number, densityKgM3: number): number {
   const densityFactor = densityFactorOf(densityKgM3, thrust.densityExponent);
   switch (thrust.model) {
     case 'constant':
@@ -32,18 +41,21 @@ export function thrustAvailableN(thrust: ThrustModel, tasMps: number, densityKgM
       const fromPower = tasMps > 0 ? (thrust.propEfficiency * thrust.powerW) / tasMps : Infinity;
       return Math.min(thrust.staticThrustN, fromPower) * densityFactor;
     }
-    case 'table': {
-      const pts = thrust.points;
-      const first = pts[0]!;
-      const last = pts[pts.length - 1]!;
-      if (tasMps < first[0] || tasMps > last[0]) return null;
-      let i = 1;
-      while (i < pts.length - 1 && tasMps > pts[i]![0]) i++;
-      const [v0, t0] = pts[i - 1]!;
-      const [v1, t1] = pts[i]!;
-      return (t0 + ((t1 - t0) * (tasMps - v0)) / (v1 - v0)) * densityFactor;
-    }
+    case 'table':
+      return tableThrustOrNaN(thrust.points, tasMps) * densityFactor;
   }
+}
+
+/** Linear interpolation in a thrust table, NaN outside it (never extrapolated). */
+function tableThrustOrNaN(pts: ReadonlyArray<readonly [number, number]>, tasMps: number): number {
+  const first = pts[0]!;
+  const last = pts[pts.length - 1]!;
+  if (tasMps < first[0] || tasMps > last[0]) return NaN;
+  let i = 1;
+  while (i < pts.length - 1 && tasMps > pts[i]![0]) i++;
+  const [v0, t0] = pts[i - 1]!;
+  const [v1, t1] = pts[i]!;
+  return t0 + ((t1 - t0) * (tasMps - v0)) / (v1 - v0);
 }
 
 export function dynamicPressurePa(densityKgM3: number, tasMps: number): number {
@@ -62,8 +74,19 @@ export function negativeStallLoadFactor(
   densityKgM3: number,
   massKg: number,
 ): number | null {
-  if (aircraft.clMin === undefined) return null;
-  return (dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2 * aircraft.clMin) / (massKg * G0_MPS2);
+  return orNull(negativeStallLoadFactorOrNaN(aircraft, tasMps, densityKgM3, massKg));
+}
+
+/** negativeStallLoadFactor with NaN for null (the per-frame form). */
+export function negativeStallLoadFactorOrNaN(
+  aircraft: Aircraft,
+  tasMps: number,
+  densityKgM3: number,
+  massKg: number,
+): number {
+  const clMin = aircraft.clMin;
+  if (clMin === undefined) return NaN;
+  return (dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2 * clMin) / (massKg * G0_MPS2);
 }
 
 /**
@@ -76,8 +99,13 @@ export function thrustLoadFactor(
   densityKgM3: number,
   massKg: number,
 ): number | null {
-  const thrustN = thrustAvailableN(aircraft.thrust, tasMps, densityKgM3);
-  if (thrustN === null) return null;
+  return orNull(thrustLoadFactorOrNaN(aircraft, tasMps, densityKgM3, massKg));
+}
+
+/** thrustLoadFactor with NaN for null (the per-frame form). */
+export function thrustLoadFactorOrNaN(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): number {
+  const thrustN = thrustAvailableOrNaN(aircraft.thrust, tasMps, densityKgM3);
+  if (thrustN !== thrustN) return NaN;
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
   if (qS <= 0) return 0;
   const excess = thrustN - qS * aircraft.cd0;
