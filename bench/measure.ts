@@ -3,7 +3,8 @@ import { spawn, spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 
 export const REPO_ROOT = fileURLToPath(new URL('../../', import.meta.url));
-export const CLI = fileURLToPath(new URL('../src/cli/main.js', import.meta.url));
+/** The program as users run it: the bundle (scripts/bundle.mjs). */
+export const CLI = fileURLToPath(new URL('../cli/main.js', import.meta.url));
 export const RSS_PROBE = fileURLToPath(new URL('./rss-probe.js', import.meta.url));
 
 export interface ChildRun {
