@@ -2,7 +2,7 @@
  * The airframe model: mass, wing, lift limits, drag polar, thrust model and structural limits.
  * The JSON file uses SI keys with the unit in the name; `parseAircraft` validates it and lists every problem.
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import { MASS_MAX_KG, MASS_MIN_KG, POUND_KG } from './units.js';
 import { ThresholdsSchema, type AlertThresholds, resolveThresholds } from './thresholds.js';
 import { parseLenient, type Checked } from './validation.js';

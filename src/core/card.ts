@@ -6,7 +6,7 @@
  * bank = acos(1/n) (level coordinated turn). A target at or beyond the warning threshold of the stall or structural
  * limit is never put on a card: it is listed as excluded with the reason, like targets below 1.05 g.
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import type { Aircraft } from './aircraft.js';
 import { computeAirState, isaTemperatureK, type TemperatureOptions } from './atmosphere.js';
 import { casToTasMps } from './airspeed.js';

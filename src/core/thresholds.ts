@@ -4,7 +4,7 @@
  * structure caution 0.80, warning 0.95; thrust caution 1.00 (the turn is not sustainable); speed caution 0.95,
  * warning 1.00 (at vne); hysteresis 0.02; an alert goes off after 0.5 s clear.
  */
-import { z } from 'zod';
+import * as z from 'zod';
 
 export interface AlertThresholds {
   stallCaution: number;

@@ -1,5 +1,5 @@
 /** Turns zod issues into user-facing lines: `file: key.path must be … (got value)`. */
-import type { z } from 'zod';
+import type * as z from 'zod';
 
 /**
  * A value (a schema) built on its first use: a command that never reads such a document does not pay for building

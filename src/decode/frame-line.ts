@@ -10,7 +10,7 @@
  * A rejection is data with a stable code (rejections.ts, where its words are made): shown per line, counted in link
  * health and listed by review.
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import type { AirspeedKind, Frame } from '../core/frame.js';
 import { builtOnFirstUse } from '../core/validation.js';
 import { AIRSPEED_KINDS, FRAME_SLOTS, PACKED_AIRSPEED, PACKED_AIRSPEED_KIND, PACKED_KEYS } from './frame-batch.js';

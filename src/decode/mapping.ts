@@ -12,7 +12,7 @@
  * The value is converted as  si = unit(raw × scale + offset): scale and offset act in the log's own unit.
  * Columns not named in "keys" pass through unchanged (a column already called tas_mps is used as is).
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import { builtOnFirstUse, describeIssues } from '../core/validation.js';
 import { FRAME_KEYS, frameKeyRule, type UnitConversion } from './frame-keys.js';
 

@@ -16,7 +16,7 @@
  * of the thrust available, 0…1) or `tas_mps` (the speed the autothrottle holds); without both the autothrottle
  * holds the speed the segment started at.
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import { describeIssues } from '../core/validation.js';
 import { MAX_ALTITUDE_M, MIN_ALTITUDE_M } from '../core/atmosphere.js';
 

@@ -5,7 +5,7 @@
  * the lazily loaded report code, the version read from package.json and the exit codes.
  */
 import { spawn } from 'node:child_process';
-import { mkdtempSync, readFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -105,6 +105,17 @@ describe('the bundled program (bin) answers as the modules do', () => {
     expect(v.stdout.trim()).toBe(`turnmargin ${version}`);
     const [bundled, modules] = await both(['review', DEMO_FLIGHT]);
     expect(bundled.code).toBe(2);
+    expect(bundled.stderr).toBe(modules.stderr);
+  });
+
+  it('words the problems of an invalid airframe file as the modules do (the schema library bundled)', async () => {
+    const path = join(mkdtempSync(join(tmpdir(), 'turnmargin-bundle-')), 'bad-airframe.json');
+    const bad = { name: 'x', mass_kg: 'heavy', polar: { cd0: 'a', k: [1] }, thrust: { model: 'rocket' }, extra: 1 };
+    writeFileSync(path, JSON.stringify(bad));
+    const [bundled, modules] = await both(['envelope', '--aircraft', path]);
+    expect(bundled.code).toBe(2);
+    expect(bundled.stderr).toMatch(/mass_kg/);
+    expect(bundled.stderr).toMatch(/extra is not a known key/);
     expect(bundled.stderr).toBe(modules.stderr);
   });
 
