@@ -35,12 +35,30 @@ function power3p5(x: number): number {
 }
 
 /**
+ * x^(2/7), the other exponent of the relations below, for x ≥ 1. Their x is 1 + qc/p0 (or qc/p), and at the speeds of
+ * small aircraft it stays just above 1 (1.007 at Mach 0.1): there the binomial series of (1 + e)^(2/7) to the third
+ * order and two Newton steps on y⁷ = x² give the general power's value within one unit in the last place, about three
+ * times faster. Elsewhere (e above 0.1, Mach above about 0.37) the general power.
+ */
+export function power2over7(x: number): number {
+  const e = x - 1;
+  if (!(e >= 0 && e <= 0.1)) return x ** (2 / 7);
+  // 1 + (2/7)e − (5/49)e² + (20/343)e³: an error of at most 4·10⁻⁶ at e = 0.1, and each Newton step squares it.
+  let y = 1 + e * (2 / 7 + e * (-5 / 49 + e * (20 / 343)));
+  const x2 = x * x;
+  let y3 = y * y * y;
+  y = (6 * y + x2 / (y3 * y3)) / 7;
+  y3 = y * y * y;
+  return (6 * y + x2 / (y3 * y3)) / 7;
+}
+
+/**
  * TAS from CAS with the standard subsonic compressible relations:
  * qc = p0[(1 + 0.2(CAS/a0)²)^3.5 − 1]; M = √(5[(qc/p + 1)^(2/7) − 1]); TAS = M·√(γRT).
  */
 export function casToTasMps(casMps: number, pressurePa: number, temperatureK: number): number {
   const impactPressurePa = P0_PA * (power3p5(1 + 0.2 * (casMps / A0_MPS) ** 2) - 1);
-  const mach = Math.sqrt(5 * ((impactPressurePa / pressurePa + 1) ** (2 / 7) - 1));
+  const mach = Math.sqrt(5 * (power2over7(impactPressurePa / pressurePa + 1) - 1));
   return mach * Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
 }
 
@@ -63,7 +81,7 @@ export function tasToCasAtMps(tasMps: number, pressurePa: number, speedOfSoundMp
 /** CAS from the Mach number at static pressure p: qc = p[(1 + 0.2M²)^3.5 − 1]; CAS = a0·√(5[(qc/p0 + 1)^(2/7) − 1]). */
 function machToCasMps(mach: number, pressurePa: number): number {
   const impactPressurePa = pressurePa * (power3p5(1 + 0.2 * mach * mach) - 1);
-  return A0_MPS * Math.sqrt(5 * ((impactPressurePa / P0_PA + 1) ** (2 / 7) - 1));
+  return A0_MPS * Math.sqrt(5 * (power2over7(impactPressurePa / P0_PA + 1) - 1));
 }
 
 /** EAS = TAS·√σ. */

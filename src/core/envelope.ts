@@ -164,7 +164,9 @@ function nearWindow(speedMps: number, lo: number, hi: number): { lo: number; hi:
 /** Default speeds for a table: Vs1 to vne as TAS (4·Vs1 without vne) in 30 steps. */
 export function defaultSpeeds(stallSpeed: number, topSpeed: number, steps = 30): number[] {
   const speeds: number[] = [];
-  for (let i = 0; i <= steps; i++) speeds.push(stallSpeed + ((topSpeed - stallSpeed) * i) / steps);
+  // The last speed is the top itself (a + (b − a)·n/n need not give b back in floating point).
+  for (let i = 0; i <= steps; i++)
+    speeds.push(i === steps ? topSpeed : stallSpeed + ((topSpeed - stallSpeed) * i) / steps);
   return speeds;
 }
 

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { casToTasMps, iasToCasMps, tasToCasMps, tasToEasMps } from '../../src/core/airspeed.js';
+import { casToTasMps, iasToCasMps, power2over7, tasToCasMps, tasToEasMps } from '../../src/core/airspeed.js';
 import { computeAirState } from '../../src/core/atmosphere.js';
 import { FOOT_M, KNOT_MPS } from '../../src/core/units.js';
 
@@ -96,5 +96,24 @@ describe('the calibration table beyond its ends', () => {
   it('reads back exactly from a table read the other way round, ends included', () => {
     const inverse = table.map(([ias, cas]) => [cas, ias] as const);
     for (const ias of [2, 8, 19, 30, 45]) expect(iasToCasMps(iasToCasMps(ias, table), inverse)).toBeCloseTo(ias, 9);
+  });
+});
+
+describe('the power 2/7 of the CAS relations', () => {
+  it('gives the general power x^(2/7) within one unit in the last place over the speeds it shortcuts', () => {
+    // Reference: the general power (Math.pow, IEEE-754 double); x = 1 + e, e from 0 to 0.1 (Mach up to about 0.37).
+    let worstUlps = 0;
+    for (let i = 0; i <= 100_000; i++) {
+      const x = 1 + (i / 100_000) * 0.1;
+      const reference = x ** (2 / 7);
+      worstUlps = Math.max(worstUlps, Math.abs(power2over7(x) - reference) / (Number.EPSILON * reference));
+    }
+    expect(worstUlps).toBeLessThanOrEqual(1);
+  });
+
+  it('is the general power itself outside that range (below 1, above 1.1, NaN)', () => {
+    for (const x of [0.5, 0.999, 1.1000001, 2, 40]) expect(power2over7(x)).toBe(x ** (2 / 7));
+    expect(power2over7(NaN)).toBeNaN();
+    expect(power2over7(1)).toBe(1);
   });
 });
