@@ -359,6 +359,20 @@ function stateAirState(state: MarginState, frame: Frame): AirState {
 }
 
 /**
+ * The limits of computeLimits a record needs (stall, negative stall, thrust) at v's TAS, density and mass, into v.
+ * Numbers in and out through v, not as arguments: where V8 calls this instead of inlining it, a number passed or
+ * returned would be a heap allocation per frame.
+ */
+function fillLimits(aircraft: Aircraft, v: MarginValues): void {
+  const tasMps = v.tasMps;
+  const densityKgM3 = v.densityKgM3;
+  const massKg = v.massKg;
+  v.nStall = stallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
+  v.nStallNeg = negativeStallLoadFactorOrNaN(aircraft, tasMps, densityKgM3, massKg);
+  v.nThrust = thrustLoadFactorOrNaN(aircraft, tasMps, densityKgM3, massKg);
+}
+
+/**
  * The margins of one frame into `v` (the engine's values, written over), with `state` advanced in place to the
  * state for the next frame (the filters included). Only what the alerts, the events, the energy keys and the
  * summaries need is computed here; the readouts derived from these numbers alone (EAS, bank limits, stall speed,
@@ -391,26 +405,23 @@ export function advanceMarginValues(
   const tasMps = tasFilter.value;
   const casMps = tasToCasAtMps(tasMps, airState.pressurePa, airState.speedOfSoundMps);
 
-  // The two limits of computeLimits this record needs, without its other fields.
-  const nStall = stallLoadFactor(aircraft, tasMps, densityKgM3, massKg);
-  const nStallNeg = negativeStallLoadFactorOrNaN(aircraft, tasMps, densityKgM3, massKg);
-  const nThrust = thrustLoadFactorOrNaN(aircraft, tasMps, densityKgM3, massKg);
+  v.tasMps = tasMps;
+  v.densityKgM3 = densityKgM3;
+  v.massKg = massKg;
+  fillLimits(aircraft, v);
+  const nStall = v.nStall;
+  const nStallNeg = v.nStallNeg;
+  const nThrust = v.nThrust;
   const flying = tasMps >= FLYING_FRACTION_OF_VS1 * oneGStallSpeedMps(aircraft, densityKgM3, massKg);
   const vneMps = aircraft.vneMps;
 
   v.tS = tS;
-  v.tasMps = tasMps;
   v.tasRawMps = tasRawMps;
   v.casMps = casMps;
-  v.densityKgM3 = densityKgM3;
   v.temperatureK = airState.temperatureK;
   v.altM = frame.altM;
-  v.massKg = massKg;
   v.nMeasured = nF;
   v.nRaw = nRaw;
-  v.nStall = nStall;
-  v.nStallNeg = nStallNeg;
-  v.nThrust = nThrust;
   v.flying = flying;
   // The utilizations of computeUtilization, NaN for null.
   if (flying) {

@@ -27,6 +27,16 @@ export function grownRing(ring: Float64Array, head: number, count: number): Floa
   return out;
 }
 
+/**
+ * Samples added between two rebuilds of the running sums from the ring: four windows' worth (at least 64). The sums
+ * are taken relative to the oldest sample at the last rebuild, so until the next one their terms stay within a few
+ * windows of it and rounding does not build up; rebuilding less often than once a window saves a pass over the ring
+ * per window.
+ */
+function rebuildAfter(count: number): number {
+  return Math.max(4 * count, 64);
+}
+
 /** Conditions for a slope: at least 3 samples spanning at least half the window (`slackS`: see windowEdgeSlackS). */
 export function rateWindowUsable(count: number, spanS: number, windowS: number, slackS = 0): boolean {
   return count >= RATE_MIN_SAMPLES && spanS >= windowS / 2 - slackS;
@@ -88,8 +98,8 @@ interface RateEstimatorSeed {
 
 /**
  * Running sums over a ring buffer: O(1) amortised per sample. Sums are kept relative to a reference time and value
- * (the oldest sample at the last rebuild) and rebuilt from the buffer every time as many samples have been added as
- * the window holds, so rounding neither accumulates nor cancels at large t_s or large values.
+ * (the oldest sample at the last rebuild) and rebuilt from the buffer after rebuildAfter(count) samples (four
+ * windows' worth), so rounding neither accumulates nor cancels at large t_s or large values.
  */
 export function createRateEstimator(windowS: number = DEFAULT_RATE_WINDOW_S): RateEstimator {
   if (!(windowS > 0) || !Number.isFinite(windowS))
@@ -183,7 +193,7 @@ function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined)
       sumY += dy;
       sumTT += dt * dt;
       sumTY += dt * dy;
-      if (++addedSinceRebuild >= Math.max(count, 16)) rebuild();
+      if (++addedSinceRebuild >= rebuildAfter(count)) rebuild();
       if (!rateWindowUsable(count, tS - times[head]!, windowS, slackS)) return null;
       const stt = sumTT - (sumT * sumT) / count;
       if (!(stt > 0)) return null;
@@ -405,7 +415,7 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
       st[T0] = t0;
       st[SUM_T] = sumT;
       st[SUM_TT] = sumTT;
-      if (++addedSinceRebuild >= Math.max(count, 16)) {
+      if (++addedSinceRebuild >= rebuildAfter(count)) {
         rebuild();
         sumT = st[SUM_T]!;
         sumTT = st[SUM_TT]!;
