@@ -4,37 +4,20 @@
  * review in this thread, alongside a worker and in a worker per file (the worker script found next to the bundle),
  * the lazily loaded report code, the version read from package.json and the exit codes.
  */
-import { spawn } from 'node:child_process';
 import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { DEMO_AIRFRAME_PATH } from '../helpers/airframes.js';
-import { CLI_PATH, REPO_ROOT, type CliResult } from '../helpers/run-cli.js';
+import { CLI_PATH, REPO_ROOT, runCli, type CliResult } from '../helpers/run-cli.js';
 
 const BUNDLE_PATH = fileURLToPath(new URL('../../dist/cli/main.js', import.meta.url));
 const DEMO_FLIGHT = join(REPO_ROOT, 'replays/demo-flight.ndjson');
 const CARD_FLIGHT = join(REPO_ROOT, 'replays/turn-card.ndjson');
 
 function run(script: string, args: string[], env: NodeJS.ProcessEnv = {}): Promise<CliResult> {
-  return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [script, ...args], {
-      cwd: REPO_ROOT,
-      env: { ...process.env, NO_COLOR: '1', ...env },
-      stdio: ['ignore', 'pipe', 'pipe'],
-    });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.setEncoding('utf8').on('data', (d: string) => (stdout += d));
-    child.stderr.setEncoding('utf8').on('data', (d: string) => (stderr += d));
-    const timer = setTimeout(() => child.kill('SIGKILL'), 30_000);
-    child.on('error', reject);
-    child.on('close', (code) => {
-      clearTimeout(timer);
-      resolve({ code, stdout, stderr });
-    });
-  });
+  return runCli(args, { script, env, timeoutMs: 30_000 });
 }
 
 /** Both programs' answers to the same command line. */

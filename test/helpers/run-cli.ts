@@ -13,10 +13,11 @@ export interface CliResult {
 
 export function runCli(
   args: string[],
-  options: { input?: string; timeoutMs?: number; env?: NodeJS.ProcessEnv } = {},
+  options: { input?: string; timeoutMs?: number; env?: NodeJS.ProcessEnv; script?: string } = {},
 ): Promise<CliResult> {
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [CLI_PATH, ...args], {
+    // `script`: another build of the program (the bundle); the modules of dist/src by default.
+    const child = spawn(process.execPath, [options.script ?? CLI_PATH, ...args], {
       cwd: REPO_ROOT,
       env: { ...process.env, NO_COLOR: '1', ...options.env },
       stdio: ['pipe', 'pipe', 'pipe'],
