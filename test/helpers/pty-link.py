@@ -4,6 +4,8 @@ plug PATH            open a pty, set it raw, link PATH to its slave side; prints
 send FIRST COUNT     write frames seq FIRST.. at ~1000 frames/s in batches split mid-line, with a noise line every
                      250 frames; prints "sent <count> <frames/s>"
 unplug               close both sides and remove PATH (the radio is pulled out); prints "unplugged"
+vanish               remove PATH but keep the pty open (the device node goes while the port still reads); prints
+                     "vanished"
 quit                 exit
 """
 import json
@@ -67,5 +69,8 @@ for line in sys.stdin:
         os.close(slave)
         os.unlink(link)
         print("unplugged", flush=True)
+    elif cmd == "vanish":
+        os.unlink(link)
+        print("vanished", flush=True)
     elif cmd == "quit":
         break

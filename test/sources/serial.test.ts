@@ -84,6 +84,28 @@ describe('serial source on a real pseudo-terminal', () => {
     ]);
   });
 
+  it('reports an open port whose path vanished as lost although the driver never says so, and reopens it when it comes back', async () => {
+    // The driver misses some hang-ups (a terminal that reads zero bytes for ever); a gone path is the sign it has.
+    const link = startPtyLink();
+    const portPath = join(dir, 'radio1');
+    const statuses: SourceStatus[] = [];
+    const source = createSerialSource({ path: portPath, retryDelayMs: () => 20, portCheckMs: 50 });
+    try {
+      expect(await link.command(`plug ${portPath}`)).toMatch(/^plugged \/dev\/pts\//);
+      source.start({ onLine: () => undefined, onStatus: (s) => statuses.push(s) });
+      await expect.poll(() => statuses.filter((s) => s.kind === 'open').length, { timeout: 5000 }).toBe(1);
+      expect(await link.command('vanish')).toBe('vanished');
+      await expect.poll(() => statuses.filter((s) => s.kind === 'lost').length, { timeout: 5000 }).toBe(1);
+      expect(statuses.find((s) => s.kind === 'lost')!.detail).toBe('port disappeared');
+      expect(await link.command(`plug ${portPath}`)).toMatch(/^plugged/);
+      await expect.poll(() => statuses.filter((s) => s.kind === 'open').length, { timeout: 5000 }).toBe(2);
+    } finally {
+      await source.stop();
+      await link.close();
+    }
+    expect(statuses.map((s) => s.kind)).toEqual(['connecting', 'open', 'lost', 'open']);
+  });
+
   it('reports a port that does not exist as lost and keeps retrying without crashing', async () => {
     const statuses: SourceStatus[] = [];
     const source = createSerialSource({ path: join(dir, 'nothing-here'), retryDelayMs: () => 20 });
