@@ -8,6 +8,11 @@
  * the caller judges it the usual way (acceptAsciiFrameBytes, then JSON.parse and the schema), with the same verdict
  * as ever, and an accepted line becomes the new shape.
  *
+ * Each learned shape is also compiled into a reader of its own (compileShapeTaker): the same steps with the shape's
+ * literals, rows and bounds written in as constants, which reads a line in about half the time of the table-driven
+ * loop. The table-driven loop stays for the lines the compiled reader leaves to it (an exponent, many digits) and
+ * for shapes past the compiled ones; the tests hold the two to the same results.
+ *
  * Same verdicts as scanFlatFrameBytes + the compiled check for the lines it takes: the numbers come from the same
  * scanJsonNumber (JSON.parse's values), the bounds are the table's, a frame key occurs at most once in a shape (so no
  * duplicate to resolve), keys outside the table are passed over as the scan does (numbers in JSON's grammar, strings
@@ -128,12 +133,18 @@ interface ShapeState {
   /** Packed offsets of the keys the shape lacks (NaN at each line), in absentOffsets[0, absentCount). */
   absentOffsets: Int32Array;
   absentCount: number;
+  /** The shape's own compiled taker (compileShapeTaker), or null: takeShapedLines reads it from the tables. */
+  compiled: ShapeTaker | null;
 }
 
 const skipped = new Float64Array(1);
 
-/** A reader's line shape (one per reader: files read side by side each have their own). */
-export function createLineShape(): LineShape {
+/**
+ * A reader's line shape (one per reader: files read side by side each have their own). `compile: false` reads every
+ * shape from the tables (takeShapedLines), as a shape past the compiled ones is read: the tests compare the two.
+ */
+export function createLineShape(options: { compile?: boolean } = {}): LineShape {
+  const compile = options.compile !== false;
   const state: ShapeState = {
     literalBytes: new Uint8Array(MAX_LITERAL_BYTES),
     literalStart: new Int32Array(MAX_MEMBERS + 1),
@@ -145,17 +156,36 @@ export function createLineShape(): LineShape {
     memberCount: 0,
     absentOffsets: new Int32Array(ALL_OFFSETS.length),
     absentCount: 0,
+    compiled: null,
   };
   return {
-    learn: (bytes, start, end) => learnShape(state, bytes, start, end),
+    learn: (bytes, start, end) => {
+      learnShape(state, bytes, start, end);
+      if (compile && state.memberCount > 0) state.compiled = compiledTakerOf(state);
+    },
     learned: () => state.memberCount > 0,
-    take: (bytes, lastLf, maxLineBytes, run) => takeShapedLines(state, bytes, lastLf, maxLineBytes, run),
+    take: (bytes, lastLf, maxLineBytes, run) => {
+      const compiled = state.compiled;
+      if (compiled === null) return takeShapedLines(state, bytes, lastLf, maxLineBytes, run);
+      // The compiled taker leaves the rare steps to this loop, so that it never meets code it has not run before.
+      for (;;) {
+        const stopped = compiled(bytes, lastLf, maxLineBytes, run);
+        if (stopped === TAKEN) return;
+        if (stopped === NEEDS_ROOM) run.grow();
+        else if (stopped === UNUSUAL_LINE) {
+          const linePos = run.pos;
+          takeShapedLines(state, bytes, lastLf, maxLineBytes, run, 1);
+          if (run.pos === linePos) return; // not taken there either: the caller judges it the usual way
+        } else run.reject(run.physicalNo, stopped);
+      }
+    },
   };
 }
 
 function learnShape(state: ShapeState, bytes: Uint8Array, start: number, end: number): void {
   const { literalBytes, literalStart, literalLength, memberRow, wordAt, wordValue, wordStart, absentOffsets } = state;
   state.memberCount = 0;
+  state.compiled = null;
   if (bytes[start] !== OPEN_BRACE || bytes[end - 1] !== CLOSE_BRACE) return;
   const seen = new Uint8Array(ROW_COUNT);
   let literalUsed = 0;
@@ -236,9 +266,11 @@ function takeShapedLines(
   lastLf: number,
   maxLineBytes: number,
   run: PackedRun,
+  lineLimit = Infinity,
 ): void {
   const { literalBytes, literalStart, literalLength, memberRow, wordAt, wordValue, wordStart, absentOffsets } = state;
   const absentCount = state.absentCount;
+  let taken = 0;
   const members = state.memberCount;
   if (members === 0) return;
   const view = new DataView(bytes.buffer, bytes.byteOffset, bytes.byteLength);
@@ -255,6 +287,7 @@ function takeShapedLines(
       pos += first === LF ? 1 : 2;
       continue;
     }
+    if (taken === lineLimit) break;
     if (count === capacity) {
       run.count = count;
       run.grow();
@@ -355,6 +388,7 @@ function takeShapedLines(
     if (bytes[lf] === CR) lf++;
     if (bytes[lf] !== LF || lf - pos > maxLineBytes || speeds !== 1 || (HAS_ATTITUDE_KEYS && attitudes === 0)) break;
     for (let a = 0; a < absentCount; a++) frames[o + absentOffsets[a]!] = NaN;
+    taken++;
     physicalNo++;
     pos = lf + 1;
     const order = run.checkTime(frames[o + T_OFFSET]!);
@@ -369,4 +403,210 @@ function takeShapedLines(
   run.pos = pos;
   run.physicalNo = physicalNo;
   run.count = count;
+}
+
+/**
+ * A taker compiled for one shape: takeShapedLines with the shape's literals, rows and bounds written into it. It
+ * returns TAKEN where takeShapedLines returns; before a frame when run.frames is full, NEEDS_ROOM (the caller grows
+ * the run and calls again); before a line with a number it leaves to takeShapedLines, UNUSUAL_LINE (the caller takes
+ * that line with takeShapedLines and calls again); after a line the time check refused, that check's answer (the
+ * caller records it and calls again). Either way run.pos, run.physicalNo and run.count say where it stopped.
+ */
+type ShapeTaker = (
+  bytes: Uint8Array,
+  lastLf: number,
+  maxLineBytes: number,
+  run: PackedRun,
+) => typeof TAKEN | typeof NEEDS_ROOM | typeof UNUSUAL_LINE | Rejected;
+const TAKEN = 0;
+const NEEDS_ROOM = 1;
+/** The next line has a number the compiled taker does not read (an exponent, many digits): takeShapedLines reads it. */
+const UNUSUAL_LINE = 2;
+
+/**
+ * Compiled takers by shape (its literal bytes and rows), shared by every reader: a sender's shape is compiled once.
+ * Beyond this many shapes (a file whose lines keep changing shape) the rest are read from the tables, so compiling
+ * never costs more than it saves.
+ */
+const MAX_COMPILED_SHAPES = 64;
+const compiledShapes = new Map<string, ShapeTaker>();
+
+function compiledTakerOf(state: ShapeState): ShapeTaker | null {
+  const members = state.memberCount;
+  let key = '';
+  for (let m = 0; m <= members; m++) {
+    const from = state.literalStart[m]!;
+    key += String.fromCharCode(...state.literalBytes.subarray(from, from + state.literalLength[m]!));
+    key += m < members ? `\u0000${state.memberRow[m]}\u0000` : '';
+  }
+  let taker = compiledShapes.get(key);
+  if (taker === undefined && compiledShapes.size < MAX_COMPILED_SHAPES) {
+    taker = compileShapeTaker(state);
+    compiledShapes.set(key, taker);
+  }
+  return taker ?? null;
+}
+
+/** A number as JavaScript source that reads back as the same double (±Infinity included). */
+function numberSource(x: number): string {
+  return x === Infinity ? 'Infinity' : x === -Infinity ? '-Infinity' : Object.is(x, -0) ? '-0' : String(x);
+}
+
+/**
+ * The source of takeShapedLines for one learned shape, unrolled: each literal compared as constant words or bytes,
+ * each member's value read with its row's offset, bounds and presence as constants. The same steps in the same
+ * order as takeShapedLines (the tests hold the two to the same runs), without a table look-up per member; the number
+ * reading, the end of line and the time check are its own, line for line.
+ */
+function compileShapeTaker(state: ShapeState): ShapeTaker {
+  const members = state.memberCount;
+  // The usual number (no exponent, up to 15 significant digits), read as takeShapedLines reads it, into
+  // frames[at] and v (at null: passed over). Any other number stops before the line (UNUSUAL_LINE).
+  const unusual = `{ run.pos = pos; run.physicalNo = physicalNo; run.count = count; return ${UNUSUAL_LINE}; }`;
+  const usualNumber = (at: string | null): string[] => [
+    '  j = c === 45 ? i + 1 : i;',
+    '  d = bytes[j] - 48;',
+    '  if (!(d >= 0 && d <= 9)) break lines;',
+    '  mantissa = d;',
+    '  digits = d === 0 ? 0 : 1;',
+    '  j++;',
+    '  if (d !== 0) while ((d = bytes[j] - 48) >= 0 && d <= 9) { mantissa = mantissa * 10 + d; digits++; j++; }',
+    '  fractionDigits = 0;',
+    '  if (bytes[j] === 46) {',
+    '    fractionStart = ++j;',
+    '    while ((d = bytes[j] - 48) >= 0 && d <= 9) { mantissa = mantissa * 10 + d; if (mantissa !== 0) digits++; j++; }',
+    '    fractionDigits = j - fractionStart;',
+    '    if (fractionDigits === 0) break lines;',
+    '  }',
+    `  if ((bytes[j] | 32) === 101 || digits > ${EXACT_DIGITS} || fractionDigits > 22) ${unusual}`,
+    ...(at === null
+      ? []
+      : [
+          '  magnitude = fractionDigits === 0 ? mantissa : mantissa / POWERS_OF_TEN[fractionDigits];',
+          '  v = c === 45 ? -magnitude : magnitude;',
+          `  frames[${at}] = v;`,
+        ]),
+    '  i = j;',
+  ];
+  const code: string[] = [];
+  let airspeedMembers = 0;
+  for (let m = 0; m <= members; m++) {
+    const length = state.literalLength[m]!;
+    const from = state.literalStart[m]!;
+    code.push(`if (i + ${length} > lastLf) break lines;`);
+    const mismatches: string[] = [];
+    for (let j = 0; j < length; j++) mismatches.push(`bytes[i + ${j}] !== ${state.literalBytes[from + j]}`);
+    if (mismatches.length > 0) code.push(`if (${mismatches.join(' || ')}) break lines;`);
+    if (length > 0) code.push(`i += ${length};`);
+    if (m === members) break;
+    const row = state.memberRow[m]!;
+    code.push('c = bytes[i];');
+    const isNumberStart = '(c >= 48 && c <= 57) || c === 45';
+    const nullWord = `if (!(i + 4 <= lastLf && bytes[i + 1] === 117 && bytes[i + 2] === 108 && bytes[i + 3] === 108)) break lines;`;
+    const trueWord = `if (!(i + 4 <= lastLf && bytes[i + 1] === 114 && bytes[i + 2] === 117 && bytes[i + 3] === 101)) break lines;`;
+    const falseWord =
+      `if (!(i + 5 <= lastLf && bytes[i + 1] === 97 && bytes[i + 2] === 108 && bytes[i + 3] === 115 && ` +
+      `bytes[i + 4] === 101)) break lines;`;
+    if (row < 0) {
+      code.push(
+        `if (${isNumberStart}) {`,
+        ...usualNumber(null),
+        '}',
+        `else if (c === 110) { ${nullWord} i += 4; }`,
+        `else if (c === 116) { ${trueWord} i += 4; }`,
+        `else if (c === 102) { ${falseWord} i += 5; }`,
+        `else if (c === 34) { i = plainJsonStringEnd(bytes, i, lastLf); if (i < 0) break lines; }`,
+        'else break lines;',
+      );
+      continue;
+    }
+    const at = `o + ${rowOffset[row]}`;
+    const presence = rowPresence[row];
+    const onNull =
+      presence === PRESENCE_REQUIRED || presence === PRESENCE_AIRSPEED
+        ? 'break lines;'
+        : `${nullWord} i += 4; frames[${at}] = NaN;`;
+    if (rowIsBoolean[row] === 1) {
+      code.push(
+        `if (${isNumberStart}) break lines;`,
+        `else if (c === 110) { ${onNull} }`,
+        `else if (c === 116) { ${trueWord} i += 4; frames[${at}] = 1; }`,
+        `else if (c === 102) { ${falseWord} i += 5; frames[${at}] = 0; }`,
+        'else break lines;',
+      );
+      continue;
+    }
+    const counted =
+      presence === PRESENCE_AIRSPEED
+        ? `frames[o + ${PACKED_AIRSPEED_KIND}] = ${rowSpeedCode[row]};`
+        : presence === PRESENCE_ATTITUDE
+          ? 'attitudes++;'
+          : '';
+    if (presence === PRESENCE_AIRSPEED) airspeedMembers++;
+    code.push(
+      `if (${isNumberStart}) {`,
+      ...usualNumber(at),
+      `  if (!(v >= ${numberSource(rowMin[row]!)} && v <= ${numberSource(rowMax[row]!)})) break lines;`,
+      `  ${counted}`,
+      `} else if (c === 110) { ${onNull} }`,
+      'else break lines;',
+    );
+  }
+  const absent: string[] = [];
+  for (let a = 0; a < state.absentCount; a++) absent.push(`frames[o + ${state.absentOffsets[a]}] = NaN;`);
+  const lineEnds =
+    `bytes[lf] !== 10 || lf - pos > maxLineBytes` +
+    (airspeedMembers !== 1 ? ' || true' : '') +
+    (HAS_ATTITUDE_KEYS ? ' || attitudes === 0' : '');
+  const source = `
+return function takeCompiledShape(bytes, lastLf, maxLineBytes, run) {
+  let pos = run.pos;
+  let physicalNo = run.physicalNo;
+  let count = run.count;
+  const frames = run.frames;
+  const lineNos = run.lineNos;
+  const capacity = run.capacity;
+  let c = 0, d = 0, j = 0, mantissa = 0, digits = 0, fractionDigits = 0, fractionStart = 0, magnitude = 0, v = 0;
+  lines: while (pos <= lastLf) {
+    const first = bytes[pos];
+    if (first === 10 || (first === 13 && bytes[pos + 1] === 10)) {
+      physicalNo++;
+      pos += first === 10 ? 1 : 2;
+      continue;
+    }
+    if (count === capacity) {
+      run.pos = pos;
+      run.physicalNo = physicalNo;
+      run.count = count;
+      return ${NEEDS_ROOM};
+    }
+    const o = count * ${FRAME_SLOTS};
+    let i = pos;
+    let attitudes = 0;
+    ${code.join('\n    ')}
+    let lf = i;
+    if (bytes[lf] === 13) lf++;
+    if (${lineEnds}) break;
+    ${absent.join('\n    ')}
+    physicalNo++;
+    pos = lf + 1;
+    const order = run.checkTime(frames[o + ${T_OFFSET}]);
+    if (order.ok) {
+      frames[o + ${FRAME_SLOTS - 1}] = order.newSegment ? 1 : 0;
+      lineNos[count++] = physicalNo;
+    } else {
+      run.pos = pos;
+      run.physicalNo = physicalNo;
+      run.count = count;
+      return order;
+    }
+  }
+  run.pos = pos;
+  run.physicalNo = physicalNo;
+  run.count = count;
+  return ${TAKEN};
+};`;
+  // Code made from the shape's own bytes as numbers and the table's constants only: no text of the line goes in.
+  const make = new Function('plainJsonStringEnd', 'POWERS_OF_TEN', source) as (...helpers: unknown[]) => ShapeTaker;
+  return make(plainJsonStringEnd, POWERS_OF_TEN);
 }

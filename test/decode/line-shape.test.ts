@@ -10,10 +10,12 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import type { Frame } from '../../src/core/frame.js';
 import { FRAME_SLOTS, packedNewSegment, unpackFrame, unpackRejects } from '../../src/decode/frame-batch.js';
+import { acceptAsciiFrameBytes } from '../../src/decode/frame-line.js';
 import { createLineShape, type PackedRun } from '../../src/decode/line-shape.js';
 import { DEFAULT_MAX_LINE_BYTES } from '../../src/decode/line-splitter.js';
 import { readFramePackedBatches, readFrameFile, type ReadFrameOptions } from '../../src/decode/read-frames.js';
 import type { Rejected } from '../../src/decode/rejections.js';
+import { createTimeGate } from '../../src/decode/time-gate.js';
 
 const dir = mkdtempSync(join(tmpdir(), 'tm-shape-'));
 afterAll(() => rmSync(dir, { recursive: true, force: true }));
@@ -321,5 +323,121 @@ describe('reading lines of one shape straight into packed batches', () => {
       [1, 2],
     ]);
     expect(text.subarray(run.pos, run.pos + 9).toString()).toBe('{"t_s":3,');
+  });
+});
+
+/**
+ * What a shape takes from `text` (plain ASCII lines), driven as the packed reader drives it: at each line the shape
+ * does not take, the line is learned when it is an accepted plain frame line and passed over either way. Small runs,
+ * so that they grow.
+ */
+function takeEveryLine(text: Buffer, compile: boolean) {
+  const shape = createLineShape({ compile });
+  const gate = createTimeGate();
+  const rejects: Array<[number, string]> = [];
+  const passedOver: number[] = [];
+  const run: PackedRun = {
+    frames: new Float64Array(2 * FRAME_SLOTS),
+    lineNos: new Int32Array(2),
+    count: 0,
+    capacity: 2,
+    pos: 0,
+    physicalNo: 0,
+    grow() {
+      run.capacity *= 2;
+      const frames = new Float64Array(run.capacity * FRAME_SLOTS);
+      frames.set(run.frames);
+      run.frames = frames;
+      const lineNos = new Int32Array(run.capacity);
+      lineNos.set(run.lineNos);
+      run.lineNos = lineNos;
+    },
+    checkTime: (tS) => gate.check(tS),
+    reject: (physicalNo, r) => rejects.push([physicalNo, r.code]),
+  };
+  const lastLf = text.lastIndexOf(0x0a);
+  while (run.pos <= lastLf) {
+    shape.take(text, lastLf, 1000, run);
+    if (run.pos > lastLf) break;
+    const lf = text.indexOf(0x0a, run.pos);
+    if (acceptAsciiFrameBytes(text, run.pos, lf)) shape.learn(text, run.pos, text[lf - 1] === 0x0d ? lf - 1 : lf);
+    passedOver.push(++run.physicalNo);
+    run.pos = lf + 1;
+  }
+  return {
+    frames: Array.from(run.frames.subarray(0, run.count * FRAME_SLOTS)),
+    lineNos: Array.from(run.lineNos.subarray(0, run.count)),
+    rejects,
+    passedOver,
+  };
+}
+
+describe("a shape's compiled reader", () => {
+  // The table-driven reader is held to JSON.parse and the schema above; the compiled one is held to it here.
+  const sameAsTables = (lines: string[]): void => {
+    const text = Buffer.from(lines.join('\n') + '\n', 'latin1');
+    const compiled = takeEveryLine(text, true);
+    expect(compiled).toEqual(takeEveryLine(text, false));
+    expect(compiled.lineNos.length).toBeGreaterThan(0);
+  };
+
+  it('takes the same lines, frames (bit for bit), rejections and stops as the table-driven reader, for values of every kind in every member of many shapes', () => {
+    const shapes: Array<Record<string, string>> = [
+      { t_s: '0', tas_mps: '20', alt_m: '100', bank_deg: '10', nz: '1' },
+      { t_s: '0', cas_mps: '20', alt_m: '100', nz: '1', throttle: '0.5', seq: '7' },
+      { seq: '1', t_s: '0', ias_mps: '20', alt_m: '100', bank_deg: '10', mode: '"AUTO"', simulated: 'true' },
+      { t_s: '0', tas_mps: '20', alt_m: '100', bank_deg: '10', oat_c: '15', mass_kg: '3.5', on: 'false', x: 'null' },
+    ];
+    const values = [...EDGE_NUMBER_TEXTS, 'null', 'true', 'false', '"s"', '"a\\"b"', 'nul', '[1]', ''];
+    const line = (fields: Record<string, string>): string =>
+      `{${Object.entries(fields)
+        .map(([k, v]) => `"${k}":${v}`)
+        .join(',')}}`;
+    for (const shape of shapes) {
+      const lines: string[] = [];
+      let t = 0;
+      for (const key of Object.keys(shape)) {
+        for (const value of values) {
+          lines.push(line({ ...shape, t_s: `${++t}` }), line({ ...shape, t_s: `${++t}`, [key]: value }));
+          if (t % 7 === 0) lines.push('', '\r', `${line({ ...shape, t_s: `${++t}` })}\r`, line({ ...shape, t_s: '1' }));
+        }
+      }
+      // A clock restart: frames increasing among themselves behind the last.
+      lines.push(...[1, 2, 3, 4, 5, 6].map((k) => line({ ...shape, t_s: `${k / 10}` })));
+      sameAsTables(lines);
+    }
+  });
+
+  it('takes the same as the table-driven reader for any doubles in any notation (property)', () => {
+    const notation = fc.constantFrom(
+      (x: number) => String(x),
+      (x: number) => x.toFixed(2),
+      (x: number) => x.toFixed(17),
+      (x: number) => x.toExponential(4),
+      (x: number) => x.toPrecision(16),
+    );
+    const value = (min: number, max: number) =>
+      fc.tuple(fc.double({ min, max, noNaN: true }), notation).map(([x, write]) => write(x));
+    const frame = fc.record({
+      t_s: value(0, 1e6),
+      tas_mps: value(-1, 301),
+      alt_m: value(-600, 21_000),
+      nz: value(-25, 25),
+      seq: value(-1e20, 1e20),
+    });
+    fc.assert(
+      fc.property(fc.array(frame, { minLength: 1, maxLength: 80 }), (frames) => {
+        const lines = frames.map(
+          (f, i) =>
+            `{"t_s":${i + 1},${Object.entries(f)
+              .filter(([k]) => k !== 't_s')
+              .map(([k, v]) => `"${k}":${v}`)
+              .join(',')},"t":${f.t_s}}`,
+        );
+        const text = Buffer.from(lines.join('\n') + '\n', 'latin1');
+        expect(takeEveryLine(text, true)).toEqual(takeEveryLine(text, false));
+      }),
+      { numRuns: 100 },
+    );
   });
 });
