@@ -1,11 +1,27 @@
 /** Measuring helpers for the benchmarks: child processes with wall time and peak RSS, percentiles. */
 import { spawn, spawnSync } from 'node:child_process';
+import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 
 export const REPO_ROOT = fileURLToPath(new URL('../../', import.meta.url));
 /** The program as users run it: the bundle (scripts/bundle.mjs). */
 export const CLI = fileURLToPath(new URL('../cli/main.js', import.meta.url));
 export const RSS_PROBE = fileURLToPath(new URL('./rss-probe.js', import.meta.url));
+
+/**
+ * The Node options a script's first line asks for (`#!/usr/bin/env -S node --option …`), so that the benchmarks run
+ * the program as its bin does; none for a script without such a line.
+ */
+export function nodeOptionsOf(script: string): string[] {
+  let first: string;
+  try {
+    first = readFileSync(script, 'latin1').slice(0, 200).split('\n')[0]!;
+  } catch {
+    return [];
+  }
+  const m = /^#!\S*env\s+-S\s+node\s+(.*)$/.exec(first);
+  return m ? m[1]!.trim().split(/\s+/) : [];
+}
 
 export interface ChildRun {
   wallMs: number;
@@ -24,7 +40,7 @@ export function canPinToOneCore(): boolean {
 }
 
 /**
- * Run `node [--import rss-probe] script args…`, discarding stdout, and measure it. `oneCore`: pinned to core 0
+ * Run `node [--import rss-probe] [the script's own options] script args…`, discarding stdout, and measure it. `oneCore`: pinned to core 0
  * with taskset (see canPinToOneCore), so the figure is that of a one-core machine.
  */
 export function runNode(
@@ -33,7 +49,12 @@ export function runNode(
   options: { probe?: boolean; oneCore?: boolean } = {},
 ): Promise<ChildRun> {
   return new Promise((resolve, reject) => {
-    const nodeArgs = [...(options.probe === false ? [] : ['--import', RSS_PROBE]), script, ...args];
+    const nodeArgs = [
+      ...(options.probe === false ? [] : ['--import', RSS_PROBE]),
+      ...nodeOptionsOf(script),
+      script,
+      ...args,
+    ];
     const start = process.hrtime.bigint();
     const [command, commandArgs] =
       options.oneCore === true ? ['taskset', ['-c', '0', process.execPath, ...nodeArgs]] : [process.execPath, nodeArgs];

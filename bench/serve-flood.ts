@@ -10,7 +10,7 @@ import { once } from 'node:events';
 import { readFileSync } from 'node:fs';
 import { createInterface } from 'node:readline';
 import { WebSocket } from 'ws';
-import { CLI, REPO_ROOT, percentile } from './measure.js';
+import { CLI, REPO_ROOT, nodeOptionsOf, percentile } from './measure.js';
 import { syntheticFrameLine } from './synthetic-flight.js';
 
 export interface ServeFloodOptions {
@@ -53,10 +53,14 @@ function rssMb(pid: number): number {
 const sleep = (ms: number): Promise<void> => new Promise((r) => setTimeout(r, ms));
 
 export async function runServeFlood(options: ServeFloodOptions): Promise<ServeFloodResult> {
-  const child = spawn(process.execPath, [CLI, 'serve', '--aircraft', options.aircraftPath, '--listen', '127.0.0.1:0'], {
-    cwd: REPO_ROOT,
-    stdio: ['ignore', 'pipe', 'ignore'],
-  });
+  const child = spawn(
+    process.execPath,
+    [...nodeOptionsOf(CLI), CLI, 'serve', '--aircraft', options.aircraftPath, '--listen', '127.0.0.1:0'],
+    {
+      cwd: REPO_ROOT,
+      stdio: ['ignore', 'pipe', 'ignore'],
+    },
+  );
   const url = await new Promise<string>((resolve, reject) => {
     const timer = setTimeout(() => reject(new Error('serve did not print its address')), 10_000);
     createInterface({ input: child.stdout }).on('line', (line) => {

@@ -7,7 +7,7 @@ import { spawn } from 'node:child_process';
 import { once } from 'node:events';
 import { createInterface } from 'node:readline';
 import { WebSocket } from 'ws';
-import { CLI, REPO_ROOT, percentile } from './measure.js';
+import { CLI, REPO_ROOT, nodeOptionsOf, percentile } from './measure.js';
 import { syntheticFrameLine } from './synthetic-flight.js';
 
 export interface ServeLoadOptions {
@@ -54,10 +54,14 @@ interface ClientState {
 async function startServe(
   aircraftPath: string,
 ): Promise<{ url: string; stop(): Promise<number | null>; stderr(): string }> {
-  const child = spawn(process.execPath, [CLI, 'serve', '--aircraft', aircraftPath, '--listen', '127.0.0.1:0'], {
-    cwd: REPO_ROOT,
-    stdio: ['ignore', 'pipe', 'pipe'],
-  });
+  const child = spawn(
+    process.execPath,
+    [...nodeOptionsOf(CLI), CLI, 'serve', '--aircraft', aircraftPath, '--listen', '127.0.0.1:0'],
+    {
+      cwd: REPO_ROOT,
+      stdio: ['ignore', 'pipe', 'pipe'],
+    },
+  );
   let stderr = '';
   child.stderr.setEncoding('utf8').on('data', (d: string) => {
     stderr += d;

@@ -10,7 +10,7 @@
  * answers the same.
  */
 import { build } from 'esbuild';
-import { rmSync } from 'node:fs';
+import { chmodSync, rmSync } from 'node:fs';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 
@@ -29,3 +29,5 @@ await build({
   external: ['blessed', 'blessed-contrib', 'serialport', '@serialport/*', 'ws'],
   logLevel: 'warning',
 });
+// The bin: runnable by its first line (which gives Node its options), as npm makes it when installed.
+chmodSync(join(outdir, 'main.js'), 0o755);

@@ -1,5 +1,11 @@
-#!/usr/bin/env node
+#!/usr/bin/env -S node --no-concurrent-recompilation
 /**
+ * The first line runs the program with V8's optimizing compiler in the main thread (the benchmarks read it, see
+ * nodeOptionsOf in bench/measure.ts). By default V8 optimizes in a background thread, and on one core that thread runs
+ * whenever the system lets it, so what is optimized, with what inlined, differs from run to run: `review` of a long
+ * flight took 1.0 or 1.5 s of CPU at random. Optimizing in place gives the fast case every run and costs nothing on
+ * one core; on two the wall time is the same.
+ *
  * The composition root: picks the command, parses its options, runs it, prints errors and chooses the exit code
  * (0 ok, 1 check failed, 2 unusable input or usage). Commands are loaded lazily so that headless commands start
  * fast and never load the dashboard libraries.

@@ -4,7 +4,8 @@
  * review in this thread, alongside a worker and in a worker per file (the worker script found next to the bundle),
  * the lazily loaded report code, the version read from package.json and the exit codes.
  */
-import { mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { execFile } from 'node:child_process';
+import { accessSync, constants as fsConstants, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -107,5 +108,22 @@ describe('the bundled program (bin) answers as the modules do', () => {
     expect(bundled.code).toBe(0);
     expect(bundled.stdout.split('\n').length).toBeGreaterThan(100);
     expect(bundled.stdout).toBe(modules.stdout);
+  });
+
+  it('runs by its own first line, as an installed bin does, with the Node options that line gives', async () => {
+    // The options are the ones the benchmarks run it with (bench/measure.ts reads the same line).
+    expect(readFileSync(BUNDLE_PATH, 'utf8').split('\n')[0]).toBe(
+      '#!/usr/bin/env -S node --no-concurrent-recompilation',
+    );
+    accessSync(BUNDLE_PATH, fsConstants.X_OK);
+    const args = ['review', DEMO_FLIGHT, '--aircraft', DEMO_AIRFRAME_PATH, '--format', 'json'];
+    const direct = await new Promise<{ code: number; stdout: string }>((resolve) =>
+      execFile(BUNDLE_PATH, args, { cwd: REPO_ROOT, timeout: 30_000 }, (err, stdout) =>
+        resolve({ code: err ? Number((err as { code?: number }).code ?? 1) : 0, stdout }),
+      ),
+    );
+    const [, modules] = await both(args);
+    expect(direct.code).toBe(0);
+    expect(direct.stdout).toBe(modules.stdout);
   });
 });
