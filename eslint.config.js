@@ -30,6 +30,18 @@ export default tseslint.config(
     },
   },
   {
+    // A bare NaN or Infinity is a global variable: in a branch V8 has never run it cannot fold it to a number, and
+    // the other branch's number is then boxed (a heap allocation) at every frame. Number.NaN folds either way.
+    files: ['src/**/*.ts'],
+    rules: {
+      'no-restricted-globals': [
+        'error',
+        { name: 'NaN', message: 'use Number.NaN (see eslint.config.js: a bare NaN costs an allocation per frame)' },
+        { name: 'Infinity', message: 'use Number.POSITIVE_INFINITY (a bare Infinity costs an allocation per frame)' },
+      ],
+    },
+  },
+  {
     // Tests read terminal output: escape sequences in regular expressions are the point there.
     files: ['test/**/*.ts'],
     rules: { 'no-control-regex': 'off' },

@@ -95,7 +95,7 @@ export function nearestWord(typed: string, known: readonly string[]): string | n
   const word = typed.toLowerCase();
   if (word === '') return null;
   let best: string | null = null;
-  let bestDistance = Infinity;
+  let bestDistance = Number.POSITIVE_INFINITY;
   for (const k of known) {
     const d = editDistance(word, k);
     if (d < bestDistance) {
@@ -210,7 +210,7 @@ function describeRule(rule: NumberRule): string {
 /** Parse one number, naming the option in the error: `--altitude must be a number from -500 to 20000 (got "x")`. */
 export function parseNumber(optionName: string, text: string, rule: NumberRule = {}): number {
   const trimmed = text.trim();
-  const value = trimmed === '' ? NaN : Number(trimmed);
+  const value = trimmed === '' ? Number.NaN : Number(trimmed);
   const bad =
     !Number.isFinite(value) ||
     (rule.integer && !Number.isInteger(value)) ||

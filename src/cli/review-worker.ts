@@ -94,8 +94,8 @@ export function feedPackedBatch(
 
 /** Tracks the first and last receive time a reader reports. */
 export function createReceivedSpan(): { at(ms: number): void; span(): ReceivedSpan | null } {
-  let firstMs = NaN;
-  let lastMs = NaN;
+  let firstMs = Number.NaN;
+  let lastMs = Number.NaN;
   return {
     at(ms) {
       if (firstMs !== firstMs) firstMs = ms;

@@ -99,6 +99,8 @@ function utilizationOf(v: AlertValues, limit: LimitName): number {
     case 'speed':
       return v.uSpeed;
   }
+  // Not reached; a throw keeps the result an unboxed number (see frameTasMps in margins.ts).
+  throw new RangeError(`unknown limit ${String(limit)}`);
 }
 
 function find(previous: readonly ActiveAlert[], limit: LimitName, level: AlertLevel): ActiveAlert | undefined {
@@ -132,10 +134,10 @@ let lowestOf: { thresholds: AlertThresholds; lowest: Record<LimitName, number> }
 function lowestThresholds(thresholds: AlertThresholds): Record<LimitName, number> {
   if (lowestOf === null || lowestOf.thresholds !== thresholds) {
     const lowest: Record<LimitName, number> = {
-      stall: Infinity,
-      structure: Infinity,
-      thrust: Infinity,
-      speed: Infinity,
+      stall: Number.POSITIVE_INFINITY,
+      structure: Number.POSITIVE_INFINITY,
+      thrust: Number.POSITIVE_INFINITY,
+      speed: Number.POSITIVE_INFINITY,
     };
     for (const { limit, level } of KINDS)
       lowest[limit] = Math.min(lowest[limit], alertThreshold(limit, level, thresholds)!);
@@ -178,11 +180,11 @@ export function updateAlerts(
 ): ActiveAlert[] {
   const u = inputs.utilization;
   const values: AlertValues = {
-    uStall: u.stall ?? NaN,
-    uThrust: u.thrust ?? NaN,
-    uStructure: u.structure ?? NaN,
-    uSpeed: u.speed ?? NaN,
-    nThrust: inputs.nThrust ?? NaN,
+    uStall: u.stall ?? Number.NaN,
+    uThrust: u.thrust ?? Number.NaN,
+    uStructure: u.structure ?? Number.NaN,
+    uSpeed: u.speed ?? Number.NaN,
+    nThrust: inputs.nThrust ?? Number.NaN,
     flying: inputs.flying,
     tS: inputs.tS,
   };

@@ -49,9 +49,9 @@ export function isaPressurePa(altitudeM: number): number {
 }
 
 /** The inputs and result of the last computeAirState: telemetry repeats altitude and OAT from frame to frame. */
-let lastAltitudeM = NaN;
-let lastOatC: number | undefined = NaN;
-let lastDeviationK: number | undefined = NaN;
+let lastAltitudeM = Number.NaN;
+let lastOatC: number | undefined = Number.NaN;
+let lastDeviationK: number | undefined = Number.NaN;
 let lastAirState: AirState | null = null;
 
 /**
@@ -75,19 +75,43 @@ export function computeAirState(altitudeM: number, temperature: TemperatureOptio
   return lastAirState;
 }
 
-function airStateAt(altitudeM: number, temperature: TemperatureOptions): AirState {
+/**
+ * The air temperature, K: the outside air temperature when given, else ISA plus the deviation (0 by default).
+ */
+export function airTemperatureK(altitudeM: number, oatC: number | undefined, isaDeviationK = 0): number {
+  return oatC !== undefined ? celsiusToKelvin(oatC) : isaTemperatureK(altitudeM) + isaDeviationK;
+}
+
+/** Slots of an air state held in a Float64Array by fillAirValues. */
+export const AIR_TEMPERATURE_K = 0;
+export const AIR_PRESSURE_PA = 1;
+export const AIR_DENSITY_KG_M3 = 2;
+export const AIR_SPEED_OF_SOUND_MPS = 3;
+export const AIR_VALUE_SLOTS = 4;
+
+/**
+ * The air state at a pressure altitude and air temperature, written into `out` at the AIR_* slots: the per-frame
+ * form (the altitude changes at most frames, and an object per change would be an allocation per frame).
+ */
+export function fillAirValues(out: Float64Array, altitudeM: number, temperatureK: number): void {
   const pressurePa = isaPressurePa(altitudeM);
-  const temperatureK =
-    temperature.oatC !== undefined
-      ? celsiusToKelvin(temperature.oatC)
-      : isaTemperatureK(altitudeM) + (temperature.isaDeviationK ?? 0);
-  const densityKgM3 = pressurePa / (R_AIR * temperatureK);
+  out[AIR_TEMPERATURE_K] = temperatureK;
+  out[AIR_PRESSURE_PA] = pressurePa;
+  out[AIR_DENSITY_KG_M3] = pressurePa / (R_AIR * temperatureK);
+  out[AIR_SPEED_OF_SOUND_MPS] = Math.sqrt(GAMMA_AIR * R_AIR * temperatureK);
+}
+
+const airValues = new Float64Array(AIR_VALUE_SLOTS);
+
+function airStateAt(altitudeM: number, temperature: TemperatureOptions): AirState {
+  fillAirValues(airValues, altitudeM, airTemperatureK(altitudeM, temperature.oatC, temperature.isaDeviationK));
+  const densityKgM3 = airValues[AIR_DENSITY_KG_M3]!;
   return {
     altitudeM,
-    temperatureK,
-    pressurePa,
+    temperatureK: airValues[AIR_TEMPERATURE_K]!,
+    pressurePa: airValues[AIR_PRESSURE_PA]!,
     densityKgM3,
     sigma: densityKgM3 / RHO0_KG_M3,
-    speedOfSoundMps: Math.sqrt(GAMMA_AIR * R_AIR * temperatureK),
+    speedOfSoundMps: airValues[AIR_SPEED_OF_SOUND_MPS]!,
   };
 }

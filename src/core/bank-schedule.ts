@@ -45,7 +45,7 @@ export function computeBankSchedule(
   );
   let speeds = request.speedsMps;
   if (!speeds) {
-    let lo = Infinity;
+    let lo = Number.POSITIVE_INFINITY;
     let highestStall = 0;
     let highestVneTas: number | null = null;
     for (const c of conditions) {

@@ -114,7 +114,7 @@ const roundTo = (x: number, step: number) => Math.round(x / step) * step;
  */
 export function defaultCardSpeeds(vs1Mps: number, vneTasMps: number | null): number[] {
   const low = DEFAULT_SPEED_LOW_VS1 * vs1Mps;
-  const high = Math.min(vneTasMps ?? Infinity, DEFAULT_SPEED_HIGH_VS1 * vs1Mps);
+  const high = Math.min(vneTasMps ?? Number.POSITIVE_INFINITY, DEFAULT_SPEED_HIGH_VS1 * vs1Mps);
   if (!(high >= low)) return [];
   const speeds: number[] = [];
   for (let i = 0; i < DEFAULT_SPEED_COUNT; i++) {

@@ -86,7 +86,7 @@ function createWindowMean(windowS: number): {
           sum[0] = rebuilt;
         }
       }
-      return count > 0 ? sum[0]! / count : NaN;
+      return count > 0 ? sum[0]! / count : Number.NaN;
     },
     reset() {
       head = 0;
@@ -102,8 +102,8 @@ function fillSpeedBand(aircraft: Aircraft, v: MarginValues): void {
   const vs1 = stallSpeedMps(aircraft, v.densityKgM3, v.massKg);
   const top = topSpeedMps(vneTasMps(aircraft, isaPressurePa(v.altM), v.temperatureK), vs1);
   const found = sustainedBandMps(aircraft, v.densityKgM3, v.massKg, v.nMeasured, top);
-  v.bandLoMps = found === null ? NaN : found.loMps;
-  v.bandHiMps = found === null ? NaN : found.hiMps;
+  v.bandLoMps = found === null ? Number.NaN : found.loMps;
+  v.bandHiMps = found === null ? Number.NaN : found.hiMps;
 }
 
 export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions): EnergyTracker {
@@ -120,7 +120,7 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
   let lastSetting: ThrottleAssumption | null = null;
   // The frame time the setting began (NaN: none since the last break), in a typed array: a double stored in a
   // closure variable is boxed at every store.
-  const settingSinceS = new Float64Array(1).fill(NaN);
+  const settingSinceS = new Float64Array(1).fill(Number.NaN);
   return {
     fill(v) {
       const tS = v.tS;
@@ -129,8 +129,8 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
       rateInputs[2] = v.bankDeg;
       rates.push(tS, rateInputs);
       // NaN stands for null throughout (no number boxed per frame): it carries through the sums below.
-      const dvdt = hasSlope[0] === 1 ? slopes[0]! : NaN;
-      const dhdt = hasSlope[1] === 1 ? slopes[1]! : NaN;
+      const dvdt = hasSlope[0] === 1 ? slopes[0]! : Number.NaN;
+      const dhdt = hasSlope[1] === 1 ? slopes[1]! : Number.NaN;
       const tasMps = v.tasMps;
       const ps = measuredPsOrNaN(dhdt, tasMps, dvdt);
       const setting = throttleSetting(v.throttle, assumeThrottle);
@@ -138,7 +138,7 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
       const residual = psResidualOrNaN(ps, psModel);
       v.dvdtMps2 = dvdt;
       v.dhdtMps = dhdt;
-      v.bankRateDps = hasSlope[2] === 1 ? slopes[2]! : NaN;
+      v.bankRateDps = hasSlope[2] === 1 ? slopes[2]! : Number.NaN;
       v.psMps = ps;
       v.psModelMps = psModel;
       v.psResidualMps = residual;
@@ -150,17 +150,17 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
         residualMean.reset();
       }
       const wholeWindowInSetting = tS - settingSinceS[0]! >= options.rateWindowS - windowEdgeSlackS(tS);
-      v.psResidualMean3sMps = residualMean.push(tS, wholeWindowInSetting ? residual : NaN);
+      v.psResidualMean3sMps = residualMean.push(tS, wholeWindowInSetting ? residual : Number.NaN);
       const stallU = v.uStall;
       const flying = v.flying;
       const nF = v.nMeasured;
       v.timeToStallCautionS = timeToUtilizationOrNaN(flying, tasMps, nF, stallU, dvdt, stallCaution);
       v.timeToStallWarningS = timeToUtilizationOrNaN(flying, tasMps, nF, stallU, dvdt, stallWarning);
       if (speedBand) fillSpeedBand(aircraft, v);
-      else v.bandLoMps = v.bandHiMps = NaN;
+      else v.bandLoMps = v.bandHiMps = Number.NaN;
     },
     reset() {
-      settingSinceS[0] = NaN;
+      settingSinceS[0] = Number.NaN;
       rates.reset();
       residualMean.reset();
     },

@@ -24,7 +24,7 @@ export function specificExcessPowerMps(
   tasMps: number | null,
   dvdtMps2: number | null,
 ): number | null {
-  return orNull(measuredPsOrNaN(dhdtMps ?? NaN, tasMps ?? NaN, dvdtMps2 ?? NaN));
+  return orNull(measuredPsOrNaN(dhdtMps ?? Number.NaN, tasMps ?? Number.NaN, dvdtMps2 ?? Number.NaN));
 }
 
 /** specificExcessPowerMps with NaN for null, in and out (the per-frame form). */
@@ -65,7 +65,7 @@ function modelThrustOrNaN(
   tasMps: number,
   densityKgM3: number,
 ): number {
-  if (setting === null) return NaN;
+  if (setting === null) return Number.NaN;
   if (setting === 'idle') return 0;
   return thrustAvailableOrNaN(aircraft.thrust, tasMps, densityKgM3);
 }
@@ -123,9 +123,9 @@ export function modelPsAtSettingOrNaN(
   loadFactor: number,
   setting: ThrottleAssumption | null,
 ): number {
-  if (!(tasMps > 0) || !(densityKgM3 > 0) || !(massKg > 0) || !Number.isFinite(loadFactor)) return NaN;
+  if (!(tasMps > 0) || !(densityKgM3 > 0) || !(massKg > 0) || !Number.isFinite(loadFactor)) return Number.NaN;
   const thrustN = modelThrustOrNaN(aircraft, setting, tasMps, densityKgM3);
-  if (thrustN !== thrustN) return NaN;
+  if (thrustN !== thrustN) return Number.NaN;
   const dragN = dragAtLoadFactorN(aircraft, tasMps, densityKgM3, massKg, loadFactor);
   return (tasMps * (thrustN - dragN)) / (massKg * G0_MPS2);
 }
@@ -187,7 +187,9 @@ export function timeToUtilizationS(
   dvdtMps2: number | null,
   targetUtilization: number,
 ): number | null {
-  return orNull(timeToUtilizationOrNaN(flying, tasMps, loadFactor, u ?? NaN, dvdtMps2 ?? NaN, targetUtilization));
+  return orNull(
+    timeToUtilizationOrNaN(flying, tasMps, loadFactor, u ?? Number.NaN, dvdtMps2 ?? Number.NaN, targetUtilization),
+  );
 }
 
 /** timeToUtilizationS with NaN for null, in and out (the per-frame form). */
@@ -200,12 +202,12 @@ export function timeToUtilizationOrNaN(
   targetUtilization: number,
 ): number {
   // NaN fails every comparison: an unknown rate or utilization gives no prediction.
-  if (!flying || !(loadFactor > 0) || !(dvdtMps2 < 0)) return NaN;
-  if (!(u > 0) || !(tasMps > 0) || !(targetUtilization > 0)) return NaN;
+  if (!flying || !(loadFactor > 0) || !(dvdtMps2 < 0)) return Number.NaN;
+  if (!(u > 0) || !(tasMps > 0) || !(targetUtilization > 0)) return Number.NaN;
   if (u >= targetUtilization) return 0;
   const vStar = tasMps * Math.sqrt(u / targetUtilization);
   const t = (tasMps - vStar) / -dvdtMps2;
-  return t > TIME_TO_STALL_MAX_S ? NaN : t;
+  return t > TIME_TO_STALL_MAX_S ? Number.NaN : t;
 }
 
 export interface TimeToStall {

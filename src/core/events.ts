@@ -75,8 +75,8 @@ function valuesEventUtilization(v: MarginValues, limit: LimitName): number {
   const u =
     limit === 'stall' ? v.uStall : limit === 'thrust' ? v.uThrust : limit === 'structure' ? v.uStructure : v.uSpeed;
   if (u === u) return u;
-  if (limit === 'thrust' && v.nThrust === 0 && v.flying) return Infinity;
-  return NaN;
+  if (limit === 'thrust' && v.nThrust === 0 && v.flying) return Number.POSITIVE_INFINITY;
+  return Number.NaN;
 }
 
 function startEvent(v: MarginValues, limit: LimitName, level: AlertLevel): LimitEvent {
@@ -87,7 +87,7 @@ function startEvent(v: MarginValues, limit: LimitName, level: AlertLevel): Limit
     start_s: v.tS,
     end_s: v.tS,
     duration_s: 0,
-    peak_utilization: u === u ? u : -Infinity,
+    peak_utilization: u === u ? u : Number.NEGATIVE_INFINITY,
     peak_t_s: v.tS,
     speed_at_peak_mps: v.tasMps,
     n_at_peak: v.nMeasured,
@@ -142,7 +142,7 @@ export function createEventTracker(): EventTracker {
   // Few alerts exist (one per limit and level): a short array beats a map on the per-frame path.
   let open: OpenEntry[] = [];
   // The last record's t_s in a typed array (NaN before any): a double stored in a closure variable is boxed.
-  const lastTS = new Float64Array(1).fill(NaN);
+  const lastTS = new Float64Array(1).fill(Number.NaN);
   const closeOpen = (endedBy: BreakKind): LimitEvent[] => {
     const closed: LimitEvent[] = [];
     for (const entry of open) {

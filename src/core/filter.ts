@@ -60,14 +60,16 @@ export function lowPassStepInPlace(
   if (previous === null) return { tS, value: input };
   const dtS = tS - previous.tS;
   if (!(dtS > 0) || isOverGap(dtS, maxGapS, tS)) return { tS, value: input };
-  previous.value = tauS <= 0 ? input : previous.value + filterGain(dtS, tauS) * (input - previous.value);
+  // Two stores, not one of a conditional: a tagged input on one side would make V8 box the filtered value.
+  if (tauS <= 0) previous.value = input;
+  else previous.value = previous.value + filterGain(dtS, tauS) * (input - previous.value);
   previous.tS = tS;
   return previous;
 }
 
 /** The last step and τ and their gain: telemetry comes at a steady rate, so Δt repeats from sample to sample. */
 // In a typed array (Δt, τ, gain): a double stored in a module variable is boxed at every store.
-const lastGainOf = new Float64Array(3).fill(NaN);
+const lastGainOf = new Float64Array(3).fill(Number.NaN);
 
 /** 1 − e^(−Δt/τ), the gain of one step (the same value as computing it each time). */
 export function filterGain(dtS: number, tauS: number): number {

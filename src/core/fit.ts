@@ -422,8 +422,8 @@ export function createFitCollector(rateWindowS: number, smoothTauS: number): Fit
       if (regimeSinceS === null || f.tS - regimeSinceS < rateWindowS - slackS) return;
       const kept = lastKeptS[regime];
       if (kept !== null && !(f.tS - kept > rateWindowS + slackS)) return;
-      let nLo = Infinity;
-      let nHi = -Infinity;
+      let nLo = Number.POSITIVE_INFINITY;
+      let nHi = Number.NEGATIVE_INFINITY;
       for (let i = head; i < recent.length; i++) {
         const n = recent[i]!.loadFactor;
         if (n < nLo) nLo = n;

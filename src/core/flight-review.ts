@@ -176,7 +176,7 @@ export function createFlightReviewer(
   let firstTS: number | null = null;
   // The previous accepted frame's time (NaN before any), level and coordination: an interval counts at the level
   // of the frame that begins it.
-  const previousTS = new Float64Array(1).fill(NaN);
+  const previousTS = new Float64Array(1).fill(Number.NaN);
   let previousLevel: Level = 'normal';
   let previousUncoordinated = false;
   /** The break between the previous record and the next one, if any. */
@@ -215,7 +215,16 @@ export function createFlightReviewer(
   const conditionSamples = createDecimator<{ densityKgM3: number; massKg: number }>(CONDITION_SAMPLES);
   // The ranges' ends (min, max of altitude, TAS, n and temperature) in a typed array: a double stored in a closure
   // variable is boxed at every store.
-  const ranges = new Float64Array([Infinity, -Infinity, Infinity, -Infinity, Infinity, -Infinity, Infinity, -Infinity]);
+  const ranges = new Float64Array([
+    Number.POSITIVE_INFINITY,
+    Number.NEGATIVE_INFINITY,
+    Number.POSITIVE_INFINITY,
+    Number.NEGATIVE_INFINITY,
+    Number.POSITIVE_INFINITY,
+    Number.NEGATIVE_INFINITY,
+    Number.POSITIVE_INFINITY,
+    Number.NEGATIVE_INFINITY,
+  ]);
   const engine = createFrameEngine(aircraft, resolved, {
     dataBreak(brk) {
       pendingBreak = brk.kind;

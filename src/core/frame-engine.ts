@@ -96,13 +96,13 @@ export function createFrameEngine(
   const events = createEventTracker();
   // t_s of the last accepted frame since the last break, NaN for none (a typed array: a double stored in a
   // closure variable is boxed at every store).
-  const lastAt = new Float64Array(1).fill(NaN);
+  const lastAt = new Float64Array(1).fill(Number.NaN);
   let refused: FrameRejection | null = null;
 
   const breakData = (kind: BreakKind): void => {
     const t_s = lastAt[0]!;
     if (t_s !== t_s) return;
-    lastAt[0] = NaN;
+    lastAt[0] = Number.NaN;
     margins.reset();
     energy.reset();
     const ended = events.closeOpen(kind);

@@ -106,7 +106,7 @@ export function studentTCdf(t: number, dof: number): number {
 
 /** Quantile of Student's t: the t with studentTCdf(t, dof) = p (bisection, to 1e-12). */
 export function studentTQuantile(p: number, dof: number): number {
-  if (!(p > 0 && p < 1) || !(dof > 0)) return NaN;
+  if (!(p > 0 && p < 1) || !(dof > 0)) return Number.NaN;
   if (p === 0.5) return 0;
   let lo = -1;
   let hi = 1;

@@ -10,41 +10,41 @@
 import type { ActiveAlert, Assumption, Level, MarginRecord } from './margin-record.js';
 
 export class MarginValues {
-  tS = NaN;
+  tS = Number.NaN;
   /** The smoothed TAS every limit uses. */
-  tasMps = NaN;
-  tasRawMps = NaN;
-  casMps = NaN;
-  densityKgM3 = NaN;
-  temperatureK = NaN;
-  altM = NaN;
-  massKg = NaN;
+  tasMps = Number.NaN;
+  tasRawMps = Number.NaN;
+  casMps = Number.NaN;
+  densityKgM3 = Number.NaN;
+  temperatureK = Number.NaN;
+  altM = Number.NaN;
+  massKg = Number.NaN;
   /** Smoothed measured load factor n_f. */
-  nMeasured = NaN;
-  nRaw = NaN;
-  nStall = NaN;
-  nStallNeg = NaN;
-  nThrust = NaN;
-  uStall = NaN;
-  uThrust = NaN;
-  uStructure = NaN;
-  uSpeed = NaN;
-  bankDeg = NaN;
-  nz = NaN;
-  nFromBank = NaN;
-  throttle = NaN;
-  dvdtMps2 = NaN;
-  dhdtMps = NaN;
-  bankRateDps = NaN;
-  psMps = NaN;
-  psModelMps = NaN;
-  psResidualMps = NaN;
-  psResidualMean3sMps = NaN;
-  timeToStallCautionS = NaN;
-  timeToStallWarningS = NaN;
+  nMeasured = Number.NaN;
+  nRaw = Number.NaN;
+  nStall = Number.NaN;
+  nStallNeg = Number.NaN;
+  nThrust = Number.NaN;
+  uStall = Number.NaN;
+  uThrust = Number.NaN;
+  uStructure = Number.NaN;
+  uSpeed = Number.NaN;
+  bankDeg = Number.NaN;
+  nz = Number.NaN;
+  nFromBank = Number.NaN;
+  throttle = Number.NaN;
+  dvdtMps2 = Number.NaN;
+  dhdtMps = Number.NaN;
+  bankRateDps = Number.NaN;
+  psMps = Number.NaN;
+  psModelMps = Number.NaN;
+  psResidualMps = Number.NaN;
+  psResidualMean3sMps = Number.NaN;
+  timeToStallCautionS = Number.NaN;
+  timeToStallWarningS = Number.NaN;
   /** The sustainable speed band's ends; NaN when there is none or it was not computed. */
-  bandLoMps = NaN;
-  bandHiMps = NaN;
+  bandLoMps = Number.NaN;
+  bandHiMps = Number.NaN;
   flying = false;
   uncoordinated = false;
   simulated = false;
@@ -62,7 +62,7 @@ export function orNull(value: number): number | null {
 
 /** A number for MarginValues from a nullable record number. */
 function orNaN(value: number | null | undefined): number {
-  return value === null || value === undefined ? NaN : value;
+  return value === null || value === undefined ? Number.NaN : value;
 }
 
 /**
@@ -102,8 +102,8 @@ export function marginValuesOf(rec: MarginRecord, into: MarginValues = new Margi
   into.timeToStallWarningS = orNaN(rec.time_to_stall_warning_s);
   // Records made by hand (tests) may lack the later keys.
   const band = rec.sustained_band_mps as MarginRecord['sustained_band_mps'] | undefined;
-  into.bandLoMps = band == null ? NaN : band[0];
-  into.bandHiMps = band == null ? NaN : band[1];
+  into.bandLoMps = band == null ? Number.NaN : band[0];
+  into.bandHiMps = band == null ? Number.NaN : band[1];
   into.flying = rec.flying;
   into.uncoordinated = rec.uncoordinated;
   into.simulated = rec.simulated === true;

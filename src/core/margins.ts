@@ -8,7 +8,17 @@
  * `createMarginTracker` is the small stateful wrapper the shell uses.
  */
 import type { Aircraft } from './aircraft.js';
-import { computeAirState, type AirState } from './atmosphere.js';
+import {
+  AIR_DENSITY_KG_M3,
+  AIR_PRESSURE_PA,
+  AIR_SPEED_OF_SOUND_MPS,
+  AIR_TEMPERATURE_K,
+  AIR_VALUE_SLOTS,
+  airTemperatureK,
+  computeAirState,
+  fillAirValues,
+  type AirState,
+} from './atmosphere.js';
 import { casToTasMps, iasToCasMps, tasToCasAtMps, tasToEasMps } from './airspeed.js';
 import { levelOfAlerts, nextAlerts } from './alerts.js';
 import { computeBankLimits } from './bank-limits.js';
@@ -75,14 +85,26 @@ export interface MarginState {
   /** Start time of the present run of frames where n_measured and 1/cos(bank) disagree, NaN for none. */
   disagreeSinceS: number;
   /**
-   * The air state of the last frame and the altitude and OAT it was computed from: reused while they stay the same
-   * (telemetry repeats them from frame to frame), as computing it again would give the same values.
+   * The air state of the last frame (fillAirValues' slots) and the altitude and OAT it was computed from (the slots
+   * after them: altitude, 1 if an OAT was given, OAT): reused while they stay the same, as computing it again would
+   * give the same values. In a typed array: the altitude changes at most frames, and an object per change is an
+   * allocation.
    */
-  air?: { altM: number; oatC: number | undefined; state: AirState };
+  air: Float64Array;
 }
 
+const AIR_ALT_M = AIR_VALUE_SLOTS;
+const AIR_HAS_OAT = AIR_VALUE_SLOTS + 1;
+const AIR_OAT_C = AIR_VALUE_SLOTS + 2;
+
 export function initialMarginState(): MarginState {
-  return { filter: null, tasFilter: null, alerts: [], disagreeSinceS: NaN };
+  return {
+    filter: null,
+    tasFilter: null,
+    alerts: [],
+    disagreeSinceS: Number.NaN,
+    air: new Float64Array(AIR_VALUE_SLOTS + 3).fill(Number.NaN),
+  };
 }
 
 export interface FrameAir {
@@ -103,7 +125,7 @@ export function frameAirState(frame: Frame): AirState {
  * `air` is the frame's air state when already known (frameAirState).
  */
 export function computeFrameAir(aircraft: Aircraft, frame: Frame, air: AirState = frameAirState(frame)): FrameAir {
-  const tasMps = frameTasMps(aircraft, frame, air);
+  const tasMps = frameTasMps(aircraft, frame, air.pressurePa, air.temperatureK);
   return {
     tasMps,
     easMps: tasToEasMps(tasMps, air.densityKgM3),
@@ -114,19 +136,18 @@ export function computeFrameAir(aircraft: Aircraft, frame: Frame, air: AirState 
 }
 
 /** The frame's TAS from whichever airspeed it has, at its air state. */
-function frameTasMps(aircraft: Aircraft, frame: Frame, air: AirState): number {
+function frameTasMps(aircraft: Aircraft, frame: Frame, pressurePa: number, temperatureK: number): number {
   switch (frame.airspeedKind) {
     case 'tas':
       return frame.airspeedMps;
     case 'cas':
-      return casToTasMps(frame.airspeedMps, air.pressurePa, air.temperatureK);
+      return casToTasMps(frame.airspeedMps, pressurePa, temperatureK);
     case 'ias':
-      return casToTasMps(
-        iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration),
-        air.pressurePa,
-        air.temperatureK,
-      );
+      return casToTasMps(iasToCasMps(frame.airspeedMps, aircraft.airspeedCalibration), pressurePa, temperatureK);
   }
+  // Not reached for a valid frame. A throw, not the fall-through's undefined: V8 then keeps the result an unboxed
+  // number (an undefined path makes it box the TAS at every frame).
+  throw new RangeError(`unknown airspeed kind ${String(frame.airspeedKind)}`);
 }
 
 /** 1/cos(bank): the load factor of a level coordinated turn at that bank; null where cos(bank) is about 0. */
@@ -137,7 +158,7 @@ export function loadFactorFromBank(bankDeg: number): number | null {
 /** loadFactorFromBank with NaN for null (the per-frame form). */
 function loadFactorFromBankOrNaN(bankDeg: number): number {
   const c = Math.cos((bankDeg * Math.PI) / 180);
-  return Math.abs(c) < 1e-9 ? NaN : 1 / c;
+  return Math.abs(c) < 1e-9 ? Number.NaN : 1 / c;
 }
 
 /** Bound on a load factor derived from bank alone (the same as the plausibility bound on nz), g. */
@@ -184,11 +205,18 @@ export interface FrameRejection {
  * relations no longer hold). Call it before computing the frame's record.
  */
 export function frameRejection(aircraft: Aircraft, frame: Frame): FrameRejection | null {
-  return machRejection(aircraft, frame, frameAirState(frame));
+  const air = frameAirState(frame);
+  return machRejection(aircraft, frame, air.pressurePa, air.temperatureK, air.speedOfSoundMps);
 }
 
-function machRejection(aircraft: Aircraft, frame: Frame, air: AirState): FrameRejection | null {
-  const mach = frameTasMps(aircraft, frame, air) / air.speedOfSoundMps;
+function machRejection(
+  aircraft: Aircraft,
+  frame: Frame,
+  pressurePa: number,
+  temperatureK: number,
+  speedOfSoundMps: number,
+): FrameRejection | null {
+  const mach = frameTasMps(aircraft, frame, pressurePa, temperatureK) / speedOfSoundMps;
   if (!(mach >= MAX_MACH) && Number.isFinite(mach)) return null;
   return {
     code: 'out_of_range',
@@ -247,8 +275,8 @@ export function computeUtilization(
 ): Utilization {
   if (!flying) return { stall: null, thrust: null, structure: null, speed: null };
   return {
-    stall: orNull(stallUtilization(n, limits.nStall, limits.nStallNeg ?? NaN)),
-    thrust: orNull(thrustUtilization(n, limits.nThrust ?? NaN)),
+    stall: orNull(stallUtilization(n, limits.nStall, limits.nStallNeg ?? Number.NaN)),
+    thrust: orNull(thrustUtilization(n, limits.nThrust ?? Number.NaN)),
     structure: structureUtilization(n, limits.nLimitPos, limits.nLimitNeg),
     speed,
   };
@@ -261,7 +289,7 @@ function stallUtilization(n: number, nStall: number, nStallNeg: number): number 
 
 /** The thrust utilization of computeUtilization (flying), NaN for null; nThrust NaN when unknown. */
 function thrustUtilization(n: number, nThrust: number): number {
-  return nThrust === 0 ? NaN : Math.abs(n) / nThrust;
+  return nThrust === 0 ? Number.NaN : Math.abs(n) / nThrust;
 }
 
 /** The structure utilization of computeUtilization (flying). */
@@ -296,7 +324,7 @@ function coordinationStep(
 ): boolean {
   // NaN (nothing to compare) is never over the tolerance.
   if (!(Math.abs(nMeasured - nFromBank) > COORDINATION_TOLERANCE)) {
-    state.disagreeSinceS = NaN;
+    state.disagreeSinceS = Number.NaN;
     return false;
   }
   const previous = state.disagreeSinceS;
@@ -317,45 +345,54 @@ export function computeMarginRecord(
     tasFilter: state.tasFilter === null ? null : { ...state.tasFilter },
     alerts: state.alerts,
     disagreeSinceS: state.disagreeSinceS,
+    air: state.air.slice(),
   };
-  if (state.air !== undefined) next.air = state.air;
   const record = advanceMarginRecord(aircraft, options, next, frame, new MarginValues());
   return { record, state: next };
 }
 
-/** √(ρ/ρ0) of the last density (EAS = TAS·√σ): the density repeats from frame to frame. */
-let lastSigmaDensityKgM3 = NaN;
-let lastSqrtSigma = NaN;
+/** √(ρ/ρ0) of the last density (EAS = TAS·√σ): the density repeats from frame to frame. Density, then root. */
+// In a typed array: a double stored in a module variable is boxed at every store.
+const lastSqrtSigma = new Float64Array(2).fill(Number.NaN);
 function easOf(tasMps: number, densityKgM3: number): number {
-  if (densityKgM3 !== lastSigmaDensityKgM3) {
-    lastSqrtSigma = Math.sqrt(densityKgM3 / RHO0_KG_M3);
-    lastSigmaDensityKgM3 = densityKgM3;
+  if (densityKgM3 !== lastSqrtSigma[0]) {
+    lastSqrtSigma[1] = Math.sqrt(densityKgM3 / RHO0_KG_M3);
+    lastSqrtSigma[0] = densityKgM3;
   }
   // The same product as tasToEasMps, with the root reused.
-  return tasMps * lastSqrtSigma;
+  return tasMps * lastSqrtSigma[1]!;
 }
 
-/** Vs1 of the last airframe, density and mass (they repeat from frame to frame). */
-let lastVs1: { aircraft: Aircraft; densityKgM3: number; massKg: number; mps: number } | null = null;
+/** Vs1 of the last airframe, density and mass (they repeat from frame to frame): density, mass and Vs1. */
+// In a typed array, and always read back from it: a cached object's number on one path and a call's result on the
+// other would make V8 box Vs1 at every frame.
+const lastVs1 = new Float64Array(3).fill(Number.NaN);
+let lastVs1Aircraft: Aircraft | null = null;
 function oneGStallSpeedMps(aircraft: Aircraft, densityKgM3: number, massKg: number): number {
-  const last = lastVs1;
-  if (last !== null && last.aircraft === aircraft && last.densityKgM3 === densityKgM3 && last.massKg === massKg) {
-    return last.mps;
+  if (lastVs1Aircraft !== aircraft || lastVs1[0] !== densityKgM3 || lastVs1[1] !== massKg) {
+    lastVs1[2] = stallSpeedMps(aircraft, densityKgM3, massKg);
+    lastVs1[0] = densityKgM3;
+    lastVs1[1] = massKg;
+    lastVs1Aircraft = aircraft;
   }
-  const mps = stallSpeedMps(aircraft, densityKgM3, massKg);
-  lastVs1 = { aircraft, densityKgM3, massKg, mps };
-  return mps;
+  return lastVs1[2]!;
 }
 
 /** The frame's air state, reused from `state` while altitude and OAT repeat (and kept there for the next frame). */
-function stateAirState(state: MarginState, frame: Frame): AirState {
-  const cached = state.air;
-  if (cached !== undefined && Object.is(cached.altM, frame.altM) && Object.is(cached.oatC, frame.oatC)) {
-    return cached.state;
+function stateAirValues(state: MarginState, frame: Frame): Float64Array {
+  const air = state.air;
+  const altM = frame.altM;
+  const oatC = frame.oatC;
+  const hasOat = oatC !== undefined ? 1 : 0;
+  // Plain comparisons (Object.is would box the stored numbers): ±0 give the same air, and NaN (no frame yet) differs.
+  if (air[AIR_ALT_M] !== altM || air[AIR_HAS_OAT] !== hasOat || (oatC !== undefined && air[AIR_OAT_C] !== oatC)) {
+    // The values of frameAirState (computeAirState at the frame's altitude and OAT).
+    fillAirValues(air, altM, airTemperatureK(altM, oatC));
+    air[AIR_ALT_M] = altM;
+    air[AIR_HAS_OAT] = hasOat;
+    air[AIR_OAT_C] = oatC !== undefined ? oatC : Number.NaN;
   }
-  const airState = frameAirState(frame);
-  state.air = { altM: frame.altM, oatC: frame.oatC, state: airState };
-  return airState;
+  return air;
 }
 
 /**
@@ -386,10 +423,14 @@ export function advanceMarginValues(
   frame: Frame,
   v: MarginValues,
 ): void {
-  const airState = stateAirState(state, frame);
-  const tasRawMps = frameTasMps(aircraft, frame, airState);
-  const densityKgM3 = airState.densityKgM3;
-  const massKg = frame.massKg ?? aircraft.massKg;
+  const air = stateAirValues(state, frame);
+  const pressurePa = air[AIR_PRESSURE_PA]!;
+  const temperatureK = air[AIR_TEMPERATURE_K]!;
+  const tasRawMps = frameTasMps(aircraft, frame, pressurePa, temperatureK);
+  const densityKgM3 = air[AIR_DENSITY_KG_M3]!;
+  // `+`: the frame's optional mass is a tagged value; as a plain number on both paths V8 does not box the airframe's
+  // mass at every frame.
+  const massKg = frame.massKg !== undefined ? +frame.massKg : aircraft.massKg;
   const tS = frame.tS;
 
   const nRaw = rawLoadFactor(frame);
@@ -403,7 +444,7 @@ export function advanceMarginValues(
   const tasFilter = lowPassStepInPlace(state.tasFilter, tS, tasRawMps, options.smoothTauS);
   state.tasFilter = tasFilter;
   const tasMps = tasFilter.value;
-  const casMps = tasToCasAtMps(tasMps, airState.pressurePa, airState.speedOfSoundMps);
+  const casMps = tasToCasAtMps(tasMps, pressurePa, air[AIR_SPEED_OF_SOUND_MPS]!);
 
   v.tasMps = tasMps;
   v.densityKgM3 = densityKgM3;
@@ -418,7 +459,7 @@ export function advanceMarginValues(
   v.tS = tS;
   v.tasRawMps = tasRawMps;
   v.casMps = casMps;
-  v.temperatureK = airState.temperatureK;
+  v.temperatureK = temperatureK;
   v.altM = frame.altM;
   v.nMeasured = nF;
   v.nRaw = nRaw;
@@ -428,12 +469,12 @@ export function advanceMarginValues(
     v.uStall = stallUtilization(nF, nStall, nStallNeg);
     v.uThrust = thrustUtilization(nF, nThrust);
     v.uStructure = structureUtilization(nF, aircraft.nLimitPos, aircraft.nLimitNeg);
-    v.uSpeed = vneMps !== undefined ? casMps / vneMps : NaN;
+    v.uSpeed = vneMps !== undefined ? casMps / vneMps : Number.NaN;
   } else {
-    v.uStall = NaN;
-    v.uThrust = NaN;
-    v.uStructure = NaN;
-    v.uSpeed = NaN;
+    v.uStall = Number.NaN;
+    v.uThrust = Number.NaN;
+    v.uStructure = Number.NaN;
+    v.uSpeed = Number.NaN;
   }
   const alerts = nextAlerts(state.alerts, v, options.thresholds);
   state.alerts = alerts;
@@ -442,13 +483,13 @@ export function advanceMarginValues(
 
   const bankDeg = frame.bankDeg;
   const nz = frame.nz;
-  const nFromBank = bankDeg !== undefined ? loadFactorFromBankOrNaN(bankDeg) : NaN;
+  const nFromBank = bankDeg !== undefined ? loadFactorFromBankOrNaN(bankDeg) : Number.NaN;
   // Comparing n with 1/cos(bank) means something only when n comes from an accelerometer.
-  v.uncoordinated = coordinationStep(state, tS, nF, nz !== undefined ? nFromBank : NaN, restarted);
-  v.bankDeg = bankDeg ?? NaN;
-  v.nz = nz ?? NaN;
+  v.uncoordinated = coordinationStep(state, tS, nF, nz !== undefined ? nFromBank : Number.NaN, restarted);
+  v.bankDeg = bankDeg ?? Number.NaN;
+  v.nz = nz ?? Number.NaN;
   v.nFromBank = nFromBank;
-  v.throttle = frame.throttle ?? NaN;
+  v.throttle = frame.throttle ?? Number.NaN;
   v.simulated = frame.simulated === true;
   v.assumed = recordAssumptions(aircraft, frame);
 }
@@ -553,7 +594,16 @@ export function createMarginTracker(aircraft: Aircraft, options?: Partial<Margin
     // The tracker owns its state: it is advanced in place.
     push: (frame) => advanceMarginRecord(aircraft, resolved, state, frame, values),
     advance: (frame, into) => advanceMarginValues(aircraft, resolved, state, frame, into),
-    rejection: (frame) => machRejection(aircraft, frame, stateAirState(state, frame)),
+    rejection: (frame) => {
+      const air = stateAirValues(state, frame);
+      return machRejection(
+        aircraft,
+        frame,
+        air[AIR_PRESSURE_PA]!,
+        air[AIR_TEMPERATURE_K]!,
+        air[AIR_SPEED_OF_SOUND_MPS]!,
+      );
+    },
     reset() {
       state = initialMarginState();
     },

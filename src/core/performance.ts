@@ -8,18 +8,21 @@ import { orNull } from './margin-values.js';
 import { G0_MPS2, RHO0_KG_M3, radToDeg } from './units.js';
 
 /** The last density and exponent and their factor: the density repeats from frame to frame (same altitude). */
-let lastDensityKgM3 = NaN;
-let lastDensityExponent = NaN;
-let lastDensityFactor = NaN;
+// In a typed array: a double stored in a module variable is boxed at every store (here, at every new altitude).
+const lastDensityFactor = new Float64Array(3).fill(Number.NaN);
+const DENSITY = 0;
+const EXPONENT = 1;
+const FACTOR = 2;
 
 /** (ρ/ρ0)^exponent, the thrust's density lapse. */
 function densityFactorOf(densityKgM3: number, exponent: number): number {
-  if (densityKgM3 !== lastDensityKgM3 || exponent !== lastDensityExponent) {
-    lastDensityFactor = (densityKgM3 / RHO0_KG_M3) ** exponent;
-    lastDensityKgM3 = densityKgM3;
-    lastDensityExponent = exponent;
+  const last = lastDensityFactor;
+  if (densityKgM3 !== last[DENSITY] || exponent !== last[EXPONENT]) {
+    last[FACTOR] = (densityKgM3 / RHO0_KG_M3) ** exponent;
+    last[DENSITY] = densityKgM3;
+    last[EXPONENT] = exponent;
   }
-  return lastDensityFactor;
+  return last[FACTOR]!;
 }
 
 /** Thrust available, N, or null where a table model does not cover the speed (never extrapolated). */
@@ -38,19 +41,21 @@ export function thrustAvailableOrNaN(thrust: ThrustModel, tasMps: number, densit
       return thrust.thrustN * densityFactor;
     case 'power': {
       // η·P/V is singular at V → 0; the static thrust caps it.
-      const fromPower = tasMps > 0 ? (thrust.propEfficiency * thrust.powerW) / tasMps : Infinity;
+      const fromPower = tasMps > 0 ? (thrust.propEfficiency * thrust.powerW) / tasMps : Number.POSITIVE_INFINITY;
       return Math.min(thrust.staticThrustN, fromPower) * densityFactor;
     }
     case 'table':
       return tableThrustOrNaN(thrust.points, tasMps) * densityFactor;
   }
+  // Not reached for a parsed airframe; a throw keeps the result an unboxed number (see frameTasMps in margins.ts).
+  throw new RangeError(`unknown thrust model ${String((thrust as { model: unknown }).model)}`);
 }
 
 /** Linear interpolation in a thrust table, NaN outside it (never extrapolated). */
 function tableThrustOrNaN(pts: ReadonlyArray<readonly [number, number]>, tasMps: number): number {
   const first = pts[0]!;
   const last = pts[pts.length - 1]!;
-  if (tasMps < first[0] || tasMps > last[0]) return NaN;
+  if (tasMps < first[0] || tasMps > last[0]) return Number.NaN;
   let i = 1;
   while (i < pts.length - 1 && tasMps > pts[i]![0]) i++;
   const [v0, t0] = pts[i - 1]!;
@@ -85,7 +90,7 @@ export function negativeStallLoadFactorOrNaN(
   massKg: number,
 ): number {
   const clMin = aircraft.clMin;
-  if (clMin === undefined) return NaN;
+  if (clMin === undefined) return Number.NaN;
   return (dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2 * clMin) / (massKg * G0_MPS2);
 }
 
@@ -105,7 +110,7 @@ export function thrustLoadFactor(
 /** thrustLoadFactor with NaN for null (the per-frame form). */
 export function thrustLoadFactorOrNaN(aircraft: Aircraft, tasMps: number, densityKgM3: number, massKg: number): number {
   const thrustN = thrustAvailableOrNaN(aircraft.thrust, tasMps, densityKgM3);
-  if (thrustN !== thrustN) return NaN;
+  if (thrustN !== thrustN) return Number.NaN;
   const qS = dynamicPressurePa(densityKgM3, tasMps) * aircraft.wingAreaM2;
   if (qS <= 0) return 0;
   const excess = thrustN - qS * aircraft.cd0;

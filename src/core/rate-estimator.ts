@@ -114,7 +114,7 @@ function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined)
   let mask = times.length - 1;
   let head = seed?.head ?? 0; // index of the oldest sample
   let count = seed?.count ?? 0;
-  let lastT = seed?.lastT ?? -Infinity;
+  let lastT = seed?.lastT ?? Number.NEGATIVE_INFINITY;
   let t0 = seed?.t0 ?? 0;
   let y0 = seed?.y0 ?? 0;
   let sumT = seed?.sumT ?? 0;
@@ -166,7 +166,7 @@ function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined)
   const reset = (): void => {
     head = 0;
     count = 0;
-    lastT = -Infinity;
+    lastT = Number.NEGATIVE_INFINITY;
     rebuild();
   };
 
@@ -244,7 +244,7 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
   const T0 = 1;
   const SUM_T = 2;
   const SUM_TT = 3;
-  st[LAST_T] = -Infinity;
+  st[LAST_T] = Number.NEGATIVE_INFINITY;
   let addedSinceRebuild = 0;
   const y0 = new Float64Array(S);
   const sumY = new Float64Array(S);
@@ -297,7 +297,7 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
   const reset = (): void => {
     head = 0;
     count = 0;
-    st[LAST_T] = -Infinity;
+    st[LAST_T] = Number.NEGATIVE_INFINITY;
     own.fill(undefined);
     inRing.fill(1);
     detached = 0;
@@ -397,7 +397,9 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
       const i = (head + count) & mask;
       times[i] = tS;
       const first = count === 0;
-      if (first) t0 = tS;
+      // Through the typed array: the argument (a tagged number) merged into t0 would make V8 box t0 at every push.
+      if (first) st[T0] = tS;
+      t0 = st[T0]!;
       const dt = tS - t0;
       const base = i * S;
       for (let s = 0; s < S; s++) {

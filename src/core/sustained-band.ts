@@ -109,7 +109,7 @@ function bestThrustSpeed(
   hi: number,
 ): number | null {
   let bestV: number | null = null;
-  let bestN = -Infinity;
+  let bestN = Number.NEGATIVE_INFINITY;
   let a = lo;
   let b = hi;
   let samples = SCAN_STEPS;

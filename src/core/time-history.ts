@@ -105,10 +105,10 @@ export interface TimeHistoryAccumulator {
 
 function newSeries(): ReducedSeries {
   const s: ReducedSeries = {
-    min: new Float64Array(MAX_BUCKETS).fill(NaN),
-    max: new Float64Array(MAX_BUCKETS).fill(NaN),
-    tMin: new Float64Array(MAX_BUCKETS).fill(NaN),
-    tMax: new Float64Array(MAX_BUCKETS).fill(NaN),
+    min: new Float64Array(MAX_BUCKETS).fill(Number.NaN),
+    max: new Float64Array(MAX_BUCKETS).fill(Number.NaN),
+    tMin: new Float64Array(MAX_BUCKETS).fill(Number.NaN),
+    tMax: new Float64Array(MAX_BUCKETS).fill(Number.NaN),
     count: 0,
   };
   return s;
@@ -144,10 +144,10 @@ function halve(s: ReducedSeries, used: number): void {
     s.max[i] = max;
     s.tMax[i] = tMax;
   }
-  s.min.fill(NaN, Math.ceil(used / 2));
-  s.max.fill(NaN, Math.ceil(used / 2));
-  s.tMin.fill(NaN, Math.ceil(used / 2));
-  s.tMax.fill(NaN, Math.ceil(used / 2));
+  s.min.fill(Number.NaN, Math.ceil(used / 2));
+  s.max.fill(Number.NaN, Math.ceil(used / 2));
+  s.tMin.fill(Number.NaN, Math.ceil(used / 2));
+  s.tMax.fill(Number.NaN, Math.ceil(used / 2));
 }
 
 function orHalve(bits: Uint8Array, used: number): void {
@@ -169,13 +169,13 @@ export function createTimeHistory(): TimeHistoryAccumulator {
   const alerts = new Uint8Array(MAX_BUCKETS);
   const breakCounts: Record<BreakKind, number> = { data_gap: 0, clock_restart: 0, link_lost: 0, seek: 0, other: 0 };
   const assumedCounter = createAssumptionCounter();
-  let t0S = NaN;
+  let t0S = Number.NaN;
   let bucketS = FIRST_BUCKET_S;
   let used = 0;
   let frames = 0;
   // The last frame's axis time and t_s, stored every frame: in a typed array, as a double stored in a closure
   // variable is boxed at every store.
-  const last = new Float64Array(2).fill(NaN);
+  const last = new Float64Array(2).fill(Number.NaN);
   const LAST_S = 0;
   const LAST_TS = 1;
   let axisShiftS = 0;

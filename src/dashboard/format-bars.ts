@@ -33,7 +33,7 @@ export function barMarkIndex(threshold: number, width: number, scaleMax = DEFAUL
 /** Number of filled cells for a utilization (rounded, clamped to the bar). */
 export function barFilledCells(utilization: number | null, width: number, scaleMax = DEFAULT_BAR_SCALE): number {
   if (utilization === null || !Number.isFinite(utilization) || utilization <= 0) {
-    return utilization === Infinity ? width : 0;
+    return utilization === Number.POSITIVE_INFINITY ? width : 0;
   }
   return Math.min(width, Math.round((utilization / scaleMax) * width));
 }

@@ -117,7 +117,7 @@ export function fitPathTail(path: string, width: number): string {
  * Words wrapped to lines of at most `width` columns (a word longer than a line is cut); at most `maxLines` lines,
  * the last ending in "…" when text is left over.
  */
-export function wrapWords(text: string, width: number, maxLines = Infinity): string[] {
+export function wrapWords(text: string, width: number, maxLines = Number.POSITIVE_INFINITY): string[] {
   const lines: string[] = [];
   let current = '';
   const len = (s: string) => Array.from(s).length;

@@ -258,7 +258,7 @@ export function buildMarginLines(input: ScreenInput, stale: boolean, width: numb
     } else if (limit === 'stall' && rec.stall_speed_margin_pct !== null)
       suffix = `V ${formatSigned(rec.stall_speed_margin_pct, 0)} %`;
     const bar = buildUtilizationBar({
-      utilization: limit === 'thrust' && rec.n_thrust === 0 ? Infinity : u,
+      utilization: limit === 'thrust' && rec.n_thrust === 0 ? Number.POSITIVE_INFINITY : u,
       cautionAt,
       warningAt,
       width: barWidth,

@@ -57,7 +57,7 @@ export function packFrame(
   const first = o + PACKED_AIRSPEED + 1;
   for (let p = 0; p < PACKED_FIELDS.length; p++) {
     const v = values[PACKED_FIELDS[p]!];
-    target[first + p] = v === undefined ? NaN : v === true ? 1 : v === false ? 0 : v;
+    target[first + p] = v === undefined ? Number.NaN : v === true ? 1 : v === false ? 0 : v;
   }
   target[o + FRAME_SLOTS - 1] = newSegment === PACKED_AFTER_RECONNECT ? PACKED_AFTER_RECONNECT : newSegment ? 1 : 0;
 }

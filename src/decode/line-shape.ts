@@ -65,8 +65,8 @@ const ROW_COUNT = FRAME_KEYS.length;
 const rowOffset = Int32Array.from(FRAME_KEYS, (r) =>
   r.presence === 'airspeed' ? PACKED_AIRSPEED : PACKED_AIRSPEED + 1 + PACKED_KEYS.indexOf(r.key),
 );
-const rowMin = Float64Array.from(FRAME_KEYS, (r) => (r.type === 'number' ? r.min : NaN));
-const rowMax = Float64Array.from(FRAME_KEYS, (r) => (r.type === 'number' ? r.max : NaN));
+const rowMin = Float64Array.from(FRAME_KEYS, (r) => (r.type === 'number' ? r.min : Number.NaN));
+const rowMax = Float64Array.from(FRAME_KEYS, (r) => (r.type === 'number' ? r.max : Number.NaN));
 const rowIsBoolean = Uint8Array.from(FRAME_KEYS, (r) => (r.type === 'boolean' ? 1 : 0));
 const rowPresence = Uint8Array.from(FRAME_KEYS, (r) =>
   r.presence === 'required'
@@ -78,7 +78,7 @@ const rowPresence = Uint8Array.from(FRAME_KEYS, (r) =>
         : PRESENCE_OPTIONAL,
 );
 const rowSpeedCode = Float64Array.from(FRAME_KEYS, (r) =>
-  r.presence === 'airspeed' ? AIRSPEED_KINDS.indexOf(r.field as (typeof AIRSPEED_KINDS)[number]) : NaN,
+  r.presence === 'airspeed' ? AIRSPEED_KINDS.indexOf(r.field as (typeof AIRSPEED_KINDS)[number]) : Number.NaN,
 );
 const T_OFFSET = rowOffset[FRAME_KEYS.findIndex((r) => r.key === 't_s')]!;
 /** The packed offsets a frame of any shape writes: the airspeed kind and value and every packed key. */
@@ -266,7 +266,7 @@ function takeShapedLines(
   lastLf: number,
   maxLineBytes: number,
   run: PackedRun,
-  lineLimit = Infinity,
+  lineLimit = Number.POSITIVE_INFINITY,
 ): void {
   const { literalBytes, literalStart, literalLength, memberRow, wordAt, wordValue, wordStart, absentOffsets } = state;
   const absentCount = state.absentCount;
@@ -371,7 +371,7 @@ function takeShapedLines(
         const presence = rowPresence[row];
         // A null airspeed might leave another airspeed key to count: the usual path sorts that out.
         if (presence === PRESENCE_REQUIRED || presence === PRESENCE_AIRSPEED) break lines;
-        frames[o + rowOffset[row]!] = NaN;
+        frames[o + rowOffset[row]!] = Number.NaN;
       } else if (c === 0x74 /* t */ || c === 0x66 /* f */) {
         const isTrue = c === 0x74;
         if (!matchesWord(bytes, i, lastLf, isTrue ? 'true' : 'false')) break lines;
@@ -387,7 +387,7 @@ function takeShapedLines(
     let lf = i;
     if (bytes[lf] === CR) lf++;
     if (bytes[lf] !== LF || lf - pos > maxLineBytes || speeds !== 1 || (HAS_ATTITUDE_KEYS && attitudes === 0)) break;
-    for (let a = 0; a < absentCount; a++) frames[o + absentOffsets[a]!] = NaN;
+    for (let a = 0; a < absentCount; a++) frames[o + absentOffsets[a]!] = Number.NaN;
     taken++;
     physicalNo++;
     pos = lf + 1;
@@ -449,7 +449,13 @@ function compiledTakerOf(state: ShapeState): ShapeTaker | null {
 
 /** A number as JavaScript source that reads back as the same double (±Infinity included). */
 function numberSource(x: number): string {
-  return x === Infinity ? 'Infinity' : x === -Infinity ? '-Infinity' : Object.is(x, -0) ? '-0' : String(x);
+  return x === Number.POSITIVE_INFINITY
+    ? 'Number.POSITIVE_INFINITY'
+    : x === Number.NEGATIVE_INFINITY
+      ? 'Number.NEGATIVE_INFINITY'
+      : Object.is(x, -0)
+        ? '-0'
+        : String(x);
 }
 
 /**
@@ -525,7 +531,7 @@ function compileShapeTaker(state: ShapeState): ShapeTaker {
     const onNull =
       presence === PRESENCE_REQUIRED || presence === PRESENCE_AIRSPEED
         ? 'break lines;'
-        : `${nullWord} i += 4; frames[${at}] = NaN;`;
+        : `${nullWord} i += 4; frames[${at}] = Number.NaN;`;
     if (rowIsBoolean[row] === 1) {
       code.push(
         `if (${isNumberStart}) break lines;`,
@@ -553,7 +559,7 @@ function compileShapeTaker(state: ShapeState): ShapeTaker {
     );
   }
   const absent: string[] = [];
-  for (let a = 0; a < state.absentCount; a++) absent.push(`frames[o + ${state.absentOffsets[a]}] = NaN;`);
+  for (let a = 0; a < state.absentCount; a++) absent.push(`frames[o + ${state.absentOffsets[a]}] = Number.NaN;`);
   const lineEnds =
     `bytes[lf] !== 10 || lf - pos > maxLineBytes` +
     (airspeedMembers !== 1 ? ' || true' : '') +

@@ -20,7 +20,7 @@ const NEW_SEGMENT: { ok: true; newSegment: boolean } = Object.freeze({ ok: true,
 export function createTimeGate(): TimeGate {
   // The last accepted time (NaN: none yet) and the last time of the run behind it, in a typed array: a double stored
   // in a closure variable is boxed at every store, and lastS is stored at every frame.
-  const times = new Float64Array([NaN, -Infinity]);
+  const times = new Float64Array([Number.NaN, Number.NEGATIVE_INFINITY]);
   const LAST_S = 0;
   const RUN_LAST_S = 1;
   // Times of the consecutive frames behind lastS that increase among themselves.
@@ -44,9 +44,9 @@ export function createTimeGate(): TimeGate {
       return TIME_NOT_INCREASING;
     },
     reset() {
-      times[LAST_S] = NaN;
+      times[LAST_S] = Number.NaN;
       runLength = 0;
-      times[RUN_LAST_S] = -Infinity;
+      times[RUN_LAST_S] = Number.NEGATIVE_INFINITY;
     },
   };
 }

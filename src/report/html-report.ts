@@ -469,8 +469,8 @@ function panelsFor(flight: HtmlFlight): Panel[] {
 }
 
 function valueRange(flight: HtmlFlight, panel: Panel): { lo: number; hi: number } {
-  let lo = Infinity;
-  let hi = -Infinity;
+  let lo = Number.POSITIVE_INFINITY;
+  let hi = Number.NEGATIVE_INFINITY;
   for (const l of panel.lines) {
     const s = flight.history.series[l.name];
     if (!s) continue;
@@ -574,7 +574,7 @@ function timeHistorySvg(flight: HtmlFlight, prefix: string): string {
     out.push(`<g stroke="#e4e4e4" stroke-width="1">${grid.join('')}</g>`);
     // Reference lines, labelled in the right margin (labels pushed apart when two lines are close).
     const shown = panel.refs.filter((r) => r.value >= lo && r.value <= hi).sort((a, b) => b.value - a.value);
-    let lastLabelY = -Infinity;
+    let lastLabelY = Number.NEGATIVE_INFINITY;
     for (const r of shown) {
       const y = sy(r.value);
       const labelY = Math.max(y + 4, lastLabelY + 12);

@@ -182,7 +182,7 @@ export function reviewToCsv(review: FlightReview): string {
 /** Utilization as a percentage of the limit, e.g. 0.934 → "93.4 %"; unbounded (n_thrust = 0) → "n_thrust = 0". */
 export function formatUtilization(u: number | null): string {
   if (u === null) return '—';
-  if (u === Infinity) return 'n_thrust = 0';
+  if (u === Number.POSITIVE_INFINITY) return 'n_thrust = 0';
   return `${(u * 100).toFixed(1)} %`;
 }
 

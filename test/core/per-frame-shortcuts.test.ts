@@ -53,7 +53,7 @@ describe('per-frame shortcuts', () => {
           if (p.bankDeg !== undefined) f.bankDeg = p.bankDeg;
           const a = computeMarginRecord(aircraft, options, withReuse, f);
           // The same step from a state without the remembered air state computes it afresh.
-          const b = computeMarginRecord(aircraft, options, { ...fresh, air: undefined }, f);
+          const b = computeMarginRecord(aircraft, options, { ...fresh, air: initialMarginState().air }, f);
           expect(a.record).toEqual(b.record);
           expect(Object.is(a.record.density_kg_m3, b.record.density_kg_m3)).toBe(true);
           withReuse = a.state;

@@ -214,7 +214,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     }
     const thresholds = thresholdsPath ? loadThresholdsFile(thresholdsPath, aircraft.thresholds) : aircraft.thresholds;
     const lowest = (): number => {
-      let v = Infinity;
+      let v = Number.POSITIVE_INFINITY;
       for (const a of altitudes) {
         const rho = computeAirState(a, temperature).densityKgM3;
         for (const m of massList) v = Math.min(v, stallSpeedMps(aircraft, rho, m));
@@ -223,7 +223,7 @@ export async function run(args: ParsedArgs): Promise<number> {
     };
     // The schedule's default top: vne as TAS at the lowest density asked for (the highest TAS), else 4·Vs1.
     const highest = (stall: number): number => {
-      let v = -Infinity;
+      let v = Number.NEGATIVE_INFINITY;
       for (const a of altitudes) {
         const air = computeAirState(a, temperature);
         v = Math.max(v, topSpeedMps(vneTasMps(aircraft, air.pressurePa, air.temperatureK), stall));
