@@ -111,7 +111,8 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
   const rates = createSharedRateWindows(options.rateWindowS, 3);
   const slopes = rates.slopes;
   const hasSlope = rates.hasSlope;
-  const rateInputs = new Float64Array(3);
+  // The time, then speed, altitude and bank.
+  const rateRow = new Float64Array(4);
   const residualMean = createWindowMean(RESIDUAL_MEAN_WINDOW_S);
   const stallCaution = options.thresholds.stallCaution;
   const stallWarning = options.thresholds.stallWarning;
@@ -124,10 +125,11 @@ export function createEnergyTracker(aircraft: Aircraft, options: EnergyOptions):
   return {
     fill(v) {
       const tS = v.tS;
-      rateInputs[0] = v.tasRawMps;
-      rateInputs[1] = v.altM;
-      rateInputs[2] = v.bankDeg;
-      rates.push(tS, rateInputs);
+      rateRow[0] = tS;
+      rateRow[1] = v.tasRawMps;
+      rateRow[2] = v.altM;
+      rateRow[3] = v.bankDeg;
+      rates.push(rateRow);
       // NaN stands for null throughout (no number boxed per frame): it carries through the sums below.
       const dvdt = hasSlope[0] === 1 ? slopes[0]! : Number.NaN;
       const dhdt = hasSlope[1] === 1 ? slopes[1]! : Number.NaN;

@@ -145,7 +145,12 @@ export function psResidualOrNaN(psMps: number, psModelMps: number): number {
  * ΔD/D = −W·residual/(V·D). Null when V or D is not positive.
  */
 export function impliedDragErrorPct(residualMps: number, tasMps: number, dragN: number, massKg: number): number | null {
-  if (!(tasMps > 0) || !(dragN > 0)) return null;
+  return orNull(impliedDragErrorPctOrNaN(residualMps, tasMps, dragN, massKg));
+}
+
+/** impliedDragErrorPct with NaN for null (the per-frame form). */
+export function impliedDragErrorPctOrNaN(residualMps: number, tasMps: number, dragN: number, massKg: number): number {
+  if (!(tasMps > 0) || !(dragN > 0)) return Number.NaN;
   return ((-massKg * G0_MPS2 * residualMps) / (tasMps * dragN)) * 100;
 }
 

@@ -13,7 +13,7 @@ import type { BreakKind, LimitEvent } from './events.js';
 import type { Frame } from './frame.js';
 import { resolveMarginOptions, type MarginOptions } from './margins.js';
 import type { Assumption, Level, MarginRecord } from './margin-record.js';
-import type { MarginValues } from './margin-values.js';
+import { orNull, type MarginValues } from './margin-values.js';
 import type { LimitName } from './performance.js';
 import { createModelCheckAccumulator, type ModelCheck } from './model-check.js';
 import { createTimeHistory, type TimeHistory } from './time-history.js';
@@ -116,12 +116,23 @@ const N_MAX = 5;
 const TEMP_MIN = 6;
 const TEMP_MAX = 7;
 
-/** The peak raised to the utilization (NaN: none) when it is higher (or the first defined). */
-function raisePeak(peak: Peak, utilization: number, tS: number): void {
-  if (utilization === utilization && (peak.utilization === null || utilization > peak.utilization)) {
-    peak.utilization = utilization;
-    peak.t_s = tS;
+/**
+ * The peaks as numbers while the flight is read: utilization and time per limit, at PEAK_SLOT[limit] and the slot
+ * after it, NaN while none. A typed array: a number stored in an object field that also holds null is boxed.
+ */
+const PEAK_SLOT = { stall: 0, thrust: 2, structure: 4, speed: 6 } as const satisfies Record<LimitName, number>;
+
+/** The peak at `slot` raised to the utilization (NaN: none) when it is higher (or the first defined). */
+function raisePeak(peaks: Float64Array, slot: number, utilization: number, tS: number): void {
+  const peak = peaks[slot]!;
+  if (utilization === utilization && (peak !== peak || utilization > peak)) {
+    peaks[slot] = utilization;
+    peaks[slot + 1] = tS;
   }
+}
+
+function peakOf(peaks: Float64Array, slot: number): Peak {
+  return { utilization: orNull(peaks[slot]!), t_s: orNull(peaks[slot + 1]!) };
 }
 
 export interface FlightReviewer {
@@ -182,12 +193,7 @@ export function createFlightReviewer(
   /** The break between the previous record and the next one, if any. */
   let pendingBreak: BreakKind | null = null;
   const onAtEnd: LimitEvent[] = [];
-  const peaks: Record<LimitName, Peak> = {
-    stall: { utilization: null, t_s: null },
-    thrust: { utilization: null, t_s: null },
-    structure: { utilization: null, t_s: null },
-    speed: { utilization: null, t_s: null },
-  };
+  const peakValues = new Float64Array(8).fill(Number.NaN);
   const assumed = createAssumptionCounter();
   // Seconds at each level (LEVEL_SLOT order), summed every frame: a typed array, not an object's fields.
   const levelS = new Float64Array(3);
@@ -275,10 +281,10 @@ export function createFlightReviewer(
     history?.pushValues(v, pendingBreak === null ? undefined : pendingBreak === 'end_of_data' ? 'other' : pendingBreak);
     pendingBreak = null;
 
-    raisePeak(peaks.stall, v.uStall, tS);
-    raisePeak(peaks.thrust, v.uThrust, tS);
-    raisePeak(peaks.structure, v.uStructure, tS);
-    raisePeak(peaks.speed, v.uSpeed, tS);
+    raisePeak(peakValues, PEAK_SLOT.stall, v.uStall, tS);
+    raisePeak(peakValues, PEAK_SLOT.thrust, v.uThrust, tS);
+    raisePeak(peakValues, PEAK_SLOT.structure, v.uStructure, tS);
+    raisePeak(peakValues, PEAK_SLOT.speed, v.uSpeed, tS);
     assumed.push(v);
     modelCheck.pushValues(v);
     // Plain numbers on the per-frame path; the ranges are made at finish.
@@ -339,7 +345,12 @@ export function createFlightReviewer(
         lastTS: accepted > 0 ? previousTS[0]! : null,
         events,
         onAtEnd,
-        peaks,
+        peaks: {
+          stall: peakOf(peakValues, PEAK_SLOT.stall),
+          thrust: peakOf(peakValues, PEAK_SLOT.thrust),
+          structure: peakOf(peakValues, PEAK_SLOT.structure),
+          speed: peakOf(peakValues, PEAK_SLOT.speed),
+        },
         timeInLevelS: { normal: levelS[0]!, caution: levelS[1]!, warning: levelS[2]! },
         conditions,
         plotPoints: [...plot.normal.items(), ...plot.caution.items(), ...plot.warning.items()],

@@ -244,14 +244,19 @@ let assumptionsOf: { aircraft: Aircraft; lists: readonly Assumption[][] } | null
 function recordAssumptions(aircraft: Aircraft, frame: Frame): Assumption[] {
   let cached = assumptionsOf;
   if (cached === null || cached.aircraft !== aircraft) {
-    const of = (nz: number | undefined, oatC: number | undefined): Assumption[] =>
-      Object.freeze(
-        frameAssumptions(aircraft, { tS: 0, airspeedKind: 'tas', airspeedMps: 0, altM: 0, nz, oatC }),
-      ) as Assumption[];
-    cached = { aircraft, lists: [of(1, 0), of(undefined, 0), of(1, undefined), of(undefined, undefined)] };
+    cached = { aircraft, lists: assumptionLists(aircraft) };
     assumptionsOf = cached;
   }
   return cached.lists[(frame.nz === undefined ? 1 : 0) + (frame.oatC === undefined ? 2 : 0)]!;
+}
+
+// A function of its own: a closure over `aircraft` in recordAssumptions would allocate its context at every call.
+function assumptionLists(aircraft: Aircraft): Assumption[][] {
+  const of = (nz: number | undefined, oatC: number | undefined): Assumption[] =>
+    Object.freeze(
+      frameAssumptions(aircraft, { tS: 0, airspeedKind: 'tas', airspeedMps: 0, altM: 0, nz, oatC }),
+    ) as Assumption[];
+  return [of(1, 0), of(undefined, 0), of(1, undefined), of(undefined, undefined)];
 }
 
 export interface LimitsForUtilization {

@@ -5,9 +5,9 @@
  * mean and variance, from memory); the residuals themselves come from the frame engine.
  */
 import type { Aircraft } from './aircraft.js';
-import { impliedDragErrorPct, throttleSetting, type ThrottleAssumption } from './energy.js';
+import { impliedDragErrorPctOrNaN, throttleSetting, type ThrottleAssumption } from './energy.js';
 import type { MarginRecord } from './margin-record.js';
-import { marginValuesOf, MarginValues, orNull } from './margin-values.js';
+import { marginValuesOf, MarginValues } from './margin-values.js';
 import { dragAtLoadFactorN } from './performance.js';
 
 export interface ModelCheckSetting {
@@ -31,30 +31,39 @@ export interface ModelCheckAccumulator {
   finish(): ModelCheck;
 }
 
+// Welford's running mean and variance of the residual, and the drag error's sum, in a typed array: doubles held in
+// closure variables are boxed at every store (here, at every frame with a residual).
+const N = 0;
+const MEAN = 1;
+const M2 = 2;
+const DRAG_SUM = 3;
+const DRAG_COUNT = 4;
+
 function createSettingSums() {
-  let n = 0;
-  let mean = 0;
-  let m2 = 0;
-  let dragSum = 0;
-  let dragCount = 0;
+  const sums = new Float64Array(5);
   return {
-    add(residual: number, dragErrorPct: number | null) {
-      n += 1;
-      const delta = residual - mean;
-      mean += delta / n;
-      m2 += delta * (residual - mean);
-      if (dragErrorPct !== null) {
-        dragSum += dragErrorPct;
-        dragCount += 1;
+    /** One residual, and the drag error it implies (NaN: none). */
+    add(residual: number, dragErrorPct: number) {
+      const n = sums[N]! + 1;
+      sums[N] = n;
+      const delta = residual - sums[MEAN]!;
+      const mean = sums[MEAN]! + delta / n;
+      sums[MEAN] = mean;
+      sums[M2] = sums[M2]! + delta * (residual - mean);
+      if (dragErrorPct === dragErrorPct) {
+        sums[DRAG_SUM] = sums[DRAG_SUM]! + dragErrorPct;
+        sums[DRAG_COUNT] = sums[DRAG_COUNT]! + 1;
       }
     },
     result(): ModelCheckSetting | null {
+      const n = sums[N]!;
       if (n === 0) return null;
+      const dragCount = sums[DRAG_COUNT]!;
       return {
         frames: n,
-        meanResidualMps: mean,
-        sdResidualMps: n > 1 ? Math.sqrt(m2 / (n - 1)) : null,
-        dragErrorPct: dragCount > 0 ? dragSum / dragCount : null,
+        meanResidualMps: sums[MEAN]!,
+        sdResidualMps: n > 1 ? Math.sqrt(sums[M2]! / (n - 1)) : null,
+        dragErrorPct: dragCount > 0 ? sums[DRAG_SUM]! / dragCount : null,
       };
     },
   };
@@ -72,10 +81,11 @@ export function createModelCheckAccumulator(
     pushValues(v) {
       const residual = v.psResidualMps;
       if (residual !== residual) return;
-      const setting = throttleSetting(orNull(v.throttle), assumeThrottle);
+      // The throttle as its NaN-for-null number (throttleSetting takes NaN as unknown): not boxed per frame.
+      const setting = throttleSetting(v.throttle, assumeThrottle);
       if (setting === null) return;
       const dragN = dragAtLoadFactorN(aircraft, v.tasMps, v.densityKgM3, v.massKg, v.nMeasured);
-      const error = impliedDragErrorPct(residual, v.tasMps, dragN, v.massKg);
+      const error = impliedDragErrorPctOrNaN(residual, v.tasMps, dragN, v.massKg);
       (setting === 'full' ? full : idle).add(residual, error);
     },
     finish: () => ({ full: full.result(), idle: idle.result() }),

@@ -216,11 +216,11 @@ function rateEstimatorFrom(windowS: number, seed: RateEstimatorSeed | undefined)
  */
 export interface SharedRateWindows {
   /**
-   * Add one time with a value per series (not finite, NaN for instance: none) and set series k's slope over
-   * [tS − W, tS] — what `push` of its own estimator would return — as `hasSlope[k]` 1 and `slopes[k]`, or
-   * `hasSlope[k]` 0 for null. Typed arrays in and out: no number is boxed per frame.
+   * Add one time (`row[0]`) with a value per series (`row[1 + k]`; not finite, NaN for instance: none) and set
+   * series k's slope over [tS − W, tS] — what `push` of its own estimator would return — as `hasSlope[k]` 1 and
+   * `slopes[k]`, or `hasSlope[k]` 0 for null. Typed arrays in and out, the time too: no number is boxed per frame.
    */
-  push(tS: number, values: Float64Array): void;
+  push(row: Float64Array): void;
   /** The slopes of the last push, by series (rewritten by each push); read only where hasSlope is 1. */
   readonly slopes: Float64Array;
   readonly hasSlope: Uint8Array;
@@ -346,19 +346,20 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
     slopes,
     hasSlope,
     reset,
-    push(tS, given) {
+    push(row) {
+      const tS = row[0]!;
       if (!Number.isFinite(tS)) {
         hasSlope.fill(0);
         return;
       }
       if (tS <= st[LAST_T]!) reset();
       // A series without a value leaves the ring before this time touches it.
-      for (let s = 0; s < S; s++) if (inRing[s] === 1 && !Number.isFinite(given[s]!)) detach(s);
+      for (let s = 0; s < S; s++) if (inRing[s] === 1 && !Number.isFinite(row[1 + s]!)) detach(s);
       if (detached > 0) {
         for (let s = 0; s < S; s++) {
           const o = own[s];
           if (o === undefined) continue;
-          const slope = o.push(tS, given[s]!);
+          const slope = o.push(tS, row[1 + s]!);
           if (slope === null) hasSlope[s] = 0;
           else {
             hasSlope[s] = 1;
@@ -404,7 +405,7 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
       const base = i * S;
       for (let s = 0; s < S; s++) {
         if (inRing[s] !== 1) continue;
-        const v = given[s]!;
+        const v = row[1 + s]!;
         values[base + s] = v;
         if (first) y0[s] = v;
         const dy = v - y0[s]!;

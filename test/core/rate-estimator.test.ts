@@ -207,10 +207,7 @@ describe('rate windows sharing one time axis', () => {
             }
             t = Number.isNaN(s.dtS) ? t : t + s.dtS;
             const tS = Number.isNaN(s.dtS) ? Number.NaN : t;
-            shared.push(
-              tS,
-              Float64Array.from(s.values, (v) => v ?? Number.NaN),
-            );
+            shared.push(Float64Array.from([tS, ...s.values], (v) => v ?? Number.NaN));
             const expected = own.map((e, k) => e.push(tS, s.values[k]!));
             // toEqual compares numbers with Object.is: the same bits (−0 apart from 0), not merely close.
             expect([0, 1, 2].map((k) => (shared.hasSlope[k] === 1 ? shared.slopes[k] : null))).toEqual(expected);
@@ -226,7 +223,7 @@ describe('rate windows sharing one time axis', () => {
     const shared = createSharedRateWindows(1, 3);
     for (let i = 0; i < 5000; i++) {
       const t = 3600 + i * 0.02;
-      shared.push(t, Float64Array.of(20 - 0.4 * t, 100 + 3 * t, i % 400 < 100 ? Number.NaN : 2 * t));
+      shared.push(Float64Array.of(t, 20 - 0.4 * t, 100 + 3 * t, i % 400 < 100 ? Number.NaN : 2 * t));
     }
     expect([...shared.hasSlope]).toEqual([1, 1, 1]);
     expect(shared.slopes[0]).toBeCloseTo(-0.4, 6);
