@@ -269,7 +269,11 @@ export function compileFrameFiller<Args extends unknown[]>(reader: FrameReader):
     }
     if (!/^[A-Za-z_$][\w$]*$/.test(rule.field)) throw new Error(`frame field ${rule.field} is not an identifier`);
     if (rule.presence === 'required') body.push(`f.${rule.field} = ${reader.value(rule, row)};`);
-    else body.push(`f.${rule.field} = ${reader.present(rule, row)} ? ${reader.value(rule, row)} : undefined;`);
+    // Two stores, not one of a conditional: V8 would box the number to merge it with undefined, at every frame.
+    else
+      body.push(
+        `if (${reader.present(rule, row)}) f.${rule.field} = ${reader.value(rule, row)}; else f.${rule.field} = undefined;`,
+      );
   });
   return new Function('f', ...reader.params, `'use strict'; ${body.join(' ')}`) as (f: Frame, ...args: Args) => void;
 }
