@@ -16,7 +16,7 @@ import type { DataBreak } from '../core/frame-engine.js';
 import { resolveMarginOptions, type MarginOptions } from '../core/margins.js';
 import type { MarginRecord } from '../core/margin-record.js';
 import { mergeTestPointResults, type TestPointResult } from '../core/test-point.js';
-import type { PackedFrameBatch } from '../decode/frame-batch.js';
+import { createPackedBatchPool, type PackedArrays, type PackedFrameBatch } from '../decode/frame-batch.js';
 import { readFramePackedBatches, type ReadFrameOptions } from '../decode/read-frames.js';
 import { InputError, UsageError } from '../errors.js';
 import { systemErrorWords } from '../system-errors.js';
@@ -276,16 +276,26 @@ async function reviewInThread(
 ): Promise<ReviewRunResult> {
   const run = createReviewRun(workerDataOf(input, options, label), options.onRecord, options.onBreak);
   const received = createReceivedSpan();
-  for await (const batch of readFramePackedBatches(input.file, { ...readOptions, onReceivedAt: received.at })) {
+  const batchPool = createPackedBatchPool();
+  for await (const batch of readFramePackedBatches(input.file, {
+    ...readOptions,
+    onReceivedAt: received.at,
+    batchPool,
+  })) {
     if (stop.stopped) throw STOPPED;
     run.feed(batch);
+    // The engine keeps no reference to the batch's frames: its arrays can be filled again.
+    batchPool.give(batch);
   }
   return run.finish(received.span());
 }
 
 /** Messages a review worker posts. */
 type WorkerMessage =
-  { ack: true } | { progress: [number, number] } | { result: ReviewRunResult } | { failure: ReviewWorkerFailure };
+  | { ack: true; arrays?: PackedArrays }
+  | { progress: [number, number] }
+  | { result: ReviewRunResult }
+  | { failure: ReviewWorkerFailure };
 
 /** Start a worker; `settled` resolves with its result, rejects with its failure (an InputError for the input's). */
 function startWorker(
@@ -335,7 +345,10 @@ async function reviewAlongsideWorker(
   let framesInFlight = 0;
   let failure: Error | undefined;
   let wake: (() => void) | undefined;
-  const { worker, settled } = startWorker(script, workerDataOf(input, options, label), input.file, () => {
+  // The worker sends each batch's arrays back with its ack, to be filled again.
+  const batchPool = createPackedBatchPool();
+  const { worker, settled } = startWorker(script, workerDataOf(input, options, label), input.file, (m) => {
+    if ('ack' in m && m.arrays !== undefined) batchPool.give(m.arrays);
     framesInFlight -= inFlight.shift() ?? 0;
     wake?.();
   });
@@ -346,7 +359,11 @@ async function reviewAlongsideWorker(
   const received = createReceivedSpan();
   const off = stop.onStop(() => wake?.());
   try {
-    for await (const batch of readFramePackedBatches(input.file, { ...readOptions, onReceivedAt: received.at })) {
+    for await (const batch of readFramePackedBatches(input.file, {
+      ...readOptions,
+      onReceivedAt: received.at,
+      batchPool,
+    })) {
       if (stop.stopped) throw STOPPED;
       const message: PackedFrameBatch = batch;
       worker.postMessage(message, [batch.frames.buffer, batch.lineNos.buffer]);

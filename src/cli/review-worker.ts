@@ -20,6 +20,7 @@ import type { MarginOptions } from '../core/margins.js';
 import { createTestPointTracker, type TestPointResult } from '../core/test-point.js';
 import {
   createFrameUnpacker,
+  createPackedBatchPool,
   packedAfterReconnect,
   packedNewSegment,
   unpackRejects,
@@ -159,7 +160,11 @@ async function reviewFileHere(
       onReceivedAt: received.at,
       ...(data.read.mappingPath !== undefined ? { mappingPath: data.read.mappingPath } : {}),
     };
-    for await (const batch of readFramePackedBatches(data.read.path, options)) run.feed(batch);
+    const batchPool = createPackedBatchPool();
+    for await (const batch of readFramePackedBatches(data.read.path, { ...options, batchPool })) {
+      run.feed(batch);
+      batchPool.give(batch);
+    }
     port.postMessage({ result: run.finish(received.span()) });
   } catch (err) {
     const failure: ReviewWorkerFailure =
@@ -185,7 +190,9 @@ if (port && (workerData as { reviewWorker?: true } | null)?.reviewWorker === tru
         return;
       }
       run.feed(message);
-      port.postMessage({ ack: true });
+      // The arrays go back to the reader, which fills them again (the engine keeps no reference to them).
+      const arrays = { frames: message.frames, lineNos: message.lineNos };
+      port.postMessage({ ack: true, arrays }, [arrays.frames.buffer, arrays.lineNos.buffer]);
     });
   }
 }

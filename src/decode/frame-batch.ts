@@ -102,6 +102,36 @@ export interface PackedFrameBatch {
   rejects: Array<number | string>;
 }
 
+/** The frame arrays of a packed batch. */
+export type PackedArrays = Pick<PackedFrameBatch, 'frames' | 'lineNos'>;
+
+/**
+ * Frame arrays a consumer is done with, for the reader to fill again. A batch's arrays are otherwise new memory
+ * each time, given back only when the garbage collector next runs; and with little other garbage it runs seldom,
+ * so a review held tens of MB of spent batches.
+ */
+export interface PackedBatchPool {
+  /** Give back the arrays of a batch whose frames were all read (the giver uses them no more). */
+  give(arrays: PackedArrays): void;
+  /** Arrays for at least `capacity` frames (their old numbers are all written over before use), or null. */
+  take(capacity: number): PackedArrays | null;
+}
+
+export function createPackedBatchPool(limit = 16): PackedBatchPool {
+  const spare: PackedArrays[] = [];
+  return {
+    give(arrays) {
+      if (spare.length < limit && arrays.frames.length === arrays.lineNos.length * FRAME_SLOTS) spare.push(arrays);
+    },
+    take(capacity) {
+      for (let i = spare.length - 1; i >= 0; i--) {
+        if (spare[i]!.lineNos.length >= capacity) return spare.splice(i, 1)[0]!;
+      }
+      return null;
+    },
+  };
+}
+
 const REJECT_STRIDE = 5;
 
 export function packReject(rejects: Array<number | string>, lineNo: number, r: Rejected): void {

@@ -10,7 +10,14 @@ import { basename, extname } from 'node:path';
 import { InputError } from '../errors.js';
 import { configJsonOrThrow } from '../config-json.js';
 import { decodeEntry, RECORDING_MAGIC } from '../recording/format.js';
-import { FRAME_SLOTS, PACKED_AFTER_RECONNECT, packFrame, packReject, type PackedFrameBatch } from './frame-batch.js';
+import {
+  FRAME_SLOTS,
+  PACKED_AFTER_RECONNECT,
+  packFrame,
+  packReject,
+  type PackedBatchPool,
+  type PackedFrameBatch,
+} from './frame-batch.js';
 import { csvRow, splitCsvLine } from './csv.js';
 import { createLineJudge, isBlank, lineText, withoutLineEnd, type DecodedLine } from './frame-decoder.js';
 import {
@@ -50,6 +57,8 @@ export interface ReadFrameOptions {
   onReceivedAt?(receivedAtMs: number): void;
   /** Bytes per read (tests use small reads to put lines across read boundaries). */
   readChunkBytes?: number;
+  /** readFramePackedBatches: where it takes the arrays of each next batch from, if any are there. */
+  batchPool?: PackedBatchPool;
 }
 
 /** Bytes per read for readers that hold a chunk's lines as objects (a batch of lines per read). */
@@ -351,7 +360,7 @@ export async function* readFramePackedBatches(
   const reader = createLineReader(path, options.mappingPath, false);
   const shape = createLineShape();
   let rejects: Array<number | string> = [];
-  // A new array per batch: the consumer may transfer the one it was given to another thread.
+  // New arrays (or the pool's) per batch: the consumer may transfer the ones it was given to another thread.
   const packed: PackedRun = {
     frames: new Float64Array(1024 * FRAME_SLOTS),
     lineNos: new Int32Array(1024),
@@ -414,8 +423,15 @@ export async function* readFramePackedBatches(
   for await (const _chunk of physicalBatches(path, options, sink)) {
     if (packed.count === 0 && rejects.length === 0) continue;
     yield { frames: packed.frames, count: packed.count, lineNos: packed.lineNos, rejects };
-    packed.frames = new Float64Array(packed.capacity * FRAME_SLOTS);
-    packed.lineNos = new Int32Array(packed.capacity);
+    const spare = options.batchPool?.take(packed.capacity) ?? null;
+    if (spare !== null) {
+      packed.frames = spare.frames;
+      packed.lineNos = spare.lineNos;
+      packed.capacity = spare.lineNos.length;
+    } else {
+      packed.frames = new Float64Array(packed.capacity * FRAME_SLOTS);
+      packed.lineNos = new Int32Array(packed.capacity);
+    }
     packed.count = 0;
     rejects = [];
   }

@@ -9,7 +9,14 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { createFrameDecoder } from '../../src/decode/frame-decoder.js';
 import { DEFAULT_MAX_LINE_BYTES } from '../../src/decode/line-splitter.js';
-import { FRAME_SLOTS, packedNewSegment, packFrame, unpackFrame, unpackRejects } from '../../src/decode/frame-batch.js';
+import {
+  createPackedBatchPool,
+  FRAME_SLOTS,
+  packedNewSegment,
+  packFrame,
+  unpackFrame,
+  unpackRejects,
+} from '../../src/decode/frame-batch.js';
 import type { Rejected } from '../../src/decode/rejections.js';
 import { readFrameBatches, readFramePackedBatches, readFrameFile } from '../../src/decode/read-frames.js';
 import type { Frame } from '../../src/core/frame.js';
@@ -211,17 +218,30 @@ async function framesAndRejects(
   return { frames, rejects };
 }
 
+/**
+ * The frames and rejections of readFramePackedBatches. `reuse`: as the review in one thread does, each batch's
+ * arrays go back to a pool the reader fills again (seeded with arrays full of a number no frame holds, so that a
+ * slot left unwritten would show); otherwise, as the review alongside a worker, they leave for another thread.
+ */
 async function packedFramesAndRejects(
   path: string,
+  reuse = false,
 ): Promise<{ frames: Array<[Frame, boolean]>; rejects: Array<[number, Rejected]> }> {
   const frames: Array<[Frame, boolean]> = [];
   const rejects: Array<[number, Rejected]> = [];
-  for await (const batch of readFramePackedBatches(path)) {
+  const batchPool = createPackedBatchPool();
+  if (reuse) batchPool.give({ frames: new Float64Array(1024 * FRAME_SLOTS).fill(7.25), lineNos: new Int32Array(1024) });
+  const options = reuse ? { batchPool, readChunkBytes: 1024 } : {};
+  for await (const batch of readFramePackedBatches(path, options)) {
     expect(batch.frames.length).toBeGreaterThanOrEqual(batch.count * FRAME_SLOTS);
     for (let i = 0; i < batch.count; i++)
       frames.push([unpackFrame(batch.frames, i), packedNewSegment(batch.frames, i)]);
     for (const { lineNo, rejected } of unpackRejects(batch.rejects)) rejects.push([lineNo, rejected]);
-    // As the review does: the batch's array goes to another thread, leaving it detached here.
+    if (reuse) {
+      batchPool.give(batch);
+      continue;
+    }
+    // As the review alongside a worker does: the batch's array goes to another thread, leaving it detached here.
     structuredClone(batch.frames.buffer, { transfer: [batch.frames.buffer] });
   }
   return { frames, rejects };
@@ -256,6 +276,8 @@ describe('packed batches for the review worker', () => {
           const packed = await packedFramesAndRejects(path);
           const expected = await framesAndRejects(path);
           expect(packed).toEqual(expected);
+          // Arrays filled again batch after batch carry the same frames.
+          expect(await packedFramesAndRejects(path, true)).toEqual(expected);
           packed.frames.forEach(([f], i) => expect(Object.is(f.altM, expected.frames[i]![0].altM)).toBe(true));
         },
       ),
