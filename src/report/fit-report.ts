@@ -80,7 +80,14 @@ export function fitToJson(input: FitReportInput): Record<string, unknown> {
   };
   if (fit.polarReason !== null) out['polar_reason'] = fit.polarReason;
   out['thrust_scale'] =
-    fit.thrustScale === null ? null : { ...estimateJson(fit.thrustScale.scale), samples: fit.thrustScale.samples };
+    fit.thrustScale === null
+      ? null
+      : {
+          ...estimateJson(fit.thrustScale.scale),
+          samples: fit.thrustScale.samples,
+          // The polar the drag came from: the one fitted here, or the airframe file's when none could be.
+          polar: fit.thrustScale.polar,
+        };
   if (fit.thrustReason !== null) out['thrust_scale_reason'] = fit.thrustReason;
   out['cl_demonstrated'] = input.outcome.clDemonstrated === null ? null : round(input.outcome.clDemonstrated);
   out['airframe'] = { cd0: round(input.aircraft.cd0), k: round(input.aircraft.k), cl_max: input.aircraft.clMax };

@@ -27,7 +27,7 @@ interface FitJson {
   frames: { total: number; usable: number; idle: number; full: number; without_throttle: number };
   polar: null | { cd0: Estimate; k: Estimate; r2: number; cl2_range: [number, number]; samples: number };
   polar_reason?: string;
-  thrust_scale: null | (Estimate & { samples: number });
+  thrust_scale: null | (Estimate & { samples: number; polar: 'fitted' | 'file' });
   cl_demonstrated: number | null;
   airframe: { cd0: number; k: number; cl_max: number };
   conditions: { altitude_m: number; isa_deviation_c: number; mass_kg: number };
@@ -103,6 +103,8 @@ describe('turnmargin fit', () => {
     expect(out.polar!.samples).toBeGreaterThanOrEqual(30);
     expect(out.polar!.cl2_range[1] - out.polar!.cl2_range[0]).toBeGreaterThanOrEqual(0.15);
     expect(Math.abs(out.thrust_scale!.value - 0.9)).toBeLessThan(0.03);
+    // The drag the thrust was measured against came from the polar fitted from the same flight.
+    expect(out.thrust_scale!.polar).toBe('fitted');
     expect(out.airframe).toEqual({ cd0: 0.032, k: expect.closeTo(1 / (Math.PI * 0.8 * 8.5), 5), cl_max: 1.25 });
     expect(out.cl_demonstrated).toBeGreaterThan(0.5);
     expect(out.cl_demonstrated).toBeLessThan(1.25);
@@ -370,6 +372,7 @@ describe('turnmargin fit', () => {
     );
     expect(out.thrust_scale!.ci95[0]).toBeLessThan(0.9);
     expect(out.thrust_scale!.ci95[1]).toBeGreaterThan(0.9);
+    expect(out.thrust_scale!.polar).toBe('file');
     expect(out.warnings.join(' ')).toMatch(/polar not estimated/);
     const svg = readFileSync(plot, 'utf8');
     checkXml(svg);
