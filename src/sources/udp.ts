@@ -47,6 +47,29 @@ export function formatUdpAddress(host: string, port: number): string {
   return `${isIPv6(host) ? `[${host}]` : host}:${port}`;
 }
 
+/**
+ * A free port of `host`, as the system gives one for port 0 (`--udp 0`): asked before the link starts, so that the
+ * link's name, a recording's source line and the link summary carry the port to send to, not 0. null when the host
+ * cannot be bound now (the link then says why, and retries as for any port).
+ */
+export function freeUdpPort(host: string): Promise<number | null> {
+  return new Promise((resolve) => {
+    const probe = createSocket(isIPv6(host) ? 'udp6' : 'udp4');
+    probe.once('error', () => {
+      try {
+        probe.close();
+      } catch {
+        // never bound: nothing to close
+      }
+      resolve(null);
+    });
+    probe.bind(0, host, () => {
+      const port = probe.address().port;
+      probe.close(() => resolve(port));
+    });
+  });
+}
+
 export function createUdpSource(options: UdpSourceOptions): TelemetrySource {
   const where = formatUdpAddress(options.host, options.port);
   return createLinkSource(

@@ -3,7 +3,7 @@ import { existsSync } from 'node:fs';
 import { openRecorder, type Recorder } from '../../recording/recorder.js';
 import { isLoopbackHost, parseListenAddress } from '../../serve/listen-address.js';
 import { DEFAULT_BAUD, NO_SUCH_PORT_YET, whyNotASerialPort } from '../../sources/serial-path.js';
-import { createUdpSource } from '../../sources/udp.js';
+import { createUdpSource, freeUdpPort } from '../../sources/udp.js';
 import { redactUrl } from '../../sources/redact-url.js';
 import type { TelemetrySource } from '../../sources/source.js';
 import { numberOption, stringOption, type CommandSpec, type ParsedArgs } from '../args.js';
@@ -132,7 +132,12 @@ async function sourceFromArgs(args: ParsedArgs): Promise<{ source: TelemetrySour
     const { createSerialSource } = await import('../../sources/serial.js');
     return { source: createSerialSource({ path: serial, baudRate }), ...(note ? { note } : {}) };
   }
-  if (udp !== undefined) return { source: createUdpSource(udpAddress(udp, args.values['allow-remote'] === true)) };
+  if (udp !== undefined) {
+    const address = udpAddress(udp, args.values['allow-remote'] === true);
+    // Port 0: the system's free port, chosen now so that every place that names the link names the real port.
+    const port = address.port === 0 ? ((await freeUdpPort(address.host)) ?? 0) : address.port;
+    return { source: createUdpSource({ ...address, port }) };
+  }
   let url: URL;
   try {
     url = new URL(ws!);
