@@ -124,8 +124,10 @@ export function createPackedBatchPool(limit = 16): PackedBatchPool {
       if (spare.length < limit && arrays.frames.length === arrays.lineNos.length * FRAME_SLOTS) spare.push(arrays);
     },
     take(capacity) {
-      for (let i = spare.length - 1; i >= 0; i--) {
-        if (spare[i]!.lineNos.length >= capacity) return spare.splice(i, 1)[0]!;
+      // A batch's capacity only grows: smaller arrays will never serve again.
+      while (spare.length > 0) {
+        const arrays = spare.pop()!;
+        if (arrays.lineNos.length >= capacity) return arrays;
       }
       return null;
     },
