@@ -398,9 +398,7 @@ export function createSharedRateWindows(windowS: number, seriesCount: number): S
       const i = (head + count) & mask;
       times[i] = tS;
       const first = count === 0;
-      // Through the typed array: the argument (a tagged number) merged into t0 would make V8 box t0 at every push.
-      if (first) st[T0] = tS;
-      t0 = st[T0]!;
+      if (first) t0 = tS;
       const dt = tS - t0;
       const base = i * S;
       for (let s = 0; s < S; s++) {
